@@ -1,0 +1,312 @@
+"""The shared resampling engine: block-bootstrap resamples drawn once per audit.
+
+Every bootstrap-based method of an audit (confidence intervals, reality check, SPA, StepM) consumes
+the same :class:`Resamples`. A batch of resamples is represented by *weights*: how often each window
+is drawn in each resample. The resampled mean of every configuration is then one matrix product,
+``weights @ returns / T``, computed chunk by chunk so memory stays bounded.
+
+References
+----------
+Politis, D. N. and Romano, J. P. (1994). The stationary bootstrap. JASA 89(428), 1303-1313.
+Kunsch, H. R. (1989). The jackknife and the bootstrap for general stationary observations.
+    Annals of Statistics 17(3), 1217-1241 (moving block bootstrap).
+Politis, D. N. and Romano, J. P. (1992). A circular block-resampling procedure for stationary data.
+    In Exploring the Limits of Bootstrap, Wiley, 263-270 (circular block bootstrap).
+Politis, D. N. and White, H. (2004). Automatic block-length selection for the dependent bootstrap.
+    Econometric Reviews 23(1), 53-70; correction: Patton, A., Politis, D. N. and White, H. (2009),
+    Econometric Reviews 28(4), 372-375.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+from typing import Literal, get_args
+
+import numpy as np
+
+from .errors import DegenerateDataError, InputError
+
+__all__ = [
+    "BootstrapKind",
+    "Resamples",
+    "ResampledMoments",
+    "automatic_block_length",
+    "draw_resamples",
+    "resampled_moments",
+]
+
+BootstrapKind = Literal["stationary", "circular", "moving-block"]
+BOOTSTRAP_KINDS: tuple[str, ...] = get_args(BootstrapKind)
+
+# Resamples are generated in fixed groups, each from its own child seed, so the draws do not depend
+# on how a consumer chunks them (memory knobs never change a figure).
+GENERATION_GROUP = 256
+
+
+@dataclass(frozen=True)
+class Resamples:
+    """A reproducible set of block-bootstrap resamples of ``windows`` time points.
+
+    Build with :func:`draw_resamples` (from a seed) or :meth:`from_indices` (replaying indices drawn
+    elsewhere, e.g. by a reference library in a test).
+
+    Attributes
+    ----------
+    windows : int
+        Number of windows T in the series being resampled.
+    count : int
+        Number of resamples B.
+    kind : {"stationary", "circular", "moving-block"}
+        The block bootstrap.
+    block_length : float
+        Mean block length (stationary) or the fixed block length (circular, moving-block).
+    seed : int or None
+        The seed the resamples were drawn from (None when replayed from explicit indices).
+    """
+
+    windows: int
+    count: int
+    kind: BootstrapKind
+    block_length: float
+    seed: int | None
+    _indices: np.ndarray | None = field(default=None, repr=False, compare=False)
+
+    @classmethod
+    def from_indices(
+        cls, indices: np.ndarray, *, kind: BootstrapKind = "stationary", block_length: float = 1.0
+    ) -> Resamples:
+        """Replay explicit resample indices, a ``B x T`` integer array of window positions."""
+        idx = np.asarray(indices)
+        if idx.ndim != 2 or not np.issubdtype(idx.dtype, np.integer):
+            raise InputError(f"indices must be a 2-D integer array (B x T); got shape {idx.shape}")
+        if idx.size and (idx.min() < 0 or idx.max() >= idx.shape[1]):
+            raise InputError("indices must lie in [0, T)")
+        return cls(
+            windows=idx.shape[1],
+            count=idx.shape[0],
+            kind=kind,
+            block_length=float(block_length),
+            seed=None,
+            _indices=idx.astype(np.int64, copy=False),
+        )
+
+    def index_chunks(self, chunk: int = GENERATION_GROUP) -> Iterator[np.ndarray]:
+        """Yield the resample indices as ``b x T`` arrays, in order, ``b <= chunk``."""
+        if self._indices is not None:
+            for start in range(0, self.count, chunk):
+                yield self._indices[start : start + chunk]
+            return
+        groups = math.ceil(self.count / GENERATION_GROUP)
+        children = np.random.SeedSequence(self.seed).spawn(groups)
+        buffer: list[np.ndarray] = []
+        buffered = 0
+        for g, child in enumerate(children):
+            size = min(GENERATION_GROUP, self.count - g * GENERATION_GROUP)
+            rng = np.random.default_rng(child)
+            buffer.append(_draw_indices(rng, size, self.windows, self.kind, self.block_length))
+            buffered += size
+            while buffered >= chunk:
+                block = np.concatenate(buffer) if len(buffer) > 1 else buffer[0]
+                yield block[:chunk]
+                rest = block[chunk:]
+                buffer = [rest] if len(rest) else []
+                buffered = len(rest)
+        if buffered:
+            yield np.concatenate(buffer) if len(buffer) > 1 else buffer[0]
+
+    def weight_chunks(self, chunk: int = GENERATION_GROUP) -> Iterator[np.ndarray]:
+        """Yield ``b x T`` float64 weights: how often each window is drawn in each resample.
+
+        Each row sums to T, so ``weights @ x / T`` is the resampled mean of ``x``.
+        """
+        for idx in self.index_chunks(chunk):
+            yield indices_to_weights(idx, self.windows)
+
+    def indices(self) -> np.ndarray:
+        """All ``B x T`` indices at once (for tests and small problems)."""
+        return np.concatenate(list(self.index_chunks()), axis=0)
+
+
+def indices_to_weights(indices: np.ndarray, windows: int) -> np.ndarray:
+    """Count how often each window appears in each row of a ``b x T`` index array."""
+    b = indices.shape[0]
+    flat = indices + windows * np.arange(b, dtype=np.int64)[:, None]
+    counts = np.bincount(flat.ravel(), minlength=b * windows)
+    return counts.reshape(b, windows).astype(np.float64)
+
+
+def _draw_indices(
+    rng: np.random.Generator, size: int, windows: int, kind: str, block_length: float
+) -> np.ndarray:
+    """Draw ``size`` resamples of ``windows`` indices with the given block bootstrap."""
+    t = np.arange(windows, dtype=np.int64)
+    if kind == "stationary":
+        # Politis and Romano (1994): a new block starts at each position with probability
+        # p = 1 / mean block length, at a uniform start; otherwise the previous block continues,
+        # wrapping around the end. Block lengths are therefore geometric with mean 1/p.
+        p = 1.0 / block_length
+        new_block = rng.random((size, windows)) < p
+        new_block[:, 0] = True
+        starts = rng.integers(0, windows, size=(size, windows))
+        last_start = np.maximum.accumulate(np.where(new_block, t, 0), axis=1)
+        start_value = np.take_along_axis(starts, last_start, axis=1)
+        return (start_value + (t - last_start)) % windows
+    length = int(block_length)
+    blocks = math.ceil(windows / length)
+    offsets = np.arange(length, dtype=np.int64)
+    if kind == "circular":
+        starts = rng.integers(0, windows, size=(size, blocks))
+        idx = (starts[:, :, None] + offsets) % windows
+    else:  # moving-block: blocks lie inside the sample, no wrapping (Kunsch 1989)
+        starts = rng.integers(0, windows - length + 1, size=(size, blocks))
+        idx = starts[:, :, None] + offsets
+    return idx.reshape(size, blocks * length)[:, :windows]
+
+
+def automatic_block_length(series: np.ndarray, kind: BootstrapKind = "stationary") -> float:
+    """Politis and White (2004) automatic block length, with the Patton et al. (2009) correction.
+
+    Uses ``arch.bootstrap.optimal_block_length`` rather than rewriting it. The result is clipped to
+    ``[1, T / 2]``; circular and moving-block lengths are rounded up to a whole number.
+    """
+    from arch.bootstrap import optimal_block_length
+
+    x = np.asarray(series, dtype=np.float64)
+    if x.ndim != 1 or len(x) < 8:
+        raise DegenerateDataError(
+            f"the automatic block length needs a series of at least 8 windows; got {len(x)}"
+        )
+    if np.std(x) == 0:
+        raise DegenerateDataError("the automatic block length needs a non-constant series")
+    table = optimal_block_length(x)
+    column = "stationary" if kind == "stationary" else "circular"
+    value = float(table[column].iloc[0])
+    if not np.isfinite(value):
+        value = 1.0
+    value = min(max(value, 1.0), len(x) / 2)
+    if kind != "stationary":
+        value = float(math.ceil(value))
+    return value
+
+
+def draw_resamples(
+    windows: int,
+    *,
+    count: int = 10_000,
+    kind: BootstrapKind = "stationary",
+    block_length: float,
+    seed: int | None,
+) -> Resamples:
+    """Define ``count`` block-bootstrap resamples of ``windows`` time points from ``seed``.
+
+    Nothing is drawn until a consumer iterates; the same seed always gives the same resamples,
+    whatever chunk size the consumer uses.
+
+    Parameters
+    ----------
+    windows : int
+        Series length T (at least 2).
+    count : int
+        Number of resamples B (at least 1).
+    kind : {"stationary", "circular", "moving-block"}
+        Stationary bootstrap (Politis and Romano 1994), circular block bootstrap (Politis and
+        Romano 1992) or moving block bootstrap (Kunsch 1989).
+    block_length : float
+        Mean block length for the stationary bootstrap; the fixed block length otherwise (a whole
+        number). Must lie in ``[1, T]``.
+    seed : int or None
+        Seed of the random generator; ``None`` draws fresh entropy (not reproducible).
+    """
+    if kind not in BOOTSTRAP_KINDS:
+        raise InputError(f"bootstrap kind must be one of {', '.join(BOOTSTRAP_KINDS)}; got {kind!r}")
+    if int(windows) < 2:
+        raise DegenerateDataError(f"resampling needs at least 2 windows; got {windows}")
+    if int(count) < 1:
+        raise InputError(f"the number of resamples must be at least 1; got {count}")
+    if not (1.0 <= float(block_length) <= windows):
+        raise InputError(f"block length must lie in [1, {windows}] windows; got {block_length}")
+    if kind != "stationary" and float(block_length) != int(block_length):
+        raise InputError(f"the {kind} bootstrap needs a whole block length; got {block_length}")
+    if seed is not None and int(seed) < 0:
+        raise InputError(f"seed must be a non-negative integer; got {seed}")
+    return Resamples(
+        windows=int(windows),
+        count=int(count),
+        kind=kind,
+        block_length=float(block_length),
+        seed=None if seed is None else int(seed),
+    )
+
+
+@dataclass(frozen=True)
+class ResampledMoments:
+    """Resampled first and second moments of every configuration: the engine's shared output.
+
+    Attributes
+    ----------
+    mean : ndarray, shape (B, N)
+        ``mean[b, k]`` is the mean of configuration k's excess returns in resample b.
+    second : ndarray, shape (B, N)
+        The mean of squared excess returns in resample b (for resampled variances and Sharpe ratios).
+    windows : int
+        T, the number of windows in each resample.
+    """
+
+    mean: np.ndarray
+    second: np.ndarray
+    windows: int
+
+    def variance(self) -> np.ndarray:
+        """Resampled sample variances (ddof = 1), clipped at zero against rounding."""
+        t = self.windows
+        return np.maximum(self.second - self.mean**2, 0.0) * (t / (t - 1))
+
+    def sharpe(self) -> np.ndarray:
+        """Resampled Sharpe ratios per window; NaN where a resample has zero variance."""
+        sd = np.sqrt(self.variance())
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.where(sd > 0, self.mean / np.where(sd > 0, sd, 1.0), np.nan)
+
+
+def resampled_moments(
+    returns: np.ndarray,
+    resamples: Resamples,
+    *,
+    chunk: int = GENERATION_GROUP,
+    progress=None,
+) -> ResampledMoments:
+    """Resampled means and second moments of every column: ``weights @ returns / T`` in chunks.
+
+    Parameters
+    ----------
+    returns : ndarray, shape (T, N)
+        Excess returns, windows in rows.
+    resamples : Resamples
+        Drawn for the same T.
+    chunk : int
+        Resamples per matrix product (memory knob only; never changes a figure).
+    progress : callable, optional
+        Called with the number of resamples finished after each chunk.
+    """
+    x = np.ascontiguousarray(returns, dtype=np.float64)
+    if x.ndim != 2 or x.shape[0] != resamples.windows:
+        raise InputError(
+            f"returns must be T x N with T = {resamples.windows}; got shape {np.shape(returns)}"
+        )
+    t, n = x.shape
+    mean = np.empty((resamples.count, n))
+    second = np.empty((resamples.count, n))
+    x2 = x * x
+    done = 0
+    for weights in resamples.weight_chunks(chunk):
+        b = weights.shape[0]
+        np.matmul(weights, x, out=mean[done : done + b])
+        np.matmul(weights, x2, out=second[done : done + b])
+        done += b
+        if progress is not None:
+            progress(done)
+    mean /= t
+    second /= t
+    return ResampledMoments(mean=mean, second=second, windows=t)
