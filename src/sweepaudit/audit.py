@@ -1,0 +1,170 @@
+"""Orchestration: Sweep + settings + policy -> AuditResults. Each method runs once.
+
+The resamples are drawn once and their moments computed once; every bootstrap-based method
+consumes the same :class:`~sweepaudit.resample.ResampledMoments`.
+"""
+
+from __future__ import annotations
+
+import warnings
+from collections.abc import Callable
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from .errors import InputError, SweepAuditWarning
+from .methods.bootstrap_ci import BootstrapIntervals, IntervalMethod, bootstrap_intervals
+from .policy import DEFAULT_POLICY, Policy
+from .resample import (
+    BootstrapKind,
+    Resamples,
+    automatic_block_length,
+    draw_resamples,
+    resampled_moments,
+)
+from .sweep import Sweep
+from .verdict import Verdict, decide
+
+__all__ = ["AuditSettings", "AuditResults", "audit"]
+
+CAUTION = (
+    "Statistical evidence, not investment advice. Past performance does not guarantee future "
+    "results. Defer to your firm's own risk and compliance process before committing capital."
+)
+
+
+@dataclass(frozen=True)
+class AuditSettings:
+    """Every knob that changes a figure.
+
+    Attributes
+    ----------
+    seed : int
+        Seed of the resamples; the same input and seed give the same audit.
+    resamples : int or None
+        Number of bootstrap resamples; None takes the policy's.
+    confidence : float or None
+        Interval level; None takes the policy's.
+    bootstrap : {"stationary", "circular", "moving-block"}
+    block_length : float or None
+        None: automatic (Politis and White 2004 on the selected configuration's series).
+    interval_method : {"percentile", "basic"}
+    selected : str or None
+        Configuration to judge; None selects the highest full-sample Sharpe ratio.
+    """
+
+    seed: int = 0
+    resamples: int | None = None
+    confidence: float | None = None
+    bootstrap: BootstrapKind = "stationary"
+    block_length: float | None = None
+    interval_method: IntervalMethod = "percentile"
+    selected: str | None = None
+
+
+@dataclass(frozen=True, eq=False)
+class AuditResults:
+    """Everything an audit found; renderers format this and nothing else."""
+
+    sweep: Sweep
+    settings: AuditSettings
+    policy: Policy
+    selected_index: int
+    selection_rule: str
+    resamples: Resamples
+    block_length_source: str
+    intervals: BootstrapIntervals
+    sharpe_ratios: np.ndarray
+    warnings: tuple[str, ...]
+    verdict: Verdict | None = field(default=None)
+
+    @property
+    def selected(self) -> str:
+        return self.sweep.configurations[self.selected_index]
+
+    @property
+    def resample_count(self) -> int:
+        return self.resamples.count
+
+    @property
+    def confidence(self) -> float:
+        return self.intervals.confidence
+
+
+def _select(sweep: Sweep, settings: AuditSettings, sharpe: np.ndarray) -> tuple[int, str]:
+    if settings.selected is not None:
+        return sweep.index_of(settings.selected), "named by the user"
+    return int(np.argmax(sharpe)), "highest full-sample Sharpe ratio (the configuration a researcher would pick)"
+
+
+def audit(
+    sweep: Sweep,
+    *,
+    settings: AuditSettings | None = None,
+    policy: Policy | None = None,
+    progress: Callable[[int, int], None] | None = None,
+) -> AuditResults:
+    """Audit a sweep: resample once, run every method, apply the policy.
+
+    Parameters
+    ----------
+    sweep : Sweep
+    settings : AuditSettings, optional
+    policy : Policy, optional
+    progress : callable, optional
+        ``progress(done, total)`` after each chunk of resamples.
+    """
+    settings = settings or AuditSettings()
+    policy = policy or DEFAULT_POLICY
+    count = settings.resamples if settings.resamples is not None else policy.resamples
+    confidence = settings.confidence if settings.confidence is not None else policy.confidence
+    if count < 1:
+        raise InputError(f"--resamples must be at least 1; got {count}")
+    x = sweep.returns
+    sharpe = x.mean(axis=0) / x.std(axis=0, ddof=1)
+    selected, rule = _select(sweep, settings, sharpe)
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", SweepAuditWarning)
+        if settings.block_length is None:
+            block = automatic_block_length(x[:, selected], settings.bootstrap)
+            block_source = (
+                "automatic: Politis and White (2004) with the Patton, Politis and White (2009) "
+                "correction, computed on the selected configuration's series"
+            )
+        else:
+            block = float(settings.block_length)
+            block_source = "given"
+        resamples = draw_resamples(
+            sweep.n_windows, count=count, kind=settings.bootstrap, block_length=block, seed=settings.seed
+        )
+        moments = resampled_moments(
+            x, resamples, progress=(lambda done: progress(done, count)) if progress else None
+        )
+        intervals = bootstrap_intervals(x, moments, confidence=confidence, method=settings.interval_method)
+
+    notes = list(sweep.notes)
+    notes += [str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning)]
+    if sweep.n_configurations == 1:
+        notes.append("a single configuration: selection tests need at least two configurations and were skipped")
+    if intervals.degenerate_resamples:
+        notes.append(
+            f"{intervals.degenerate_resamples} resamples had a configuration with zero variance; "
+            "their Sharpe ratios were left out of the intervals"
+        )
+    if sweep.periods_per_year is None and sweep.dates is None:
+        notes.append("periods per year unknown (no --periods-per-year and no dated windows): figures are per window")
+
+    results = AuditResults(
+        sweep=sweep,
+        settings=settings,
+        policy=policy,
+        selected_index=selected,
+        selection_rule=rule,
+        resamples=resamples,
+        block_length_source=block_source,
+        intervals=intervals,
+        sharpe_ratios=sharpe,
+        warnings=tuple(notes),
+    )
+    return replace(results, verdict=decide(results, policy))

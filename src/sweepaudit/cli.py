@@ -1,0 +1,235 @@
+"""The command line: parse options, call audit(), render, map the verdict to an exit code.
+
+Exit status: 0 go, 1 no-go, 2 bad input or usage.
+"""
+
+from __future__ import annotations
+
+import shlex
+import sys
+from enum import Enum
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+from rich.console import Console
+
+from . import __version__
+from .audit import AuditSettings, audit
+from .errors import SweepAuditError
+from .load import LoadOptions, load_sweep
+from .policy import DEFAULT_POLICY
+from .render.files import write_atomic
+from .render.json import audit_to_dict, dumps
+from .render.terminal import render_terminal
+
+EXIT_GO, EXIT_NO_GO, EXIT_BAD_INPUT = 0, 1, 2
+
+app = typer.Typer(
+    name="sweepaudit",
+    help="Audit a trading strategy's parameter sweep: is the winner's edge real, or selection luck?",
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+    pretty_exceptions_show_locals=False,
+    rich_markup_mode=None,
+)
+
+
+class LayoutChoice(str, Enum):
+    auto = "auto"
+    long = "long"
+    wide = "wide"
+
+
+class UnitsChoice(str, Enum):
+    fraction = "fraction"
+    percent = "percent"
+    bps = "bps"
+
+
+class BootstrapChoice(str, Enum):
+    stationary = "stationary"
+    circular = "circular"
+    moving_block = "moving-block"
+
+
+class IntervalChoice(str, Enum):
+    percentile = "percentile"
+    basic = "basic"
+
+
+def _version(value: bool) -> None:
+    if value:
+        typer.echo(f"sweepaudit {__version__}")
+        raise typer.Exit(EXIT_GO)
+
+
+@app.callback()
+def _root(
+    version: Annotated[
+        bool, typer.Option("--version", callback=_version, is_eager=True, help="Print the version and exit.")
+    ] = False,
+) -> None:
+    """Audit a parameter sweep before committing money to its best configuration.
+
+    Exit status: 0 go, 1 no-go, 2 bad input or usage.
+    """
+
+
+def _fail(message: str) -> typer.Exit:
+    print(f"sweepaudit: error: {message}", file=sys.stderr)
+    return typer.Exit(EXIT_BAD_INPUT)
+
+
+def _check_output(path: Optional[Path], what: str) -> None:
+    if path is None:
+        return
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise SweepAuditError(f"cannot write the {what} {path}: folder {folder} does not exist")
+
+
+def _progress_callback(console: Console):
+    """A progress bar on stderr for long resampling runs; none when stderr is not a terminal."""
+    if not console.is_terminal:
+        return None, None
+    from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
+
+    bar = Progress(TextColumn("resampling"), BarColumn(), TextColumn("{task.completed:,}/{task.total:,}"),
+                   TimeRemainingColumn(), console=console, transient=True)
+    task = {"id": None}
+
+    def update(done: int, total: int) -> None:
+        if task["id"] is None:
+            task["id"] = bar.add_task("resampling", total=total)
+        bar.update(task["id"], completed=done)
+
+    return bar, update
+
+
+@app.command("audit", no_args_is_help=True)
+def audit_command(
+    sweep_path: Annotated[str, typer.Argument(metavar="SWEEP", help="CSV, TSV or Parquet file; - reads CSV from standard input.")],
+    layout: Annotated[LayoutChoice, typer.Option(help="Input layout; auto detects it.")] = LayoutChoice.auto,
+    window_column: Annotated[Optional[str], typer.Option(help="Column holding the window (date or label).")] = None,
+    value_column: Annotated[Optional[str], typer.Option(help="Long layout: column holding the excess return.")] = None,
+    parameter_columns: Annotated[
+        Optional[str], typer.Option(help="Long layout: comma-separated columns naming a configuration.")
+    ] = None,
+    benchmark: Annotated[
+        Optional[str],
+        typer.Option(help="Inputs are raw strategy returns: subtract this benchmark column (wide) or configuration (long)."),
+    ] = None,
+    benchmark_file: Annotated[
+        Optional[str], typer.Option(help="Inputs are raw strategy returns: subtract the benchmark series in this file.")
+    ] = None,
+    units: Annotated[UnitsChoice, typer.Option(help="Units of the returns in the file.")] = UnitsChoice.fraction,
+    periods_per_year: Annotated[
+        Optional[float], typer.Option(help="Windows per year (e.g. 52 for weekly); inferred from dated windows otherwise.")
+    ] = None,
+    common_windows: Annotated[
+        bool, typer.Option("--common-windows", help="Keep only the windows every configuration covers.")
+    ] = False,
+    select: Annotated[
+        Optional[str], typer.Option(help="Judge this configuration instead of the highest full-sample Sharpe ratio.")
+    ] = None,
+    seed: Annotated[int, typer.Option(help="Seed of the resamples: same input and seed, same JSON.")] = 0,
+    resamples: Annotated[
+        Optional[int], typer.Option(help="Bootstrap resamples (default 10,000, the policy's).")
+    ] = None,
+    quick: Annotated[
+        bool, typer.Option("--quick", help="1,000 resamples: a fast look, not a final audit.")
+    ] = False,
+    confidence: Annotated[Optional[float], typer.Option(help="Interval level (default 0.95).")] = None,
+    bootstrap: Annotated[BootstrapChoice, typer.Option(help="Block bootstrap.")] = BootstrapChoice.stationary,
+    block_length: Annotated[
+        Optional[float], typer.Option(help="Fix the (mean) block length in windows; automatic otherwise.")
+    ] = None,
+    interval_method: Annotated[IntervalChoice, typer.Option(help="Bootstrap interval.")] = IntervalChoice.percentile,
+    json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the audit JSON here.")] = None,
+    quiet: Annotated[bool, typer.Option("--quiet", help="Print nothing; use the exit status.")] = False,
+) -> None:
+    """Audit the per-window excess returns of a parameter sweep and print a go / no-go verdict.
+
+    Examples:
+
+      sweepaudit audit sweep.csv --seed 7
+
+      sweepaudit audit sweep.parquet --periods-per-year 52 --json audit.json
+
+      cat sweep.csv | sweepaudit audit - --units percent --quick
+    """
+    stderr = Console(stderr=True)
+    try:
+        _check_output(json_path, "JSON file")
+        if resamples is not None and quick:
+            raise SweepAuditError("give either --resamples or --quick, not both")
+        options = LoadOptions(
+            layout=layout.value,
+            window_column=window_column,
+            value_column=value_column,
+            parameter_columns=tuple(c.strip() for c in parameter_columns.split(",")) if parameter_columns else None,
+            benchmark=benchmark,
+            benchmark_file=benchmark_file,
+            units=units.value,
+            periods_per_year=periods_per_year,
+            common_windows=common_windows,
+        )
+        sweep = load_sweep(sweep_path, options)
+        settings = AuditSettings(
+            seed=seed,
+            resamples=1_000 if quick else resamples,
+            confidence=confidence,
+            bootstrap=bootstrap.value,
+            block_length=block_length,
+            interval_method=interval_method.value,
+            selected=select,
+        )
+        bar, update = _progress_callback(stderr) if not quiet else (None, None)
+        if bar is not None:
+            with bar:
+                results = audit(sweep, settings=settings, policy=DEFAULT_POLICY, progress=update)
+        else:
+            results = audit(sweep, settings=settings, policy=DEFAULT_POLICY)
+        document = audit_to_dict(results, command=reproduce_command(results, options))
+        if json_path is not None:
+            write_atomic(json_path, dumps(document))
+    except SweepAuditError as exc:
+        raise _fail(str(exc)) from None
+    if not quiet:
+        render_terminal(document)
+    raise typer.Exit(EXIT_GO if document["verdict"] == "go" else EXIT_NO_GO)
+
+
+def reproduce_command(results, options: LoadOptions) -> str:
+    """The canonical command that reproduces every figure of this audit (output options left out)."""
+    words = ["sweepaudit", "audit", results.sweep.path if results.sweep.path != "<stdin>" else "-"]
+    defaults = LoadOptions()
+    for name in ("layout", "window_column", "value_column", "benchmark", "benchmark_file", "units", "periods_per_year"):
+        value = getattr(options, name)
+        if value != getattr(defaults, name):
+            words += [f"--{name.replace('_', '-')}", str(value)]
+    if options.parameter_columns:
+        words += ["--parameter-columns", ",".join(options.parameter_columns)]
+    if options.common_windows:
+        words.append("--common-windows")
+    s = results.settings
+    words += ["--seed", str(s.seed), "--resamples", str(results.resamples.count), "--confidence",
+              f"{results.confidence:g}", "--bootstrap", results.resamples.kind]
+    if s.block_length is not None:
+        words += ["--block-length", f"{s.block_length:g}"]
+    if s.interval_method != "percentile":
+        words += ["--interval-method", s.interval_method]
+    if s.selected is not None:
+        words += ["--select", s.selected]
+    return " ".join(shlex.quote(w) for w in words)
+
+
+def main() -> None:
+    """Console-script entry point."""
+    app()
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

@@ -1,0 +1,130 @@
+"""The audit JSON (schema ``sweepaudit.audit/1``): the contract every other renderer formats.
+
+Numbers are per window unless the key says ``annualized``; a figure that cannot be computed is
+``null`` (never NaN or Infinity).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import fields
+from typing import Any
+
+import numpy as np
+
+from .. import __version__
+from ..audit import CAUTION, AuditResults
+from ..methods.bootstrap_ci import Interval
+
+__all__ = ["SCHEMA", "audit_to_dict", "dumps"]
+
+SCHEMA = "sweepaudit.audit/1"
+
+
+def _clean(value: Any) -> Any:
+    """JSON-safe copy: numpy scalars to Python, non-finite floats to None."""
+    if isinstance(value, dict):
+        return {str(k): _clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_clean(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [_clean(v) for v in value.tolist()]
+    if isinstance(value, (np.bool_, bool)):
+        return bool(value)
+    if isinstance(value, (np.integer,)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        f = float(value)
+        return f if math.isfinite(f) else None
+    return value
+
+
+def _interval(iv: Interval, factor: float | None = 1.0) -> dict | None:
+    if factor is None:
+        return None
+    s = iv.scaled(factor)
+    return {"estimate": s.estimate, "low": s.low, "high": s.high}
+
+
+def audit_to_dict(results: AuditResults, *, command: str | None = None) -> dict:
+    """The audit as the JSON contract's object."""
+    sweep = results.sweep
+    ppy = sweep.periods_per_year
+    k = results.selected_index
+    iv = results.intervals
+    mean_factor = ppy
+    sharpe_factor = math.sqrt(ppy) if ppy else None
+    policy = {f.name: getattr(results.policy, f.name) for f in fields(results.policy)}
+    verdict = results.verdict
+    out = {
+        "schema": SCHEMA,
+        "tool": {"name": "sweepaudit", "version": __version__},
+        "input": {
+            "path": sweep.path,
+            "sha256": sweep.sha256,
+            "layout": sweep.layout,
+            "configurations": sweep.n_configurations,
+            "windows": sweep.n_windows,
+            "periods_per_year": ppy,
+            "periods_per_year_source": sweep.periods_source,
+            "frequency": sweep.frequency,
+            "units": sweep.units,
+            "figures_in": "fractions (0.01 = 1%)",
+            "first_window": sweep.windows[0],
+            "last_window": sweep.windows[-1],
+            "parameters": list(sweep.parameters.columns),
+        },
+        "settings": {
+            "seed": results.settings.seed,
+            "resamples": results.resamples.count,
+            "bootstrap": results.resamples.kind,
+            "block_length": results.resamples.block_length,
+            "block_length_source": results.block_length_source,
+            "confidence": iv.confidence,
+            "interval_method": iv.method,
+        },
+        "selected": {"configuration": results.selected, "rule": results.selection_rule},
+        "verdict": verdict.decision,
+        "reasons": list(verdict.reasons),
+        "checks": [
+            {
+                "id": c.id,
+                "passed": c.passed,
+                "required": c.required,
+                "value": c.value,
+                "threshold": c.threshold,
+                "reason": c.reason,
+            }
+            for c in verdict.checks
+        ],
+        "warnings": list(results.warnings),
+        "caution": CAUTION,
+        "policy": policy,
+        "results": {
+            "bootstrap": {
+                "selected": {
+                    "mean": _interval(iv.mean[k]),
+                    "mean_annualized": _interval(iv.mean[k], mean_factor),
+                    "sharpe": _interval(iv.sharpe[k]),
+                    "sharpe_annualized": _interval(iv.sharpe[k], sharpe_factor),
+                },
+                "configurations": [
+                    {
+                        "configuration": name,
+                        "mean": _interval(iv.mean[j]),
+                        "sharpe": _interval(iv.sharpe[j]),
+                        "sharpe_annualized": _interval(iv.sharpe[j], sharpe_factor),
+                    }
+                    for j, name in enumerate(sweep.configurations)
+                ],
+            },
+        },
+        "reproduce": {"command": command, "seed": results.settings.seed, "version": __version__},
+    }
+    return _clean(out)
+
+
+def dumps(document: dict) -> str:
+    """Serialise deterministically (same audit, same bytes)."""
+    return json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False) + "\n"

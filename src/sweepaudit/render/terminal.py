@@ -1,0 +1,104 @@
+"""Terminal output with rich: the verdict first, in words; then the reasons; then the figures.
+
+Formats the audit JSON document only, so every figure shown traces back to a contract key.
+"""
+
+from __future__ import annotations
+
+from rich.console import Console, Group
+from rich.panel import Panel
+from rich.table import Table
+from rich.text import Text
+
+__all__ = ["render_terminal", "fmt", "pct"]
+
+
+def fmt(x, digits: int = 4) -> str:
+    """A figure for humans; '-' when it could not be computed."""
+    if x is None:
+        return "-"
+    if isinstance(x, int):
+        return f"{x:,}"
+    return f"{x:.{digits}g}"
+
+
+def pct(x, digits: int = 3) -> str:
+    return "-" if x is None else f"{100 * x:.{digits}g}%"
+
+
+def _iv(block, scale=1.0, as_pct=False) -> str:
+    if not block:
+        return "-"
+    f = (lambda v: pct(v * scale)) if as_pct else (lambda v: fmt(v * scale))
+    return f"{f(block['estimate'])}  [{f(block['low'])}, {f(block['high'])}]"
+
+
+def _sections(doc: dict) -> list:
+    parts: list = []
+    go = doc["verdict"] == "go"
+    title = Text("GO" if go else "NO-GO", style="bold green" if go else "bold red")
+    sel = doc["selected"]
+    head = Text.assemble(
+        ("Verdict: ", "bold"),
+        title,
+        ("  selected configuration: ", "bold"),
+        (sel["configuration"], ""),
+    )
+    lines = [head, Text(f"Chosen as: {sel['rule']}", style="dim")]
+    parts.append(Panel(Group(*lines), title="sweepaudit", expand=False))
+
+    reasons = Text("Reasons\n", style="bold")
+    for r in doc["reasons"]:
+        reasons.append(f"  - {r}\n")
+    parts.append(reasons)
+
+    inp = doc["input"]
+    data = Table(title="The data", show_header=False, box=None, title_justify="left")
+    data.add_row("file", f"{inp['path']} ({inp['layout']} layout)")
+    data.add_row("sweep", f"{inp['configurations']:,} configurations x {inp['windows']:,} windows, "
+                          f"{inp['first_window']} to {inp['last_window']}")
+    ppy = inp["periods_per_year"]
+    data.add_row("periods per year", f"{fmt(ppy)} ({inp['periods_per_year_source']}"
+                 + (f", {inp['frequency']})" if inp.get("frequency") else ")") if ppy else "unknown: figures per window")
+    st = doc["settings"]
+    data.add_row("resampling", f"{st['resamples']:,} {st['bootstrap']} bootstrap resamples, block length "
+                 f"{fmt(st['block_length'], 3)}, seed {st['seed']}")
+    parts.append(data)
+
+    boot = doc["results"]["bootstrap"]["selected"]
+    level = pct(st["confidence"])
+    figures = Table(title=f"Selected configuration: estimate [{level} {st['interval_method']} interval]",
+                    title_justify="left")
+    figures.add_column("figure")
+    figures.add_column("per window")
+    figures.add_column("annualized")
+    figures.add_row("mean excess return", _iv(boot["mean"], as_pct=True), _iv(boot["mean_annualized"], as_pct=True))
+    figures.add_row("Sharpe ratio", _iv(boot["sharpe"]), _iv(boot["sharpe_annualized"]))
+    parts.append(figures)
+
+    checks = Table(title="Checks", title_justify="left")
+    checks.add_column("check")
+    checks.add_column("result")
+    checks.add_column("value")
+    checks.add_column("threshold")
+    for c in doc["checks"]:
+        state = "pass" if c["passed"] else "FAIL"
+        if not c["required"]:
+            state += " (advisory)"
+        checks.add_row(c["id"], state, fmt(c["value"]), fmt(c["threshold"]))
+    parts.append(checks)
+
+    if doc["warnings"]:
+        w = Text("Warnings\n", style="bold yellow")
+        for line in doc["warnings"]:
+            w.append(f"  ! {line}\n")
+        parts.append(w)
+    parts.append(Text(doc["caution"], style="italic"))
+    return parts
+
+
+def render_terminal(doc: dict, console: Console | None = None) -> None:
+    """Print the audit to the terminal (or to a given rich Console)."""
+    console = console or Console()
+    for part in _sections(doc):
+        console.print(part)

@@ -1,0 +1,124 @@
+"""Checks and the go / no-go verdict, from an audit's results and the policy.
+
+Each check is a small function registered with :func:`check`. It receives the finished results and
+the policy and returns a :class:`Check` (or ``None`` when it does not apply, e.g. a selection test on
+a single configuration). Adding a check is one function here and one id in the policy's defaults.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Literal
+
+if TYPE_CHECKING:
+    from .audit import AuditResults
+    from .policy import Policy
+
+__all__ = ["Check", "Verdict", "check", "CHECKS", "decide"]
+
+
+@dataclass(frozen=True)
+class Check:
+    """One test of the evidence.
+
+    Attributes
+    ----------
+    id : str
+        Stable snake_case name, used by the policy, JSON and JUnit output.
+    passed : bool
+    value, threshold : float or None
+        The numbers the reason quotes.
+    reason : str
+        One sentence a reader can act on: the figure, the threshold and what it means.
+    required : bool
+        Whether a failure makes the verdict no-go (otherwise the check is advisory).
+    """
+
+    id: str
+    passed: bool
+    value: float | None
+    threshold: float | None
+    reason: str
+    required: bool = True
+
+
+@dataclass(frozen=True)
+class Verdict:
+    decision: Literal["go", "no-go"]
+    reasons: tuple[str, ...]
+    checks: tuple[Check, ...]
+
+
+CheckFunction = Callable[["AuditResults", "Policy"], "Check | None"]
+CHECKS: dict[str, CheckFunction] = {}
+
+
+def check(check_id: str) -> Callable[[CheckFunction], CheckFunction]:
+    """Register a check function under a stable id (order of registration = order of display)."""
+
+    def register(fn: CheckFunction) -> CheckFunction:
+        CHECKS[check_id] = fn
+        return fn
+
+    return register
+
+
+def _fmt(x: float, digits: int = 4) -> str:
+    return f"{x:.{digits}g}"
+
+
+def _pct(x: float) -> str:
+    return f"{100 * x:.3g}%"
+
+
+@check("enough_windows")
+def _enough_windows(results: AuditResults, policy: Policy) -> Check:
+    t = results.sweep.n_windows
+    need = policy.min_windows
+    ok = t >= need
+    if ok:
+        reason = f"The track record has {t} windows, at least the policy's minimum of {need}."
+    else:
+        reason = (
+            f"The track record has only {t} windows, fewer than the policy's minimum of {need}: "
+            "too short to support a decision; collect more out-of-sample windows."
+        )
+    return Check("enough_windows", ok, float(t), float(need), reason)
+
+
+@check("mean_interval")
+def _mean_interval(results: AuditResults, policy: Policy) -> Check:
+    k = results.selected_index
+    iv = results.intervals.mean[k]
+    level = _pct(results.intervals.confidence)
+    ok = iv.low > 0
+    name = results.sweep.configurations[k]
+    if ok:
+        reason = (
+            f"The {level} block-bootstrap interval for the mean excess return of {name!r} lies above "
+            f"zero (lower end {_fmt(iv.low)} per window)."
+        )
+    else:
+        reason = (
+            f"The {level} block-bootstrap interval for the mean excess return of {name!r} reaches "
+            f"down to {_fmt(iv.low)} per window, at or below zero: the data do not rule out that it "
+            "earns nothing over the benchmark."
+        )
+    return Check("mean_interval", ok, iv.low, 0.0, reason)
+
+
+def decide(results: AuditResults, policy: Policy) -> Verdict:
+    """Run every registered check; the verdict is go only when every required check passes."""
+    checks: list[Check] = []
+    for check_id, fn in CHECKS.items():
+        c = fn(results, policy)
+        if c is None:
+            continue
+        checks.append(
+            Check(c.id, c.passed, c.value, c.threshold, c.reason, required=check_id in policy.required)
+        )
+    failed = [c for c in checks if c.required and not c.passed]
+    if failed:
+        return Verdict("no-go", tuple(c.reason for c in failed), tuple(checks))
+    return Verdict("go", tuple(c.reason for c in checks if c.required), tuple(checks))
