@@ -410,16 +410,29 @@ def _long(frame, label, window_col, opt: LoadOptions, notes):
             r = int(np.flatnonzero(frame[c].isna().to_numpy())[0])
             raise InputError("missing parameter value", path=label, column=c, row=r + 1)
 
-    single_id = len(params) == 1 and (params[0].lower() in ID_NAMES or not pd.api.types.is_numeric_dtype(frame[params[0]]))
-    keys = frame[params].astype(object).map(_label) if hasattr(frame[params], "map") else frame[params].applymap(_label)
-    if single_id:
-        config_names = keys[params[0]].astype(str)
+    single_id = len(params) == 1 and (
+        params[0].lower() in ID_NAMES or not pd.api.types.is_numeric_dtype(frame[params[0]])
+    )
+    # Factorise first and label only the unique values: the file may hold millions of rows.
+    if len(params) == 1:
+        config_codes, uniq = pd.factorize(frame[params[0]])
+        combos = [(v,) for v in uniq]
     else:
-        config_names = keys.apply(lambda row: ", ".join(f"{p}={row[p]}" for p in params), axis=1)
-    config_codes, config_uniques = pd.factorize(config_names)
+        config_codes, uniq = pd.MultiIndex.from_frame(frame[params]).factorize()
+        combos = list(uniq)
+    if single_id:
+        config_uniques = [_label(c[0]) for c in combos]
+    else:
+        config_uniques = [", ".join(f"{p}={_label(v)}" for p, v in zip(params, c)) for c in combos]
+    if len(set(config_uniques)) != len(config_uniques):
+        raise InputError("two different parameter values print the same configuration name", path=label)
 
-    order_key, dates_all = _order_windows(frame[window_col], label, window_col)
-    window_codes, window_uniques = pd.factorize(frame[window_col].astype(object).map(_label))
+    window_codes, raw_windows = pd.factorize(frame[window_col])
+    if (window_codes < 0).any():
+        r = int(np.flatnonzero(window_codes < 0)[0])
+        raise InputError("missing window label", path=label, column=window_col, row=r + 1)
+    window_uniques = [_label(v) for v in raw_windows]
+    order_key, dates_unique = _order_windows(pd.Series(raw_windows), label, window_col)
     # Duplicate (configuration, window) pairs: name the second occurrence.
     pair = config_codes.astype(np.int64) * (len(window_uniques) + 1) + window_codes
     dup = pd.Series(pair).duplicated().to_numpy()
@@ -431,17 +444,15 @@ def _long(frame, label, window_col, opt: LoadOptions, notes):
             path=label,
             row=r + 1,
         )
-    first_key = pd.Series(order_key.to_numpy()).groupby(window_codes).first().to_numpy()
-    order = np.argsort(first_key, kind="stable")
+    order = np.argsort(order_key.to_numpy(), kind="stable")
     rank = np.empty_like(order)
     rank[order] = np.arange(len(order))
     matrix = np.full((len(window_uniques), len(config_uniques)), np.nan)
     matrix[rank[window_codes], config_codes] = values
-    window_labels = [str(window_uniques[i]) for i in order]
+    window_labels = [window_uniques[i] for i in order]
     dates = None
-    if dates_all is not None:
-        first_pos = pd.Series(np.arange(len(frame))).groupby(window_codes).first().to_numpy()
-        dates = pd.DatetimeIndex(dates_all[first_pos[order]])
+    if dates_unique is not None:
+        dates = pd.DatetimeIndex(dates_unique[order])
         window_labels = [_label(d) for d in dates]
 
     names = [str(c) for c in config_uniques]
