@@ -51,6 +51,9 @@ class AuditSettings:
     interval_method : {"percentile", "basic"}
     selected : str or None
         Configuration to judge; None selects the highest full-sample Sharpe ratio.
+    trials : int or None
+        Trials the deflated Sharpe ratio counts; None counts the sweep's configurations. A trial
+        ledger or ``--trials`` declares more (every sweep the researcher tried).
     """
 
     seed: int = 0
@@ -60,6 +63,7 @@ class AuditSettings:
     block_length: float | None = None
     interval_method: IntervalMethod = "percentile"
     selected: str | None = None
+    trials: int | None = None
 
 
 @dataclass(frozen=True, eq=False)

@@ -148,7 +148,7 @@ def audit_command(
     ] = None,
     interval_method: Annotated[IntervalChoice, typer.Option(help="Bootstrap interval.")] = IntervalChoice.percentile,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the audit JSON here.")] = None,
-    quiet: Annotated[bool, typer.Option("--quiet", help="Print nothing; use the exit status.")] = False,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing; use the exit status.")] = False,
 ) -> None:
     """Audit the per-window excess returns of a parameter sweep and print a go / no-go verdict.
 

@@ -57,6 +57,7 @@ def audit_to_dict(results: AuditResults, *, command: str | None = None) -> dict:
     sharpe_factor = math.sqrt(ppy) if ppy else None
     policy = {f.name: getattr(results.policy, f.name) for f in fields(results.policy)}
     verdict = results.verdict
+    params = sweep.parameters.reset_index(drop=True).to_dict("records") or [{}] * sweep.n_configurations
     out = {
         "schema": SCHEMA,
         "tool": {"name": "sweepaudit", "version": __version__},
@@ -112,6 +113,7 @@ def audit_to_dict(results: AuditResults, *, command: str | None = None) -> dict:
                 "configurations": [
                     {
                         "configuration": name,
+                        "parameters": params[j],
                         "mean": _interval(iv.mean[j]),
                         "sharpe": _interval(iv.sharpe[j]),
                         "sharpe_annualized": _interval(iv.sharpe[j], sharpe_factor),
