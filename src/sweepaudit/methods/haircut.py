@@ -199,9 +199,11 @@ def haircut_sharpe(
     Bonferroni needs only the count: ``p_adj = min(tests * p, 1)``. Holm and BHY also depend on the
     other tests' p-values, taken from the supplied configurations' Sharpe ratios. When ``tests``
     exceeds the configurations supplied, each unseen test is given p-value 1 (assumed
-    insignificant): it still raises the test count in the adjustments but never outranks the
-    selected configuration. This is the most lenient assumption consistent with the declared
-    count, so Holm and BHY haircuts are then lower bounds; Bonferroni is unaffected.
+    insignificant): it raises the test count in the adjustments but never outranks the selected
+    configuration. Unseen tests more significant than the selected one would lower its Holm and
+    BHY adjusted p-values, so this is the conservative choice: the Holm and BHY haircuts are then
+    upper bounds (Holm equals Bonferroni when the selected configuration has the smallest
+    p-value). Bonferroni is unaffected.
     """
     values, index, n, count, periods = _validate(sharpes, selected, observations, tests, periods_per_year)
     root = math.sqrt(n)
