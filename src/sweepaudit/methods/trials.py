@@ -517,8 +517,10 @@ def sharpe_inference(
     the spread of the configurations' true Sharpe ratios, so a genuine edge shared by a
     neighbourhood of configurations inflates the benchmark and deflates itself away. The
     simulation in ``benchmarks/sharpe_variance_study.py`` (``docs/sharpe_variance.md``) measures
-    this: on pure-noise sweeps the null mode's false-positive rate stays below 5 %, while on sweeps
-    with a shared real edge the empirical mode loses most of the power the null mode keeps.
+    this: on pure-noise sweeps the null mode's false-positive rate stays below 5 % (at most 2 %),
+    while on sweeps with a real edge shared by a neighbourhood of configurations the empirical mode
+    passes 6 % of sweeps against 52 % to 86 % for the null mode; with a strong common factor the
+    empirical mode's false-positive rate rises above 5 % (5.6 % to 8 %).
 
     *Declared trials by default.* ``E[max]`` of N correlated trials is at most that of N
     independent ones, so the declared count gives a benchmark that is conservative whatever the
