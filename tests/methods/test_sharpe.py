@@ -10,6 +10,9 @@ Verified against an outside reference:
 - annualization_factor: Lo (2002) AR(1) example, eta(12) = 2.1213 for rho = 0.5;
 - autocorrelations: statsmodels.tsa.stattools.acf;
 - return_moments: scipy.stats.skew / scipy.stats.kurtosis(fisher=False);
+- serial_correlation_standard_error: its long-run covariance against statsmodels'
+  sandwich_covariance.S_hac_simple (Newey and West 1987), lags=0 against the Mertens formula, and a
+  Monte Carlo of the Sharpe estimator on AR(1) returns (theory: Lo 2002);
 - sharpe_standard_error: Monte Carlo of the Sharpe estimator on skewed, fat-tailed iid data
   (theory: Mertens 2002).
 
@@ -39,6 +42,7 @@ from sweepaudit.methods.sharpe import (
     minimum_track_record,
     probabilistic_sharpe,
     return_moments,
+    serial_correlation_standard_error,
     sharpe_ratio,
     sharpe_standard_error,
 )
@@ -303,6 +307,40 @@ def test_mertens_variance_against_monte_carlo_long():
     assert estimates.var(ddof=1) == pytest.approx(theory, rel=4 * math.sqrt(2 / replications) + 0.01)
 
 
+def test_serial_correlation_standard_error_references():
+    """lags = 0 is Mertens (2002) with plug-in moments and divisor n; lags > 0 uses the Newey and
+    West (1987) long-run covariance, checked against statsmodels' S_hac_simple."""
+    from statsmodels.stats.sandwich_covariance import S_hac_simple
+
+    rng = np.random.default_rng(21)
+    x = signal.lfilter([1.0], [1.0, -0.3], rng.standard_t(5, size=800)) + 0.1
+    n = x.size
+    centred = x - x.mean()
+    m2, m3, m4 = (np.mean(centred**k) for k in (2, 3, 4))
+    plug_in = x.mean() / math.sqrt(m2)
+    mertens = sharpe_standard_error(plug_in, observations=n, skewness=m3 / m2**1.5, kurtosis=m4 / m2**2, divisor="n")
+    assert serial_correlation_standard_error(x, lags=0) == pytest.approx(mertens, rel=1e-10)
+    moments = np.column_stack([centred, centred**2 - m2])
+    long_run = S_hac_simple(moments, nlags=7) / n
+    gradient = np.array([1 / math.sqrt(m2), -x.mean() / (2 * m2**1.5)])
+    expected = math.sqrt(gradient @ long_run @ gradient / n)
+    assert serial_correlation_standard_error(x, lags=7) == pytest.approx(expected, rel=1e-10)
+
+
+def test_serial_correlation_standard_error_monte_carlo():
+    """Theory (Lo 2002): with AR(1) rho = 0.5 returns the Sharpe estimator's variance is about
+    (1 + rho)/(1 - rho) = 3 times the iid one; the HAC standard error tracks a Monte Carlo of it."""
+    rng = np.random.default_rng(2002)
+    n, replications = 1000, 1500
+    x = signal.lfilter([1.0], [1.0, -0.5], rng.standard_normal((replications, n)), axis=1) + 0.05
+    estimates = x.mean(axis=1) / x.std(axis=1, ddof=1)
+    simulated = estimates.std(ddof=1)
+    average_se = np.mean([serial_correlation_standard_error(row, lags=25) for row in x[:300]])
+    assert average_se == pytest.approx(simulated, rel=0.1)
+    iid_se = sharpe_standard_error(0.05 * math.sqrt(0.75), observations=n, divisor="n")
+    assert simulated > 1.5 * iid_se
+
+
 # --------------------------------------------------------------------------------------------
 # Error messages
 # --------------------------------------------------------------------------------------------
@@ -376,6 +414,15 @@ def test_error_annualisation():
         annualized_sharpe(np.arange(10.0), periods_per_year=12)
     with pytest.raises(InputError, match=r"max_lag must be below the number of observations \(5\); received 5"):
         autocorrelations(np.arange(5.0), max_lag=5)
+
+
+def test_error_serial_correlation_standard_error():
+    with pytest.raises(InputError, match=r"lags must be a whole number between 0 and 9; received 10"):
+        serial_correlation_standard_error(np.arange(10.0), lags=10)
+    with pytest.raises(DegenerateDataError, match=r"returns is constant"):
+        serial_correlation_standard_error(np.full(50, 0.02))
+    with pytest.raises(InputError, match=r"returns must be 1-D; received shape \(10, 2\)"):
+        serial_correlation_standard_error(np.ones((10, 2)))
 
 
 def test_error_zero_standard_error():

@@ -216,6 +216,8 @@ def test_sharpe_inference_headline_matches_direct_call():
     assert result.min_track_record_years == pytest.approx(result.min_track_record_observations / 52)
     assert result.serial_correlation_factor is not None
     assert result.probabilistic.benchmark == 0.0
+    assert result.standard_error == pytest.approx(direct.standard_error, rel=1e-12)
+    assert result.standard_error_serial_correlation > 0
 
 
 def test_sharpe_inference_none_fields_carry_warnings():

@@ -20,6 +20,9 @@ Risk* 15(2), 3-44.
 Bailey, D. H. and Lopez de Prado, M. (2014). The deflated Sharpe ratio: correcting for selection
 bias, backtest overfitting and non-normality. *Journal of Portfolio Management* 40(5), 94-107.
 
+Newey, W. K. and West, K. D. (1987). A simple, positive semi-definite, heteroskedasticity and
+autocorrelation consistent covariance matrix. *Econometrica* 55(3), 703-708.
+
 Lopez de Prado, M. (2018). *Advances in Financial Machine Learning*. Wiley. Section 14.7.
 """
 
@@ -42,6 +45,7 @@ __all__ = [
     "sharpe_ratio",
     "return_moments",
     "sharpe_standard_error",
+    "serial_correlation_standard_error",
     "autocorrelations",
     "annualization_factor",
     "annualized_sharpe",
@@ -439,6 +443,51 @@ def sharpe_standard_error(
     denominator = n - 1.0 if divisor == "n-1" else n
     # The numerator is >= 0 whenever g4 >= 1 + g3^2 (its discriminant is g3^2 - (g4 - 1) <= 0).
     return math.sqrt(max(_variance_numerator(sr, g3, g4), 0.0) / denominator)
+
+
+def serial_correlation_standard_error(returns: object, *, lags: int | None = None) -> float:
+    """Standard error of a per-window Sharpe ratio when returns are serially correlated.
+
+    Lo (2002), section "non-IID returns": the delta method on ``SR = g(mu, sigma^2) = mu / sigma``
+    with the long-run covariance of the moment series ``u_t = (r_t - mu, (r_t - mu)^2 - sigma^2)``
+    estimated by Newey and West (1987) with Bartlett weights ``1 - j / (lags + 1)``:
+
+    ``Var(SR) = grad' S grad / T``, ``grad = (1/sigma, -mu / (2 sigma^3))``.
+
+    Parameters
+    ----------
+    returns : array_like, shape (T,)
+    lags : int, optional
+        Highest lag of the Bartlett window; default ``floor(4 (T/100)^(2/9))`` (Newey and West's
+        rule of thumb; common practice). ``lags=0`` reproduces the iid formula of Mertens (2002)
+        with divisor ``n`` and plug-in moments.
+
+    Returns
+    -------
+    float
+    """
+    array = _returns_array(returns)
+    if array.ndim != 1:
+        raise InputError(f"returns must be 1-D; received shape {array.shape}")
+    n = array.shape[0]
+    if lags is None:
+        lags = int(math.floor(4 * (n / 100.0) ** (2.0 / 9.0)))
+    if isinstance(lags, bool) or not isinstance(lags, (int, np.integer)) or not 0 <= lags < n:
+        raise InputError(f"lags must be a whole number between 0 and {n - 1}; received {lags!r}")
+    mean = float(array.mean())
+    centred = array - mean
+    variance = float(np.mean(centred**2))
+    if variance <= 0 or math.sqrt(variance) <= 1e-14 * float(np.max(np.abs(array))):
+        raise DegenerateDataError("returns is constant; its Sharpe ratio is undefined")
+    moments = np.column_stack([centred, centred**2 - variance])
+    long_run = moments.T @ moments
+    for lag in range(1, lags + 1):
+        cross = moments[lag:].T @ moments[:-lag]
+        long_run += (1.0 - lag / (lags + 1.0)) * (cross + cross.T)
+    long_run /= n
+    sigma = math.sqrt(variance)
+    gradient = np.array([1.0 / sigma, -mean / (2.0 * sigma**3)])
+    return math.sqrt(max(float(gradient @ long_run @ gradient), 0.0) / n)
 
 
 @dataclass(frozen=True)

@@ -38,6 +38,7 @@ from sweepaudit.methods.sharpe import (
     minimum_track_record,
     probabilistic_sharpe,
     return_moments,
+    serial_correlation_standard_error,
 )
 
 __all__ = [
@@ -355,6 +356,11 @@ class SharpeInference:
         Selected configuration's skewness (plain moment estimator).
     kurtosis : float
         Its RAW kurtosis (3 for normal), plain moment estimator.
+    standard_error : float
+        iid standard error of ``observed`` (Mertens 2002, PSR's ``n - 1``), the one PSR/DSR use.
+    standard_error_serial_correlation : float
+        Serial-correlation-robust standard error (Lo 2002 with Newey-West, default lags), shown
+        beside it so a reader sees when autocorrelation makes the iid figures optimistic.
     probabilistic : ProbabilisticSharpe
         PSR against ``benchmark``.
     deflated : DeflatedSharpe
@@ -401,6 +407,8 @@ class SharpeInference:
     periods_per_year: float | None
     skewness: float
     kurtosis: float
+    standard_error: float
+    standard_error_serial_correlation: float
     probabilistic: ProbabilisticSharpe
     deflated: DeflatedSharpe
     trials: int
@@ -630,6 +638,8 @@ def sharpe_inference(
         periods_per_year=periods,
         skewness=skewness,
         kurtosis=kurtosis,
+        standard_error=psr.standard_error,
+        standard_error_serial_correlation=serial_correlation_standard_error(array[:, selected]),
         probabilistic=psr,
         deflated=headline,
         trials=declared,
