@@ -180,6 +180,15 @@ def test_exact_expected_maximum_against_exact_sampling(trials):
     assert expected_max_standard_normal(trials, exact=True) == pytest.approx(maxima.mean(), abs=4 * standard_error)
 
 
+def test_expected_maximum_of_fractional_trial_counts_is_never_negative():
+    """Effective trial counts can be fractional: E[max] for N in [1, 2] lies between 0 and 1/sqrt(pi)
+    (Phi^N dominates Phi for N >= 1); the paper's approximation alone goes negative below ~1.28."""
+    for exact in (False, True):
+        values = [expected_max_standard_normal(n, exact=exact) for n in np.linspace(1.0, 2.0, 11)]
+        assert all(0.0 <= v <= 1 / math.sqrt(math.pi) + 1e-9 for v in values)
+        assert all(b >= a for a, b in zip(values, values[1:]))
+
+
 def test_exact_expected_maximum_is_fast_and_increasing_for_huge_counts():
     values = [expected_max_standard_normal(n, exact=True) for n in (1e3, 1e6, 1e9, 1e12, 1e15)]
     assert all(b > a for a, b in zip(values, values[1:]))

@@ -326,7 +326,11 @@ def annualization_factor(periods_per_year: int, *, autocorrelations: object | No
         if q <= 0:
             raise InputError(f"periods_per_year must be positive; received {periods_per_year!r}")
         return math.sqrt(q)
-    if isinstance(periods_per_year, bool) or not float(periods_per_year).is_integer() or periods_per_year < 1:
+    if (
+        isinstance(periods_per_year, bool)
+        or not _finite_float(periods_per_year, "periods_per_year").is_integer()
+        or periods_per_year < 1
+    ):
         raise InputError(
             "periods_per_year must be a positive integer for the serial-correlation adjustment; "
             f"received {periods_per_year!r}"
@@ -375,7 +379,11 @@ def annualized_sharpe(
     sharpe = float(sharpe_ratio(array))
     if serial_correlation == "ignored":
         return sharpe * annualization_factor(periods_per_year)
-    if isinstance(periods_per_year, bool) or not float(periods_per_year).is_integer() or periods_per_year < 1:
+    if (
+        isinstance(periods_per_year, bool)
+        or not _finite_float(periods_per_year, "periods_per_year").is_integer()
+        or periods_per_year < 1
+    ):
         raise InputError(
             "periods_per_year must be a positive integer for the serial-correlation adjustment; "
             f"received {periods_per_year!r}"
@@ -623,10 +631,13 @@ def minimum_track_record(
 
 def _expected_max_approximate(trials: float) -> float:
     # Bailey and Lopez de Prado (2014), eq. (5): (1 - gamma) Phi^-1(1 - 1/N) + gamma Phi^-1(1 - 1/(N e)).
-    return float(
+    value = float(
         (1.0 - EULER_MASCHERONI) * stats.norm.isf(1.0 / trials)
         + EULER_MASCHERONI * stats.norm.isf(1.0 / (trials * math.e))
     )
+    # The formula is built for large N and turns negative below N ~ 1.28 (fractional effective
+    # trial counts); the true expectation is at least E[one normal] = 0 for every N >= 1.
+    return max(value, 0.0)
 
 
 def _expected_max_exact(trials: float) -> float:
@@ -665,7 +676,9 @@ def expected_max_standard_normal(trials: float, *, exact: bool = False) -> float
     Returns
     -------
     float
-        0 for ``N = 1`` in both modes (the approximation's ``Phi^-1(0)`` is not used there).
+        0 for ``N = 1`` in both modes (the approximation's ``Phi^-1(0)`` is not used there). The
+        approximation is floored at 0: it turns negative for fractional N below about 1.28, while
+        the expectation is never below that of a single normal.
 
     Notes
     -----

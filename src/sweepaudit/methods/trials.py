@@ -449,7 +449,8 @@ class SharpeInference:
 def _declared_trials(trials: object, configurations: int) -> int:
     if trials is None:
         return configurations
-    if isinstance(trials, bool) or not isinstance(trials, (int, np.integer)):
+    whole = isinstance(trials, (int, np.integer)) or (isinstance(trials, (float, np.floating)) and float(trials).is_integer())
+    if isinstance(trials, bool) or not whole:
         raise InputError(f"trials must be a whole number of configurations tried; received {trials!r}")
     if trials < configurations:
         raise InputError(
