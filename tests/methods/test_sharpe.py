@@ -6,7 +6,7 @@ Verified against an outside reference:
 - expected_max_standard_normal: normal order statistics tables (Harter 1961), the closed form
   1/sqrt(pi) for N = 2, and exact sampling of the maximum (max = Phi^-1(U^(1/N)));
 - probabilistic_sharpe, minimum_track_record: hand computation from Bailey and Lopez de Prado (2012),
-  eq. 8 and 11, worked out in the docstrings below;
+  worked out in the docstrings below;
 - annualization_factor: Lo (2002) AR(1) example, eta(12) = 2.1213 for rho = 0.5;
 - autocorrelations: statsmodels.tsa.stattools.acf;
 - return_moments: scipy.stats.skew / scipy.stats.kurtosis(fisher=False);
@@ -93,7 +93,7 @@ def test_max_trials_edges():
 
 
 def test_expected_max_sharpe_paper_formula():
-    """Bailey and Lopez de Prado (2014), eq. 5 written out with scipy's normal quantile."""
+    """Bailey and Lopez de Prado (2014) expected-maximum approximation written out with scipy's normal quantile."""
     n, v = 100, 0.5 / 250
     by_hand = math.sqrt(v) * (
         (1 - EULER_MASCHERONI) * stats.norm.ppf(1 - 1 / n) + EULER_MASCHERONI * stats.norm.ppf(1 - 1 / (n * math.e))
@@ -202,7 +202,7 @@ def test_exact_expected_maximum_is_fast_and_increasing_for_huge_counts():
 
 
 def test_probabilistic_sharpe_hand_check():
-    """Bailey and Lopez de Prado (2012), eq. 8, by hand (METHODS.md).
+    """Bailey and Lopez de Prado (2012) PSR, by hand (METHODS.md).
 
     Annual SR 1.0 from monthly normal data: SR = 1/sqrt(12) = 0.2886751, n = 36, g3 = 0, g4 = 3.
     Numerator 1 - 0 + (3 - 1)/4 * SR^2 = 1 + 1/24 = 1.0416667.
@@ -216,7 +216,7 @@ def test_probabilistic_sharpe_hand_check():
 
 
 def test_minimum_track_record_hand_check():
-    """Bailey and Lopez de Prado (2012), eq. 11 (form from memory), by hand (METHODS.md).
+    """Bailey and Lopez de Prado (2012) MinTRL (form from memory), by hand (METHODS.md).
 
     MinTRL = 1 + 1.0416667 * (1.6448536 / 0.2886751)^2 = 1 + 1.0416667 * 32.4659 = 34.82 months.
     """

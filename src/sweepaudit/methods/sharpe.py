@@ -58,7 +58,7 @@ __all__ = [
 ]
 
 #: Euler-Mascheroni constant, used by the expected-maximum approximation of Bailey and Lopez de
-#: Prado (2014), eq. (5) / appendix.
+#: Prado (2014).
 EULER_MASCHERONI = 0.5772156649015329
 
 ExpectedMaximum = Literal["approximate", "exact"]
@@ -297,7 +297,7 @@ def autocorrelations(series: object, *, max_lag: int) -> np.ndarray:
 def annualization_factor(periods_per_year: int, *, autocorrelations: object | None = None) -> float:
     """Factor that turns a per-window Sharpe ratio into an annual one.
 
-    Without autocorrelations this is the usual ``sqrt(q)``. With them it is Lo's (2002, eq. 17)
+    Without autocorrelations this is the usual ``sqrt(q)``. With them it is Lo's (2002)
     serial-correlation-adjusted factor
 
     ``eta(q) = q / sqrt(q + 2 * sum_{k=1}^{q-1} (q - k) * rho_k)``,
@@ -542,7 +542,7 @@ def probabilistic_sharpe(
 
     ``PSR(SR*) = Phi( (SR - SR*) * sqrt(n - 1) / sqrt(1 - g3*SR + (g4 - 1)/4 * SR^2) )``
 
-    Bailey and Lopez de Prado (2012), eq. (8); as printed in Lopez de Prado (2018), section 14.7.2.
+    Bailey and Lopez de Prado (2012); as printed in Lopez de Prado (2018), section 14.7.2.
 
     Parameters
     ----------
@@ -591,7 +591,7 @@ def minimum_track_record(
 
     ``MinTRL = 1 + [1 - g3*SR + (g4 - 1)/4 * SR^2] * (z_confidence / (SR - SR*))^2``
 
-    Bailey and Lopez de Prado (2012), eq. (11) (form from memory). It inverts
+    Bailey and Lopez de Prado (2012) (form from memory). It inverts
     :func:`probabilistic_sharpe`: ``PSR`` with ``observations = MinTRL`` equals ``confidence``.
 
     Parameters
@@ -630,7 +630,7 @@ def minimum_track_record(
 
 
 def _expected_max_approximate(trials: float) -> float:
-    # Bailey and Lopez de Prado (2014), eq. (5): (1 - gamma) Phi^-1(1 - 1/N) + gamma Phi^-1(1 - 1/(N e)).
+    # Bailey and Lopez de Prado (2014): (1 - gamma) Phi^-1(1 - 1/N) + gamma Phi^-1(1 - 1/(N e)).
     value = float(
         (1.0 - EULER_MASCHERONI) * stats.norm.isf(1.0 / trials)
         + EULER_MASCHERONI * stats.norm.isf(1.0 / (trials * math.e))
@@ -668,7 +668,7 @@ def expected_max_standard_normal(trials: float, *, exact: bool = False) -> float
     trials : float
         ``N >= 1``; non-integer values (effective trial counts) are allowed.
     exact : bool
-        False: the approximation of Bailey and Lopez de Prado (2014, eq. 5), built on the
+        False: the approximation of Bailey and Lopez de Prado (2014), built on the
         Euler-Mascheroni constant. True: numerical integration of the exact expectation
         ``int x N phi(x) Phi(x)^(N-1) dx``, evaluated in the equivalent, numerically stable form
         ``int_0^inf (1 - Phi^N) dx - int_-inf^0 Phi^N dx``.
@@ -697,7 +697,7 @@ def expected_max_sharpe(trials: float, *, trial_sharpe_variance: float, exact: b
 
     ``SR0 = sqrt(V) * E[max of N iid standard normals]``; with ``exact=False`` the expectation is
     ``(1 - gamma) Phi^-1(1 - 1/N) + gamma Phi^-1(1 - 1/(N e))`` (Bailey and Lopez de Prado 2014,
-    eq. 5, gamma the Euler-Mascheroni constant), with ``exact=True`` the numerical integral of
+    gamma the Euler-Mascheroni constant), with ``exact=True`` the numerical integral of
     :func:`expected_max_standard_normal`.
 
     Parameters
@@ -774,7 +774,7 @@ def deflated_sharpe(
 
     ``DSR = PSR(SR0)``, ``SR0 = sqrt(V) * [(1 - gamma) Phi^-1(1 - 1/N) + gamma Phi^-1(1 - 1/(N e))]``
 
-    Bailey and Lopez de Prado (2014), eqs. (2) and (5).
+    Bailey and Lopez de Prado (2014).
 
     Parameters
     ----------

@@ -137,7 +137,7 @@ def _eigenvalues(eigenvalues: object) -> np.ndarray:
 
 
 def nyholt_effective_trials(eigenvalues: object) -> float:
-    """Nyholt (2004), eq. 5: ``M_eff = 1 + (M - 1) * (1 - Var(lambda) / M)``, clipped to [1, M].
+    """Nyholt (2004): ``M_eff = 1 + (M - 1) * (1 - Var(lambda) / M)``, clipped to [1, M].
 
     ``lambda`` are the M eigenvalues of the correlation matrix and ``Var`` their sample variance
     (divisor M - 1), so perfectly correlated trials (eigenvalues M, 0, ..., 0) give exactly 1.
@@ -156,7 +156,7 @@ def nyholt_effective_trials(eigenvalues: object) -> float:
 
 
 def li_ji_effective_trials(eigenvalues: object) -> float:
-    """Li and Ji (2005), eq. 2: ``M_eff = sum_i f(|lambda_i|)``, ``f(x) = I(x >= 1) + (x - floor(x))``.
+    """Li and Ji (2005): ``M_eff = sum_i f(|lambda_i|)``, ``f(x) = I(x >= 1) + (x - floor(x))``.
 
     Each eigenvalue of at least 1 counts one trial and its fractional part adds the rest.
     Eigenvalues within ``1e-9 * M`` of a whole number are treated as that whole number, because
