@@ -1,3 +1,64 @@
-"""sweepaudit: audit a trading strategy's parameter sweep before money is committed to it."""
+"""sweepaudit: audit a trading strategy's parameter sweep before money is committed to it.
+
+Public API (stable names):
+
+- :func:`load_sweep`, :class:`LoadOptions`, :class:`Sweep`, :func:`sweep_from_array`
+- :func:`audit`, :class:`AuditSettings`, :class:`Policy`
+- :func:`draw_resamples`, :func:`resampled_moments` (the shared resampling engine)
+- :func:`probabilistic_sharpe`, :func:`deflated_sharpe`, :func:`expected_max_sharpe`,
+  :func:`minimum_track_record`, :func:`sharpe_inference`, :func:`effective_trials`,
+  :func:`haircut_sharpe`
+"""
 
 __version__ = "0.1.0"
+
+from .audit import AuditResults, AuditSettings, audit  # noqa: E402
+from .errors import (  # noqa: E402
+    DegenerateDataError,
+    InputError,
+    PolicyError,
+    SweepAuditError,
+    SweepAuditWarning,
+)
+from .load import LoadOptions, load_sweep  # noqa: E402
+from .methods.bootstrap_ci import bootstrap_intervals  # noqa: E402
+from .methods.haircut import haircut_sharpe  # noqa: E402
+from .methods.sharpe import (  # noqa: E402
+    deflated_sharpe,
+    expected_max_sharpe,
+    minimum_track_record,
+    probabilistic_sharpe,
+)
+from .methods.trials import effective_trials, sharpe_inference  # noqa: E402
+from .policy import DEFAULT_POLICY, Policy  # noqa: E402
+from .resample import Resamples, draw_resamples, resampled_moments  # noqa: E402
+from .sweep import Sweep, sweep_from_array  # noqa: E402
+
+__all__ = [
+    "__version__",
+    "AuditResults",
+    "AuditSettings",
+    "audit",
+    "DegenerateDataError",
+    "InputError",
+    "PolicyError",
+    "SweepAuditError",
+    "SweepAuditWarning",
+    "LoadOptions",
+    "load_sweep",
+    "bootstrap_intervals",
+    "haircut_sharpe",
+    "deflated_sharpe",
+    "expected_max_sharpe",
+    "minimum_track_record",
+    "probabilistic_sharpe",
+    "effective_trials",
+    "sharpe_inference",
+    "DEFAULT_POLICY",
+    "Policy",
+    "Resamples",
+    "draw_resamples",
+    "resampled_moments",
+    "Sweep",
+    "sweep_from_array",
+]

@@ -14,6 +14,8 @@ import numpy as np
 
 from .errors import InputError, SweepAuditWarning
 from .methods.bootstrap_ci import BootstrapIntervals, IntervalMethod, bootstrap_intervals
+from .methods.haircut import HaircutSharpe, haircut_sharpe
+from .methods.trials import SharpeInference, sharpe_inference
 from .policy import DEFAULT_POLICY, Policy
 from .resample import (
     BootstrapKind,
@@ -80,6 +82,8 @@ class AuditResults:
     intervals: BootstrapIntervals
     sharpe_ratios: np.ndarray
     warnings: tuple[str, ...]
+    sharpe: SharpeInference | None = None
+    haircut: HaircutSharpe | None = None
     verdict: Verdict | None = field(default=None)
 
     @property
@@ -146,8 +150,24 @@ def audit(
             x, resamples, progress=(lambda done: progress(done, count)) if progress else None
         )
         intervals = bootstrap_intervals(x, moments, confidence=confidence, method=settings.interval_method)
+        inference = sharpe_inference(
+            x,
+            selected=selected,
+            trials=settings.trials,
+            periods_per_year=sweep.periods_per_year,
+            confidence=policy.track_record_confidence,
+            variance_mode=policy.deflation_variance,
+            trials_for_deflation=policy.deflation_trials,
+        )
+        haircut = haircut_sharpe(
+            inference.configuration_sharpes,
+            observations=sweep.n_windows,
+            selected=selected,
+            tests=inference.trials,
+            periods_per_year=sweep.periods_per_year,
+        )
 
-    notes = list(sweep.notes)
+    notes = list(sweep.notes) + list(inference.warnings)
     notes += [str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning)]
     if sweep.n_configurations == 1:
         notes.append("a single configuration: selection tests need at least two configurations and were skipped")
@@ -170,5 +190,7 @@ def audit(
         intervals=intervals,
         sharpe_ratios=sharpe,
         warnings=tuple(notes),
+        sharpe=inference,
+        haircut=haircut,
     )
     return replace(results, verdict=decide(results, policy))

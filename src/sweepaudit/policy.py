@@ -58,8 +58,29 @@ class Policy:
     min_windows: int = _f(
         36, "fewest windows that can support a verdict (common practice: three years of monthly data)", low=8, high=10**9
     )
+    min_deflated_probability: float = _f(
+        0.95,
+        "lowest deflated Sharpe probability for a go (Bailey and Lopez de Prado 2014 use 0.95)",
+        low=0.0, high=1.0, low_open=True, high_open=True,
+    )
+    deflation_variance: str = _f(
+        "null",
+        "trial Sharpe variance of the deflation: null (no-edge sampling variance, 1/(T-1)) or "
+        "empirical (across the sweep; deflates a shared real edge away, see README)",
+        choices=("null", "empirical"),
+    )
+    deflation_trials: str = _f(
+        "declared",
+        "trial count of the deflation: declared (configurations, --trials or the ledger) or effective",
+        choices=("declared", "effective"),
+    )
+    track_record_confidence: float = _f(
+        0.95,
+        "confidence of the minimum track record length (Bailey and Lopez de Prado 2012 use 0.95)",
+        low=0.5, high=1.0, high_open=True,
+    )
     required: tuple[str, ...] = _f(
-        ("enough_windows", "mean_interval"),
+        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record"),
         "checks that must pass for a go; the others are advisory",
     )
 

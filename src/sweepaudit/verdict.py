@@ -108,6 +108,64 @@ def _mean_interval(results: AuditResults, policy: Policy) -> Check:
     return Check("mean_interval", ok, iv.low, 0.0, reason)
 
 
+@check("deflated_sharpe")
+def _deflated_sharpe(results: AuditResults, policy: Policy) -> Check | None:
+    inf = results.sharpe
+    if inf is None:
+        return None
+    d = inf.deflated
+    need = policy.min_deflated_probability
+    ok = d.probability >= need
+    luck = (
+        f"the best of {_fmt(d.trials, 6)} trials with no edge would reach a Sharpe ratio of about "
+        f"{_fmt(d.benchmark_sharpe)} per window by luck"
+    )
+    if ok:
+        reason = (
+            f"Deflated Sharpe probability {_fmt(d.probability, 3)} reaches the policy's {_fmt(need, 3)}: "
+            f"{luck}, and the selected Sharpe ratio of {_fmt(d.sharpe)} clears it with confidence."
+        )
+    else:
+        reason = (
+            f"Deflated Sharpe probability {_fmt(d.probability, 3)} is below the policy's {_fmt(need, 3)}: "
+            f"{luck}, so the selected Sharpe ratio of {_fmt(d.sharpe)} is not clearly more than "
+            "selection luck."
+        )
+    return Check("deflated_sharpe", ok, d.probability, need, reason)
+
+
+@check("track_record")
+def _track_record(results: AuditResults, policy: Policy) -> Check | None:
+    inf = results.sharpe
+    if inf is None:
+        return None
+    t = results.sweep.n_windows
+    need = inf.min_track_record_observations
+    level = _pct(inf.confidence)
+    if need is None:
+        return Check(
+            "track_record",
+            False,
+            float(t),
+            None,
+            f"The selected Sharpe ratio is not above zero, so no track record, however long, would "
+            f"show a positive Sharpe ratio at {level} confidence.",
+        )
+    ok = t >= need
+    if ok:
+        reason = (
+            f"The track record of {t} windows is at least the minimum track record length of "
+            f"{_fmt(need)} windows needed to show a positive Sharpe ratio at {level} confidence."
+        )
+    else:
+        reason = (
+            f"The track record of {t} windows is shorter than the minimum track record length of "
+            f"{_fmt(need)} windows needed to show a positive Sharpe ratio at {level} confidence, "
+            "given its skewness and kurtosis: wait for more out-of-sample windows."
+        )
+    return Check("track_record", ok, float(t), float(need), reason)
+
+
 def decide(results: AuditResults, policy: Policy) -> Verdict:
     """Run every registered check; the verdict is go only when every required check passes."""
     checks: list[Check] = []

@@ -124,7 +124,94 @@ def audit_to_dict(results: AuditResults, *, command: str | None = None) -> dict:
         },
         "reproduce": {"command": command, "seed": results.settings.seed, "version": __version__},
     }
+    if results.sharpe is not None:
+        out["results"]["sharpe"] = _sharpe_block(results)
     return _clean(out)
+
+
+def _deflated(d, periods_per_year) -> dict:
+    root = math.sqrt(periods_per_year) if periods_per_year else None
+    return {
+        "trials": d.trials,
+        "trial_sharpe_variance": d.trial_sharpe_variance,
+        "expected_maximum": d.expected_maximum,
+        "benchmark_sharpe": d.benchmark_sharpe,
+        "benchmark_sharpe_annualized": d.benchmark_sharpe * root if root else None,
+        "statistic": d.statistic,
+        "probability": d.probability,
+    }
+
+
+def _sharpe_block(results: AuditResults) -> dict:
+    inf = results.sharpe
+    ppy = results.sweep.periods_per_year
+    head = _deflated(inf.deflated, ppy)
+    head.update(
+        {
+            "effective_trials": inf.effective_trials,
+            "effective_trials_method": inf.effective_trials_method,
+            "declared_trials": inf.trials,
+            "trials_used": inf.trials_for_deflation,
+            "variance_mode": inf.variance_mode,
+            "trial_sharpe_variance_null": inf.trial_sharpe_variance_null,
+            "trial_sharpe_variance_empirical": inf.trial_sharpe_variance_empirical,
+        }
+    )
+    detail = inf.effective_trials_detail
+    hc = results.haircut
+    block = {
+        "observed": inf.observed,
+        "observed_annualized": inf.observed_annualized,
+        "annualization": inf.annualization,
+        "serial_correlation_factor": inf.serial_correlation_factor,
+        "observations": inf.observations,
+        "skewness": inf.skewness,
+        "kurtosis": inf.kurtosis,
+        "standard_error": inf.standard_error,
+        "standard_error_serial_correlation": inf.standard_error_serial_correlation,
+        "probabilistic": {
+            "benchmark": inf.probabilistic.benchmark,
+            "statistic": inf.probabilistic.statistic,
+            "probability": inf.probabilistic.probability,
+        },
+        "deflated": head,
+        "deflated_variants": [
+            {
+                "variance_mode": v.variance_mode,
+                "expected_maximum": v.expected_maximum,
+                "trials_used": v.trial_count,
+                **_deflated(v.result, ppy),
+            }
+            for v in inf.variants
+        ],
+        "effective_trials": {
+            "average_correlation": detail.average_correlation,
+            "from_average_correlation": detail.from_average_correlation,
+            "nyholt": detail.nyholt,
+            "li_ji": detail.li_ji,
+        },
+        "min_track_record": {
+            "observations": inf.min_track_record_observations,
+            "years": inf.min_track_record_years,
+            "confidence": inf.confidence,
+        },
+    }
+    if hc is not None:
+        block["haircut"] = {
+            "tests": hc.tests,
+            "t_statistic": hc.t_statistic,
+            "pvalue": hc.pvalue,
+            **{
+                a.method: {
+                    "pvalue": a.pvalue,
+                    "sharpe": a.sharpe,
+                    "sharpe_annualized": a.sharpe_annualized,
+                    "haircut": a.haircut,
+                }
+                for a in (hc.bonferroni, hc.holm, hc.bhy)
+            },
+        }
+    return block
 
 
 def dumps(document: dict) -> str:

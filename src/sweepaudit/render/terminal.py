@@ -10,7 +10,7 @@ from rich.panel import Panel
 from rich.table import Table
 from rich.text import Text
 
-__all__ = ["render_terminal", "fmt", "pct"]
+__all__ = ["render_terminal", "fmt", "pct", "prob"]
 
 
 def fmt(x, digits: int = 4) -> str:
@@ -20,6 +20,11 @@ def fmt(x, digits: int = 4) -> str:
     if isinstance(x, int):
         return f"{x:,}"
     return f"{x:.{digits}g}"
+
+
+def prob(x) -> str:
+    """A probability or p-value, four decimals."""
+    return "-" if x is None else f"{x:.4f}"
 
 
 def pct(x, digits: int = 3) -> str:
@@ -76,6 +81,10 @@ def _sections(doc: dict) -> list:
     figures.add_row("Sharpe ratio", _iv(boot["sharpe"]), _iv(boot["sharpe_annualized"]))
     parts.append(figures)
 
+    sh = doc["results"].get("sharpe")
+    if sh:
+        parts.append(_sharpe_table(sh, ppy))
+
     checks = Table(title="Checks", title_justify="left")
     checks.add_column("check")
     checks.add_column("result")
@@ -95,6 +104,35 @@ def _sections(doc: dict) -> list:
         parts.append(w)
     parts.append(Text(doc["caution"], style="italic"))
     return parts
+
+
+def _sharpe_table(sh: dict, ppy) -> Table:
+    d = sh["deflated"]
+    t = Table(title="Selection-adjusted Sharpe inference (per window; annualized in brackets)",
+              title_justify="left", show_header=False)
+    t.add_column("figure")
+    t.add_column("value")
+    ann = lambda v, a: fmt(v) + (f"  ({fmt(a, 3)} annualized)" if a is not None else "")
+    t.add_row("selected Sharpe ratio", ann(sh["observed"], sh["observed_annualized"]))
+    t.add_row("skewness / kurtosis (raw)", f"{fmt(sh['skewness'], 3)} / {fmt(sh['kurtosis'], 3)}")
+    t.add_row("probabilistic Sharpe ratio vs 0", prob(sh["probabilistic"]["probability"]))
+    t.add_row("trials / effective trials", f"{fmt(d['trials'], 6)} / {fmt(d['effective_trials'], 3)} "
+              f"({d['effective_trials_method']}); deflation uses {d['trials_used']} trials")
+    t.add_row("best-of-trials luck benchmark", ann(d["benchmark_sharpe"], d["benchmark_sharpe_annualized"])
+              + f"  [{d['variance_mode']} variance, {d['expected_maximum']} expected maximum]")
+    t.add_row("deflated Sharpe probability", prob(d["probability"]))
+    mtrl = sh["min_track_record"]
+    t.add_row("minimum track record", "-" if mtrl["observations"] is None else
+              f"{fmt(mtrl['observations'])} windows" + (f" ({fmt(mtrl['years'], 3)} years)" if mtrl["years"] else ""))
+    hc = sh.get("haircut")
+    if hc:
+        t.add_row("haircut Sharpe (Bonferroni / Holm / BHY)",
+                  " / ".join(fmt(hc[m]["sharpe_annualized"] if ppy else hc[m]["sharpe"], 3) for m in ("bonferroni", "holm", "bhy"))
+                  + (" annualized" if ppy else " per window"))
+    t.caption = ("The deflated probability is the chance that the true Sharpe ratio beats what the best "
+                 "of the trials would show by luck alone; 0.95 or more is strong evidence of a real edge.")
+    t.caption_justify = "left"
+    return t
 
 
 def render_terminal(doc: dict, console: Console | None = None) -> None:

@@ -1,0 +1,245 @@
+"""Haircut Sharpe ratio of Harvey and Liu (2015): the Sharpe ratio after a multiple-testing adjustment.
+
+The selected configuration's t-statistic ``t = SR * sqrt(T)`` (per-window Sharpe ratio, T windows)
+gives a two-sided p-value ``p = 2 (1 - Phi(|t|))``. Adjusting it for the number of tests (Bonferroni,
+Holm, or Benjamini-Hochberg-Yekutieli) and mapping the adjusted p-value back,
+``t_adj = Phi^-1(1 - p_adj / 2)``, gives the haircut Sharpe ratio ``t_adj / sqrt(T)`` per window.
+
+The adjustments are computed by ``statsmodels.stats.multitest.multipletests`` (methods
+'bonferroni', 'holm', 'fdr_by'), not re-implemented here.
+
+References
+----------
+Harvey, C. R. and Liu, Y. (2015). Backtesting. *Journal of Portfolio Management* 42(1), 13-28.
+
+Harvey, C. R., Liu, Y. and Zhu, H. (2016). ... and the cross-section of expected returns. *Review
+of Financial Studies* 29(1), 5-68.
+
+Holm, S. (1979). A simple sequentially rejective multiple test procedure. *Scandinavian Journal of
+Statistics* 6(2), 65-70.
+
+Benjamini, Y. and Yekutieli, D. (2001). The control of the false discovery rate in multiple testing
+under dependency. *Annals of Statistics* 29(4), 1165-1188.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+from scipy import stats
+from statsmodels.stats.multitest import multipletests
+
+from sweepaudit.errors import InputError
+
+__all__ = ["HaircutAdjustment", "HaircutSharpe", "haircut_sharpe"]
+
+AdjustmentMethod = Literal["bonferroni", "holm", "bhy"]
+
+# Our method names -> statsmodels' names.
+_STATSMODELS_METHOD = {"bonferroni": "bonferroni", "holm": "holm", "bhy": "fdr_by"}
+
+
+@dataclass(frozen=True)
+class HaircutAdjustment:
+    """The selected configuration after one multiple-testing adjustment.
+
+    Attributes
+    ----------
+    method : {"bonferroni", "holm", "bhy"}
+    pvalue : float
+        Adjusted p-value of the selected configuration, in [0, 1].
+    t_statistic : float
+        ``Phi^-1(1 - pvalue / 2)``, capped at the unadjusted ``|t|`` (an adjustment never makes a
+        result more significant; the cap only binds when p-values underflow to 0).
+    sharpe : float
+        Haircut per-window Sharpe ratio ``sign(SR) * t_statistic / sqrt(T)``.
+    sharpe_annualized : float or None
+        ``sharpe * sqrt(periods_per_year)``; None when periods per year are unknown.
+    haircut : float or None
+        ``1 - sharpe / observed``: the share of the observed Sharpe ratio removed; None when the
+        observed Sharpe ratio is 0.
+    """
+
+    method: AdjustmentMethod
+    pvalue: float
+    t_statistic: float
+    sharpe: float
+    sharpe_annualized: float | None
+    haircut: float | None
+
+
+@dataclass(frozen=True)
+class HaircutSharpe:
+    """Haircut Sharpe ratio of the selected configuration (Harvey and Liu 2015).
+
+    Attributes
+    ----------
+    sharpe : float
+        Observed per-window Sharpe ratio of the selected configuration.
+    sharpe_annualized : float or None
+        ``sharpe * sqrt(periods_per_year)``.
+    observations : int
+        Windows T.
+    periods_per_year : float or None
+    tests : int
+        Number of tests the adjustment assumes (declared trials).
+    configurations : int
+        Tests whose Sharpe ratios were supplied; ``tests - configurations`` are unseen.
+    t_statistic : float
+        ``SR * sqrt(T)``.
+    pvalue : float
+        Unadjusted two-sided p-value ``2 (1 - Phi(|t|))``.
+    bonferroni, holm, bhy : HaircutAdjustment
+        The selected configuration under each adjustment.
+    configuration_pvalues : ndarray
+        Unadjusted p-values of the supplied configurations (raw material of Holm and BHY).
+    """
+
+    sharpe: float
+    sharpe_annualized: float | None
+    observations: int
+    periods_per_year: float | None
+    tests: int
+    configurations: int
+    t_statistic: float
+    pvalue: float
+    bonferroni: HaircutAdjustment
+    holm: HaircutAdjustment
+    bhy: HaircutAdjustment
+    configuration_pvalues: np.ndarray
+
+    def adjustment(self, method: AdjustmentMethod) -> HaircutAdjustment:
+        """The adjustment by name: "bonferroni", "holm" or "bhy"."""
+        if method not in _STATSMODELS_METHOD:
+            raise InputError(f"method must be 'bonferroni', 'holm' or 'bhy'; received {method!r}")
+        return getattr(self, method)
+
+
+def _validate(
+    sharpes: object, selected: object, observations: object, tests: object, periods_per_year: object
+) -> tuple[np.ndarray, int, int, int, float | None]:
+    try:
+        values = np.atleast_1d(np.asarray(sharpes, dtype=float))
+    except (TypeError, ValueError):
+        raise InputError(f"sharpes must be numeric per-window Sharpe ratios; received {sharpes!r}") from None
+    if values.ndim != 1 or values.size < 1:
+        raise InputError(f"sharpes must be a number or a non-empty 1-D array; received shape {values.shape}")
+    if not np.all(np.isfinite(values)):
+        raise InputError("sharpes must be finite; received non-finite values")
+    if selected is None:
+        if values.size != 1:
+            raise InputError(
+                f"selected must name the judged configuration (0-based index) when {values.size} Sharpe ratios are given"
+            )
+        index = 0
+    else:
+        if isinstance(selected, bool) or not isinstance(selected, (int, np.integer)) or not 0 <= selected < values.size:
+            raise InputError(f"selected must be an index between 0 and {values.size - 1}; received {selected!r}")
+        index = int(selected)
+    if isinstance(observations, bool) or not isinstance(observations, (int, np.integer)) or observations < 2:
+        raise InputError(f"observations must be a whole number of windows, at least 2; received {observations!r}")
+    if tests is None:
+        count = values.size
+    else:
+        if isinstance(tests, bool) or not isinstance(tests, (int, np.integer)):
+            raise InputError(f"tests must be a whole number; received {tests!r}")
+        if tests < values.size:
+            raise InputError(
+                f"tests must be at least the number of Sharpe ratios supplied ({values.size}); received tests={tests}"
+            )
+        count = int(tests)
+    periods = None
+    if periods_per_year is not None:
+        try:
+            periods = float(periods_per_year)  # type: ignore[arg-type]
+        except (TypeError, ValueError):
+            periods = math.nan
+        if not math.isfinite(periods) or periods <= 0:
+            raise InputError(f"periods_per_year must be a positive number or None; received {periods_per_year!r}")
+    return values, index, int(observations), count, periods
+
+
+def haircut_sharpe(
+    sharpes: object,
+    *,
+    observations: int,
+    selected: int | None = None,
+    tests: int | None = None,
+    periods_per_year: float | None = None,
+) -> HaircutSharpe:
+    """Haircut Sharpe ratio of the selected configuration under Bonferroni, Holm and BHY.
+
+    Parameters
+    ----------
+    sharpes : float or array_like, shape (N,)
+        Per-window Sharpe ratios: one number (the selected configuration alone) or every
+        configuration of the sweep.
+    observations : int
+        Windows T behind each Sharpe ratio.
+    selected : int, optional
+        0-based index of the judged configuration in ``sharpes``; required when N > 1.
+    tests : int, optional
+        Tests to adjust for (declared trials); default N; fewer than N is an error.
+    periods_per_year : float, optional
+        For the annualised figures (``sqrt(q)`` scaling, as in Harvey and Liu's monthly
+        ``t_adj * sqrt(12 / T)``).
+
+    Returns
+    -------
+    HaircutSharpe
+
+    Notes
+    -----
+    ``t = SR * sqrt(T)`` with per-window SR generalises Harvey and Liu's monthly
+    ``SR_monthly * sqrt(T_months)``; it uses ``sqrt(T)``, not ``sqrt(T - 1)``, as they do.
+
+    Bonferroni needs only the count: ``p_adj = min(tests * p, 1)``. Holm and BHY also depend on the
+    other tests' p-values, taken from the supplied configurations' Sharpe ratios. When ``tests``
+    exceeds the configurations supplied, each unseen test is given p-value 1 (assumed
+    insignificant): it raises the test count in the adjustments but never outranks the selected
+    configuration. Unseen tests more significant than the selected one would lower its Holm and
+    BHY adjusted p-values, so this is the conservative choice: the Holm and BHY haircuts are then
+    upper bounds (Holm equals Bonferroni when the selected configuration has the smallest
+    p-value). Bonferroni is unaffected.
+    """
+    values, index, n, count, periods = _validate(sharpes, selected, observations, tests, periods_per_year)
+    root = math.sqrt(n)
+    t_values = values * root
+    pvalues = np.minimum(2.0 * stats.norm.sf(np.abs(t_values)), 1.0)
+    padded = np.concatenate([pvalues, np.ones(count - values.size)])
+    observed = float(values[index])
+    t_observed = float(t_values[index])
+    annual = None if periods is None else math.sqrt(periods)
+
+    adjustments = {}
+    for name, library_name in _STATSMODELS_METHOD.items():
+        adjusted = float(multipletests(padded, method=library_name)[1][index])
+        adjusted = min(max(adjusted, 0.0), 1.0)
+        t_adjusted = min(float(stats.norm.isf(adjusted / 2.0)), abs(t_observed))
+        haircut_value = math.copysign(t_adjusted, observed) / root if observed != 0 else 0.0
+        adjustments[name] = HaircutAdjustment(
+            method=name,  # type: ignore[arg-type]
+            pvalue=adjusted,
+            t_statistic=t_adjusted,
+            sharpe=haircut_value,
+            sharpe_annualized=None if annual is None else haircut_value * annual,
+            haircut=None if observed == 0 else 1.0 - haircut_value / observed,
+        )
+
+    return HaircutSharpe(
+        sharpe=observed,
+        sharpe_annualized=None if annual is None else observed * annual,
+        observations=n,
+        periods_per_year=periods,
+        tests=count,
+        configurations=int(values.size),
+        t_statistic=t_observed,
+        pvalue=float(pvalues[index]),
+        bonferroni=adjustments["bonferroni"],
+        holm=adjustments["holm"],
+        bhy=adjustments["bhy"],
+        configuration_pvalues=pvalues,
+    )
