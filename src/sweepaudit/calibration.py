@@ -29,6 +29,7 @@ Hansen, P. R. (2005). A test for superior predictive ability. JBES 23(4), 365-38
 
 from __future__ import annotations
 
+import gc
 import math
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field, replace
@@ -645,20 +646,27 @@ def _run_audits(
     outcomes: list[dict[str, bool]] = []
     required: dict[str, bool] = {}
     done = 0
-    for i, sweep in enumerate(sweeps):
-        if i >= count:
-            break
-        res = audit(sweep, settings=replace(settings, seed=int(audit_seeds[i])), policy=policy)
-        decisions[i] = res.verdict.decision == "go"
-        selected[i] = res.selected_index
-        row: dict[str, bool] = {}
-        for c in res.verdict.checks:
-            row[c.id] = not c.passed
-            required.setdefault(c.id, c.required)
-        outcomes.append(row)
-        done += 1
-        if progress is not None:
-            progress(done)
+    # statsmodels' Holm adjustment (used by the haircut) runs a full gc.collect() on every call,
+    # which costs a third of a small audit when the heap holds pandas and scipy; freezing the
+    # objects alive now takes them out of those collections. Undone afterwards.
+    gc.freeze()
+    try:
+        for i, sweep in enumerate(sweeps):
+            if i >= count:
+                break
+            res = audit(sweep, settings=replace(settings, seed=int(audit_seeds[i])), policy=policy)
+            decisions[i] = res.verdict.decision == "go"
+            selected[i] = res.selected_index
+            row: dict[str, bool] = {}
+            for c in res.verdict.checks:
+                row[c.id] = not c.passed
+                required.setdefault(c.id, c.required)
+            outcomes.append(row)
+            done += 1
+            if progress is not None:
+                progress(done)
+    finally:
+        gc.unfreeze()
     if done != count:
         raise InputError(f"the simulation yielded {done} sweeps; {count} were asked for")
     ids = tuple(required)
@@ -895,6 +903,8 @@ class SweepCalibration:
 
     Attributes
     ----------
+    sweep : Sweep
+        The real sweep.
     observed : str
         The real sweep's own verdict ("go" or "no-go") with the same settings.
     selected_index : int
@@ -916,6 +926,7 @@ class SweepCalibration:
     sweeps, resamples, seed : int
     """
 
+    sweep: Sweep
     observed: str
     selected_index: int
     configuration: str
@@ -1016,6 +1027,7 @@ def calibrate_sweep(
             seed=int(seed), progress=(lambda done: progress(count + done, total)) if progress else None,
         )
     return SweepCalibration(
+        sweep=sweep,
         observed=real.verdict.decision,
         selected_index=k,
         configuration=sweep.configurations[k],
@@ -1058,4 +1070,47 @@ def calibration_to_dict(calibration: VerdictCalibration) -> dict:
     }
 
 
-__all__ += ["calibration_to_dict", "plateau_columns", "spread_columns"]
+def sweep_calibration_to_dict(result: SweepCalibration, *, command: str | None = None) -> dict:
+    """The ``sweepaudit calibrate --json`` document (schema ``sweepaudit.calibration/1``).
+
+    Every figure the terminal shows is a field here; rates are probabilities in [0, 1].
+    """
+    from . import __version__
+
+    null = calibration_to_dict(result.null)
+    power = None
+    if result.power is not None:
+        power = calibration_to_dict(result.power)
+        power["edge_annualized_sharpe"] = result.edge_annual_sharpe
+        power["edge_per_window"] = result.edge_per_window
+    policy = result.null.policy
+    return {
+        "schema": "sweepaudit.calibration/1",
+        "tool": {"name": "sweepaudit", "version": __version__},
+        "input": {
+            "path": result.sweep.path,
+            "sha256": result.sweep.sha256,
+            "configurations": result.sweep.n_configurations,
+            "windows": result.sweep.n_windows,
+            "periods_per_year": result.sweep.periods_per_year,
+        },
+        "settings": {
+            "seed": result.seed,
+            "sweeps": result.sweeps,
+            "resamples": result.resamples,
+            "edge_annualized_sharpe": result.edge_annual_sharpe,
+            "null_bootstrap": "stationary",
+            "null_block_length": result.null_block_length,
+            "null_block_series": result.block_series,
+        },
+        "policy": {"significance": policy.significance, "required": list(policy.required)},
+        "selected": {"configuration": result.configuration, "index": result.selected_index},
+        "observed_verdict": result.observed,
+        "false_go": null["go"],
+        "power": power,
+        "null": null,
+        "command": command,
+    }
+
+
+__all__ += ["calibration_to_dict", "sweep_calibration_to_dict", "plateau_columns", "spread_columns"]

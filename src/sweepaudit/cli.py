@@ -226,6 +226,196 @@ def reproduce_command(results, options: LoadOptions) -> str:
     return " ".join(shlex.quote(w) for w in words)
 
 
+# ---------------------------------------------------------------------------------------------
+# calibrate: how often would this verdict say go on null sweeps shaped like this one?
+
+
+def _load_options(
+    *, layout, window_column, value_column, parameter_columns, benchmark, benchmark_file, units,
+    periods_per_year, common_windows,
+) -> LoadOptions:
+    """LoadOptions from the shared input options (the same spellings as ``audit``)."""
+    return LoadOptions(
+        layout=layout.value,
+        window_column=window_column,
+        value_column=value_column,
+        parameter_columns=tuple(c.strip() for c in parameter_columns.split(",")) if parameter_columns else None,
+        benchmark=benchmark,
+        benchmark_file=benchmark_file,
+        units=units.value,
+        periods_per_year=periods_per_year,
+        common_windows=common_windows,
+    )
+
+
+def _calibration_progress(console: Console):
+    """A progress bar over audited sweeps on stderr; none when stderr is not a terminal."""
+    if not console.is_terminal:
+        return None, None
+    from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
+
+    bar = Progress(TextColumn("auditing simulated sweeps"), BarColumn(), TextColumn("{task.completed:,}/{task.total:,}"),
+                   TimeRemainingColumn(), console=console, transient=True)
+    task = {"id": None}
+
+    def update(done: int, total: int) -> None:
+        if task["id"] is None:
+            task["id"] = bar.add_task("calibrate", total=total)
+        bar.update(task["id"], completed=done)
+
+    return bar, update
+
+
+def _render_calibration(document: dict) -> None:
+    from rich.table import Table
+
+    console = Console()
+
+    def pct(r: dict | None) -> str:
+        if r is None or r["rate"] is None:
+            return "n/a"
+        return f"{100 * r['rate']:.1f}% ± {100 * r['standard_error']:.1f}%"
+
+    level = document["policy"]["significance"]
+    false_go = document["false_go"]
+    console.print(
+        f"Calibration of {document['input']['path']} ({document['input']['windows']} windows x "
+        f"{document['input']['configurations']} configurations), selected {document['selected']['configuration']!r}; "
+        f"its own verdict: {document['observed_verdict']}."
+    )
+    console.print(
+        f"False-go rate on {false_go['sweeps']} null sweeps shaped like this one: {pct(false_go)} "
+        f"(Monte Carlo standard error; 95% upper bound {100 * false_go['upper_95']:.1f}%), "
+        f"against the policy's significance level of {100 * level:g}%."
+    )
+    power = document["power"]
+    if power is not None:
+        console.print(
+            f"Power against an edge of annualised Sharpe {power['edge_annualized_sharpe']:g} planted in the selected "
+            f"configuration: {pct(power['go'])}; the audit judged the edged configuration in "
+            f"{pct(power['planted_selected'])} of those sweeps."
+        )
+    table = Table(title="Failure rate of each check", show_lines=False)
+    table.add_column("check")
+    table.add_column("required")
+    table.add_column("null sweeps", justify="right")
+    if power is not None:
+        table.add_column("with the edge", justify="right")
+    edged = {c["id"]: c for c in power["checks"]} if power is not None else {}
+    for c in document["null"]["checks"]:
+        row = [c["id"], "yes" if c["required"] else "advisory", pct(c["failure"])]
+        if power is not None:
+            row.append(pct(edged[c["id"]]["failure"]) if c["id"] in edged else "n/a")
+        table.add_row(*row)
+    console.print(table)
+    if false_go["rate"] is not None and false_go["lower_95"] > level:
+        console.print(
+            f"The false-go rate is above {100 * level:g}% beyond Monte Carlo error: under this policy the verdict "
+            "says go too often on sweeps like this one."
+        )
+    console.print(f"Reproduce: {document['command']}")
+
+
+@app.command("calibrate", no_args_is_help=True)
+def calibrate_command(
+    sweep_path: Annotated[str, typer.Argument(metavar="SWEEP", help="CSV, TSV or Parquet file; - reads CSV from standard input.")],
+    layout: Annotated[LayoutChoice, typer.Option(help="Input layout; auto detects it.")] = LayoutChoice.auto,
+    window_column: Annotated[Optional[str], typer.Option(help="Column holding the window (date or label).")] = None,
+    value_column: Annotated[Optional[str], typer.Option(help="Long layout: column holding the excess return.")] = None,
+    parameter_columns: Annotated[
+        Optional[str], typer.Option(help="Long layout: comma-separated columns naming a configuration.")
+    ] = None,
+    benchmark: Annotated[
+        Optional[str],
+        typer.Option(help="Inputs are raw strategy returns: subtract this benchmark column (wide) or configuration (long)."),
+    ] = None,
+    benchmark_file: Annotated[
+        Optional[str], typer.Option(help="Inputs are raw strategy returns: subtract the benchmark series in this file.")
+    ] = None,
+    units: Annotated[UnitsChoice, typer.Option(help="Units of the returns in the file.")] = UnitsChoice.fraction,
+    periods_per_year: Annotated[
+        Optional[float], typer.Option(help="Windows per year (e.g. 52 for weekly); inferred from dated windows otherwise.")
+    ] = None,
+    common_windows: Annotated[
+        bool, typer.Option("--common-windows", help="Keep only the windows every configuration covers.")
+    ] = False,
+    select: Annotated[
+        Optional[str], typer.Option(help="Judge this configuration instead of the highest full-sample Sharpe ratio.")
+    ] = None,
+    sweeps: Annotated[int, typer.Option(help="Null sweeps to audit (standard error of a 5% rate: 1.5% at 200).")] = 200,
+    edge: Annotated[
+        float, typer.Option(help="Annualised Sharpe ratio of the edge planted for the power estimate; 0 skips power.")
+    ] = 1.0,
+    resamples: Annotated[
+        int,
+        typer.Option(help="Bootstrap resamples per audit (1,000: sweep count, not resamples, limits the precision)."),
+    ] = 1_000,
+    seed: Annotated[int, typer.Option(help="Master seed of the null sweeps and of every audit.")] = 0,
+    json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the calibration JSON here.")] = None,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
+) -> None:
+    """Estimate how often the verdict says go on null sweeps shaped like this one, and its power.
+
+    Null sweeps keep this sweep's windows, configurations and dependence (each configuration
+    demeaned, windows block-resampled jointly); the power sweeps add an edge to the selected
+    configuration. Calibration is information, not a gate: exit 0 when it ran, 2 on bad input.
+
+    Examples:
+
+      sweepaudit calibrate sweep.csv --periods-per-year 52
+
+      sweepaudit calibrate sweep.parquet --sweeps 500 --edge 0.5 --json calibration.json
+    """
+    from .calibration import calibrate_sweep, sweep_calibration_to_dict
+
+    stderr = Console(stderr=True)
+    try:
+        _check_output(json_path, "JSON file")
+        if sweeps < 1:
+            raise SweepAuditError(f"--sweeps must be at least 1; got {sweeps}")
+        if resamples < 1:
+            raise SweepAuditError(f"--resamples must be at least 1; got {resamples}")
+        if not edge >= 0:
+            raise SweepAuditError(f"--edge must be an annualised Sharpe ratio of 0 or more; got {edge}")
+        if seed < 0:
+            raise SweepAuditError(f"--seed must be a non-negative integer; got {seed}")
+        options = _load_options(
+            layout=layout, window_column=window_column, value_column=value_column,
+            parameter_columns=parameter_columns, benchmark=benchmark, benchmark_file=benchmark_file,
+            units=units, periods_per_year=periods_per_year, common_windows=common_windows,
+        )
+        sweep = load_sweep(sweep_path, options)
+        settings = AuditSettings(seed=seed, resamples=resamples, selected=select)
+        bar, update = _calibration_progress(stderr) if not quiet else (None, None)
+        run = dict(sweeps=sweeps, edge=edge, settings=settings, resamples=resamples, policy=DEFAULT_POLICY, seed=seed)
+        if bar is not None:
+            with bar:
+                result = calibrate_sweep(sweep, progress=update, **run)
+        else:
+            result = calibrate_sweep(sweep, **run)
+        words = ["sweepaudit", "calibrate", sweep.path if sweep.path != "<stdin>" else "-"]
+        defaults = LoadOptions()
+        for name in ("layout", "window_column", "value_column", "benchmark", "benchmark_file", "units", "periods_per_year"):
+            value = getattr(options, name)
+            if value != getattr(defaults, name):
+                words += [f"--{name.replace('_', '-')}", str(value)]
+        if options.parameter_columns:
+            words += ["--parameter-columns", ",".join(options.parameter_columns)]
+        if options.common_windows:
+            words.append("--common-windows")
+        if select is not None:
+            words += ["--select", select]
+        words += ["--sweeps", str(sweeps), "--edge", f"{edge:g}", "--resamples", str(resamples), "--seed", str(seed)]
+        document = sweep_calibration_to_dict(result, command=" ".join(shlex.quote(w) for w in words))
+        if json_path is not None:
+            write_atomic(json_path, dumps(document))
+    except SweepAuditError as exc:
+        raise _fail(str(exc)) from None
+    if not quiet:
+        _render_calibration(document)
+    raise typer.Exit(EXIT_GO)
+
+
 def main() -> None:
     """Console-script entry point."""
     app()
