@@ -310,10 +310,10 @@ def test_periods_per_year_unknown_without_dates(tmp_path):
     assert s.dates is None and s.periods_per_year is None and s.periods_source == "unknown"
 
 
-@pytest.mark.parametrize("bad", [0, -52, float("nan")])
-def test_periods_per_year_flag_must_be_positive(tmp_path, bad):
+@pytest.mark.parametrize("bad", [0, -52, float("nan"), float("inf")])
+def test_periods_per_year_flag_must_be_positive_and_finite(tmp_path, bad):
     path = _dated_wide(tmp_path, pd.bdate_range("2023-01-02", periods=30))
-    with pytest.raises(InputError, match="periods per year"):
+    with pytest.raises(InputError, match=r"periods per year must be positive and finite; got"):
         load_sweep(str(path), LoadOptions(periods_per_year=bad))
 
 

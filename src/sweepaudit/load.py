@@ -264,8 +264,8 @@ def load_sweep(path: str, options: LoadOptions | None = None) -> Sweep:
     opt = options or LoadOptions()
     if opt.units not in UNIT_SCALE:
         raise InputError(f"units must be one of {', '.join(UNIT_SCALE)}; got {opt.units!r}")
-    if opt.periods_per_year is not None and not (opt.periods_per_year > 0):
-        raise InputError(f"periods per year must be positive; got {opt.periods_per_year}")
+    if opt.periods_per_year is not None and not (0 < opt.periods_per_year < np.inf):
+        raise InputError(f"periods per year must be positive and finite; got {opt.periods_per_year}")
     frame, label, digest = read_table(path)
     columns = list(frame.columns)
 
