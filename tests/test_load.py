@@ -469,6 +469,25 @@ def test_single_configuration_loads_with_explicit_long_layout(tmp_path):
     np.testing.assert_array_equal(s.returns, _expected_matrix(expected, ("only",), WEEKS))
 
 
+@pytest.mark.parametrize(
+    "header, configs",
+    [
+        (["date", "config", "excess_return"], {("only",): "only"}),
+        (["date", "lookback", "band", "excess_return"], {(20, 1.5): "lookback=20, band=1.5"}),
+    ],
+    ids=["id-column", "parameter-columns"],
+)
+def test_single_configuration_long_is_detected(tmp_path, header, configs):
+    # Every window appears once, as in a wide file; the value column's name and the constant
+    # configuration columns say it is long.
+    rows, expected = _long_rows(configs, WEEKS, seed=21)
+    path = _write_csv(tmp_path / "s.csv", header, rows)
+    s = load_sweep(str(path))
+    assert s.layout == "long"
+    assert s.configurations == tuple(configs.values())
+    np.testing.assert_array_equal(s.returns, _expected_matrix(expected, s.configurations, WEEKS))
+
+
 def test_single_configuration_wide(tmp_path):
     frame, values = _wide_frame(["only"], WEEKS)
     frame.to_csv(tmp_path / "w.csv")
@@ -595,6 +614,17 @@ def test_duplicate_configuration_window_pair_names_the_second_row(tmp_path):
     assert f"window {copy[0]!r}" in str(err.value)
     assert f"'lookback={copy[1]}, band={copy[2]}'" in str(err.value)
     assert _line_of_row(path, 21).split(",")[:3] == [str(x) for x in copy[:3]]
+
+
+def test_duplicate_window_in_wide_layout(tmp_path):
+    frame, _ = _wide_frame(["a", "b"], WEEKS)
+    frame = pd.concat([frame.iloc[:9], frame.iloc[[3]], frame.iloc[9:]])  # row 4 repeated as row 10
+    path = tmp_path / "w.csv"
+    frame.to_csv(path)
+    with pytest.raises(InputError, match=rf"window '{WEEKS[3]}' appears twice") as err:
+        load_sweep(str(path))
+    assert err.value.column == "date" and err.value.row == 10
+    assert _line_of_row(path, 10).startswith(WEEKS[3])
 
 
 def test_no_numeric_value_column(tmp_path):

@@ -210,6 +210,19 @@ def _infer_periods(dates: pd.DatetimeIndex) -> tuple[float | None, str | None]:
     return None, None
 
 
+def _looks_long(frame: pd.DataFrame, window_col: str) -> bool:
+    """Long files repeat each window once per configuration; a wide file's windows are unique, and
+    one repeated window there is an error to report as such, not a reason to read the file as long.
+    A long file of a single configuration is told by its value column's name and its constant
+    configuration columns."""
+    if frame[window_col].nunique(dropna=False) * 2 <= len(frame):
+        return True
+    others = [c for c in frame.columns if c != window_col]
+    value = _find(others, VALUE_NAMES)
+    rest = [c for c in others if c != value]
+    return value is not None and bool(rest) and all(frame[c].nunique(dropna=False) == 1 for c in rest)
+
+
 def _parse_named_parameters(names: list[str]) -> pd.DataFrame | None:
     """Recover a parameter table from names like ``lookback=20, band=1.5``."""
     rows = []
@@ -281,7 +294,7 @@ def load_sweep(path: str, options: LoadOptions | None = None) -> Sweep:
     if layout == "auto":
         if opt.parameter_columns or opt.value_column:
             layout = "long"
-        elif window_col is not None and frame[window_col].duplicated().any():
+        elif window_col is not None and _looks_long(frame, window_col):
             layout = "long"
         else:
             layout = "wide"
