@@ -542,6 +542,16 @@ def test_empty_input_header_only(tmp_path):
         load_sweep(str(path))
 
 
+@pytest.mark.parametrize("header", ["date,a,b,a", "date,a, b ,b"])
+def test_repeated_header_name_is_refused(tmp_path, header):
+    # Two columns named alike would otherwise load as two configurations.
+    rows = [(w, 0.01 * i, -0.02 * i, 0.003 * i) for i, w in enumerate(WEEKS)]
+    path = _write_csv(tmp_path / "s.csv", header.split(","), rows)
+    with pytest.raises(InputError, match="the header repeats this column name") as err:
+        load_sweep(str(path))
+    assert err.value.column == header.split(",")[-1].strip()
+
+
 def test_empty_standard_input(monkeypatch):
     monkeypatch.setattr("sys.stdin", _FakeStdin(b""))
     with pytest.raises(InputError, match=r"^<stdin>: empty input"):

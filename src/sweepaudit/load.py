@@ -99,13 +99,21 @@ def read_table(path: str) -> tuple[pd.DataFrame, str, str]:
         if kind == "parquet":
             frame = pd.read_parquet(io.BytesIO(data))
         else:
+            sep = "\t" if kind == "tsv" else ","
+            # pandas renames a repeated header name ("a", "a.1"); read the header as written.
+            header = pd.read_csv(
+                io.BytesIO(data), sep=sep, header=None, nrows=1, dtype=str, keep_default_na=False,
+                skipinitialspace=True,
+            ).iloc[0]
             frame = pd.read_csv(
                 io.BytesIO(data),
-                sep="\t" if kind == "tsv" else ",",
+                sep=sep,
                 na_values=NA_TOKENS,
                 keep_default_na=False,
                 skipinitialspace=True,
             )
+            if len(header) == len(frame.columns):
+                frame.columns = list(header)
     except (ValueError, pd.errors.ParserError, UnicodeDecodeError, OSError) as exc:
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise InputError(f"unreadable {kind.upper()} file ({first})", path=label) from None
