@@ -341,6 +341,16 @@ def test_shuffled_wide_file_is_sorted_in_time(tmp_path):
     np.testing.assert_array_equal(s.returns, values)
 
 
+def test_slash_separated_dates_are_dates(tmp_path):
+    # 2023/01/06 is as much a date as 2023-01-06: sorted in time, weekly spacing inferred.
+    frame, values = _wide_frame(["a", "b"], [w.replace("-", "/") for w in WEEKS])
+    frame.iloc[::-1].to_csv(tmp_path / "w.csv")
+    s = load_sweep(str(tmp_path / "w.csv"))
+    assert s.windows == tuple(WEEKS)
+    assert s.periods_per_year == 52
+    np.testing.assert_array_equal(s.returns, values)
+
+
 def test_numeric_windows_sort_numerically(tmp_path):
     windows = list(range(1, 13))  # as text "10" < "2"; as numbers 2 < 10
     rows, expected = _long_rows({("a",): "a", ("b",): "b"}, windows, seed=11)

@@ -185,7 +185,7 @@ def _looks_like_dates(series: pd.Series) -> pd.DatetimeIndex | None:
     if pd.api.types.is_numeric_dtype(series):
         return None
     text = series.astype(str)
-    if not text.str.match(r"^\d{4}-\d{1,2}-\d{1,2}").all() and not text.str.match(r"^\d{1,2}/\d{1,2}/\d{4}").all():
+    if not text.str.match(r"^\d{4}([-/])\d{1,2}\1\d{1,2}").all() and not text.str.match(r"^\d{1,2}/\d{1,2}/\d{4}").all():
         return None
     try:
         return pd.DatetimeIndex(pd.to_datetime(text, format="mixed"))
