@@ -690,6 +690,13 @@ def test_missing_benchmark_column_or_configuration(tmp_path):
         load_sweep(str(path), LoadOptions(benchmark="market"))
 
 
+def test_benchmark_cannot_be_the_window_column(tmp_path):
+    frame, _ = _wide_frame(["a", "b"], WEEKS)
+    frame.to_csv(tmp_path / "w.csv")
+    with pytest.raises(InputError, match=r"the benchmark column 'date' is the window column"):
+        load_sweep(str(tmp_path / "w.csv"), LoadOptions(benchmark="date"))
+
+
 def test_benchmark_file_missing_windows(tmp_path):
     frame, _ = _wide_frame(["a", "b"], WEEKS)
     frame.to_csv(tmp_path / "w.csv")

@@ -524,6 +524,8 @@ def _wide(frame, label, window_col, opt: LoadOptions, notes):
         config_cols = columns
     if opt.benchmark is not None:
         _require_column(frame, opt.benchmark, label, "benchmark")
+        if opt.benchmark not in config_cols:
+            raise InputError(f"the benchmark column {opt.benchmark!r} is the window column", path=label)
     if not config_cols or (opt.benchmark is not None and len(config_cols) == 1):
         raise InputError("no configuration columns: a wide file needs one column per configuration", path=label)
     matrix = np.column_stack(
