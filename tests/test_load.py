@@ -647,6 +647,30 @@ def test_duplicate_window_in_wide_layout(tmp_path):
     assert _line_of_row(path, 10).startswith(WEEKS[3])
 
 
+@pytest.mark.parametrize("bad", ["2023-13-45", "total"])
+def test_a_bad_date_among_dates_names_the_row_wide(tmp_path, bad):
+    frame, _ = _wide_frame(["a", "b"], WEEKS[:6] + [bad] + WEEKS[7:])
+    path = tmp_path / "w.csv"
+    frame.to_csv(path)
+    with pytest.raises(InputError, match=rf"not a date: '{bad}'") as err:
+        load_sweep(str(path))
+    assert err.value.column == "date" and err.value.row == 7
+    assert _line_of_row(path, 7).startswith(bad + ",")
+
+
+def test_a_bad_date_among_dates_names_the_row_long(tmp_path):
+    rows, _ = _long_rows(GRID, WEEKS, seed=22)
+    # Rows are grouped by configuration; put the mistyped date in the second configuration's block
+    # so that its first occurrence is data row 12 + 5 = 17.
+    w, lb, band, v = rows[16]
+    rows[16] = ("2023-02-30", lb, band, v)
+    path = _write_csv(tmp_path / "s.csv", ["window", "lookback", "band", "excess_return"], rows)
+    with pytest.raises(InputError, match=r"not a date: '2023-02-30'") as err:
+        load_sweep(str(path))
+    assert err.value.row == 17
+    assert _line_of_row(path, 17).startswith("2023-02-30,")
+
+
 def test_no_numeric_value_column(tmp_path):
     rows = [(w, c, "up") for w in WEEKS for c in ("a", "b")]
     path = _write_csv(tmp_path / "s.csv", ["date", "config", "label"], rows)

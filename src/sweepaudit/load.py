@@ -253,9 +253,39 @@ def _parse_named_parameters(names: list[str]) -> pd.DataFrame | None:
     return table
 
 
-def _order_windows(labels: pd.Series, label: str, column: str):
-    """Unique windows in time order: by date when dated, numerically when numeric, else as read."""
+def _first_bad_date(labels: pd.Series) -> int | None:
+    """Position of the first label that is not a date in a column of mostly dates, else None.
+
+    One mistyped date (2023-13-01) or a stray label must not silently turn a dated column into
+    plain labels: the windows would stay in file order and the periods per year unknown.
+    """
+    if pd.api.types.is_numeric_dtype(labels) or pd.api.types.is_datetime64_any_dtype(labels):
+        return None
+    text = labels.astype(str)
+    shaped = text.str.match(r"^\d{4}([-/])\d{1,2}\1\d{1,2}") | text.str.match(r"^\d{1,2}/\d{1,2}/\d{4}")
+    parsed = pd.to_datetime(text.where(shaped), format="mixed", errors="coerce")
+    good = parsed.notna().to_numpy()
+    bad = ~good & labels.notna().to_numpy()  # missing labels are reported as missing elsewhere
+    if 2 * good.sum() < len(labels) or not bad.any():
+        return None
+    return int(np.flatnonzero(bad)[0])
+
+
+def _order_windows(labels: pd.Series, label: str, column: str, rows: np.ndarray | None = None):
+    """Unique windows in time order: by date when dated, numerically when numeric, else as read.
+
+    ``rows`` maps each label's position to its 0-based data row (long layout: first occurrence).
+    """
     dates = _looks_like_dates(labels)
+    if dates is None:
+        p = _first_bad_date(labels)
+        if p is not None:
+            raise InputError(
+                f"not a date: {str(labels.iloc[p])!r} (the other windows are dates)",
+                path=label,
+                column=column,
+                row=int(rows[p] if rows is not None else p) + 1,
+            )
     if dates is not None:
         key = pd.Series(dates.asi8, index=labels.index)
     elif pd.api.types.is_numeric_dtype(labels):
@@ -453,7 +483,8 @@ def _long(frame, label, window_col, opt: LoadOptions, notes):
         r = int(np.flatnonzero(window_codes < 0)[0])
         raise InputError("missing window label", path=label, column=window_col, row=r + 1)
     window_uniques = [_label(v) for v in raw_windows]
-    order_key, dates_unique = _order_windows(pd.Series(raw_windows), label, window_col)
+    first_rows = pd.Series(window_codes).drop_duplicates().index.to_numpy()
+    order_key, dates_unique = _order_windows(pd.Series(raw_windows), label, window_col, first_rows)
     # Duplicate (configuration, window) pairs: name the second occurrence.
     pair = config_codes.astype(np.int64) * (len(window_uniques) + 1) + window_codes
     dup = pd.Series(pair).duplicated().to_numpy()
