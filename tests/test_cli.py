@@ -139,6 +139,12 @@ def test_json_into_a_missing_folder_is_exit_2(tmp_path):
     _assert_one_line_error(result, "folder")
 
 
+def test_json_onto_a_folder_is_exit_2(tmp_path):
+    result = run("audit", EDGE, *FAST, "--json", tmp_path)
+    _assert_one_line_error(result, "it is a folder")
+    assert list(tmp_path.iterdir()) == []  # no temporary file left behind
+
+
 @pytest.mark.parametrize(
     "args, needle",
     [
