@@ -20,6 +20,7 @@ from __future__ import annotations
 import hashlib
 import json
 import os
+import shlex
 import subprocess
 import sys
 import tomllib
@@ -245,6 +246,28 @@ def test_same_seed_same_bytes_other_seed_other_bytes(tmp_path):
     a, b, c = (p.read_bytes() for p in paths)
     assert a == b
     assert a != c
+
+
+def test_reproduce_command_reproduces_the_json(tmp_path):
+    first, second = tmp_path / "1.json", tmp_path / "2.json"
+    wide = ROOT / "fixtures" / "demo_noise_wide.csv"
+    args = ["audit", wide, *FAST, "--seed", 4, "--units", "percent", "--periods-per-year", 26,
+            "--common-windows", "--select", "entry_z=1.0, holding_weeks=2"]
+    code = run(*args, "--json", first).exit_code
+    doc = _strict_json(first.read_text())
+    words = shlex.split(doc["reproduce"]["command"])
+    assert words[:2] == ["sweepaudit", "audit"]
+    assert run(*words[1:], "--json", second).exit_code == code
+    assert first.read_bytes() == second.read_bytes()
+
+
+def test_parameter_columns_option_is_passed_to_the_loader(tmp_path):
+    # Naming only entry_z leaves six rows per (entry_z, week): the second is reported.
+    result = run("audit", EDGE, *FAST, "--parameter-columns", "entry_z")
+    _assert_one_line_error(result, "duplicate row for configuration 'entry_z=1.0' and window '2021-01-08'")
+    row = int(result.stderr.split(", row ")[1].split(":")[0])
+    line = EDGE.read_text().splitlines()[row]
+    assert line.startswith("2021-01-08,1.0,") and not line.startswith("2021-01-08,1.0,1,")
 
 
 def test_select_judges_the_named_configuration(tmp_path):

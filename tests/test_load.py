@@ -15,8 +15,8 @@ column, row, the count and the fix suggested).
 
 from __future__ import annotations
 
+import hashlib
 import io
-import math
 import re
 from pathlib import Path
 
@@ -81,7 +81,7 @@ def test_long_with_several_parameter_columns(tmp_path):
         assert s.parameters.loc[name, "lookback"] == lb
         assert s.parameters.loc[name, "band"] == band
     assert s.path == str(path) and s.units == "fraction"
-    assert len(s.sha256) == 64 and s.sha256 == __import__("hashlib").sha256(path.read_bytes()).hexdigest()
+    assert len(s.sha256) == 64 and s.sha256 == hashlib.sha256(path.read_bytes()).hexdigest()
 
 
 def test_long_with_a_single_configuration_id_column(tmp_path):
@@ -186,7 +186,7 @@ def test_read_table_returns_frame_label_and_digest(tmp_path):
     frame, label, digest = read_table(str(path))
     assert list(frame.columns) == ["a", "b"] and len(frame) == 2
     assert label == str(path)
-    assert digest == __import__("hashlib").sha256(path.read_bytes()).hexdigest()
+    assert digest == hashlib.sha256(path.read_bytes()).hexdigest()
 
 
 # ---------------------------------------------------------------------------------------------
