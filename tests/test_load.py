@@ -456,6 +456,26 @@ def test_common_windows_keeps_the_common_windows_with_a_note(tmp_path):
     assert any(f"kept the {len(kept)} windows" in n and "dropped 3 windows" in n for n in s.notes)
 
 
+@pytest.mark.parametrize(
+    "header, configs",
+    [
+        (["date", "config", "gain"], {("a",): "a", ("b",): "b"}),
+        (["date", "lookback", "excess_return"], {(10,): "lookback=10", (20,): "lookback=20"}),
+    ],
+    ids=["id-column", "parameter-column"],
+)
+def test_two_configurations_on_ragged_windows_are_long(tmp_path, header, configs):
+    # Most windows appear only once here, yet the file is long: refused as ragged, not misread.
+    rows, _ = _long_rows(configs, WEEKS, seed=23)
+    second = list(configs)[1][0]
+    rows = [r for r in rows if not (r[1] == second and r[0] in WEEKS[:3])]
+    path = _write_csv(tmp_path / "s.csv", header, rows)
+    with pytest.raises(InputError, match=r"1 of 2 configurations miss at least one of the 12 windows"):
+        load_sweep(str(path))
+    s = load_sweep(str(path), LoadOptions(common_windows=True))
+    assert s.layout == "long" and s.windows == tuple(WEEKS[3:])
+
+
 def test_common_windows_in_wide_layout(tmp_path):
     frame, values = _wide_frame(["a", "b"], WEEKS)
     frame.iloc[2, 1] = np.nan

@@ -223,10 +223,17 @@ def _looks_long(frame: pd.DataFrame, window_col: str) -> bool:
     one repeated window there is an error to report as such, not a reason to read the file as long.
     A long file of a single configuration is told by its value column's name and its constant
     configuration columns."""
-    if frame[window_col].nunique(dropna=False) * 2 <= len(frame):
-        return True
+    windows = frame[window_col]
     others = [c for c in frame.columns if c != window_col]
     value = _find(others, VALUE_NAMES)
+    if windows.duplicated().any():
+        if windows.nunique(dropna=False) * 2 <= len(frame) or value is not None:
+            return True
+        # Windows mostly unique: wide with a repeated window, unless some column cannot be a
+        # configuration's returns (a configuration id, or few configurations on ragged windows).
+        return _find(others, ID_NAMES) is not None or not all(
+            pd.api.types.is_numeric_dtype(frame[c]) for c in others
+        )
     rest = [c for c in others if c != value]
     return value is not None and bool(rest) and all(frame[c].nunique(dropna=False) == 1 for c in rest)
 
