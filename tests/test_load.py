@@ -582,6 +582,21 @@ def test_repeated_header_name_is_refused(tmp_path, header):
     assert err.value.column == header.split(",")[-1].strip()
 
 
+def test_byte_order_mark_and_empty_header_cells(tmp_path):
+    # Spreadsheet exports start with a UTF-8 byte-order mark; "date" must still name the windows.
+    frame, values = _wide_frame(["a", "b"], WEEKS)
+    path = tmp_path / "w.csv"
+    path.write_bytes(b"\xef\xbb\xbf" + frame.to_csv().encode())
+    s = load_sweep(str(path))
+    assert s.windows == tuple(WEEKS) and s.configurations == ("a", "b")
+    np.testing.assert_array_equal(s.returns, values)
+    # A trailing comma leaves an empty header cell: named as pandas names it, and its empty
+    # cells make it a configuration with no windows.
+    text = "\n".join(line + "," for line in frame.to_csv().splitlines()) + "\n"
+    path.write_text(text)
+    assert list(read_table(str(path))[0].columns) == ["date", "a", "b", "Unnamed: 3"]
+
+
 def test_empty_standard_input(monkeypatch):
     monkeypatch.setattr("sys.stdin", _FakeStdin(b""))
     with pytest.raises(InputError, match=r"^<stdin>: empty input"):

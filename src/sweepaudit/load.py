@@ -113,7 +113,8 @@ def read_table(path: str) -> tuple[pd.DataFrame, str, str]:
                 skipinitialspace=True,
             )
             if len(header) == len(frame.columns):
-                frame.columns = list(header)
+                # Empty header cells keep pandas' "Unnamed: k" names.
+                frame.columns = [h if h.strip() else c for h, c in zip(header, frame.columns)]
     except (ValueError, pd.errors.ParserError, UnicodeDecodeError, OSError) as exc:
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise InputError(f"unreadable {kind.upper()} file ({first})", path=label) from None
