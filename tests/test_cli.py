@@ -1,4 +1,6 @@
-"""Tests of the command line (``sweepaudit.cli``), driven with typer's ``CliRunner``.
+"""Tests of the command line: ``sweepaudit.cli.app`` (command ``audit``, ``--version``) driven with
+typer's ``CliRunner``, ``reproduce_command`` through the JSON it fills, and the installed
+``sweepaudit`` console script (``main``).
 
 Checked against something outside the code under test:
 

@@ -1,6 +1,6 @@
-"""Tests of ``sweepaudit.load``: files -> Sweep.
+"""Tests of ``sweepaudit.load``: ``load_sweep`` and ``read_table`` (files -> Sweep).
 
-What is checked against something outside the project:
+``load_sweep`` and ``read_table`` are checked against something outside the project:
 
 * every expected matrix, name, window order and excess return is rebuilt here from the values the
   test itself wrote to the file (a literal oracle), never from the loader's output;
@@ -9,7 +9,8 @@ What is checked against something outside the project:
 * periods per year: the calendar (252 trading days, 52 weeks, 12 months, 4 quarters a year) is
   common practice for annualising.
 
-Internal consistency only: the wording of the messages (we assert the parts a user needs: file,
+Internal consistency only: the layout-detection rules (what auto picks for a given file) and the
+wording of the messages (we assert the parts a user needs: file,
 column, row, the count and the fix suggested).
 """
 
@@ -590,8 +591,7 @@ def test_byte_order_mark_and_empty_header_cells(tmp_path):
     s = load_sweep(str(path))
     assert s.windows == tuple(WEEKS) and s.configurations == ("a", "b")
     np.testing.assert_array_equal(s.returns, values)
-    # A trailing comma leaves an empty header cell: named as pandas names it, and its empty
-    # cells make it a configuration with no windows.
+    # A trailing comma leaves an empty header cell: it keeps the name pandas gives it.
     text = "\n".join(line + "," for line in frame.to_csv().splitlines()) + "\n"
     path.write_text(text)
     assert list(read_table(str(path))[0].columns) == ["date", "a", "b", "Unnamed: 3"]
