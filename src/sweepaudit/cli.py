@@ -88,6 +88,8 @@ def _check_output(path: Optional[Path], what: str) -> None:
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise SweepAuditError(f"cannot write the {what} {path}: folder {folder} does not exist")
+    if path.is_dir():
+        raise SweepAuditError(f"cannot write the {what} {path}: it is a folder; give a file name")
 
 
 def _progress_callback(console: Console):

@@ -99,13 +99,22 @@ def read_table(path: str) -> tuple[pd.DataFrame, str, str]:
         if kind == "parquet":
             frame = pd.read_parquet(io.BytesIO(data))
         else:
+            sep = "\t" if kind == "tsv" else ","
+            # pandas renames a repeated header name ("a", "a.1"); read the header as written.
+            header = pd.read_csv(
+                io.BytesIO(data), sep=sep, header=None, nrows=1, dtype=str, keep_default_na=False,
+                skipinitialspace=True,
+            ).iloc[0]
             frame = pd.read_csv(
                 io.BytesIO(data),
-                sep="\t" if kind == "tsv" else ",",
+                sep=sep,
                 na_values=NA_TOKENS,
                 keep_default_na=False,
                 skipinitialspace=True,
             )
+            if len(header) == len(frame.columns):
+                # Empty header cells keep pandas' "Unnamed: k" names.
+                frame.columns = [h if h.strip() else c for h, c in zip(header, frame.columns)]
     except (ValueError, pd.errors.ParserError, UnicodeDecodeError, OSError) as exc:
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise InputError(f"unreadable {kind.upper()} file ({first})", path=label) from None
@@ -177,7 +186,7 @@ def _looks_like_dates(series: pd.Series) -> pd.DatetimeIndex | None:
     if pd.api.types.is_numeric_dtype(series):
         return None
     text = series.astype(str)
-    if not text.str.match(r"^\d{4}-\d{1,2}-\d{1,2}").all() and not text.str.match(r"^\d{1,2}/\d{1,2}/\d{4}").all():
+    if not text.str.match(r"^\d{4}([-/])\d{1,2}\1\d{1,2}").all() and not text.str.match(r"^\d{1,2}/\d{1,2}/\d{4}").all():
         return None
     try:
         return pd.DatetimeIndex(pd.to_datetime(text, format="mixed"))
@@ -210,6 +219,26 @@ def _infer_periods(dates: pd.DatetimeIndex) -> tuple[float | None, str | None]:
     return None, None
 
 
+def _looks_long(frame: pd.DataFrame, window_col: str) -> bool:
+    """Long files repeat each window once per configuration; a wide file's windows are unique, and
+    one repeated window there is an error to report as such, not a reason to read the file as long.
+    A long file of a single configuration is told by its value column's name and its constant
+    configuration columns."""
+    windows = frame[window_col]
+    others = [c for c in frame.columns if c != window_col]
+    value = _find(others, VALUE_NAMES)
+    if windows.duplicated().any():
+        if windows.nunique(dropna=False) * 2 <= len(frame) or value is not None:
+            return True
+        # Windows mostly unique: wide with a repeated window, unless some column cannot be a
+        # configuration's returns (a configuration id, or few configurations on ragged windows).
+        return _find(others, ID_NAMES) is not None or not all(
+            pd.api.types.is_numeric_dtype(frame[c]) for c in others
+        )
+    rest = [c for c in others if c != value]
+    return value is not None and bool(rest) and all(frame[c].nunique(dropna=False) == 1 for c in rest)
+
+
 def _parse_named_parameters(names: list[str]) -> pd.DataFrame | None:
     """Recover a parameter table from names like ``lookback=20, band=1.5``."""
     rows = []
@@ -232,9 +261,39 @@ def _parse_named_parameters(names: list[str]) -> pd.DataFrame | None:
     return table
 
 
-def _order_windows(labels: pd.Series, label: str, column: str):
-    """Unique windows in time order: by date when dated, numerically when numeric, else as read."""
+def _first_bad_date(labels: pd.Series) -> int | None:
+    """Position of the first label that is not a date in a column of mostly dates, else None.
+
+    One mistyped date (2023-13-01) or a stray label must not silently turn a dated column into
+    plain labels: the windows would stay in file order and the periods per year unknown.
+    """
+    if pd.api.types.is_numeric_dtype(labels) or pd.api.types.is_datetime64_any_dtype(labels):
+        return None
+    text = labels.astype(str)
+    shaped = text.str.match(r"^\d{4}([-/])\d{1,2}\1\d{1,2}") | text.str.match(r"^\d{1,2}/\d{1,2}/\d{4}")
+    parsed = pd.to_datetime(text.where(shaped), format="mixed", errors="coerce")
+    good = parsed.notna().to_numpy()
+    bad = ~good & labels.notna().to_numpy()  # missing labels are reported as missing elsewhere
+    if 2 * good.sum() < len(labels) or not bad.any():
+        return None
+    return int(np.flatnonzero(bad)[0])
+
+
+def _order_windows(labels: pd.Series, label: str, column: str, rows: np.ndarray | None = None):
+    """Unique windows in time order: by date when dated, numerically when numeric, else as read.
+
+    ``rows`` maps each label's position to its 0-based data row (long layout: first occurrence).
+    """
     dates = _looks_like_dates(labels)
+    if dates is None:
+        p = _first_bad_date(labels)
+        if p is not None:
+            raise InputError(
+                f"not a date: {str(labels.iloc[p])!r} (the other windows are dates)",
+                path=label,
+                column=column,
+                row=int(rows[p] if rows is not None else p) + 1,
+            )
     if dates is not None:
         key = pd.Series(dates.asi8, index=labels.index)
     elif pd.api.types.is_numeric_dtype(labels):
@@ -264,8 +323,8 @@ def load_sweep(path: str, options: LoadOptions | None = None) -> Sweep:
     opt = options or LoadOptions()
     if opt.units not in UNIT_SCALE:
         raise InputError(f"units must be one of {', '.join(UNIT_SCALE)}; got {opt.units!r}")
-    if opt.periods_per_year is not None and not (opt.periods_per_year > 0):
-        raise InputError(f"periods per year must be positive; got {opt.periods_per_year}")
+    if opt.periods_per_year is not None and not (0 < opt.periods_per_year < np.inf):
+        raise InputError(f"periods per year must be positive and finite; got {opt.periods_per_year}")
     frame, label, digest = read_table(path)
     columns = list(frame.columns)
 
@@ -281,7 +340,7 @@ def load_sweep(path: str, options: LoadOptions | None = None) -> Sweep:
     if layout == "auto":
         if opt.parameter_columns or opt.value_column:
             layout = "long"
-        elif window_col is not None and frame[window_col].duplicated().any():
+        elif window_col is not None and _looks_long(frame, window_col):
             layout = "long"
         else:
             layout = "wide"
@@ -432,7 +491,8 @@ def _long(frame, label, window_col, opt: LoadOptions, notes):
         r = int(np.flatnonzero(window_codes < 0)[0])
         raise InputError("missing window label", path=label, column=window_col, row=r + 1)
     window_uniques = [_label(v) for v in raw_windows]
-    order_key, dates_unique = _order_windows(pd.Series(raw_windows), label, window_col)
+    first_rows = pd.Series(window_codes).drop_duplicates().index.to_numpy()
+    order_key, dates_unique = _order_windows(pd.Series(raw_windows), label, window_col, first_rows)
     # Duplicate (configuration, window) pairs: name the second occurrence.
     pair = config_codes.astype(np.int64) * (len(window_uniques) + 1) + window_codes
     dup = pd.Series(pair).duplicated().to_numpy()
@@ -503,6 +563,8 @@ def _wide(frame, label, window_col, opt: LoadOptions, notes):
         config_cols = columns
     if opt.benchmark is not None:
         _require_column(frame, opt.benchmark, label, "benchmark")
+        if opt.benchmark not in config_cols:
+            raise InputError(f"the benchmark column {opt.benchmark!r} is the window column", path=label)
     if not config_cols or (opt.benchmark is not None and len(config_cols) == 1):
         raise InputError("no configuration columns: a wide file needs one column per configuration", path=label)
     matrix = np.column_stack(
