@@ -34,7 +34,11 @@ def pct(x, digits: int = 3) -> str:
 def _iv(block, scale=1.0, as_pct=False) -> str:
     if not block:
         return "-"
-    f = (lambda v: pct(v * scale)) if as_pct else (lambda v: fmt(v * scale))
+    def f(v):
+        if v is None:
+            return "-"
+        return pct(v * scale) if as_pct else fmt(v * scale)
+
     return f"{f(block['estimate'])}  [{f(block['low'])}, {f(block['high'])}]"
 
 
