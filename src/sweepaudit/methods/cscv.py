@@ -56,6 +56,7 @@ out-of-sample for its mirror.
 
 from __future__ import annotations
 
+import functools
 import math
 import warnings
 from dataclasses import dataclass
@@ -122,6 +123,9 @@ class CscvResult:
     in_sample_blocks : numpy.ndarray
         ``(combinations, partitions // 2)`` block indices (0-based, ascending) of each split's
         in-sample half; the out-of-sample half is the complement.
+    in_sample_t_statistic : numpy.ndarray
+        t-statistic of the selected configuration's in-sample mean, mean / (sd / sqrt(n)) with
+        ddof = 1 (for "sharpe" this is the in-sample Sharpe ratio times sqrt(n)).
     median_out_of_sample : float
         Median of ``out_of_sample``.
     null_probability_of_overfitting : float
@@ -165,6 +169,7 @@ class CscvResult:
     out_of_sample_rank: np.ndarray
     relative_rank: np.ndarray
     in_sample_blocks: np.ndarray
+    in_sample_t_statistic: np.ndarray
     median_out_of_sample: float
     null_probability_of_overfitting: float
     first_order_dominance: bool
@@ -250,11 +255,14 @@ def _block_bounds(windows: int, partitions: int) -> np.ndarray:
     return np.column_stack([stops - sizes, stops])
 
 
+@functools.lru_cache(maxsize=4)
 def _split_indicator(partitions: int) -> np.ndarray:
     """Boolean (C, S) matrix of in-sample blocks, ordered by bit mask so row C-1-i mirrors row i."""
     masks = np.arange(2**partitions, dtype=np.int64)
     bits = ((masks[:, None] >> np.arange(partitions)) & 1).astype(bool)
-    return bits[bits.sum(axis=1) == partitions // 2]
+    indicator = bits[bits.sum(axis=1) == partitions // 2]
+    indicator.flags.writeable = False
+    return indicator
 
 
 class _HalfStatistics:
@@ -278,6 +286,22 @@ class _HalfStatistics:
             self.constant_columns = np.flatnonzero(flat.sum(axis=0) >= len(starts) // 2)
             self.block_flat = flat[:, self.constant_columns]
             self.block_value = low[:, self.constant_columns]
+
+    def t_statistic(self, indicator: np.ndarray, columns: np.ndarray) -> np.ndarray:
+        """t-statistic of the mean, mean / (sd / sqrt(n)), of one column per half-sample."""
+        weights = indicator.astype(np.float64)
+        count = weights @ self.counts
+        total = np.einsum("ij,ji->i", weights, self.sums[:, columns])
+        squares = np.einsum("ij,ji->i", weights, self.squares[:, columns])
+        mean_centred = total / count
+        variance = (squares - count * mean_centred**2) / (count - 1.0)
+        mean = self.centre[columns] + mean_centred
+        # Constant halves (sd 0) follow the Sharpe convention: sign(mean) * inf, 0 for mean 0.
+        with np.errstate(divide="ignore", invalid="ignore"):
+            value = np.where(variance > 0, mean / np.sqrt(variance) * np.sqrt(count),
+                             np.sign(mean) * np.inf)
+        value[np.isnan(value)] = 0.0
+        return value
 
     def __call__(self, indicator: np.ndarray) -> np.ndarray:
         weights = indicator.astype(np.float64)
@@ -382,6 +406,7 @@ def cscv(
     in_sample = np.empty(combinations)
     out_of_sample = np.empty(combinations)
     rank = np.empty(combinations)
+    t_statistic = np.empty(combinations)
     # Keep every half-sample's statistics for the dominance pass when they fit the cache budget;
     # otherwise they are recomputed chunk by chunk.
     cache = (np.empty((combinations, configurations))
@@ -405,6 +430,7 @@ def cscv(
         in_sample[rows] = values[every, best]
         out_of_sample[rows] = chosen_oos
         rank[rows] = below + (equal + 1) / 2.0
+        t_statistic[rows] = halves.t_statistic(indicator[rows], best)
 
     relative = rank / (configurations + 1)
     logits = np.log(relative / (1.0 - relative))
@@ -462,6 +488,7 @@ def cscv(
         out_of_sample_rank=rank,
         relative_rank=relative,
         in_sample_blocks=in_sample_blocks,
+        in_sample_t_statistic=t_statistic,
         median_out_of_sample=float(np.median(out_of_sample)),
         null_probability_of_overfitting=null,
         statistic=statistic,
@@ -564,3 +591,141 @@ class _SlotFinder:
         exact = np.flatnonzero(self.shared[bins])
         slot[exact] = np.searchsorted(self.points, values[exact], side="left")
         return slot
+
+
+@dataclass(frozen=True)
+class OverfittingDiagnosis:
+    """Result of :func:`overfitting_diagnosis`.
+
+    Attributes
+    ----------
+    case : {"robust", "shared_edge", "no_edge", "overfit"}
+        ``robust``: the in-sample winner ranks well and earns out of sample. ``shared_edge``: it
+        earns out of sample but ranks no better than a random pick, because several
+        configurations share the edge. ``overfit``: its in-sample result stood out beyond what
+        the best of N noise configurations reaches, yet it loses out of sample too often.
+        ``no_edge``: nothing stands out even in sample and the winner loses too often.
+    passed : bool
+        True for ``robust`` and ``shared_edge``.
+    probability_of_overfitting, probability_of_loss : float
+        The CSCV figures the rule read.
+    in_sample_strength_share : float
+        Share of splits whose in-sample winner's t-statistic exceeds ``strength_threshold``.
+    strength_threshold : float
+        The 95% quantile of the maximum of N independent standard normals,
+        ``Phi^-1(0.95 ** (1 / N))``.
+    max_probability_of_overfitting, max_probability_of_loss, min_strength_share : float
+        Thresholds used.
+    reason : str
+        One sentence quoting the figures and thresholds.
+    """
+
+    case: OverfittingCase
+    passed: bool
+    probability_of_overfitting: float
+    probability_of_loss: float
+    in_sample_strength_share: float
+    strength_threshold: float
+    max_probability_of_overfitting: float
+    max_probability_of_loss: float
+    min_strength_share: float
+    reason: str
+
+
+def _validate_diagnosis(result, thresholds: dict[str, float]) -> None:
+    if not isinstance(result, CscvResult):
+        raise InputError(f"result must be a CscvResult from cscv(); got {type(result).__name__}")
+    for name, value in thresholds.items():
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not 0 <= value <= 1:
+            raise InputError(f"{name} must be a number in [0, 1]; got {value!r}")
+
+
+def overfitting_diagnosis(
+    result: CscvResult,
+    *,
+    max_probability_of_overfitting: float = 0.25,
+    max_probability_of_loss: float = 0.2,
+    min_strength_share: float = 0.15,
+) -> OverfittingDiagnosis:
+    """Read a CSCV result: is the in-sample winner's out-of-sample edge real, and why (not)?
+
+    Parameters
+    ----------
+    result : CscvResult
+        Output of :func:`cscv`.
+    max_probability_of_overfitting : float, default 0.25
+        PBO at or below which the winner counts as ranking well out of sample ("robust");
+        above it, a passing sweep is "shared_edge". Chosen from the simulation in
+        ``benchmarks/overfitting_rule_study.py``.
+    max_probability_of_loss : float, default 0.2
+        Largest share of splits in which the winner may lose out of sample and still pass.
+        Chosen from the same simulation (pure noise stays above it).
+    min_strength_share : float, default 0.15
+        Share of splits with an in-sample winner beyond the noise maximum above which a failing
+        sweep is "overfit" rather than "no_edge".
+
+    Returns
+    -------
+    OverfittingDiagnosis
+
+    Notes
+    -----
+    PBO (Bailey, Borwein, Lopez de Prado and Zhu 2017) measures whether picking the in-sample
+    winner beats picking a configuration at random out of sample. It sits near 1/2 both when
+    nothing has an edge and when many configurations share one, so it cannot decide alone. The
+    rule (docs/overfitting_rule.md):
+
+    1. ``probability_of_loss <= max_probability_of_loss``: passed; ``robust`` when
+       ``probability_of_overfitting <= max_probability_of_overfitting``, else ``shared_edge``.
+    2. Otherwise failed; ``overfit`` when the share of splits whose in-sample winner has a
+       t-statistic above ``Phi^-1(0.95 ** (1 / N))`` (95% quantile of the best of N independent
+       noise configurations; correlated configurations reach less, so this errs towards
+       ``no_edge``) is at least ``min_strength_share``, else ``no_edge``.
+    """
+    thresholds = {
+        "max_probability_of_overfitting": max_probability_of_overfitting,
+        "max_probability_of_loss": max_probability_of_loss,
+        "min_strength_share": min_strength_share,
+    }
+    _validate_diagnosis(result, thresholds)
+    pbo = result.probability_of_overfitting
+    loss = result.probability_of_loss
+    strength_threshold = float(special.ndtri(0.95 ** (1.0 / result.configurations)))
+    strength = float(np.mean(result.in_sample_t_statistic > strength_threshold))
+    case: OverfittingCase
+    if loss <= max_probability_of_loss:
+        if pbo <= max_probability_of_overfitting:
+            case = "robust"
+            reason = (f"the in-sample winner loses out of sample in {loss:.0%} of splits (at most "
+                      f"{max_probability_of_loss:.0%} allowed) and PBO is {pbo:.2f} (at most "
+                      f"{max_probability_of_overfitting:.2f})")
+        else:
+            case = "shared_edge"
+            reason = (f"the in-sample winner loses out of sample in only {loss:.0%} of splits (at "
+                      f"most {max_probability_of_loss:.0%} allowed) although PBO is {pbo:.2f} "
+                      f"(above {max_probability_of_overfitting:.2f}): several configurations "
+                      "appear to share the edge, so picking the winner adds little")
+    elif strength >= min_strength_share:
+        case = "overfit"
+        reason = (f"the in-sample winner stands out beyond the best of {result.configurations} "
+                  f"noise configurations in {strength:.0%} of splits (at least "
+                  f"{min_strength_share:.0%}) but loses out of sample in {loss:.0%} of splits "
+                  f"(more than {max_probability_of_loss:.0%}); PBO is {pbo:.2f}")
+    else:
+        case = "no_edge"
+        reason = (f"the in-sample winner loses out of sample in {loss:.0%} of splits (more than "
+                  f"{max_probability_of_loss:.0%}) and stands out beyond the best of "
+                  f"{result.configurations} noise configurations in only {strength:.0%} of "
+                  f"splits (below {min_strength_share:.0%}); PBO is {pbo:.2f}")
+    return OverfittingDiagnosis(
+        case=case,
+        passed=case in ("robust", "shared_edge"),
+        probability_of_overfitting=pbo,
+        probability_of_loss=loss,
+        in_sample_strength_share=strength,
+        strength_threshold=strength_threshold,
+        max_probability_of_overfitting=float(max_probability_of_overfitting),
+        max_probability_of_loss=float(max_probability_of_loss),
+        min_strength_share=float(min_strength_share),
+        reason=reason,
+    )
