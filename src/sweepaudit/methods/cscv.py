@@ -47,7 +47,7 @@ Conventions (each one is tested in ``tests/methods/test_cscv.py``):
   value of the selected sample and in the limit ``x -> inf`` (the difference of means), which can
   miss a larger violation between two neighbouring selected values.
 
-Computation: per-block sums, sums of squares and counts give every half-sample's statistic with one
+Computation: per-block (uncentred) sums, sums of squares and counts give every half-sample's statistic with one
 matrix product (split-indicator matrix times block sums), processed in chunks of splits so memory
 stays bounded. The complement of the i-th split (block sets ordered as bit masks) is the
 (C - 1 - i)-th, so every half-sample is computed once and serves as in-sample for one split and
@@ -88,8 +88,8 @@ _MAX_PARTITIONS = 20
 # Bytes per (splits x configurations) float array in a chunk; a handful are alive at once.
 _CHUNK_BYTES = 16 * 2**20
 _CACHE_BYTES = 128 * 2**20
-# Uniform bins that locate pooled values among the selected values without a binary search.
-_DOMINANCE_BINS = 2**18
+# Most uniform bins that locate pooled values among the selected values without a binary search.
+_DOMINANCE_BINS = 2**20
 _LOGIT_QUANTILE_LEVELS = (0.05, 0.25, 0.5, 0.75, 0.95)
 _BLOCK_RULE = "contiguous blocks in time order; the first T mod S blocks get one extra window"
 
@@ -270,13 +270,13 @@ class _HalfStatistics:
 
     def __init__(self, matrix: np.ndarray, bounds: np.ndarray, statistic: str) -> None:
         self.statistic = statistic
-        # Centring by the column mean keeps sum-of-squares variances accurate (shift invariance).
-        self.centre = matrix.mean(axis=0)
-        centred = matrix - self.centre
+        # Raw (uncentred) sums: for integer or other dyadic data every sum is exact, so halves that
+        # tie in exact arithmetic tie bit for bit. Sum-of-squares variances lose accuracy only when
+        # |mean| / sd is enormous, which per-window excess returns are not.
         starts = bounds[:, 0]
         self.counts = (bounds[:, 1] - bounds[:, 0]).astype(np.float64)
-        self.sums = np.add.reduceat(centred, starts, axis=0)
-        self.squares = np.add.reduceat(centred * centred, starts, axis=0)
+        self.sums = np.add.reduceat(matrix, starts, axis=0)
+        self.squares = np.add.reduceat(matrix * matrix, starts, axis=0)
         self.constant_columns = np.zeros(0, dtype=np.int64)
         if statistic == "sharpe":
             low = np.minimum.reduceat(matrix, starts, axis=0)
@@ -293,35 +293,30 @@ class _HalfStatistics:
         count = weights @ self.counts
         total = np.einsum("ij,ji->i", weights, self.sums[:, columns])
         squares = np.einsum("ij,ji->i", weights, self.squares[:, columns])
-        mean_centred = total / count
-        variance = (squares - count * mean_centred**2) / (count - 1.0)
-        mean = self.centre[columns] + mean_centred
+        mean = total / count
+        variance = (squares - total * mean) / (count - 1.0)
         # Constant halves (sd 0) follow the Sharpe convention: sign(mean) * inf, 0 for mean 0.
-        with np.errstate(divide="ignore", invalid="ignore"):
-            value = np.where(variance > 0, mean / np.sqrt(variance) * np.sqrt(count),
-                             np.sign(mean) * np.inf)
-        value[np.isnan(value)] = 0.0
+        positive = variance > 0
+        value = _signed_infinity(mean)
+        value[positive] = mean[positive] / np.sqrt(variance[positive]) * np.sqrt(count[positive])
         return value
 
     def __call__(self, indicator: np.ndarray) -> np.ndarray:
         weights = indicator.astype(np.float64)
         count = (weights @ self.counts)[:, None]
-        value = weights @ self.sums
-        value /= count  # mean of the centred half-sample
+        total = weights @ self.sums
+        value = total / count
         if self.statistic == "mean":
-            value += self.centre
             return value
-        # In place: variance = (sum of squares - n * mean^2) / (n - 1), all centred.
+        # In place: variance = (sum of squares - sum * mean) / (n - 1).
         spread = weights @ self.squares
-        shift = value * value
-        shift *= count
-        spread -= shift
+        total *= value
+        spread -= total
         spread /= count - 1.0
-        value += self.centre
         if spread.min() <= 0:  # rounding can leave a non-constant half with variance <= 0
             degenerate = ~(spread > 0)
             spread[degenerate] = 1.0
-            value[degenerate] = np.sign(value[degenerate]) * np.inf
+            value[degenerate] = _signed_infinity(value[degenerate])
         np.sqrt(spread, out=spread)
         value /= spread
         for k, column in enumerate(self.constant_columns):
@@ -331,9 +326,13 @@ class _HalfStatistics:
             top = np.where(indicator, vals, -np.inf).max(axis=1)
             bottom = np.where(indicator, vals, np.inf).min(axis=1)
             constant = all_flat & (top == bottom)
-            value[constant, column] = np.sign(top[constant]) * np.inf
-            value[constant & (top == 0), column] = 0.0
+            value[constant, column] = _signed_infinity(top[constant])
         return value
+
+
+def _signed_infinity(values: np.ndarray) -> np.ndarray:
+    """Limit of mean / sd as sd -> 0: +inf, -inf, or 0 for a zero mean."""
+    return np.where(values > 0, np.inf, np.where(values < 0, -np.inf, 0.0))
 
 
 def _rows_per_chunk(configurations: int) -> int:
@@ -569,17 +568,18 @@ class _SlotFinder:
         if self.trivial:
             return
         self.low = float(finite[0])
-        self.scale = _DOMINANCE_BINS / (float(finite[-1]) - self.low)
-        # Bin 0 holds values below the lowest finite point, bin BINS + 1 those above the top.
+        self.bins = int(np.clip(64 * points.size, 1024, _DOMINANCE_BINS))
+        self.scale = self.bins / (float(finite[-1]) - self.low)
+        # Bin 0 holds values below the lowest finite point, bin bins + 1 those above the top.
         point_bins = self._bins(points)
-        per_bin = np.bincount(point_bins, minlength=_DOMINANCE_BINS + 2)
+        per_bin = np.bincount(point_bins, minlength=self.bins + 2)
         self.below = np.concatenate([[0], np.cumsum(per_bin)[:-1]])
         self.shared = per_bin > 0
 
     def _bins(self, values: np.ndarray) -> np.ndarray:
         with np.errstate(invalid="ignore", over="ignore"):
             scaled = (values - self.low) * self.scale
-            np.clip(scaled, -1.0, float(_DOMINANCE_BINS), out=scaled)
+            np.clip(scaled, -1.0, float(self.bins), out=scaled)
         scaled[np.isnan(scaled)] = -1.0
         return np.floor(scaled).astype(np.int64) + 1
 
