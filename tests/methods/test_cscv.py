@@ -186,7 +186,8 @@ def slow_cscv(returns: np.ndarray, partitions: int, statistic: str) -> dict:
 def _check_against_oracle(returns, partitions, statistic, *, dominance=True, quiet=True):
     result = (run_quietly if quiet else cscv)(returns, partitions=partitions, statistic=statistic)
     oracle = slow_cscv(returns, result.partitions, statistic)
-    assert result.combinations == len(oracle) == math.comb(result.partitions, result.partitions // 2)
+    half = result.partitions // 2
+    assert result.combinations == len(oracle) == math.comb(result.partitions, half)
     keys = [tuple(row) for row in result.in_sample_blocks.tolist()]
     assert sorted(keys) == sorted(oracle)
     expect = [oracle[k] for k in keys]
@@ -373,18 +374,20 @@ def test_option_errors(kwargs, message):
 
 
 def test_data_errors():
-    with pytest.raises(InputError, match=r"returns must be a 2-D T x N matrix \(windows x "
-                                         r"configurations\); got 1 dimension\(s\) with shape \(10,\)"):
-        cscv(np.zeros(10))
-    with pytest.raises(InputError, match=r"returns must have at least 2 configurations \(columns\) "
-                                         r"to rank; got 1"):
-        cscv(np.zeros((64, 1)))
+    def message_of(returns):
+        with pytest.raises(InputError) as info:
+            cscv(returns)
+        return str(info.value)
+
+    assert message_of(np.zeros(10)) == ("returns must be a 2-D T x N matrix (windows x "
+                                        "configurations); got 1 dimension(s) with shape (10,)")
+    assert message_of(np.zeros((64, 1))) == ("returns must have at least 2 configurations "
+                                             "(columns) to rank; got 1")
     bad = np.zeros((64, 3))
     bad[5, 2] = np.nan
     bad[9, 0] = np.inf
-    with pytest.raises(InputError, match=r"returns must be finite; got 2 NaN or infinite value\(s\),"
-                                         r" the first at window 5 \(0-based\), configuration 2"):
-        cscv(bad)
+    assert message_of(bad) == ("returns must be finite; got 2 NaN or infinite value(s), the "
+                               "first at window 5 (0-based), configuration 2")
     with pytest.raises(InputError, match="returns must be a numeric T x N matrix"):
         cscv([["a", "b"], ["c", "d"]])
 
@@ -403,15 +406,18 @@ def test_partitions_reduced_with_a_warning():
     rng = np.random.default_rng(2)
     with pytest.warns(SweepAuditWarning) as record:
         result = cscv(rng.standard_normal((40, 3)))
-    message = ("returns has 40 windows, too few for partitions=16 with at least 4 windows per block "
-               "(statistic 'sharpe'); using partitions=10 (4 or more windows per block, 252 splits)")
+    message = ("returns has 40 windows, too few for partitions=16 with at least 4 windows per "
+               "block (statistic 'sharpe'); using partitions=10 (4 or more windows per block, "
+               "252 splits)")
     assert [str(w.message) for w in record] == [message]
     assert result.warnings == (message,)
     assert (result.partitions, result.partitions_requested, result.combinations) == (10, 16, 252)
     # Below the comfortable minimum everywhere: fall back to the floor of 2 windows per block.
     with pytest.warns(SweepAuditWarning) as record:
         assert cscv(rng.standard_normal((6, 3))).partitions == 2
-    assert str(record[0].message).endswith("using partitions=2 (3 or more windows per block, 2 splits)")
+    assert str(record[0].message).endswith(
+        "using partitions=2 (3 or more windows per block, 2 splits)"
+    )
     assert "degradation line not computed" in str(record[1].message)  # 2 splits < 3 points
     # "mean" only needs one window per block.
     with pytest.warns(SweepAuditWarning, match="using partitions=6 "):

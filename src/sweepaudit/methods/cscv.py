@@ -47,11 +47,11 @@ Conventions (each one is tested in ``tests/methods/test_cscv.py``):
   value of the selected sample and in the limit ``x -> inf`` (the difference of means), which can
   miss a larger violation between two neighbouring selected values.
 
-Computation: per-block (uncentred) sums, sums of squares and counts give every half-sample's statistic with one
-matrix product (split-indicator matrix times block sums), processed in chunks of splits so memory
-stays bounded. The complement of the i-th split (block sets ordered as bit masks) is the
-(C - 1 - i)-th, so every half-sample is computed once and serves as in-sample for one split and
-out-of-sample for its mirror.
+Computation: per-block (uncentred) sums, sums of squares and counts give every half-sample's
+statistic with one matrix product (split-indicator matrix times block sums), processed in chunks
+of splits so memory stays bounded. The complement of the i-th split (block sets ordered as bit
+masks) is the (C - 1 - i)-th, so every half-sample is computed once and serves as in-sample for
+one split and out-of-sample for its mirror.
 """
 
 from __future__ import annotations
@@ -63,7 +63,7 @@ from dataclasses import dataclass
 from typing import Literal, get_args
 
 import numpy as np
-from scipy import special, stats
+from scipy import special
 
 from sweepaudit.errors import DegenerateDataError, InputError, SweepAuditWarning
 
@@ -448,9 +448,12 @@ def cscv(
         )
     x, y = in_sample[finite], out_of_sample[finite]
     if x.size >= 3 and np.ptp(x) > 0:
-        fit = stats.linregress(x, y)
-        slope, intercept = float(fit.slope), float(fit.intercept)
-        r_squared = float(fit.rvalue**2) if np.ptp(y) > 0 else 0.0
+        # Ordinary least squares y = intercept + slope * x (Bailey et al. 2017, section 2.3).
+        dx, dy = x - x.mean(), y - y.mean()
+        sxx, sxy, syy = float(dx @ dx), float(dx @ dy), float(dy @ dy)
+        slope = sxy / sxx
+        intercept = float(y.mean()) - slope * float(x.mean())
+        r_squared = sxy * sxy / (sxx * syy) if syy > 0 else 0.0
     else:
         messages.append(
             "degradation line not computed: the selected configuration's in-sample statistic "
