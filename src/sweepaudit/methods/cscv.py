@@ -422,9 +422,14 @@ def cscv(
         every = np.arange(rows.size)
         best = np.argmax(values, axis=1)  # first maximum: lowest index wins ties
         chosen_oos = values[mirror, best]
-        oos_rows = values[mirror]
-        below = (oos_rows < chosen_oos[:, None]).sum(axis=1)
-        equal = (oos_rows == chosen_oos[:, None]).sum(axis=1)
+        below = np.empty(rows.size)
+        equal = np.empty(rows.size)
+        # Row k's out-of-sample half is row k + count (and back): compare on views, no copy.
+        for own, other in ((slice(0, count), slice(count, None)),
+                           (slice(count, None), slice(0, count))):
+            target = chosen_oos[own, None]
+            below[own] = np.count_nonzero(values[other] < target, axis=1)
+            equal[own] = np.count_nonzero(values[other] == target, axis=1)
         selected[rows] = best
         in_sample[rows] = values[every, best]
         out_of_sample[rows] = chosen_oos
@@ -573,18 +578,19 @@ class _SlotFinder:
         self.low = float(finite[0])
         self.bins = int(np.clip(64 * points.size, 1024, _DOMINANCE_BINS))
         self.scale = self.bins / (float(finite[-1]) - self.low)
-        # Bin 0 holds values below the lowest finite point, bin bins + 1 those above the top.
         point_bins = self._bins(points)
-        per_bin = np.bincount(point_bins, minlength=self.bins + 2)
+        per_bin = np.bincount(point_bins, minlength=self.bins + 1)
         self.below = np.concatenate([[0], np.cumsum(per_bin)[:-1]])
         self.shared = per_bin > 0
 
     def _bins(self, values: np.ndarray) -> np.ndarray:
+        # Monotone in the value; values below the lowest point share bin 0 with it and those above
+        # the top share the last bin, so both go through the exact search. Values are never NaN.
         with np.errstate(invalid="ignore", over="ignore"):
-            scaled = (values - self.low) * self.scale
-            np.clip(scaled, -1.0, float(self.bins), out=scaled)
-        scaled[np.isnan(scaled)] = -1.0
-        return np.floor(scaled).astype(np.int64) + 1
+            scaled = values - self.low
+            scaled *= self.scale
+            np.clip(scaled, 0.0, float(self.bins), out=scaled)
+        return scaled.astype(np.int64)
 
     def __call__(self, values: np.ndarray) -> np.ndarray:
         if self.trivial:
