@@ -424,6 +424,18 @@ def test_partitions_reduced_with_a_warning():
         assert cscv(rng.standard_normal((7, 3)), statistic="mean").partitions == 6
 
 
+def test_smallest_mean_sweep():
+    """T = 2, S = 2, "mean": each half is one window; figures by hand. Split IS {0}: winner B
+    (2 > 1), out of sample B = 0 below A = 3: rank 1, logit ln(1/2). Split IS {1}: winner A
+    (3 > 0), out of sample A = 1 below B = 2: rank 1. PBO 1, no loss; no degradation line."""
+    with pytest.warns(SweepAuditWarning, match="degradation line not computed"):
+        result = cscv(np.array([[1.0, 2.0], [3.0, 0.0]]), partitions=2, statistic="mean")
+    np.testing.assert_allclose(result.logits, [math.log(0.5)] * 2, rtol=0, atol=1e-15)
+    assert result.probability_of_overfitting == 1.0 and result.probability_of_loss == 0.0
+    np.testing.assert_array_equal(result.in_sample_t_statistic, [0.0, 0.0])
+    assert result.degradation_slope is None
+
+
 def test_unequal_blocks_are_reported():
     rng = np.random.default_rng(6)
     result = cscv(rng.standard_normal((67, 3)), partitions=4)
@@ -538,3 +550,17 @@ def test_diagnosis_case_rates_on_synthetic_sweeps():
         assert np.mean([d.case == case for d in diagnoses]) >= floor
         passed = np.mean([d.passed for d in diagnoses])
         assert passed >= 0.9 if kind in ("edge", "plateau") else passed <= 0.12
+
+
+def test_bin_lookup_equals_binary_search():
+    """The uniform-bin shortcut in the dominance pass returns numpy.searchsorted's answer."""
+    from sweepaudit.methods.cscv import _SlotFinder
+
+    rng = np.random.default_rng(12)
+    points = np.unique(np.concatenate([rng.standard_normal(300).round(2), [-np.inf, np.inf]]))
+    values = np.concatenate([rng.standard_normal(20000) * 2, points, [-np.inf, np.inf, 50.0]])
+    np.testing.assert_array_equal(_SlotFinder(points)(values),
+                                  np.searchsorted(points, values, side="left"))
+    single = np.array([0.5])
+    np.testing.assert_array_equal(_SlotFinder(single)(values),
+                                  np.searchsorted(single, values, side="left"))

@@ -31,6 +31,10 @@ Conventions (each one is tested in ``tests/methods/test_cscv.py``):
   handle infinities; the degradation regression uses only splits with finite statistics. A warning
   names how many configurations are affected.
 * In-sample ties: the configuration with the lowest column index among the tied best is selected.
+  A tie is exact equality of the computed statistics. Statistics come from uncentred block sums,
+  so duplicate columns, and data whose sums are exact in binary floating point (small integers,
+  multiples of powers of two), tie reliably; values equal only in decimal arithmetic may differ
+  in the last bit and then do not tie.
 * Out-of-sample ranks run from 1 (worst) to N (best); tied values get the average (mid) rank. The
   relative rank is ``w = rank / (N + 1)`` and the logit ``ln(w / (1 - w))``.
 * PBO is the share of splits with logit ``<= 0`` ("at or below zero"), so its value when nothing
@@ -39,13 +43,15 @@ Conventions (each one is tested in ``tests/methods/test_cscv.py``):
   statistic strictly below zero.
 * Stochastic dominance compares the empirical distribution of the selected configuration's
   out-of-sample statistic (one value per split) with that of a configuration picked at random: all
-  N configurations' out-of-sample statistics pooled over all splits. First order holds when
+  N configurations' out-of-sample statistics pooled over all splits. Dominance is weak (identical
+  distributions count as dominance). First order holds when
   ``F_selected(x) <= F_pooled(x)`` for every ``x``; the largest violation
   ``max_x (F_selected(x) - F_pooled(x))`` is exact because the supremum of that step-function
   difference is reached at a value of the selected sample. Second order holds when
   ``E[(x - X_selected)^+] <= E[(x - X_pooled)^+]`` (integrated CDFs); it is evaluated at every
   value of the selected sample and in the limit ``x -> inf`` (the difference of means), which can
-  miss a larger violation between two neighbouring selected values.
+  miss a larger violation between two neighbouring selected values; gaps below 1e-12 times the
+  largest absolute selected value (at least 1e-12) count as rounding, not violation.
 
 Computation: per-block (uncentred) sums, sums of squares and counts give every half-sample's
 statistic with one matrix product (split-indicator matrix times block sums), processed in chunks
@@ -125,7 +131,8 @@ class CscvResult:
         in-sample half; the out-of-sample half is the complement.
     in_sample_t_statistic : numpy.ndarray
         t-statistic of the selected configuration's in-sample mean, mean / (sd / sqrt(n)) with
-        ddof = 1 (for "sharpe" this is the in-sample Sharpe ratio times sqrt(n)).
+        ddof = 1 (for "sharpe" this is the in-sample Sharpe ratio times sqrt(n)); 0 for a
+        half-sample of one window, ``sign(mean) * inf`` (0 for a zero mean) for a constant one.
     median_out_of_sample : float
         Median of ``out_of_sample``.
     null_probability_of_overfitting : float
@@ -294,11 +301,14 @@ class _HalfStatistics:
         total = np.einsum("ij,ji->i", weights, self.sums[:, columns])
         squares = np.einsum("ij,ji->i", weights, self.squares[:, columns])
         mean = total / count
-        variance = (squares - total * mean) / (count - 1.0)
-        # Constant halves (sd 0) follow the Sharpe convention: sign(mean) * inf, 0 for mean 0.
+        with np.errstate(divide="ignore", invalid="ignore"):
+            variance = (squares - total * mean) / (count - 1.0)
+        # Constant halves (sd 0) follow the Sharpe convention: sign(mean) * inf, 0 for mean 0; a
+        # one-window half ("mean" with S = 2 and T = 2) carries no evidence: 0.
         positive = variance > 0
         value = _signed_infinity(mean)
         value[positive] = mean[positive] / np.sqrt(variance[positive]) * np.sqrt(count[positive])
+        value[count < 2] = 0.0
         return value
 
     def __call__(self, indicator: np.ndarray) -> np.ndarray:
