@@ -559,8 +559,8 @@ def test_bin_lookup_equals_binary_search():
     rng = np.random.default_rng(12)
     points = np.unique(np.concatenate([rng.standard_normal(300).round(2), [-np.inf, np.inf]]))
     values = np.concatenate([rng.standard_normal(20000) * 2, points, [-np.inf, np.inf, 50.0]])
-    np.testing.assert_array_equal(_SlotFinder(points)(values),
+    np.testing.assert_array_equal(_SlotFinder(points, 1000)(values),
                                   np.searchsorted(points, values, side="left"))
     single = np.array([0.5])
-    np.testing.assert_array_equal(_SlotFinder(single)(values),
+    np.testing.assert_array_equal(_SlotFinder(single, 1000)(values),
                                   np.searchsorted(single, values, side="left"))

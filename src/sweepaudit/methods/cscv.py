@@ -532,7 +532,7 @@ def _dominance(selected_oos, chunks, pooled_size) -> dict:
     sums = np.zeros(points.size + 1)
     pooled_total = 0.0
     pooled_nonfinite = 0
-    locate = _SlotFinder(points)
+    locate = _SlotFinder(points, pooled_size // 4)
     for values in chunks:
         values = values.ravel()
         slot = locate(values)  # number of selected values strictly below each pooled value
@@ -579,14 +579,15 @@ class _SlotFinder:
     binary search. Exact, and several times faster than searching every value.
     """
 
-    def __init__(self, points: np.ndarray) -> None:
+    def __init__(self, points: np.ndarray, values_expected: int) -> None:
         self.points = points
         finite = points[np.isfinite(points)]
         self.trivial = finite.size == 0 or finite[0] == finite[-1]
         if self.trivial:
             return
         self.low = float(finite[0])
-        self.bins = int(np.clip(64 * points.size, 1024, _DOMINANCE_BINS))
+        # Enough bins that few values share one with a point, never many more than values.
+        self.bins = int(np.clip(64 * points.size, 1024, min(_DOMINANCE_BINS, values_expected)))
         self.scale = self.bins / (float(finite[-1]) - self.low)
         point_bins = self._bins(points)
         per_bin = np.bincount(point_bins, minlength=self.bins + 1)
