@@ -1,7 +1,7 @@
 """Tests of sweepaudit.methods.cscv (CSCV, probability of backtest overfitting).
 
 Reference: Bailey, Borwein, Lopez de Prado and Zhu (2017), "The Probability of Backtest
-Overfitting", Journal of Computational Finance 20(4), section 2 (the CSCV algorithm).
+Overfitting", Journal of Computational Finance 20(4) (the CSCV procedure).
 
 Checked against something outside the code under test:
 
@@ -156,7 +156,7 @@ def _float_stat(values: np.ndarray, statistic: str) -> float:
 
 
 def slow_cscv(returns: np.ndarray, partitions: int, statistic: str) -> dict:
-    """Bailey et al. (2017), section 2, literally: one Python iteration per split."""
+    """Bailey et al. (2017), the CSCV procedure literally: one Python iteration per split."""
     windows, configurations = returns.shape
     blocks = _blocks(windows, partitions)
     out = {}

@@ -107,7 +107,7 @@ class CscvResult:
     Attributes
     ----------
     probability_of_overfitting : float
-        PBO: share of splits whose logit is ``<= 0`` (Bailey et al. 2017, section 2).
+        PBO: share of splits whose logit is ``<= 0`` (Bailey et al. 2017).
     probability_of_loss : float
         Share of splits whose selected configuration has an out-of-sample statistic ``< 0``.
     logits : numpy.ndarray
@@ -389,7 +389,8 @@ def cscv(
 
     Notes
     -----
-    Bailey, Borwein, Lopez de Prado and Zhu (2017), J. Computational Finance 20(4), section 2:
+    Bailey, Borwein, Lopez de Prado and Zhu (2017), J. Computational Finance 20(4), the CSCV
+    procedure:
     for each split, n* = argmax of the in-sample statistic; w = rank of n* out of sample / (N + 1);
     logit = ln(w / (1 - w)); PBO = share of logits <= 0. Degradation: least squares of the
     out-of-sample on the in-sample statistic of n*. Conventions on blocks, ties, zero variance and
@@ -463,7 +464,7 @@ def cscv(
         )
     x, y = in_sample[finite], out_of_sample[finite]
     if x.size >= 3 and np.ptp(x) > 0:
-        # Ordinary least squares y = intercept + slope * x (Bailey et al. 2017, section 2.3).
+        # Ordinary least squares y = intercept + slope * x.
         dx, dy = x - x.mean(), y - y.mean()
         sxx, sxy, syy = float(dx @ dx), float(dx @ dy), float(dy @ dy)
         slope = sxy / sxx
