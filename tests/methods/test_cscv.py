@@ -296,7 +296,8 @@ def test_dataframe_input_equals_array_input():
 
 
 def test_chunked_splits_equal_single_chunk(monkeypatch):
-    """Bounded-memory chunking (tiny chunks, no cache) gives the same result."""
+    """Bounded-memory chunking (tiny chunks, no cache) and the matrix-product path give the same
+    result as the default path."""
     import sweepaudit.methods.cscv as module
 
     rng = np.random.default_rng(8)
@@ -307,6 +308,12 @@ def test_chunked_splits_equal_single_chunk(monkeypatch):
     pieces = cscv(returns, partitions=10)
     np.testing.assert_array_equal(pieces.logits, whole.logits)
     np.testing.assert_array_equal(pieces.selected, whole.selected)
+    # and the matrix-product path (no subset-sum tables) agrees with the table path
+    monkeypatch.setattr(module, "_TABLE_BYTES", 0)
+    product = cscv(returns, partitions=10)
+    np.testing.assert_array_equal(product.selected, whole.selected)
+    np.testing.assert_allclose(product.out_of_sample, whole.out_of_sample, rtol=1e-12)
+    np.testing.assert_allclose(product.logits, whole.logits, rtol=0, atol=1e-12)
     assert pieces.first_order_violation == whole.first_order_violation
     assert pieces.second_order_violation == pytest.approx(whole.second_order_violation, abs=1e-12)
 

@@ -55,7 +55,9 @@ Conventions (each one is tested in ``tests/methods/test_cscv.py``):
 
 Computation: per-block (uncentred) sums, sums of squares and counts give every half-sample's
 statistic with one matrix product (split-indicator matrix times block sums), processed in chunks
-of splits so memory stays bounded. The complement of the i-th split (block sets ordered as bit
+of splits so memory stays bounded. The product is evaluated as two lookups in subset-sum tables
+of the first and last S/2 blocks plus one addition (the matrix product itself when the tables
+would exceed 96 MiB). The complement of the i-th split (block sets ordered as bit
 masks) is the (C - 1 - i)-th, so every half-sample is computed once and serves as in-sample for
 one split and out-of-sample for its mirror.
 """
@@ -94,6 +96,7 @@ _MAX_PARTITIONS = 20
 # Bytes per (splits x configurations) float array in a chunk; a handful are alive at once.
 _CHUNK_BYTES = 16 * 2**20
 _CACHE_BYTES = 128 * 2**20
+_TABLE_BYTES = 96 * 2**20
 # Most uniform bins that locate pooled values among the selected values without a binary search.
 _DOMINANCE_BINS = 2**20
 _LOGIT_QUANTILE_LEVELS = (0.05, 0.25, 0.5, 0.75, 0.95)
@@ -293,6 +296,40 @@ class _HalfStatistics:
             self.constant_columns = np.flatnonzero(flat.sum(axis=0) >= len(starts) // 2)
             self.block_flat = flat[:, self.constant_columns]
             self.block_value = low[:, self.constant_columns]
+        # Subset-sum tables: a half is a subset of the first S/2 blocks plus a subset of the last
+        # S/2, so its sums are one table row from each side added: one addition per entry and
+        # the same order of additions for every column. Fall back to the matrix product (0/1
+        # split-indicator matrix times block sums) when the tables would be large.
+        partitions = len(starts)
+        self.side = partitions // 2
+        tables = 2 if statistic == "sharpe" else 1
+        size = 2 * 2**self.side * matrix.shape[1] * 8 * tables
+        self.tables = None
+        if size <= _TABLE_BYTES:
+            self.tables = [
+                (self._subset_sums(block[: self.side]), self._subset_sums(block[self.side:]))
+                for block in ([self.sums, self.squares] if tables == 2 else [self.sums])
+            ]
+
+    @staticmethod
+    def _subset_sums(blocks: np.ndarray) -> np.ndarray:
+        """Row m holds the sum of the blocks whose bits are set in m, added in bit order."""
+        table = np.zeros((2 ** blocks.shape[0], blocks.shape[1]))
+        for bit, block in enumerate(blocks):
+            table[2**bit: 2 ** (bit + 1)] = table[: 2**bit] + block
+        return table
+
+    def _half_sums(self, indicator: np.ndarray, which: int) -> np.ndarray:
+        if self.tables is None:
+            source = self.sums if which == 0 else self.squares
+            return indicator.astype(np.float64) @ source
+        bits = 1 << np.arange(self.side)
+        low = indicator[:, : self.side] @ bits
+        high = indicator[:, self.side:] @ bits
+        first, second = self.tables[which]
+        out = first[low]
+        out += second[high]
+        return out
 
     def t_statistic(self, indicator: np.ndarray, columns: np.ndarray) -> np.ndarray:
         """t-statistic of the mean, mean / (sd / sqrt(n)), of one column per half-sample."""
@@ -312,14 +349,13 @@ class _HalfStatistics:
         return value
 
     def __call__(self, indicator: np.ndarray) -> np.ndarray:
-        weights = indicator.astype(np.float64)
-        count = (weights @ self.counts)[:, None]
-        total = weights @ self.sums
+        count = (indicator.astype(np.float64) @ self.counts)[:, None]
+        total = self._half_sums(indicator, 0)
         value = total / count
         if self.statistic == "mean":
             return value
         # In place: variance = (sum of squares - sum * mean) / (n - 1).
-        spread = weights @ self.squares
+        spread = self._half_sums(indicator, 1)
         total *= value
         spread -= total
         spread /= count - 1.0
