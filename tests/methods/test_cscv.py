@@ -252,7 +252,7 @@ def test_fast_path_equals_literal_loop_with_constant_halves():
     rng = np.random.default_rng(5)
     returns = rng.standard_normal((40, 5))
     returns[:, 1] = 0.0
-    returns[:20, 2] = 0.5  # blocks 0-2 of 6 (first 4 blocks have 7 windows) partly constant
+    returns[:20, 2] = 0.5  # blocks 0 and 1 (of 4 blocks of 10 windows) constant
     returns[:, 3] = -0.25
     with pytest.warns(SweepAuditWarning) as record:
         result = _check_against_oracle(returns, 4, "sharpe", dominance=False, quiet=False)
