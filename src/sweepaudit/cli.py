@@ -1,12 +1,19 @@
 """The command line: parse options, call audit(), render, map the verdict to an exit code.
 
 Exit status: 0 go, 1 no-go, 2 bad input or usage.
+
+Policy: ``--policy PATH`` or else the ``[tool.sweepaudit]`` table of the nearest pyproject.toml
+(see :func:`sweepaudit.policy.discover_policy`). ``--resamples``, ``--quick`` and ``--confidence``
+override the policy's values for this run; the JSON ``settings`` block shows the values used, the
+``policy`` block the policy as read.
 """
 
 from __future__ import annotations
 
 import shlex
 import sys
+import time
+from contextlib import ExitStack
 from enum import Enum
 from pathlib import Path
 from typing import Annotated, Optional
@@ -18,9 +25,13 @@ from . import __version__
 from .audit import AuditSettings, audit
 from .errors import SweepAuditError
 from .load import LoadOptions, load_sweep
-from .policy import DEFAULT_POLICY
+from .baseline import read_baseline
+from .gate import ledger_to_dict, trials_to_count, with_baseline
+from .ledger import ledger_record, open_ledger, sweep_fingerprint
+from .policy import policy_to_toml, resolve_policy
 from .render.files import write_atomic
 from .render.json import audit_to_dict, dumps
+from .render.junit import audit_to_junit
 from .render.terminal import render_terminal
 
 EXIT_GO, EXIT_NO_GO, EXIT_BAD_INPUT = 0, 1, 2
@@ -148,6 +159,25 @@ def audit_command(
     ] = None,
     interval_method: Annotated[IntervalChoice, typer.Option(help="Bootstrap interval.")] = IntervalChoice.percentile,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the audit JSON here.")] = None,
+    policy_path: Annotated[
+        Optional[Path],
+        typer.Option("--policy", help="Policy TOML file; default: [tool.sweepaudit] in the nearest pyproject.toml."),
+    ] = None,
+    junit_path: Annotated[
+        Optional[Path], typer.Option("--junit", help="Write the checks as a JUnit XML file here.")
+    ] = None,
+    baseline_path: Annotated[
+        Optional[Path],
+        typer.Option("--baseline", help="An earlier audit JSON: report what moved and gate on worsening."),
+    ] = None,
+    ledger_path: Annotated[
+        Optional[Path],
+        typer.Option("--ledger", help="Trial ledger (JSON Lines): count every sweep audited so far as trials; append this one."),
+    ] = None,
+    trials: Annotated[
+        Optional[int],
+        typer.Option(help="Trials the deflated Sharpe ratio counts (at least the configurations); with --ledger the larger count wins."),
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing; use the exit status.")] = False,
 ) -> None:
     """Audit the per-window excess returns of a parameter sweep and print a go / no-go verdict.
@@ -159,12 +189,18 @@ def audit_command(
       sweepaudit audit sweep.parquet --periods-per-year 52 --json audit.json
 
       cat sweep.csv | sweepaudit audit - --units percent --quick
+
+      sweepaudit audit sweep.csv --policy policy.toml --junit checks.xml --baseline last.json --ledger trials.jsonl
     """
     stderr = Console(stderr=True)
+    started = time.perf_counter()
     try:
         _check_output(json_path, "JSON file")
+        _check_output(junit_path, "JUnit file")
         if resamples is not None and quick:
             raise SweepAuditError("give either --resamples or --quick, not both")
+        loaded = resolve_policy(policy_path)
+        baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
         options = LoadOptions(
             layout=layout.value,
             window_column=window_column,
@@ -177,24 +213,59 @@ def audit_command(
             common_windows=common_windows,
         )
         sweep = load_sweep(sweep_path, options)
-        settings = AuditSettings(
-            seed=seed,
-            resamples=1_000 if quick else resamples,
-            confidence=confidence,
-            bootstrap=bootstrap.value,
-            block_length=block_length,
-            interval_method=interval_method.value,
-            selected=select,
-        )
-        bar, update = _progress_callback(stderr) if not quiet else (None, None)
-        if bar is not None:
-            with bar:
-                results = audit(sweep, settings=settings, policy=DEFAULT_POLICY, progress=update)
-        else:
-            results = audit(sweep, settings=settings, policy=DEFAULT_POLICY)
-        document = audit_to_dict(results, command=reproduce_command(results, options))
+        trials_to_count(sweep.n_configurations, declared=trials)  # rejects --trials below N early
+        with ExitStack() as stack:
+            # The ledger stays locked through the audit: read, count, append as one step.
+            ledger = stack.enter_context(open_ledger(ledger_path)) if ledger_path is not None else None
+            tally = None
+            if ledger is not None:
+                tally = ledger.tally(
+                    fingerprint=sweep_fingerprint(sweep.returns, sweep.configurations),
+                    configurations=sweep.n_configurations,
+                )
+            used_trials, trials_note = trials_to_count(sweep.n_configurations, declared=trials, tally=tally)
+            settings = AuditSettings(
+                seed=seed,
+                resamples=1_000 if quick else resamples,
+                confidence=confidence,
+                bootstrap=bootstrap.value,
+                block_length=block_length,
+                interval_method=interval_method.value,
+                selected=select,
+                trials=used_trials,
+            )
+            bar, update = _progress_callback(stderr) if not quiet else (None, None)
+            if bar is not None:
+                with bar:
+                    results = audit(sweep, settings=settings, policy=loaded.policy, progress=update)
+            else:
+                results = audit(sweep, settings=settings, policy=loaded.policy)
+            if baseline_document is not None:
+                results = with_baseline(results, baseline_document, path=str(baseline_path))
+            ledger_block = (
+                ledger_to_dict(tally, declared=trials, used=used_trials, note=trials_note)
+                if tally is not None else None
+            )
+            document = audit_to_dict(
+                results,
+                command=reproduce_command(results, options),
+                policy_source=loaded.source,
+                ledger=ledger_block,
+            )
+            if ledger is not None:
+                ledger.append(ledger_record(
+                    fingerprint=tally.fingerprint,
+                    configurations=sweep.n_configurations,
+                    windows=sweep.n_windows,
+                    selected=results.selected,
+                    verdict=document["verdict"],
+                    input_path=sweep.path,
+                    trials=used_trials,
+                ))
         if json_path is not None:
             write_atomic(json_path, dumps(document))
+        if junit_path is not None:
+            write_atomic(junit_path, audit_to_junit(document, elapsed=time.perf_counter() - started))
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
     if not quiet:
@@ -223,7 +294,36 @@ def reproduce_command(results, options: LoadOptions) -> str:
         words += ["--interval-method", s.interval_method]
     if s.selected is not None:
         words += ["--select", s.selected]
+    if s.trials is not None:
+        words += ["--trials", str(s.trials)]
     return " ".join(shlex.quote(w) for w in words)
+
+
+@app.command("policy")
+def policy_command(
+    effective: Annotated[
+        bool,
+        typer.Option("--effective", help="Print the policy an audit started here would apply, not the defaults."),
+    ] = False,
+    policy_path: Annotated[
+        Optional[Path], typer.Option("--policy", help="With --effective: read this policy file.")
+    ] = None,
+) -> None:
+    """Print the default policy as commented TOML, ready to paste under [tool.sweepaudit].
+
+    Unknown keys and out-of-range values in a policy file are errors (exit status 2).
+    """
+    try:
+        if effective:
+            loaded = resolve_policy(policy_path)
+            typer.echo(f"# policy in effect, from: {loaded.source}")
+            typer.echo(policy_to_toml(loaded.policy), nl=False)
+        else:
+            if policy_path is not None:
+                raise SweepAuditError("--policy only goes with --effective")
+            typer.echo(policy_to_toml(), nl=False)
+    except SweepAuditError as exc:
+        raise _fail(str(exc)) from None
 
 
 def main() -> None:

@@ -87,6 +87,7 @@ def _sections(doc: dict) -> list:
             state += " (advisory)"
         checks.add_row(c["id"], state, fmt(c["value"]), fmt(c["threshold"]))
     parts.append(checks)
+    parts += _gate_sections(doc)
 
     if doc["warnings"]:
         w = Text("Warnings\n", style="bold yellow")
@@ -94,6 +95,44 @@ def _sections(doc: dict) -> list:
             w.append(f"  ! {line}\n")
         parts.append(w)
     parts.append(Text(doc["caution"], style="italic"))
+    return parts
+
+
+def _gate_sections(doc: dict) -> list:
+    """The trial ledger and the comparison with a baseline audit, when the audit used them."""
+    parts: list = []
+    ledger = doc.get("ledger")
+    if ledger:
+        text = Text("Trial ledger\n", style="bold")
+        state = "a new sweep, recorded" if ledger["new_sweep"] else "already recorded: no trials added"
+        text.append(f"  {ledger['path']}: this sweep is {state}; {ledger['sweeps_recorded']:,} distinct "
+                    f"sweeps, {ledger['trials_counted']:,} trials counted\n")
+        if ledger.get("note"):
+            text.append(f"  {ledger['note']}\n")
+        parts.append(text)
+    base = doc.get("baseline")
+    if base:
+        table = Table(title=f"Against the baseline {base['path']} (verdict then: {base['verdict_before']})",
+                      title_justify="left")
+        table.add_column("gated figure", overflow="fold", min_width=24)
+        table.add_column("before")
+        table.add_column("after")
+        table.add_column("change")
+        table.add_column("allowed worsening")
+        table.add_column("")
+        for g in base["gated"]:
+            flag = "EXCEEDED" if g["exceeded"] else ("worse" if g in base["worsened"] else "")
+            table.add_row(g["key"], fmt(g["before"]), fmt(g["after"]), fmt(g["change"]),
+                          fmt(g["allowed_worsening"]), flag)
+        parts.append(table)
+        text = Text()
+        if base.get("selected_changed"):
+            text.append(f"  ! the baseline judged {base['selected_before']!r}: the selected figures compare "
+                        "different configurations\n")
+        for c in base["checks_changed"]:
+            text.append(f"  check {c['id']}: {c['before']} -> {c['after']}\n")
+        text.append(f"  {len(base['moved']):,} figures moved in all (the JSON baseline block lists them)\n")
+        parts.append(text)
     return parts
 
 
