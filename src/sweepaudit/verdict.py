@@ -163,6 +163,9 @@ def _baseline_drift(results: AuditResults, policy: Policy) -> Check | None:
 def decide(results: AuditResults, policy: Policy) -> Verdict:
     """Run every registered check; the verdict is go only when every required check passes.
 
+    The reasons are ``"<check id>: <reason>"``: on no-go one per failed required check, on go one
+    per required check.
+
     Checks the policy disables are not run; a check that is neither required nor disabled is
     advisory (reported, without effect on the verdict).
     """
@@ -178,6 +181,7 @@ def decide(results: AuditResults, policy: Policy) -> Verdict:
             Check(c.id, c.passed, c.value, c.threshold, c.reason, required=check_id in policy.required)
         )
     failed = [c for c in checks if c.required and not c.passed]
+    # Each reason names its check, so a reader of the reasons alone knows which test spoke.
     if failed:
-        return Verdict("no-go", tuple(c.reason for c in failed), tuple(checks))
-    return Verdict("go", tuple(c.reason for c in checks if c.required), tuple(checks))
+        return Verdict("no-go", tuple(f"{c.id}: {c.reason}" for c in failed), tuple(checks))
+    return Verdict("go", tuple(f"{c.id}: {c.reason}" for c in checks if c.required), tuple(checks))
