@@ -600,3 +600,23 @@ def test_readme_section_commands_use_real_options():
         _check_options(words)
     for code in ("| 0 |", "| 1 |", "| 2 |"):
         assert code in text
+
+
+def test_terminal_shows_the_ledger_and_the_baseline(small_results):
+    from rich.console import Console
+
+    from sweepaudit.gate import ledger_to_dict
+    from sweepaudit.render.terminal import render_terminal
+
+    base = audit_to_dict(small_results)
+    base["results"]["bootstrap"]["selected"]["mean"]["low"] += 1.0  # the baseline was far better
+    compared = with_baseline(small_results, base, path="audits/baseline.json")
+    tally = tally_trials((), fingerprint="a" * 64, configurations=3, path="audits/trials.jsonl")
+    doc = audit_to_dict(compared, ledger=ledger_to_dict(tally, declared=None, used=3, note="3 trials counted"))
+    console = Console(record=True, width=120)
+    render_terminal(doc, console)
+    text = console.export_text()
+    assert "Trial ledger" in text and "audits/trials.jsonl: this sweep is new (recorded now)" in text
+    assert "Against the baseline audits/baseline.json" in text and "EXCEEDED" in text
+    assert "bootstrap.selected.mean.low" in text
+    assert doc["verdict"] == "no-go" and doc["reasons"][-1].startswith("baseline_drift: ")

@@ -57,9 +57,12 @@ def test_defaults_are_the_dataclass_defaults_and_name_registered_checks():
 def test_printed_policy_parses_back_to_exactly_the_defaults():
     # Reference: tomllib, the standard library's TOML 1.0 parser.
     table = tomllib.loads(policy_to_toml())
-    assert set(table) == {f.name for f in fields(Policy)}
+    # TOML has no null: keys whose default is None are printed commented out.
+    assert set(table) == {f.name for f in fields(Policy) if getattr(DEFAULT_POLICY, f.name) is not None}
     for f in fields(Policy):
         expected = getattr(DEFAULT_POLICY, f.name)
+        if expected is None:
+            continue
         got = table[f.name]
         assert (tuple(got) if isinstance(got, list) else got) == expected, f.name
         assert type(got) is (list if isinstance(expected, tuple) else type(expected)), f.name
@@ -70,7 +73,7 @@ def test_printed_policy_comments_every_key_with_its_help_and_source():
     text = policy_to_toml()
     flat = " ".join(line.lstrip("# ").strip() for line in text.splitlines() if line.startswith("#"))
     for f in fields(Policy):
-        assert f"\n{f.name} = " in text
+        assert f"\n{f.name} = " in text or f"\n# {f.name} = " in text
         assert " ".join(f.metadata["help"].split()) in flat, f.name
         if f.metadata.get("source"):
             assert f"source: {' '.join(f.metadata['source'].split())}" in flat
@@ -88,6 +91,21 @@ def test_cli_policy_prints_the_defaults():
     result = runner.invoke(app, ["policy"])
     assert result.exit_code == 0
     assert policy_from_mapping(tomllib.loads(result.stdout)) == DEFAULT_POLICY
+
+
+def test_cli_policy_effective_names_its_source(tmp_path, monkeypatch):
+    (tmp_path / ".git").mkdir()
+    found = tmp_path / "pyproject.toml"
+    found.write_text("[tool.sweepaudit]\nmin_windows = 60\n")
+    monkeypatch.chdir(tmp_path)
+    result = runner.invoke(app, ["policy", "--effective"])
+    assert result.exit_code == 0
+    assert result.stdout.splitlines()[0] == f"# policy in effect, from: {found}"
+    assert policy_from_mapping(tomllib.loads(result.stdout)) == DEFAULT_POLICY.replace(min_windows=60)
+    assert runner.invoke(app, ["policy", "--policy", str(found)]).exit_code == 2
+    found.write_text("[tool.sweepaudit]\nmin_windows = 6\n")
+    result = runner.invoke(app, ["policy", "--effective"])
+    assert result.exit_code == 2 and "min_windows must be >= 8" in result.stderr
 
 
 # --- validation: every message names the key, the rule, the value and the source ----------------
@@ -293,3 +311,22 @@ def test_cli_disabled_check_is_left_out(tmp_path):
     doc = json.loads(out.read_text())
     assert [c["id"] for c in doc["checks"]] == ["mean_interval"]
     assert result.exit_code == 0 and doc["verdict"] == "go"
+
+
+def test_printer_is_generic_over_unset_and_table_fields():
+    # A policy shape with a field that defaults to None and a table-valued field, as later policy
+    # fields may have: None is printed commented out (TOML has no null), a dict as an inline table.
+    from dataclasses import dataclass
+
+    from sweepaudit.policy import _f
+
+    @dataclass(frozen=True)
+    class Shape:
+        cap: float | None = _f(None, "an optional cap")
+        margins: dict = _f(None, "per-figure margins")
+        label: str = _f('say "hi"', "a label", choices=('say "hi"', "other"))
+
+    text = policy_to_toml(Shape(cap=None, margins={"deflated probability": 0.02, "pbo": 1}))
+    table = tomllib.loads(text)
+    assert table == {"margins": {"deflated probability": 0.02, "pbo": 1}, "label": 'say "hi"'}
+    assert "# cap =" in text and 'allowed: one of "say \\"hi\\"", "other"' in text

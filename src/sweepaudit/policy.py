@@ -332,6 +332,8 @@ def _toml_value(value: Any) -> str:
         return json.dumps(value)  # a JSON string is a valid TOML basic string
     if isinstance(value, (tuple, list)):
         return "[" + ", ".join(_toml_value(v) for v in value) + "]"
+    if isinstance(value, dict):
+        return "{ " + ", ".join(f"{json.dumps(str(k))} = {_toml_value(v)}" for k, v in value.items()) + " }"
     raise TypeError(f"cannot write {value!r} as TOML")
 
 
@@ -370,6 +372,11 @@ def policy_to_toml(policy: Policy | None = None) -> str:
         rng = _range_text(meta)
         if rng:
             lines.append(f"# allowed: {rng}")
-        lines.append(f"{f.name} = {_toml_value(getattr(policy, f.name))}")
+        value = getattr(policy, f.name)
+        if value is None:
+            # TOML has no null: an unset key is left out (shown commented) and keeps its default.
+            lines.append(f"# {f.name} =    (not set; give a value to set it)")
+        else:
+            lines.append(f"{f.name} = {_toml_value(value)}")
         lines.append("")
     return "\n".join(lines)

@@ -104,9 +104,9 @@ def _gate_sections(doc: dict) -> list:
     ledger = doc.get("ledger")
     if ledger:
         text = Text("Trial ledger\n", style="bold")
-        state = "a new sweep, recorded" if ledger["new_sweep"] else "already recorded: no trials added"
+        state = "new (recorded now)" if ledger["new_sweep"] else "already recorded (no trials added)"
         text.append(f"  {ledger['path']}: this sweep is {state}; {ledger['sweeps_recorded']:,} distinct "
-                    f"sweeps, {ledger['trials_counted']:,} trials counted\n")
+                    f"sweeps recorded, {ledger['trials_counted']:,} trials counted\n")
         if ledger.get("note"):
             text.append(f"  {ledger['note']}\n")
         parts.append(text)
@@ -114,7 +114,7 @@ def _gate_sections(doc: dict) -> list:
     if base:
         table = Table(title=f"Against the baseline {base['path']} (verdict then: {base['verdict_before']})",
                       title_justify="left")
-        table.add_column("gated figure", overflow="fold", min_width=24)
+        table.add_column("gated figure (results.*)", overflow="fold", min_width=24)
         table.add_column("before")
         table.add_column("after")
         table.add_column("change")
@@ -122,7 +122,7 @@ def _gate_sections(doc: dict) -> list:
         table.add_column("")
         for g in base["gated"]:
             flag = "EXCEEDED" if g["exceeded"] else ("worse" if g in base["worsened"] else "")
-            table.add_row(g["key"], fmt(g["before"]), fmt(g["after"]), fmt(g["change"]),
+            table.add_row(g["key"].removeprefix("results."), fmt(g["before"]), fmt(g["after"]), fmt(g["change"]),
                           fmt(g["allowed_worsening"]), flag)
         parts.append(table)
         text = Text()
