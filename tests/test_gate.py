@@ -619,4 +619,5 @@ def test_terminal_shows_the_ledger_and_the_baseline(small_results):
     assert "Trial ledger" in text and "audits/trials.jsonl: this sweep is new (recorded now)" in text
     assert "Against the baseline audits/baseline.json" in text and "EXCEEDED" in text
     assert "bootstrap.selected.mean.low" in text
+    assert "results.bootstrap.selected.mean.low: " in text  # listed among the largest moves
     assert doc["verdict"] == "no-go" and doc["reasons"][-1].startswith("baseline_drift: ")

@@ -98,6 +98,9 @@ def _sections(doc: dict) -> list:
     return parts
 
 
+_MOVES_SHOWN = 8
+
+
 def _gate_sections(doc: dict) -> list:
     """The trial ledger and the comparison with a baseline audit, when the audit used them."""
     parts: list = []
@@ -131,7 +134,16 @@ def _gate_sections(doc: dict) -> list:
                         "different configurations\n")
         for c in base["checks_changed"]:
             text.append(f"  check {c['id']}: {c['before']} -> {c['after']}\n")
-        text.append(f"  {len(base['moved']):,} figures moved in all (the JSON baseline block lists them)\n")
+        moved = base["moved"]
+        # Summary figures in document order; the per-configuration ones only counted (the JSON
+        # block lists every move).
+        summary = [m for m in moved if "configurations[" not in m["key"]]
+        text.append(f"  {len(moved):,} figures moved ({len(moved) - len(summary):,} of them per configuration)"
+                    + (":\n" if summary else "\n"))
+        for m in summary[:_MOVES_SHOWN]:
+            text.append(f"    {m['key']}: {fmt(m['before'])} -> {fmt(m['after'])} ({fmt(m['change'])})\n")
+        if len(summary) > _MOVES_SHOWN:
+            text.append(f"    ... and {len(summary) - _MOVES_SHOWN:,} more\n")
         parts.append(text)
     return parts
 
