@@ -322,7 +322,8 @@ def test_baseline_round_trip_same_sweep_nothing_moves(tmp_path):
     block = doc["baseline"]
     assert block["path"] == str(first)
     assert block["moved"] == [] and block["checks_changed"] == [] and block["worsened"] == []
-    assert len(block["gated"]) == 2  # the bootstrap lower ends; the other gated figures are not in this audit
+    assert {"results.bootstrap.selected.mean.low", "results.bootstrap.selected.sharpe.low"} <= \
+        {g["key"] for g in block["gated"]}
     drift = next(c for c in doc["checks"] if c["id"] == "baseline_drift")
     assert drift["passed"] and drift["required"]
     assert doc["verdict"] == json.loads(first.read_text())["verdict"]
@@ -357,20 +358,24 @@ def test_baseline_drift_fails_the_gate_while_the_other_checks_pass(tmp_path):
 
 def _literal_fingerprint(matrix, names):
     # The documented definition, written out with struct, one number at a time.
+    columns = sorted(range(len(names)), key=lambda k: names[k])
     h = hashlib.sha256()
     h.update(b"sweepaudit.ledger/1\n")
     h.update(f"{len(matrix)}x{len(names)}\n".encode())
-    h.update(json.dumps(list(names), ensure_ascii=False).encode() + b"\n")
+    h.update(json.dumps([names[k] for k in columns], ensure_ascii=False).encode() + b"\n")
     for row in matrix:
-        for value in row:
-            h.update(struct.pack("<d", 0.0 if value == 0 else float(value)))
+        for k in columns:
+            h.update(struct.pack("<d", 0.0 if row[k] == 0 else float(row[k])))
     return h.hexdigest()
 
 
 def test_fingerprint_matches_its_definition():
     x = synthetic_returns(windows=12)
     x[0, 0] = -0.0
-    names = ["a=1", "b=é", 'c="2"']
+    names = ["b=é", "a=1", 'c="2"']
+    assert sweep_fingerprint(x, names) == _literal_fingerprint(x.tolist(), names)
+    assert sweep_fingerprint(x[:, [2, 0, 1]], [names[2], names[0], names[1]]) == sweep_fingerprint(x, names)
+    x[0, 0] = 0.0
     assert sweep_fingerprint(x, names) == _literal_fingerprint(x.tolist(), names)
 
 
@@ -383,8 +388,9 @@ def test_fingerprint_is_the_same_across_file_formats(tmp_path):
     long = frame.melt(id_vars="week_ending", var_name="lookback", value_name="excess_return")
     long["lookback"] = long["lookback"].str.replace("lookback=", "").astype(int)
     long.to_csv(tmp_path / "long.csv", index=False)
+    write_wide(tmp_path / "reordered.csv", x[:, ::-1], names[::-1])
     prints = set()
-    for path in (wide, tmp_path / "s.parquet", tmp_path / "long.csv"):
+    for path in (wide, tmp_path / "s.parquet", tmp_path / "long.csv", tmp_path / "reordered.csv"):
         s = load_sweep(str(path))
         prints.add(sweep_fingerprint(s.returns, s.configurations))
     assert len(prints) == 1

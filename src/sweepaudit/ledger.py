@@ -50,24 +50,28 @@ LEDGER_SCHEMA = "sweepaudit.ledger/1"
 def sweep_fingerprint(returns: np.ndarray, configurations: tuple[str, ...] | list[str]) -> str:
     """SHA-256 fingerprint of a sweep's data.
 
-    The hash covers, in order: the tag ``sweepaudit.ledger/1``, the matrix shape, the configuration
-    names (as a JSON list, in column order) and the returns matrix as little-endian float64 bytes
-    in row-major (window-major) order, with -0.0 written as 0.0.
+    Definition: the configurations are put in order of their names (Python string order, i.e.
+    by code point) and the matrix's columns with them; the hash then covers, in order, the tag
+    ``sweepaudit.ledger/1`` and a newline, the shape ``"<windows>x<configurations>"`` and a newline,
+    the sorted names as a JSON list (UTF-8, non-ASCII kept) and a newline, and the returns as
+    little-endian float64 bytes, window by window (row-major), with -0.0 written as 0.0.
 
-    It is computed from the loaded, normalised matrix (fractions, windows x configurations), not
-    from the file's bytes, so the same data saved as CSV or Parquet, long or wide, gives the same
-    fingerprint as long as the numbers parse to the same float64 values (a percent file divided by
-    100 can differ from a fraction file in the last bit, and then counts as a different sweep).
-    Window labels are not part of it.
+    It is computed from the loaded, normalised matrix (fractions, windows in time order), not from
+    the file's bytes: the same data saved as CSV or Parquet, long or wide, with the columns in any
+    order, gives the same fingerprint as long as the numbers parse to the same float64 values (a
+    percent file divided by 100 can differ from a fraction file in the last bit, and then counts
+    as a different sweep). Window labels are not part of it.
     """
-    x = np.ascontiguousarray(np.asarray(returns, dtype="<f8")) + 0.0  # + 0.0 turns -0.0 into 0.0
+    x = np.asarray(returns, dtype=np.float64)
     names = list(configurations)
     if x.ndim != 2 or x.shape[1] != len(names):
         raise InputError(f"returns must be a T x N matrix with one name per column; got shape {x.shape}")
+    order = sorted(range(len(names)), key=names.__getitem__)
+    x = np.ascontiguousarray(x[:, order]) + 0.0  # + 0.0 turns -0.0 into 0.0
     digest = hashlib.sha256()
     digest.update(LEDGER_SCHEMA.encode("ascii") + b"\n")
     digest.update(f"{x.shape[0]}x{x.shape[1]}\n".encode("ascii"))
-    digest.update(json.dumps(names, ensure_ascii=False).encode("utf-8") + b"\n")
+    digest.update(json.dumps([names[k] for k in order], ensure_ascii=False).encode("utf-8") + b"\n")
     digest.update(x.astype("<f8", copy=False).tobytes(order="C"))
     return digest.hexdigest()
 
