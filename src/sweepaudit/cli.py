@@ -13,7 +13,6 @@ from __future__ import annotations
 import shlex
 import sys
 import time
-from contextlib import ExitStack
 from enum import Enum
 from pathlib import Path
 from typing import Annotated, Optional
@@ -22,15 +21,14 @@ import typer
 from rich.console import Console
 
 from . import __version__
-from .audit import AuditSettings, audit
+from .audit import AuditSettings
 from .errors import SweepAuditError
 from .load import LoadOptions, load_sweep
 from .baseline import read_baseline
-from .gate import ledger_to_dict, trials_to_count, with_baseline
-from .ledger import ledger_record, open_ledger, sweep_fingerprint
+from .gate import gated_audit
 from .policy import policy_to_toml, resolve_policy
 from .render.files import write_atomic
-from .render.json import audit_to_dict, dumps
+from .render.json import dumps
 from .render.junit import audit_to_junit
 from .render.terminal import render_terminal
 
@@ -213,55 +211,31 @@ def audit_command(
             common_windows=common_windows,
         )
         sweep = load_sweep(sweep_path, options)
-        trials_to_count(sweep.n_configurations, declared=trials)  # rejects --trials below N early
-        with ExitStack() as stack:
-            # The ledger stays locked through the audit: read, count, append as one step.
-            ledger = stack.enter_context(open_ledger(ledger_path)) if ledger_path is not None else None
-            tally = None
-            if ledger is not None:
-                tally = ledger.tally(
-                    fingerprint=sweep_fingerprint(sweep.returns, sweep.configurations),
-                    configurations=sweep.n_configurations,
-                )
-            used_trials, trials_note = trials_to_count(sweep.n_configurations, declared=trials, tally=tally)
-            settings = AuditSettings(
-                seed=seed,
-                resamples=1_000 if quick else resamples,
-                confidence=confidence,
-                bootstrap=bootstrap.value,
-                block_length=block_length,
-                interval_method=interval_method.value,
-                selected=select,
-                trials=used_trials,
-            )
-            bar, update = _progress_callback(stderr) if not quiet else (None, None)
-            if bar is not None:
-                with bar:
-                    results = audit(sweep, settings=settings, policy=loaded.policy, progress=update)
-            else:
-                results = audit(sweep, settings=settings, policy=loaded.policy)
-            if baseline_document is not None:
-                results = with_baseline(results, baseline_document, path=str(baseline_path))
-            ledger_block = (
-                ledger_to_dict(tally, declared=trials, used=used_trials, note=trials_note)
-                if tally is not None else None
-            )
-            document = audit_to_dict(
-                results,
-                command=reproduce_command(results, options),
-                policy_source=loaded.source,
-                ledger=ledger_block,
-            )
-            if ledger is not None:
-                ledger.append(ledger_record(
-                    fingerprint=tally.fingerprint,
-                    configurations=sweep.n_configurations,
-                    windows=sweep.n_windows,
-                    selected=results.selected,
-                    verdict=document["verdict"],
-                    input_path=sweep.path,
-                    trials=used_trials,
-                ))
+        settings = AuditSettings(
+            seed=seed,
+            resamples=1_000 if quick else resamples,
+            confidence=confidence,
+            bootstrap=bootstrap.value,
+            block_length=block_length,
+            interval_method=interval_method.value,
+            selected=select,
+        )
+        gate = dict(
+            settings=settings,
+            policy=loaded.policy,
+            policy_source=loaded.source,
+            baseline=baseline_document,
+            baseline_path=str(baseline_path) if baseline_path is not None else None,
+            ledger_path=ledger_path,
+            declared_trials=trials,
+            command=lambda results: reproduce_command(results, options),
+        )
+        bar, update = _progress_callback(stderr) if not quiet else (None, None)
+        if bar is not None:
+            with bar:
+                document = gated_audit(sweep, progress=update, **gate).document
+        else:
+            document = gated_audit(sweep, **gate).document
         if json_path is not None:
             write_atomic(json_path, dumps(document))
         if junit_path is not None:
