@@ -627,3 +627,17 @@ def test_terminal_shows_the_ledger_and_the_baseline(small_results):
     assert "bootstrap.selected.mean.low" in text
     assert "results.bootstrap.selected.mean.low: " in text  # listed among the largest moves
     assert doc["verdict"] == "no-go" and doc["reasons"][-1].startswith("baseline_drift: ")
+
+
+def test_gated_audit_passes_the_counted_trials_to_the_audit(tmp_path):
+    from sweepaudit.gate import gated_audit
+
+    ledger = tmp_path / "trials.jsonl"
+    ledger.write_text(json.dumps({"fingerprint": "c" * 64, "configurations": 40}) + "\n")
+    sweep = sweep_from_array(synthetic_returns(), periods_per_year=52)
+    gated = gated_audit(sweep, settings=AuditSettings(resamples=200), policy=DEFAULT_POLICY,
+                        ledger_path=ledger, declared_trials=10)
+    # 40 recorded + 3 new = 43 > the declared 10: the deflated Sharpe code reads settings.trials.
+    assert gated.results.settings.trials == 43
+    assert gated.document["ledger"]["trials_used"] == 43 and gated.document["settings"]["trials"] == 43
+    assert len(read_ledger(ledger)) == 2

@@ -333,3 +333,15 @@ def test_printer_is_generic_over_unset_and_table_fields():
     table = tomllib.loads(text)
     assert table == {"margins": {"deflated probability": 0.02, "pbo": 1}, "label": 'say "hi"'}
     assert "# cap =" in text and 'allowed: one of "say \\"hi\\"", "other"' in text
+
+
+@pytest.mark.parametrize(
+    ("body", "fragment"),
+    [("tool = 3\n", "'tool' must be a table"), ("[tool]\nsweepaudit = 3\n", "tool.sweepaudit must be a table")],
+)
+def test_policy_file_tool_shapes(tmp_path, body, fragment):
+    path = tmp_path / "pyproject.toml"
+    path.write_text(body)
+    with pytest.raises(PolicyError) as info:
+        load_policy_file(path)
+    assert str(info.value) == f"{path}: {fragment}"
