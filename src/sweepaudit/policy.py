@@ -35,6 +35,7 @@ __all__ = [
     "discover_policy",
     "resolve_policy",
     "policy_to_toml",
+    "known_check_ids",
 ]
 
 
