@@ -9,6 +9,7 @@ from __future__ import annotations
 import warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -26,6 +27,9 @@ from .resample import (
 )
 from .sweep import Sweep
 from .verdict import Verdict, decide
+
+if TYPE_CHECKING:
+    from .baseline import BaselineComparison
 
 __all__ = ["AuditSettings", "AuditResults", "audit"]
 
@@ -85,6 +89,9 @@ class AuditResults:
     sharpe: SharpeInference | None = None
     haircut: HaircutSharpe | None = None
     verdict: Verdict | None = field(default=None)
+    # Filled by the CLI when the audit is compared with an earlier one (--baseline); read by the
+    # baseline_drift check.
+    baseline: BaselineComparison | None = field(default=None)
 
     @property
     def selected(self) -> str:

@@ -1,12 +1,18 @@
 """The command line: parse options, call audit(), render, map the verdict to an exit code.
 
 Exit status: 0 go, 1 no-go, 2 bad input or usage.
+
+Policy: ``--policy PATH`` or else the ``[tool.sweepaudit]`` table of the nearest pyproject.toml
+(see :func:`sweepaudit.policy.discover_policy`). ``--resamples``, ``--quick`` and ``--confidence``
+override the policy's values for this run; the JSON ``settings`` block shows the values used, the
+``policy`` block the policy as read.
 """
 
 from __future__ import annotations
 
 import shlex
 import sys
+import time
 from enum import Enum
 from pathlib import Path
 from typing import Annotated, Optional
@@ -15,12 +21,15 @@ import typer
 from rich.console import Console
 
 from . import __version__
-from .audit import AuditSettings, audit
+from .audit import AuditSettings
 from .errors import SweepAuditError
 from .load import LoadOptions, load_sweep
-from .policy import DEFAULT_POLICY
+from .baseline import read_baseline
+from .gate import gated_audit
+from .policy import policy_to_toml, resolve_policy
 from .render.files import write_atomic
-from .render.json import audit_to_dict, dumps
+from .render.json import dumps
+from .render.junit import audit_to_junit
 from .render.terminal import render_terminal
 
 EXIT_GO, EXIT_NO_GO, EXIT_BAD_INPUT = 0, 1, 2
@@ -150,6 +159,25 @@ def audit_command(
     ] = None,
     interval_method: Annotated[IntervalChoice, typer.Option(help="Bootstrap interval.")] = IntervalChoice.percentile,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the audit JSON here.")] = None,
+    policy_path: Annotated[
+        Optional[Path],
+        typer.Option("--policy", help="Policy TOML file; default: [tool.sweepaudit] in the nearest pyproject.toml."),
+    ] = None,
+    junit_path: Annotated[
+        Optional[Path], typer.Option("--junit", help="Write the checks as a JUnit XML file here.")
+    ] = None,
+    baseline_path: Annotated[
+        Optional[Path],
+        typer.Option("--baseline", help="An earlier audit JSON: report what moved and gate on worsening."),
+    ] = None,
+    ledger_path: Annotated[
+        Optional[Path],
+        typer.Option("--ledger", help="Trial ledger (JSON Lines): count every sweep audited so far as trials; append this one."),
+    ] = None,
+    trials: Annotated[
+        Optional[int],
+        typer.Option(help="Trials the deflated Sharpe ratio counts (at least the configurations); with --ledger the larger count wins."),
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing; use the exit status.")] = False,
 ) -> None:
     """Audit the per-window excess returns of a parameter sweep and print a go / no-go verdict.
@@ -161,12 +189,18 @@ def audit_command(
       sweepaudit audit sweep.parquet --periods-per-year 52 --json audit.json
 
       cat sweep.csv | sweepaudit audit - --units percent --quick
+
+      sweepaudit audit sweep.csv --policy policy.toml --junit checks.xml --baseline last.json --ledger trials.jsonl
     """
     stderr = Console(stderr=True)
+    started = time.perf_counter()
     try:
         _check_output(json_path, "JSON file")
+        _check_output(junit_path, "JUnit file")
         if resamples is not None and quick:
             raise SweepAuditError("give either --resamples or --quick, not both")
+        loaded = resolve_policy(policy_path)
+        baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
         options = LoadOptions(
             layout=layout.value,
             window_column=window_column,
@@ -188,15 +222,26 @@ def audit_command(
             interval_method=interval_method.value,
             selected=select,
         )
+        gate = dict(
+            settings=settings,
+            policy=loaded.policy,
+            policy_source=loaded.source,
+            baseline=baseline_document,
+            baseline_path=str(baseline_path) if baseline_path is not None else None,
+            ledger_path=ledger_path,
+            declared_trials=trials,
+            command=lambda results: reproduce_command(results, options),
+        )
         bar, update = _progress_callback(stderr) if not quiet else (None, None)
         if bar is not None:
             with bar:
-                results = audit(sweep, settings=settings, policy=DEFAULT_POLICY, progress=update)
+                document = gated_audit(sweep, progress=update, **gate).document
         else:
-            results = audit(sweep, settings=settings, policy=DEFAULT_POLICY)
-        document = audit_to_dict(results, command=reproduce_command(results, options))
+            document = gated_audit(sweep, **gate).document
         if json_path is not None:
             write_atomic(json_path, dumps(document))
+        if junit_path is not None:
+            write_atomic(junit_path, audit_to_junit(document, elapsed=time.perf_counter() - started))
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
     if not quiet:
@@ -225,7 +270,36 @@ def reproduce_command(results, options: LoadOptions) -> str:
         words += ["--interval-method", s.interval_method]
     if s.selected is not None:
         words += ["--select", s.selected]
+    if s.trials is not None:
+        words += ["--trials", str(s.trials)]
     return " ".join(shlex.quote(w) for w in words)
+
+
+@app.command("policy")
+def policy_command(
+    effective: Annotated[
+        bool,
+        typer.Option("--effective", help="Print the policy an audit started here would apply, not the defaults."),
+    ] = False,
+    policy_path: Annotated[
+        Optional[Path], typer.Option("--policy", help="With --effective: read this policy file.")
+    ] = None,
+) -> None:
+    """Print the default policy as commented TOML, ready to paste under [tool.sweepaudit].
+
+    Unknown keys and out-of-range values in a policy file are errors (exit status 2).
+    """
+    try:
+        if effective:
+            loaded = resolve_policy(policy_path)
+            typer.echo(f"# policy in effect, from: {loaded.source}")
+            typer.echo(policy_to_toml(loaded.policy), nl=False)
+        else:
+            if policy_path is not None:
+                raise SweepAuditError("--policy only goes with --effective")
+            typer.echo(policy_to_toml(), nl=False)
+    except SweepAuditError as exc:
+        raise _fail(str(exc)) from None
 
 
 # ---------------------------------------------------------------------------------------------
@@ -353,6 +427,14 @@ def calibrate_command(
         typer.Option(help="Bootstrap resamples per audit (1,000: sweep count, not resamples, limits the precision)."),
     ] = 1_000,
     seed: Annotated[int, typer.Option(help="Master seed of the null sweeps and of every audit.")] = 0,
+    policy_path: Annotated[
+        Optional[Path],
+        typer.Option("--policy", help="Policy TOML file; default: [tool.sweepaudit] in the nearest pyproject.toml."),
+    ] = None,
+    trials: Annotated[
+        Optional[int],
+        typer.Option(help="Trials the deflated Sharpe ratio counts (at least the configurations), as for audit."),
+    ] = None,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the calibration JSON here.")] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
 ) -> None:
@@ -369,6 +451,7 @@ def calibrate_command(
       sweepaudit calibrate sweep.parquet --sweeps 500 --edge 0.5 --json calibration.json
     """
     from .calibration import calibrate_sweep, sweep_calibration_to_dict
+    from .gate import trials_to_count
 
     stderr = Console(stderr=True)
     try:
@@ -386,10 +469,13 @@ def calibrate_command(
             parameter_columns=parameter_columns, benchmark=benchmark, benchmark_file=benchmark_file,
             units=units, periods_per_year=periods_per_year, common_windows=common_windows,
         )
+        loaded = resolve_policy(policy_path)
         sweep = load_sweep(sweep_path, options)
-        settings = AuditSettings(seed=seed, resamples=resamples, selected=select)
+        if trials is not None:
+            trials_to_count(sweep.n_configurations, declared=trials)  # the audit's own rule for --trials
+        settings = AuditSettings(seed=seed, resamples=resamples, selected=select, trials=trials)
         bar, update = _calibration_progress(stderr) if not quiet else (None, None)
-        run = dict(sweeps=sweeps, edge=edge, settings=settings, resamples=resamples, policy=DEFAULT_POLICY, seed=seed)
+        run = dict(sweeps=sweeps, edge=edge, settings=settings, resamples=resamples, policy=loaded.policy, seed=seed)
         if bar is not None:
             with bar:
                 result = calibrate_sweep(sweep, progress=update, **run)
@@ -407,8 +493,13 @@ def calibrate_command(
             words.append("--common-windows")
         if select is not None:
             words += ["--select", select]
+        if policy_path is not None:
+            words += ["--policy", str(policy_path)]
+        if trials is not None:
+            words += ["--trials", str(trials)]
         words += ["--sweeps", str(sweeps), "--edge", f"{edge:g}", "--resamples", str(resamples), "--seed", str(seed)]
         document = sweep_calibration_to_dict(result, command=" ".join(shlex.quote(w) for w in words))
+        document["policy"]["source"] = loaded.source
         if json_path is not None:
             write_atomic(json_path, dumps(document))
     except SweepAuditError as exc:

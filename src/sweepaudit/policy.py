@@ -3,19 +3,54 @@
 Defaults come from the literature where it has one and are labelled "common practice" where they
 are a rule of thumb. Each field's metadata holds its help text (used by ``sweepaudit policy``) and
 its valid range (used by validation).
+
+Policy files (TOML, read with the standard library's ``tomllib``):
+
+- ``--policy PATH``: a TOML file. When it has a ``[tool.sweepaudit]`` table (a ``pyproject.toml``)
+  that table is the policy; otherwise its top-level keys are.
+- otherwise :func:`discover_policy` looks for a ``pyproject.toml`` with a ``[tool.sweepaudit]``
+  table in the current directory and then in each parent. The search stops at the first such
+  table, at a directory that contains ``.git`` (checked, then the search ends: the repository's
+  root) and at the filesystem root. No table found: the defaults.
 """
 
 from __future__ import annotations
 
+import json
+import math
+import textwrap
+import tomllib
 from dataclasses import dataclass, field, fields, replace
+from pathlib import Path
 from typing import Any
 
 from .errors import PolicyError
 
-__all__ = ["Policy", "DEFAULT_POLICY", "policy_from_mapping"]
+__all__ = [
+    "Policy",
+    "DEFAULT_POLICY",
+    "LoadedPolicy",
+    "policy_from_mapping",
+    "load_policy_file",
+    "discover_policy",
+    "resolve_policy",
+    "policy_to_toml",
+    "known_check_ids",
+]
 
 
-def _f(default, help: str, *, low=None, high=None, choices=None, low_open=False, high_open=False):
+def _f(
+    default,
+    help: str,
+    *,
+    low=None,
+    high=None,
+    choices=None,
+    low_open=False,
+    high_open=False,
+    source: str | None = None,
+    check_ids: bool = False,
+):
     return field(
         default=default,
         metadata={
@@ -25,6 +60,10 @@ def _f(default, help: str, *, low=None, high=None, choices=None, low_open=False,
             "choices": choices,
             "low_open": low_open,
             "high_open": high_open,
+            # Where the default comes from (a paper, "conventional", "common practice", ...).
+            "source": source,
+            # A list of check ids: validated against the registered checks.
+            "check_ids": check_ids,
         },
     )
 
@@ -44,6 +83,13 @@ class Policy:
     min_windows : int
         Minimum number of windows for any verdict (36: three years of monthly data, common practice
         for a manager's minimum track record).
+    required : tuple of str
+        Check ids that must pass for a go; a registered check not listed is advisory.
+    disabled : tuple of str
+        Check ids left out entirely.
+    baseline_interval_margin, baseline_probability_margin, baseline_pvalue_margin : float
+        How far a gated figure may worsen against a ``--baseline`` audit before the
+        ``baseline_drift`` check fails (see :mod:`sweepaudit.baseline`).
     """
 
     significance: float = _f(
@@ -60,28 +106,62 @@ class Policy:
     )
     min_deflated_probability: float = _f(
         0.95,
-        "lowest deflated Sharpe probability for a go (Bailey and Lopez de Prado 2014 use 0.95)",
+        "lowest deflated Sharpe probability for a go",
         low=0.0, high=1.0, low_open=True, high_open=True,
+        source="Bailey and Lopez de Prado (2014), the deflated Sharpe ratio paper's 0.95",
     )
     deflation_variance: str = _f(
         "null",
         "trial Sharpe variance of the deflation: null (no-edge sampling variance, 1/(T-1)) or "
         "empirical (across the sweep; deflates a shared real edge away, see README)",
         choices=("null", "empirical"),
+        source="sweepaudit's choice on simulation evidence (README, docs/sharpe_variance.md)",
     )
     deflation_trials: str = _f(
         "declared",
         "trial count of the deflation: declared (configurations, --trials or the ledger) or effective",
         choices=("declared", "effective"),
+        source="sweepaudit's choice: the declared count is conservative whatever the correlation",
     )
     track_record_confidence: float = _f(
         0.95,
-        "confidence of the minimum track record length (Bailey and Lopez de Prado 2012 use 0.95)",
+        "confidence of the minimum track record length",
         low=0.5, high=1.0, high_open=True,
+        source="Bailey and Lopez de Prado (2012), 0.95",
     )
     required: tuple[str, ...] = _f(
-        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record"),
+        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "baseline_drift"),
         "checks that must pass for a go; the others are advisory",
+        check_ids=True,
+    )
+    disabled: tuple[str, ...] = _f(
+        (),
+        "checks left out of the verdict, the report and the JUnit file (neither required nor advisory)",
+        check_ids=True,
+    )
+    baseline_interval_margin: float = _f(
+        0.5,
+        "baseline gate: the lower ends of the selected configuration's mean and Sharpe intervals may "
+        "fall by at most this fraction of the baseline interval's width (high - low)",
+        low=0.0,
+        high=100.0,
+        source="sweepaudit's choice, a judgement call (not from the literature)",
+    )
+    baseline_probability_margin: float = _f(
+        0.05,
+        "baseline gate: the deflated Sharpe probability may fall, and the probability of "
+        "overfitting rise, by at most this much (absolute)",
+        low=0.0,
+        high=1.0,
+        source="sweepaudit's choice, a judgement call: five percentage points",
+    )
+    baseline_pvalue_margin: float = _f(
+        0.02,
+        "baseline gate: the data-snooping p-values (SPA, reality check) may rise by at most this "
+        "much (absolute)",
+        low=0.0,
+        high=1.0,
+        source="sweepaudit's choice, a judgement call: small against the conventional 5% level",
     )
 
     def replace(self, **changes: Any) -> Policy:
@@ -117,6 +197,8 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
             if not isinstance(value, (list, tuple)) or not all(isinstance(v, str) for v in value):
                 raise PolicyError(f"{source}: {key} must be a list of check names; got {value!r}")
             value = tuple(value)
+            if meta.get("check_ids"):
+                _validate_check_ids(value, key=key, source=source)
         elif isinstance(default, str):
             if not isinstance(value, str):
                 raise PolicyError(f"{source}: {key} must be a string; got {value!r}")
@@ -134,7 +216,193 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
                 rel = "<" if meta.get("high_open") else "<="
                 raise PolicyError(f"{source}: {key} must be {rel} {high}; got {value!r}")
         clean[key] = value
-    return replace(Policy(), **clean)
+    policy = replace(Policy(), **clean)
+    both = sorted(set(policy.required) & set(policy.disabled))
+    if both:
+        raise PolicyError(
+            f"{source}: {', '.join(both)} cannot be both required and disabled; "
+            "remove it from one of the two lists"
+        )
+    return policy
+
+
+def known_check_ids() -> tuple[str, ...]:
+    """Ids of every registered check (importing the audit registers them all)."""
+    from . import audit as _audit  # noqa: F401  (its imports register every check)
+    from .verdict import CHECKS
+
+    return tuple(CHECKS)
+
+
+def _validate_check_ids(names: tuple[str, ...], *, key: str, source: str) -> None:
+    known = known_check_ids()
+    for name in names:
+        if name not in known:
+            raise PolicyError(
+                f"{source}: {key} names an unknown check {name!r}; known checks are {', '.join(known)}"
+            )
+    seen: set[str] = set()
+    for name in names:
+        if name in seen:
+            raise PolicyError(f"{source}: {key} lists {name!r} twice")
+        seen.add(name)
 
 
 DEFAULT_POLICY = Policy()
+
+
+# --- policy files ---------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class LoadedPolicy:
+    """A policy and where it came from.
+
+    Attributes
+    ----------
+    policy : Policy
+    source : str
+        The path of the file it was read from, or ``"defaults"``.
+    """
+
+    policy: Policy
+    source: str
+
+
+def _read_toml(path: Path) -> dict[str, Any]:
+    try:
+        with open(path, "rb") as handle:
+            return tomllib.load(handle)
+    except FileNotFoundError:
+        raise PolicyError(f"policy file {path} does not exist") from None
+    except IsADirectoryError:
+        raise PolicyError(f"policy file {path} is a folder, not a TOML file") from None
+    except OSError as exc:
+        raise PolicyError(f"cannot read policy file {path}: {exc.strerror}") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise PolicyError(f"{path} is not valid TOML: {exc}") from None
+
+
+def _tool_table(document: dict[str, Any], path: Path) -> dict[str, Any] | None:
+    tool = document.get("tool")
+    if tool is None:
+        return None
+    if not isinstance(tool, dict):
+        raise PolicyError(f"{path}: 'tool' must be a table")
+    table = tool.get("sweepaudit")
+    if table is not None and not isinstance(table, dict):
+        raise PolicyError(f"{path}: tool.sweepaudit must be a table")
+    return table
+
+
+def load_policy_file(path: str | Path) -> LoadedPolicy:
+    """Read a policy from a TOML file given with ``--policy``.
+
+    A file with a ``[tool.sweepaudit]`` table (a ``pyproject.toml``) is read from that table; any
+    other file from its top-level keys.
+    """
+    path = Path(path)
+    document = _read_toml(path)
+    if "tool" in document:
+        table = _tool_table(document, path)
+        if table is None:
+            raise PolicyError(f"{path} has a [tool] table but no [tool.sweepaudit] table")
+        where = f"{path} [tool.sweepaudit]"
+    else:
+        table, where = document, str(path)
+    return LoadedPolicy(policy_from_mapping(table, source=where), str(path))
+
+
+def discover_policy(start: str | Path | None = None) -> LoadedPolicy:
+    """Find the policy for a run started in ``start`` (default: the current directory).
+
+    Looks for ``pyproject.toml`` with a ``[tool.sweepaudit]`` table in ``start`` and then in each
+    parent. Stops at the first table found, after checking a directory that contains ``.git`` (the
+    repository root: the search does not leave the repository), and at the filesystem root.
+    Without a table the defaults apply (source ``"defaults"``).
+    """
+    folder = Path(start if start is not None else Path.cwd()).resolve()
+    for directory in (folder, *folder.parents):
+        candidate = directory / "pyproject.toml"
+        if candidate.is_file():
+            table = _tool_table(_read_toml(candidate), candidate)
+            if table is not None:
+                policy = policy_from_mapping(table, source=f"{candidate} [tool.sweepaudit]")
+                return LoadedPolicy(policy, str(candidate))
+        if (directory / ".git").exists():
+            break
+    return LoadedPolicy(DEFAULT_POLICY, "defaults")
+
+
+def resolve_policy(path: str | Path | None = None, *, start: str | Path | None = None) -> LoadedPolicy:
+    """The policy a run applies: ``path`` when given, otherwise :func:`discover_policy`."""
+    if path is not None:
+        return load_policy_file(path)
+    return discover_policy(start)
+
+
+def _toml_value(value: Any) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, int):
+        return str(value)
+    if isinstance(value, float):
+        if math.isnan(value):
+            return "nan"
+        if math.isinf(value):
+            return "inf" if value > 0 else "-inf"
+        text = repr(value)
+        # TOML floats need a fractional part or an exponent.
+        return text if any(c in text for c in ".eE") else text + ".0"
+    if isinstance(value, str):
+        return json.dumps(value)  # a JSON string is a valid TOML basic string
+    if isinstance(value, (tuple, list)):
+        return "[" + ", ".join(_toml_value(v) for v in value) + "]"
+    if isinstance(value, dict):
+        return "{ " + ", ".join(f"{json.dumps(str(k))} = {_toml_value(v)}" for k, v in value.items()) + " }"
+    raise TypeError(f"cannot write {value!r} as TOML")
+
+
+def _range_text(meta: dict[str, Any]) -> str | None:
+    if meta.get("choices"):
+        return "one of " + ", ".join(json.dumps(c) for c in meta["choices"])
+    low, high = meta.get("low"), meta.get("high")
+    text = "value"
+    if low is not None:
+        text = f"{low} {'<' if meta.get('low_open') else '<='} {text}"
+    if high is not None:
+        text = f"{text} {'<' if meta.get('high_open') else '<='} {high}"
+    return None if text == "value" else text
+
+
+def policy_to_toml(policy: Policy | None = None) -> str:
+    """The policy as commented TOML, ready to paste under ``[tool.sweepaudit]`` in a pyproject.toml
+    or to save as a file for ``--policy``. Parsing it back gives the same policy."""
+    policy = policy or DEFAULT_POLICY
+    checks = known_check_ids()
+    lines = [
+        "# sweepaudit policy. Paste under [tool.sweepaudit] in pyproject.toml, or save as a file",
+        "# and pass it with --policy. Keys you leave out keep these defaults.",
+        *textwrap.wrap(
+            f"Checks: {', '.join(checks)}. A check neither required nor disabled is advisory: it is "
+            "reported but does not change the verdict.",
+            width=98, initial_indent="# ", subsequent_indent="# ",
+        ),
+        "",
+    ]
+    for f in fields(policy):
+        meta = f.metadata
+        lines += textwrap.wrap(meta.get("help", f.name), width=98, initial_indent="# ", subsequent_indent="#   ")
+        if meta.get("source"):
+            lines += textwrap.wrap(f"source: {meta['source']}", width=98, initial_indent="# ", subsequent_indent="#   ")
+        rng = _range_text(meta)
+        if rng:
+            lines.append(f"# allowed: {rng}")
+        value = getattr(policy, f.name)
+        if value is None:
+            # TOML has no null: an unset key is left out (shown commented) and keeps its default.
+            lines.append(f"# {f.name} =    (not set; give a value to set it)")
+        else:
+            lines.append(f"{f.name} = {_toml_value(value)}")
+        lines.append("")
+    return "\n".join(lines)

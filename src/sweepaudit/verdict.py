@@ -7,6 +7,7 @@ a single configuration). Adding a check is one function here and one id in the p
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Literal
@@ -165,11 +166,71 @@ def _track_record(results: AuditResults, policy: Policy) -> Check | None:
         )
     return Check("track_record", ok, float(t), float(need), reason)
 
+@check("baseline_drift")
+def _baseline_drift(results: AuditResults, policy: Policy) -> Check | None:
+    # Present only when the audit was compared with a --baseline audit (sweepaudit.baseline).
+    comparison = getattr(results, "baseline", None)
+    if comparison is None:
+        return None
+    where = comparison.path
+    judged = [g for g in comparison.gated if g.allowed is not None]
+    if not judged:
+        return Check(
+            "baseline_drift", True, None, None,
+            f"No gated figure is present in both this audit and the baseline {where}; nothing to hold "
+            "against it.",
+        )
+
+    def ratio(g):
+        if g.allowed > 0:
+            return g.worsening / g.allowed
+        return math.inf if g.worsening > 0 else (0.0 if g.worsening == 0 else -math.inf)
+
+    def moved(g) -> str:
+        verb = "fell" if g.figure.higher_is_better else "rose"
+        return (
+            f"{g.figure.label} ({g.key}) {verb} from {_fmt(g.before)} to {_fmt(g.after)}, by "
+            f"{_fmt(g.worsening)}, more than the {_fmt(g.allowed)} the policy allows "
+            f"({g.figure.margin_field})"
+        )
+
+    worst = max(judged, key=ratio)
+    exceeded = [g for g in judged if g.exceeded]
+    if exceeded:
+        reason = (
+            f"Against the baseline {where}, " + "; ".join(moved(g) for g in exceeded) + ": the evidence "
+            "is weaker than at the baseline, so the gate fails even if every other check passes; "
+            "review what changed before trusting this sweep."
+        )
+        return Check("baseline_drift", False, worst.worsening, worst.allowed, reason)
+    if worst.worsening > 0:
+        detail = (
+            f"the largest move was {worst.figure.label} ({worst.key}), worse by {_fmt(worst.worsening)} "
+            f"within the allowed {_fmt(worst.allowed)}"
+        )
+    else:
+        detail = "none of them got worse"
+    reason = (
+        f"Against the baseline {where}, no gated figure worsened by more than the policy allows "
+        f"({len(judged)} compared; {detail})."
+    )
+    return Check("baseline_drift", True, worst.worsening, worst.allowed, reason)
+
 
 def decide(results: AuditResults, policy: Policy) -> Verdict:
-    """Run every registered check; the verdict is go only when every required check passes."""
+    """Run every registered check; the verdict is go only when every required check passes.
+
+    The reasons are ``"<check id>: <reason>"``: on no-go one per failed required check, on go one
+    per required check.
+
+    Checks the policy disables are not run; a check that is neither required nor disabled is
+    advisory (reported, without effect on the verdict).
+    """
     checks: list[Check] = []
+    disabled = set(getattr(policy, "disabled", ()))
     for check_id, fn in CHECKS.items():
+        if check_id in disabled:
+            continue
         c = fn(results, policy)
         if c is None:
             continue
@@ -177,6 +238,7 @@ def decide(results: AuditResults, policy: Policy) -> Verdict:
             Check(c.id, c.passed, c.value, c.threshold, c.reason, required=check_id in policy.required)
         )
     failed = [c for c in checks if c.required and not c.passed]
+    # Each reason names its check, so a reader of the reasons alone knows which test spoke.
     if failed:
-        return Verdict("no-go", tuple(c.reason for c in failed), tuple(checks))
-    return Verdict("go", tuple(c.reason for c in checks if c.required), tuple(checks))
+        return Verdict("no-go", tuple(f"{c.id}: {c.reason}" for c in failed), tuple(checks))
+    return Verdict("go", tuple(f"{c.id}: {c.reason}" for c in checks if c.required), tuple(checks))

@@ -47,8 +47,19 @@ def _interval(iv: Interval, factor: float | None = 1.0) -> dict | None:
     return {"estimate": s.estimate, "low": s.low, "high": s.high}
 
 
-def audit_to_dict(results: AuditResults, *, command: str | None = None) -> dict:
-    """The audit as the JSON contract's object."""
+def audit_to_dict(
+    results: AuditResults,
+    *,
+    command: str | None = None,
+    policy_source: str = "defaults",
+    ledger: dict | None = None,
+) -> dict:
+    """The audit as the JSON contract's object.
+
+    ``policy_source`` is the policy file's path or ``"defaults"``; ``ledger`` is the trial ledger's
+    block (:func:`sweepaudit.gate.ledger_to_dict`) when one was used. The ``baseline`` block comes
+    from ``results.baseline``.
+    """
     sweep = results.sweep
     ppy = sweep.periods_per_year
     k = results.selected_index
@@ -84,6 +95,7 @@ def audit_to_dict(results: AuditResults, *, command: str | None = None) -> dict:
             "block_length_source": results.block_length_source,
             "confidence": iv.confidence,
             "interval_method": iv.method,
+            "trials": results.settings.trials,
         },
         "selected": {"configuration": results.selected, "rule": results.selection_rule},
         "verdict": verdict.decision,
@@ -102,6 +114,7 @@ def audit_to_dict(results: AuditResults, *, command: str | None = None) -> dict:
         "warnings": list(results.warnings),
         "caution": CAUTION,
         "policy": policy,
+        "policy_source": policy_source,
         "results": {
             "bootstrap": {
                 "selected": {
@@ -126,6 +139,12 @@ def audit_to_dict(results: AuditResults, *, command: str | None = None) -> dict:
     }
     if results.sharpe is not None:
         out["results"]["sharpe"] = _sharpe_block(results)
+    if getattr(results, "baseline", None) is not None:
+        from ..baseline import baseline_to_dict
+
+        out["baseline"] = baseline_to_dict(results.baseline)
+    if ledger is not None:
+        out["ledger"] = ledger
     return _clean(out)
 
 

@@ -34,7 +34,11 @@ def pct(x, digits: int = 3) -> str:
 def _iv(block, scale=1.0, as_pct=False) -> str:
     if not block:
         return "-"
-    f = (lambda v: pct(v * scale)) if as_pct else (lambda v: fmt(v * scale))
+    def f(v):
+        if v is None:
+            return "-"
+        return pct(v * scale) if as_pct else fmt(v * scale)
+
     return f"{f(block['estimate'])}  [{f(block['low'])}, {f(block['high'])}]"
 
 
@@ -96,6 +100,7 @@ def _sections(doc: dict) -> list:
             state += " (advisory)"
         checks.add_row(c["id"], state, fmt(c["value"]), fmt(c["threshold"]))
     parts.append(checks)
+    parts += _gate_sections(doc)
 
     if doc["warnings"]:
         w = Text("Warnings\n", style="bold yellow")
@@ -133,6 +138,55 @@ def _sharpe_table(sh: dict, ppy) -> Table:
                  "of the trials would show by luck alone; 0.95 or more is strong evidence of a real edge.")
     t.caption_justify = "left"
     return t
+
+_MOVES_SHOWN = 8
+
+
+def _gate_sections(doc: dict) -> list:
+    """The trial ledger and the comparison with a baseline audit, when the audit used them."""
+    parts: list = []
+    ledger = doc.get("ledger")
+    if ledger:
+        text = Text("Trial ledger\n", style="bold")
+        state = "new (recorded now)" if ledger["new_sweep"] else "already recorded (no trials added)"
+        text.append(f"  {ledger['path']}: this sweep is {state}; {ledger['sweeps_recorded']:,} distinct "
+                    f"sweeps recorded, {ledger['trials_counted']:,} trials counted\n")
+        if ledger.get("note"):
+            text.append(f"  {ledger['note']}\n")
+        parts.append(text)
+    base = doc.get("baseline")
+    if base:
+        table = Table(title=f"Against the baseline {base['path']} (verdict then: {base['verdict_before']})",
+                      title_justify="left")
+        table.add_column("gated figure (results.*)", overflow="fold", min_width=24)
+        table.add_column("before")
+        table.add_column("after")
+        table.add_column("change")
+        table.add_column("allowed worsening")
+        table.add_column("")
+        for g in base["gated"]:
+            flag = "EXCEEDED" if g["exceeded"] else ("worse" if g in base["worsened"] else "")
+            table.add_row(g["key"].removeprefix("results."), fmt(g["before"]), fmt(g["after"]), fmt(g["change"]),
+                          fmt(g["allowed_worsening"]), flag)
+        parts.append(table)
+        text = Text()
+        if base.get("selected_changed"):
+            text.append(f"  ! the baseline judged {base['selected_before']!r}: the selected figures compare "
+                        "different configurations\n")
+        for c in base["checks_changed"]:
+            text.append(f"  check {c['id']}: {c['before']} -> {c['after']}\n")
+        moved = base["moved"]
+        # Summary figures in document order; the per-configuration ones only counted (the JSON
+        # block lists every move).
+        summary = [m for m in moved if "configurations[" not in m["key"]]
+        text.append(f"  {len(moved):,} figures moved ({len(moved) - len(summary):,} of them per configuration)"
+                    + (":\n" if summary else "\n"))
+        for m in summary[:_MOVES_SHOWN]:
+            text.append(f"    {m['key']}: {fmt(m['before'])} -> {fmt(m['after'])} ({fmt(m['change'])})\n")
+        if len(summary) > _MOVES_SHOWN:
+            text.append(f"    ... and {len(summary) - _MOVES_SHOWN:,} more\n")
+        parts.append(text)
+    return parts
 
 
 def render_terminal(doc: dict, console: Console | None = None) -> None:

@@ -1,0 +1,355 @@
+"""Compare an audit with an earlier one (``--baseline``): what moved, which checks changed state,
+and whether a gated figure worsened by more than the policy allows.
+
+Both audits are compared through their JSON documents (schema ``sweepaudit.audit/1``), so a
+baseline written by an older sweepaudit works as long as it keeps the keys.
+
+Every numeric leaf under ``results`` present in both documents is compared, plus each check's
+``value`` (key ``checks.<id>.value``). Lists of per-configuration blocks are keyed by the
+configuration name (``results.bootstrap.configurations[<name>].mean.low``), other lists by position.
+
+The gated figures (the only ones that can fail the ``baseline_drift`` check) are listed in
+:data:`GATED_FIGURES`, each with the direction that is better and the policy field that sets its
+margin. A gated key missing from either document does not gate.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Literal
+
+from .errors import InputError
+
+__all__ = [
+    "GatedFigure",
+    "GATED_FIGURES",
+    "FigureMove",
+    "GatedMove",
+    "CheckChange",
+    "BaselineComparison",
+    "read_baseline",
+    "numeric_leaves",
+    "compare_with_baseline",
+    "baseline_to_dict",
+]
+
+SCHEMA = "sweepaudit.audit/1"
+
+
+@dataclass(frozen=True)
+class GatedFigure:
+    """A figure the baseline gate watches.
+
+    Attributes
+    ----------
+    key : str
+        Dotted JSON key of the figure.
+    label : str
+        Plain words for reasons.
+    higher_is_better : bool
+    margin_field : str
+        The Policy field holding the allowed worsening.
+    scale : {"absolute", "interval_width"}
+        ``absolute``: the margin is in the figure's own units. ``interval_width``: the margin is a
+        fraction of the baseline interval's width (``high - low`` of the block holding the key),
+        which makes it free of the returns' units and frequency.
+    """
+
+    key: str
+    label: str
+    higher_is_better: bool
+    margin_field: str
+    scale: Literal["absolute", "interval_width"] = "absolute"
+
+
+GATED_FIGURES: tuple[GatedFigure, ...] = (
+    GatedFigure(
+        "results.bootstrap.selected.mean.low",
+        "the lower end of the selected configuration's mean excess return interval",
+        True,
+        "baseline_interval_margin",
+        "interval_width",
+    ),
+    GatedFigure(
+        "results.bootstrap.selected.sharpe.low",
+        "the lower end of the selected configuration's Sharpe ratio interval",
+        True,
+        "baseline_interval_margin",
+        "interval_width",
+    ),
+    GatedFigure(
+        "results.sharpe.deflated.probability",
+        "the deflated Sharpe probability",
+        True,
+        "baseline_probability_margin",
+    ),
+    GatedFigure(
+        "results.overfitting.probability_of_overfitting",
+        "the probability of backtest overfitting",
+        False,
+        "baseline_probability_margin",
+    ),
+    GatedFigure("results.snooping.spa.pvalue", "the SPA p-value", False, "baseline_pvalue_margin"),
+    GatedFigure(
+        "results.snooping.reality_check.pvalue", "the reality check p-value", False, "baseline_pvalue_margin"
+    ),
+)
+
+
+@dataclass(frozen=True)
+class FigureMove:
+    """A numeric figure that differs between the baseline and this audit (``change = after - before``)."""
+
+    key: str
+    before: float
+    after: float
+    change: float
+
+
+@dataclass(frozen=True)
+class GatedMove:
+    """A gated figure present in both audits.
+
+    Attributes
+    ----------
+    worsening : float
+        How far it moved in the worse direction (negative when it improved).
+    allowed : float or None
+        The largest worsening the policy allows, in the figure's units; None when the allowance
+        cannot be computed (no baseline interval width), in which case it does not gate.
+    exceeded : bool
+        ``worsening > allowed``: this figure fails the ``baseline_drift`` check.
+    """
+
+    figure: GatedFigure
+    before: float
+    after: float
+    worsening: float
+    allowed: float | None
+    exceeded: bool
+
+    @property
+    def key(self) -> str:
+        return self.figure.key
+
+
+@dataclass(frozen=True)
+class CheckChange:
+    """A check whose state differs: each state is "passed", "failed" or "absent"."""
+
+    id: str
+    before: str
+    after: str
+
+
+@dataclass(frozen=True)
+class BaselineComparison:
+    """This audit against a baseline audit.
+
+    Attributes
+    ----------
+    path : str
+        The baseline file.
+    verdict_before : str or None
+    selected_before, selected_after : str or None
+        The configuration each audit judged; when they differ the selected figures compare
+        different configurations.
+    moved : tuple of FigureMove
+        Every compared figure that changed, in document order.
+    checks_changed : tuple of CheckChange
+    gated : tuple of GatedMove
+        Every gated figure present in both audits.
+    """
+
+    path: str
+    verdict_before: str | None
+    selected_before: str | None
+    selected_after: str | None
+    moved: tuple[FigureMove, ...]
+    checks_changed: tuple[CheckChange, ...]
+    gated: tuple[GatedMove, ...]
+
+    @property
+    def worsened(self) -> tuple[GatedMove, ...]:
+        """Gated figures that moved in the worse direction (by any amount)."""
+        return tuple(g for g in self.gated if g.worsening > 0)
+
+    @property
+    def exceeded(self) -> tuple[GatedMove, ...]:
+        """Gated figures that worsened by more than the policy allows."""
+        return tuple(g for g in self.gated if g.exceeded)
+
+
+def read_baseline(path: str | Path) -> dict[str, Any]:
+    """Read and check an earlier audit JSON.
+
+    Raises
+    ------
+    InputError
+        Naming the file, when it cannot be read, is not JSON, or is not a ``sweepaudit.audit/1``
+        document with ``results`` and ``checks``.
+    """
+    where = str(path)
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError("baseline file does not exist", path=where) from None
+    except IsADirectoryError:
+        raise InputError("baseline is a folder, not an audit JSON file", path=where) from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"cannot read the baseline: {exc}", path=where) from None
+    try:
+        document = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise InputError(
+            f"the baseline is not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})", path=where
+        ) from None
+    if not isinstance(document, dict):
+        raise InputError("the baseline must be an audit JSON object", path=where)
+    schema = document.get("schema")
+    if schema != SCHEMA:
+        raise InputError(
+            f"the baseline's schema is {schema!r}, expected {SCHEMA!r}: pass a file written by "
+            "sweepaudit audit --json",
+            path=where,
+        )
+    if not isinstance(document.get("results"), dict) or not isinstance(document.get("checks"), list):
+        raise InputError("the baseline has no 'results' object or no 'checks' list", path=where)
+    return document
+
+
+def _is_number(value: Any) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+
+
+def _walk(value: Any, key: str, out: dict[str, float]) -> None:
+    if _is_number(value):
+        out[key] = float(value)
+    elif isinstance(value, dict):
+        for name, item in value.items():
+            _walk(item, f"{key}.{name}", out)
+    elif isinstance(value, list):
+        for position, item in enumerate(value):
+            label = item.get("configuration") if isinstance(item, dict) else None
+            _walk(item, f"{key}[{label if isinstance(label, str) else position}]", out)
+
+
+def numeric_leaves(document: dict[str, Any]) -> dict[str, float]:
+    """Every finite numeric figure under ``results`` and every check value, by dotted key."""
+    out: dict[str, float] = {}
+    _walk(document.get("results", {}), "results", out)
+    for c in document.get("checks", []):
+        if isinstance(c, dict) and isinstance(c.get("id"), str) and _is_number(c.get("value")):
+            out[f"checks.{c['id']}.value"] = float(c["value"])
+    return out
+
+
+def _lookup(document: dict[str, Any], dotted: str) -> Any:
+    node: Any = document
+    for part in dotted.split("."):
+        if not isinstance(node, dict) or part not in node:
+            return None
+        node = node[part]
+    return node
+
+
+def _states(document: dict[str, Any]) -> dict[str, str]:
+    return {
+        c["id"]: ("passed" if c.get("passed") else "failed")
+        for c in document.get("checks", [])
+        if isinstance(c, dict) and isinstance(c.get("id"), str)
+    }
+
+
+def compare_with_baseline(
+    current: dict[str, Any],
+    baseline: dict[str, Any],
+    *,
+    path: str,
+    policy: Any,
+) -> BaselineComparison:
+    """Compare the audit document ``current`` with the ``baseline`` document.
+
+    Parameters
+    ----------
+    current, baseline : dict
+        Audit JSON documents (schema ``sweepaudit.audit/1``).
+    path : str
+        Where the baseline came from (reported).
+    policy : Policy
+        Supplies the margins named by :data:`GATED_FIGURES`.
+    """
+    before, after = numeric_leaves(baseline), numeric_leaves(current)
+    moved = tuple(
+        FigureMove(key, before[key], value, value - before[key])
+        for key, value in after.items()
+        if key in before and value != before[key]
+    )
+    old_states, new_states = _states(baseline), _states(current)
+    # The drift check itself is not compared: it only exists against a baseline.
+    ids = [i for i in dict.fromkeys([*old_states, *new_states]) if i != "baseline_drift"]
+    changed = tuple(
+        CheckChange(i, old_states.get(i, "absent"), new_states.get(i, "absent"))
+        for i in ids
+        if old_states.get(i, "absent") != new_states.get(i, "absent")
+    )
+    gated = []
+    for figure in GATED_FIGURES:
+        if figure.key not in before or figure.key not in after:
+            continue
+        b, a = before[figure.key], after[figure.key]
+        worsening = (b - a) if figure.higher_is_better else (a - b)
+        margin = float(getattr(policy, figure.margin_field))
+        allowed: float | None = margin
+        if figure.scale == "interval_width":
+            block = _lookup(baseline, figure.key.rsplit(".", 1)[0])
+            low = block.get("low") if isinstance(block, dict) else None
+            high = block.get("high") if isinstance(block, dict) else None
+            allowed = margin * (high - low) if _is_number(low) and _is_number(high) else None
+        exceeded = allowed is not None and worsening > allowed
+        gated.append(GatedMove(figure, b, a, worsening, allowed, exceeded))
+    selected_before = _lookup(baseline, "selected.configuration")
+    selected_after = _lookup(current, "selected.configuration")
+    return BaselineComparison(
+        path=path,
+        verdict_before=baseline.get("verdict") if isinstance(baseline.get("verdict"), str) else None,
+        selected_before=selected_before if isinstance(selected_before, str) else None,
+        selected_after=selected_after if isinstance(selected_after, str) else None,
+        moved=moved,
+        checks_changed=changed,
+        gated=tuple(gated),
+    )
+
+
+def _gated_dict(g: GatedMove) -> dict[str, Any]:
+    return {
+        "key": g.key,
+        "before": g.before,
+        "after": g.after,
+        "change": g.after - g.before,
+        "higher_is_better": g.figure.higher_is_better,
+        "allowed_worsening": g.allowed,
+        "margin_field": g.figure.margin_field,
+        "exceeded": g.exceeded,
+    }
+
+
+def baseline_to_dict(comparison: BaselineComparison) -> dict[str, Any]:
+    """The JSON ``baseline`` block."""
+    return {
+        "path": comparison.path,
+        "verdict_before": comparison.verdict_before,
+        "selected_before": comparison.selected_before,
+        "selected_changed": comparison.selected_before != comparison.selected_after,
+        "moved": [
+            {"key": m.key, "before": m.before, "after": m.after, "change": m.change} for m in comparison.moved
+        ],
+        "checks_changed": [
+            {"id": c.id, "before": c.before, "after": c.after} for c in comparison.checks_changed
+        ],
+        "gated": [_gated_dict(g) for g in comparison.gated],
+        "worsened": [_gated_dict(g) for g in comparison.worsened],
+    }

@@ -1,0 +1,289 @@
+"""The trial ledger (``--ledger PATH``): a JSON Lines file, kept in the strategy repository, with
+one record per audit. It remembers every sweep a researcher has audited, so the deflated Sharpe
+ratio can count all of them as trials, not only the configurations of the sweep in hand.
+
+Counting rule: the trials are the sum of the configurations of every distinct fingerprint in the
+ledger, plus this sweep's configurations when its fingerprint is new. Re-auditing the same sweep
+adds no trials. The count is never below the sweep's own configurations.
+
+Concurrency: the ledger is opened with ``O_APPEND`` and held under an exclusive ``fcntl.flock``
+for the whole read-count-append cycle (callers hold it across the audit, so concurrent audits
+sharing a ledger count each other's sweeps in some order). Each record is written as one full
+line with one ``os.write``. A corrupted line stops the run with its line number; the ledger is
+never rewritten, so nothing in it is lost.
+"""
+
+from __future__ import annotations
+
+import fcntl
+import hashlib
+import json
+import os
+from collections.abc import Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from . import __version__
+from .errors import InputError
+
+__all__ = [
+    "LEDGER_SCHEMA",
+    "LedgerEntry",
+    "LedgerTally",
+    "Ledger",
+    "sweep_fingerprint",
+    "parse_ledger",
+    "read_ledger",
+    "tally_trials",
+    "ledger_record",
+    "open_ledger",
+]
+
+LEDGER_SCHEMA = "sweepaudit.ledger/1"
+
+
+def sweep_fingerprint(returns: np.ndarray, configurations: tuple[str, ...] | list[str]) -> str:
+    """SHA-256 fingerprint of a sweep's data.
+
+    Definition: the configurations are put in order of their names (Python string order, i.e.
+    by code point) and the matrix's columns with them; the hash then covers, in order, the tag
+    ``sweepaudit.ledger/1`` and a newline, the shape ``"<windows>x<configurations>"`` and a newline,
+    the sorted names as a JSON list (UTF-8, non-ASCII kept) and a newline, and the returns as
+    little-endian float64 bytes, window by window (row-major), with -0.0 written as 0.0.
+
+    It is computed from the loaded, normalised matrix (fractions, windows in time order), not from
+    the file's bytes: the same data saved as CSV or Parquet, long or wide, with the columns in any
+    order, gives the same fingerprint as long as the numbers parse to the same float64 values (a
+    percent file divided by 100 can differ from a fraction file in the last bit, and then counts
+    as a different sweep). Window labels are not part of it.
+    """
+    x = np.asarray(returns, dtype=np.float64)
+    names = list(configurations)
+    if x.ndim != 2 or x.shape[1] != len(names):
+        raise InputError(f"returns must be a T x N matrix with one name per column; got shape {x.shape}")
+    order = sorted(range(len(names)), key=names.__getitem__)
+    x = np.ascontiguousarray(x[:, order]) + 0.0  # + 0.0 turns -0.0 into 0.0
+    digest = hashlib.sha256()
+    digest.update(LEDGER_SCHEMA.encode("ascii") + b"\n")
+    digest.update(f"{x.shape[0]}x{x.shape[1]}\n".encode("ascii"))
+    digest.update(json.dumps([names[k] for k in order], ensure_ascii=False).encode("utf-8") + b"\n")
+    digest.update(x.astype("<f8", copy=False).tobytes(order="C"))
+    return digest.hexdigest()
+
+
+@dataclass(frozen=True)
+class LedgerEntry:
+    """One record of the ledger (``line`` is 1-based)."""
+
+    line: int
+    fingerprint: str
+    configurations: int
+    record: dict[str, Any]
+
+
+@dataclass(frozen=True)
+class LedgerTally:
+    """What the ledger says about the trials of this sweep.
+
+    Attributes
+    ----------
+    path : str
+    records : int
+        Records in the ledger before this audit.
+    sweeps_before : int
+        Distinct fingerprints in the ledger before this audit.
+    fingerprint : str
+        This sweep's fingerprint.
+    configurations : int
+        This sweep's configurations.
+    new_sweep : bool
+        Whether this fingerprint was not yet recorded.
+    trials : int
+        Sum of configurations over distinct fingerprints, this sweep included.
+    """
+
+    path: str
+    records: int
+    sweeps_before: int
+    fingerprint: str
+    configurations: int
+    new_sweep: bool
+    trials: int
+
+    @property
+    def sweeps_recorded(self) -> int:
+        """Distinct sweeps once this audit is recorded."""
+        return self.sweeps_before + (1 if self.new_sweep else 0)
+
+
+def _bad_line(path: str, line: int, detail: str) -> InputError:
+    return InputError(
+        f"line {line} of the trial ledger is not a valid record ({detail}); the ledger was left "
+        "unchanged: repair or remove that line",
+        path=path,
+    )
+
+
+def parse_ledger(data: bytes, *, path: str = "<ledger>") -> tuple[LedgerEntry, ...]:
+    """Parse the bytes of a ledger; blank lines are ignored.
+
+    Raises
+    ------
+    InputError
+        Naming the file and the 1-based line of the first bad record.
+    """
+    entries = []
+    for number, raw in enumerate(data.split(b"\n"), start=1):
+        if not raw.strip():
+            continue
+        try:
+            record = json.loads(raw.decode("utf-8"))
+        except UnicodeDecodeError:
+            raise _bad_line(path, number, "not UTF-8 text") from None
+        except json.JSONDecodeError as exc:
+            raise _bad_line(path, number, f"not JSON: {exc.msg} at column {exc.colno}") from None
+        if not isinstance(record, dict):
+            raise _bad_line(path, number, "not a JSON object")
+        fingerprint = record.get("fingerprint")
+        if not (isinstance(fingerprint, str) and len(fingerprint) == 64
+                and all(c in "0123456789abcdef" for c in fingerprint)):
+            raise _bad_line(path, number, f"fingerprint must be 64 lowercase hex digits; got {fingerprint!r}")
+        count = record.get("configurations")
+        if isinstance(count, bool) or not isinstance(count, int) or count < 1:
+            raise _bad_line(path, number, f"configurations must be a positive whole number; got {count!r}")
+        entries.append(LedgerEntry(number, fingerprint, count, record))
+    return tuple(entries)
+
+
+def read_ledger(path: str | Path) -> tuple[LedgerEntry, ...]:
+    """Read a ledger without locking it (for reports); a missing file is an empty ledger."""
+    try:
+        data = Path(path).read_bytes()
+    except FileNotFoundError:
+        return ()
+    except OSError as exc:
+        raise InputError(f"cannot read the trial ledger: {exc.strerror}", path=str(path)) from None
+    return parse_ledger(data, path=str(path))
+
+
+def tally_trials(
+    entries: tuple[LedgerEntry, ...], *, fingerprint: str, configurations: int, path: str = "<ledger>"
+) -> LedgerTally:
+    """Count the trials: configurations summed over distinct fingerprints, this sweep included."""
+    distinct: dict[str, int] = {}
+    for e in entries:
+        distinct.setdefault(e.fingerprint, e.configurations)
+    new = fingerprint not in distinct
+    trials = sum(distinct.values()) + (configurations if new else 0)
+    return LedgerTally(
+        path=path,
+        records=len(entries),
+        sweeps_before=len(distinct),
+        fingerprint=fingerprint,
+        configurations=configurations,
+        new_sweep=new,
+        trials=max(trials, configurations),
+    )
+
+
+def ledger_record(
+    *,
+    fingerprint: str,
+    configurations: int,
+    windows: int,
+    selected: str,
+    verdict: str,
+    input_path: str,
+    trials: int,
+    date: datetime | None = None,
+) -> dict[str, Any]:
+    """One ledger record (``date`` defaults to now, UTC, ISO 8601 to the second)."""
+    when = (date or datetime.now(timezone.utc)).astimezone(timezone.utc)
+    return {
+        "schema": LEDGER_SCHEMA,
+        "fingerprint": fingerprint,
+        "configurations": configurations,
+        "windows": windows,
+        "date": when.isoformat(timespec="seconds").replace("+00:00", "Z"),
+        "selected": selected,
+        "verdict": verdict,
+        "trials": trials,
+        "version": __version__,
+        "input": input_path,
+    }
+
+
+class Ledger:
+    """An open, exclusively locked ledger; use :func:`open_ledger`."""
+
+    def __init__(self, path: str, fd: int, entries: tuple[LedgerEntry, ...], ends_with_newline: bool) -> None:
+        self.path = path
+        self._fd = fd
+        self.entries = entries
+        self._needs_newline = not ends_with_newline
+
+    def tally(self, *, fingerprint: str, configurations: int) -> LedgerTally:
+        return tally_trials(self.entries, fingerprint=fingerprint, configurations=configurations, path=self.path)
+
+    def append(self, record: dict[str, Any]) -> None:
+        """Append one record as one line, in one write (O_APPEND puts it at the end)."""
+        line = json.dumps(record, ensure_ascii=False, allow_nan=False, separators=(",", ":")) + "\n"
+        payload = ("\n" if self._needs_newline else "") + line
+        data = payload.encode("utf-8")
+        try:
+            written = os.write(self._fd, data)
+            # A short write is only possible on a full disk; we hold the lock, so finish the line.
+            while written < len(data):
+                written += os.write(self._fd, data[written:])
+            os.fsync(self._fd)
+        except OSError as exc:
+            raise InputError(f"cannot append to the trial ledger: {exc.strerror}", path=self.path) from None
+        self._needs_newline = False
+        fingerprint = record["fingerprint"]
+        line_number = (self.entries[-1].line if self.entries else 0) + 1
+        self.entries = (*self.entries, LedgerEntry(line_number, fingerprint, record["configurations"], record))
+
+
+@contextmanager
+def open_ledger(path: str | Path) -> Iterator[Ledger]:
+    """Open (creating it if needed), lock and read a ledger; the lock is held until the block ends.
+
+    Raises
+    ------
+    InputError
+        When the folder is missing, the file cannot be opened, or a line is corrupted (the file is
+        then left exactly as it was).
+    """
+    where = str(path)
+    folder = Path(path).parent if str(Path(path).parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(f"cannot keep the trial ledger: folder {folder} does not exist", path=where)
+    try:
+        fd = os.open(where, os.O_RDWR | os.O_CREAT | os.O_APPEND, 0o644)
+    except IsADirectoryError:
+        raise InputError("the trial ledger is a folder, not a file", path=where) from None
+    except OSError as exc:
+        raise InputError(f"cannot open the trial ledger: {exc.strerror}", path=where) from None
+    try:
+        fcntl.flock(fd, fcntl.LOCK_EX)
+        chunks = []
+        offset = 0
+        while True:
+            chunk = os.pread(fd, 1 << 20, offset)
+            if not chunk:
+                break
+            chunks.append(chunk)
+            offset += len(chunk)
+        data = b"".join(chunks)
+        entries = parse_ledger(data, path=where)
+        yield Ledger(where, fd, entries, ends_with_newline=(not data or data.endswith(b"\n")))
+    finally:
+        try:
+            fcntl.flock(fd, fcntl.LOCK_UN)
+        finally:
+            os.close(fd)

@@ -1,0 +1,788 @@
+"""Probability of backtest overfitting by combinatorially symmetric cross-validation (CSCV).
+
+Bailey, D. H., Borwein, J. M., Lopez de Prado, M. and Zhu, Q. J. (2017), "The Probability of
+Backtest Overfitting", Journal of Computational Finance 20(4).
+
+The T x N matrix of per-window excess returns is cut into S contiguous blocks. Every choice of S/2
+blocks is an in-sample half and its complement the out-of-sample half. For each of the C(S, S/2)
+splits the configuration with the best in-sample statistic is selected and its out-of-sample rank
+among all N configurations is turned into a logit; the probability of backtest overfitting (PBO) is
+the share of logits at or below zero.
+
+Notes
+-----
+Conventions (each one is tested in ``tests/methods/test_cscv.py``):
+
+* Blocks: ``T`` windows are cut into ``S`` contiguous blocks in time order; when ``T`` is not a
+  multiple of ``S`` the first ``T mod S`` blocks get one extra window, so no window is dropped.
+  The cut is reported in ``CscvResult.block_bounds`` and ``CscvResult.block_rule``.
+* Minimum block size: the floor is 2 windows per block for ``"sharpe"`` and 1 for ``"mean"``; the
+  comfortable minimum is 4 windows per block for ``"sharpe"`` and 1 for ``"mean"`` (our choice: a
+  block of 4 windows keeps a single window from dominating a block and limits leakage of serial
+  dependence across block edges). When the requested ``partitions`` leaves blocks below the
+  comfortable minimum, ``partitions`` is reduced to the largest even number that meets it (or, if
+  none does, the floor) and a ``SweepAuditWarning`` is emitted. Below the floor at two blocks the
+  data are refused with ``DegenerateDataError``.
+* Statistic: ``"sharpe"`` is mean / standard deviation (ddof = 1) over the pooled windows of the
+  chosen blocks, per window, not annualised; ``"mean"`` is the pooled mean excess return.
+* Zero variance (``"sharpe"``): when every window of a half-sample of a configuration has the same
+  value ``v``, its Sharpe ratio there is the limit of mean / sd as the sd goes to zero: ``+inf``
+  for ``v > 0``, ``-inf`` for ``v < 0`` and ``0`` for ``v = 0`` (no excess return, no edge). Ranks
+  handle infinities; the degradation regression uses only splits with finite statistics. A warning
+  names how many configurations are affected.
+* In-sample ties: the configuration with the lowest column index among the tied best is selected.
+  A tie is exact equality of the computed statistics. Statistics come from uncentred block sums,
+  so duplicate columns, and data whose sums are exact in binary floating point (small integers,
+  multiples of powers of two), tie reliably; values equal only in decimal arithmetic may differ
+  in the last bit and then do not tie.
+* Out-of-sample ranks run from 1 (worst) to N (best); tied values get the average (mid) rank. The
+  relative rank is ``w = rank / (N + 1)`` and the logit ``ln(w / (1 - w))``.
+* PBO is the share of splits with logit ``<= 0`` ("at or below zero"), so its value when nothing
+  has an edge is 1/2 for even N and (N + 1) / (2N) for odd N.
+* Probability of loss is the share of splits whose selected configuration has an out-of-sample
+  statistic strictly below zero.
+* Stochastic dominance compares the empirical distribution of the selected configuration's
+  out-of-sample statistic (one value per split) with that of a configuration picked at random: all
+  N configurations' out-of-sample statistics pooled over all splits. Dominance is weak (identical
+  distributions count as dominance). First order holds when
+  ``F_selected(x) <= F_pooled(x)`` for every ``x``; the largest violation
+  ``max_x (F_selected(x) - F_pooled(x))`` is exact because the supremum of that step-function
+  difference is reached at a value of the selected sample. Second order holds when
+  ``E[(x - X_selected)^+] <= E[(x - X_pooled)^+]`` (integrated CDFs); it is evaluated at every
+  value of the selected sample and in the limit ``x -> inf`` (the difference of means), which can
+  miss a larger violation between two neighbouring selected values; gaps below 1e-12 times the
+  largest absolute selected value (at least 1e-12) count as rounding, not violation.
+
+Computation: per-block (uncentred) sums, sums of squares and counts give every half-sample's
+statistic with one matrix product (split-indicator matrix times block sums), processed in chunks
+of splits so memory stays bounded. The product is evaluated as two lookups in subset-sum tables
+of the first and last S/2 blocks plus one addition (the matrix product itself when the tables
+would exceed 96 MiB). The complement of the i-th split (block sets ordered as bit
+masks) is the (C - 1 - i)-th, so every half-sample is computed once and serves as in-sample for
+one split and out-of-sample for its mirror.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import warnings
+from dataclasses import dataclass
+from typing import Literal, get_args
+
+import numpy as np
+from scipy import special
+
+from sweepaudit.errors import DegenerateDataError, InputError, SweepAuditWarning
+
+__all__ = [
+    "CscvResult",
+    "OverfittingDiagnosis",
+    "OverfittingCase",
+    "SplitStatistic",
+    "cscv",
+    "overfitting_diagnosis",
+]
+
+SplitStatistic = Literal["sharpe", "mean"]
+OverfittingCase = Literal["robust", "shared_edge", "no_edge", "overfit"]
+
+_STATISTICS: tuple[str, ...] = get_args(SplitStatistic)
+# Floor and comfortable minimum of windows per block (see module Notes).
+_FLOOR_WINDOWS_PER_BLOCK = {"sharpe": 2, "mean": 1}
+_COMFORTABLE_WINDOWS_PER_BLOCK = {"sharpe": 4, "mean": 1}
+# C(20, 10) = 184,756 splits; beyond that the enumeration is impractical.
+_MAX_PARTITIONS = 20
+# Bytes per (splits x configurations) float array in a chunk; a handful are alive at once.
+_CHUNK_BYTES = 16 * 2**20
+_CACHE_BYTES = 128 * 2**20
+_TABLE_BYTES = 96 * 2**20
+# Most uniform bins that locate pooled values among the selected values without a binary search.
+_DOMINANCE_BINS = 2**20
+_LOGIT_QUANTILE_LEVELS = (0.05, 0.25, 0.5, 0.75, 0.95)
+_BLOCK_RULE = "contiguous blocks in time order; the first T mod S blocks get one extra window"
+
+
+@dataclass(frozen=True)
+class CscvResult:
+    """Result of :func:`cscv`. Arrays have one entry per split unless stated otherwise.
+
+    Attributes
+    ----------
+    probability_of_overfitting : float
+        PBO: share of splits whose logit is ``<= 0`` (Bailey et al. 2017).
+    probability_of_loss : float
+        Share of splits whose selected configuration has an out-of-sample statistic ``< 0``.
+    logits : numpy.ndarray
+        ``ln(w / (1 - w))`` with ``w = rank / (N + 1)``, one per split.
+    logit_quantiles : dict[float, float]
+        Quantiles of ``logits`` at levels 0.05, 0.25, 0.5, 0.75 and 0.95 (linear interpolation).
+    degradation_slope, degradation_intercept, degradation_r_squared : float or None
+        Least-squares line of the selected configuration's out-of-sample statistic on its
+        in-sample statistic over splits with finite values; ``None`` (with a warning) when the
+        in-sample statistics do not vary or fewer than 3 finite pairs exist.
+    in_sample, out_of_sample : numpy.ndarray
+        The selected configuration's in-sample and out-of-sample statistic per split.
+    selected : numpy.ndarray
+        Column index (0-based) of the configuration selected in-sample, per split.
+    out_of_sample_rank : numpy.ndarray
+        Its out-of-sample mid-rank, 1 (worst) .. N (best).
+    relative_rank : numpy.ndarray
+        ``out_of_sample_rank / (N + 1)``.
+    in_sample_blocks : numpy.ndarray
+        ``(combinations, partitions // 2)`` block indices (0-based, ascending) of each split's
+        in-sample half; the out-of-sample half is the complement.
+    in_sample_t_statistic : numpy.ndarray
+        t-statistic of the selected configuration's in-sample mean, mean / (sd / sqrt(n)) with
+        ddof = 1 (for "sharpe" this is the in-sample Sharpe ratio times sqrt(n)); 0 for a
+        half-sample of one window, ``sign(mean) * inf`` (0 for a zero mean) for a constant one.
+    median_out_of_sample : float
+        Median of ``out_of_sample``.
+    null_probability_of_overfitting : float
+        PBO's value when out-of-sample ranks are uniform: 1/2 for even N, (N + 1) / (2N) for odd N.
+    first_order_dominance, second_order_dominance : bool
+        Whether the selected configuration's out-of-sample statistic dominates that of a
+        configuration picked at random (see module Notes for how it is measured).
+    first_order_violation, second_order_violation : float
+        Largest violation found (0 when dominance holds): ``max(F_selected - F_pooled)`` and
+        ``max(E[(x - X_selected)^+] - E[(x - X_pooled)^+])``. The second-order fields are
+        ``None`` (with a warning) when an infinite statistic occurs (zero-variance half-sample).
+    pooled_out_of_sample_mean : float or None
+        Mean out-of-sample statistic of all configurations pooled over splits (``None`` when an
+        infinite statistic occurs).
+    statistic : str
+        ``"sharpe"`` or ``"mean"``.
+    partitions, partitions_requested : int
+        Number of blocks S used, and the number asked for.
+    combinations : int
+        Number of splits, C(S, S/2).
+    windows, configurations : int
+        T and N.
+    block_bounds : numpy.ndarray
+        ``(partitions, 2)`` start (inclusive) and stop (exclusive) window index of each block.
+    block_rule : str
+        How the blocks were cut.
+    warnings : tuple[str, ...]
+        Every warning emitted while computing the result.
+    """
+
+    probability_of_overfitting: float
+    probability_of_loss: float
+    logits: np.ndarray
+    logit_quantiles: dict[float, float]
+    degradation_slope: float | None
+    degradation_intercept: float | None
+    degradation_r_squared: float | None
+    in_sample: np.ndarray
+    out_of_sample: np.ndarray
+    selected: np.ndarray
+    out_of_sample_rank: np.ndarray
+    relative_rank: np.ndarray
+    in_sample_blocks: np.ndarray
+    in_sample_t_statistic: np.ndarray
+    median_out_of_sample: float
+    null_probability_of_overfitting: float
+    first_order_dominance: bool
+    first_order_violation: float
+    second_order_dominance: bool | None
+    second_order_violation: float | None
+    pooled_out_of_sample_mean: float | None
+    statistic: str
+    partitions: int
+    partitions_requested: int
+    combinations: int
+    windows: int
+    configurations: int
+    block_bounds: np.ndarray
+    block_rule: str
+    warnings: tuple[str, ...]
+
+
+def _validate(returns, partitions, statistic) -> tuple[np.ndarray, int, str, list[str]]:
+    if statistic not in _STATISTICS:
+        raise InputError(
+            f"statistic must be one of {', '.join(map(repr, _STATISTICS))}; got {statistic!r}"
+        )
+    if isinstance(partitions, bool) or not isinstance(partitions, (int, np.integer)):
+        raise InputError(f"partitions must be an even integer >= 2; got {partitions!r}")
+    partitions = int(partitions)
+    if partitions < 2 or partitions % 2:
+        raise InputError(f"partitions must be an even integer >= 2; got {partitions}")
+    if partitions > _MAX_PARTITIONS:
+        raise InputError(
+            f"partitions must be at most {_MAX_PARTITIONS} "
+            f"(C({_MAX_PARTITIONS}, {_MAX_PARTITIONS // 2}) = "
+            f"{math.comb(_MAX_PARTITIONS, _MAX_PARTITIONS // 2):,} splits); got {partitions}"
+        )
+    try:
+        matrix = np.asarray(returns, dtype=np.float64)
+    except (TypeError, ValueError) as exc:
+        raise InputError(f"returns must be a numeric T x N matrix; {exc}") from None
+    if matrix.ndim != 2:
+        raise InputError(
+            f"returns must be a 2-D T x N matrix (windows x configurations); "
+            f"got {matrix.ndim} dimension(s) with shape {matrix.shape}"
+        )
+    windows, configurations = matrix.shape
+    if configurations < 2:
+        raise InputError(
+            f"returns must have at least 2 configurations (columns) to rank; got {configurations}"
+        )
+    bad = ~np.isfinite(matrix)
+    if bad.any():
+        row, col = np.argwhere(bad)[0]
+        raise InputError(
+            f"returns must be finite; got {int(bad.sum())} NaN or infinite value(s), "
+            f"the first at window {row} (0-based), configuration {col}"
+        )
+    floor = _FLOOR_WINDOWS_PER_BLOCK[statistic]
+    comfortable = _COMFORTABLE_WINDOWS_PER_BLOCK[statistic]
+    if windows < 2 * floor:
+        raise DegenerateDataError(
+            f"returns has {windows} window(s); CSCV with statistic {statistic!r} needs at least "
+            f"{2 * floor} windows (2 blocks of at least {floor} window(s) each)"
+        )
+    messages: list[str] = []
+    used = partitions
+    if windows // partitions < comfortable:
+        evens = range(partitions, 1, -2)
+        used = next((s for s in evens if windows // s >= comfortable), 0) or next(
+            s for s in evens if windows // s >= floor
+        )
+        messages.append(
+            f"returns has {windows} windows, too few for partitions={partitions} with at least "
+            f"{comfortable} windows per block (statistic {statistic!r}); using partitions={used} "
+            f"({windows // used} or more windows per block, {math.comb(used, used // 2):,} splits)"
+        )
+    return matrix, used, statistic, messages
+
+
+def _block_bounds(windows: int, partitions: int) -> np.ndarray:
+    base, extra = divmod(windows, partitions)
+    sizes = np.full(partitions, base, dtype=np.int64)
+    sizes[:extra] += 1
+    stops = np.cumsum(sizes)
+    return np.column_stack([stops - sizes, stops])
+
+
+@functools.lru_cache(maxsize=4)
+def _split_indicator(partitions: int) -> np.ndarray:
+    """Boolean (C, S) matrix of in-sample blocks, ordered by bit mask so row C-1-i mirrors row i."""
+    masks = np.arange(2**partitions, dtype=np.int64)
+    bits = ((masks[:, None] >> np.arange(partitions)) & 1).astype(bool)
+    indicator = bits[bits.sum(axis=1) == partitions // 2]
+    indicator.flags.writeable = False
+    return indicator
+
+
+class _HalfStatistics:
+    """Statistic of every configuration on any set of half-samples, from per-block sums."""
+
+    def __init__(self, matrix: np.ndarray, bounds: np.ndarray, statistic: str) -> None:
+        self.statistic = statistic
+        # Raw (uncentred) sums: for integer or other dyadic data every sum is exact, so halves that
+        # tie in exact arithmetic tie bit for bit. Sum-of-squares variances lose accuracy only when
+        # |mean| / sd is enormous, which per-window excess returns are not.
+        starts = bounds[:, 0]
+        self.counts = (bounds[:, 1] - bounds[:, 0]).astype(np.float64)
+        self.sums = np.add.reduceat(matrix, starts, axis=0)
+        self.squares = np.add.reduceat(matrix * matrix, starts, axis=0)
+        self.constant_columns = np.zeros(0, dtype=np.int64)
+        if statistic == "sharpe":
+            low = np.minimum.reduceat(matrix, starts, axis=0)
+            high = np.maximum.reduceat(matrix, starts, axis=0)
+            flat = low == high
+            # A half can be constant only if at least S/2 of the column's blocks are.
+            self.constant_columns = np.flatnonzero(flat.sum(axis=0) >= len(starts) // 2)
+            self.block_flat = flat[:, self.constant_columns]
+            self.block_value = low[:, self.constant_columns]
+        # Subset-sum tables: a half is a subset of the first S/2 blocks plus a subset of the last
+        # S/2, so its sums are one table row from each side added: one addition per entry and
+        # the same order of additions for every column. Fall back to the matrix product (0/1
+        # split-indicator matrix times block sums) when the tables would be large.
+        partitions = len(starts)
+        self.side = partitions // 2
+        tables = 2 if statistic == "sharpe" else 1
+        size = 2 * 2**self.side * matrix.shape[1] * 8 * tables
+        self.tables = None
+        if size <= _TABLE_BYTES:
+            self.tables = [
+                (self._subset_sums(block[: self.side]), self._subset_sums(block[self.side:]))
+                for block in ([self.sums, self.squares] if tables == 2 else [self.sums])
+            ]
+
+    @staticmethod
+    def _subset_sums(blocks: np.ndarray) -> np.ndarray:
+        """Row m holds the sum of the blocks whose bits are set in m, added in bit order."""
+        table = np.zeros((2 ** blocks.shape[0], blocks.shape[1]))
+        for bit, block in enumerate(blocks):
+            table[2**bit: 2 ** (bit + 1)] = table[: 2**bit] + block
+        return table
+
+    def _half_sums(self, indicator: np.ndarray, which: int) -> np.ndarray:
+        if self.tables is None:
+            source = self.sums if which == 0 else self.squares
+            return indicator.astype(np.float64) @ source
+        bits = 1 << np.arange(self.side)
+        low = indicator[:, : self.side] @ bits
+        high = indicator[:, self.side:] @ bits
+        first, second = self.tables[which]
+        out = first[low]
+        out += second[high]
+        return out
+
+    def t_statistic(self, indicator: np.ndarray, columns: np.ndarray) -> np.ndarray:
+        """t-statistic of the mean, mean / (sd / sqrt(n)), of one column per half-sample."""
+        weights = indicator.astype(np.float64)
+        count = weights @ self.counts
+        total = np.einsum("ij,ji->i", weights, self.sums[:, columns])
+        squares = np.einsum("ij,ji->i", weights, self.squares[:, columns])
+        mean = total / count
+        with np.errstate(divide="ignore", invalid="ignore"):
+            variance = (squares - total * mean) / (count - 1.0)
+        # Constant halves (sd 0) follow the Sharpe convention: sign(mean) * inf, 0 for mean 0; a
+        # one-window half ("mean" with S = 2 and T = 2) carries no evidence: 0.
+        positive = variance > 0
+        value = _signed_infinity(mean)
+        value[positive] = mean[positive] / np.sqrt(variance[positive]) * np.sqrt(count[positive])
+        value[count < 2] = 0.0
+        return value
+
+    def __call__(self, indicator: np.ndarray) -> np.ndarray:
+        count = (indicator.astype(np.float64) @ self.counts)[:, None]
+        total = self._half_sums(indicator, 0)
+        value = total / count
+        if self.statistic == "mean":
+            return value
+        # In place: variance = (sum of squares - sum * mean) / (n - 1).
+        spread = self._half_sums(indicator, 1)
+        total *= value
+        spread -= total
+        spread /= count - 1.0
+        if spread.min() <= 0:  # rounding can leave a non-constant half with variance <= 0
+            degenerate = ~(spread > 0)
+            spread[degenerate] = 1.0
+            value[degenerate] = _signed_infinity(value[degenerate])
+        np.sqrt(spread, out=spread)
+        value /= spread
+        for k, column in enumerate(self.constant_columns):
+            flat = self.block_flat[:, k]
+            vals = self.block_value[:, k]
+            all_flat = ~(indicator & ~flat).any(axis=1)
+            top = np.where(indicator, vals, -np.inf).max(axis=1)
+            bottom = np.where(indicator, vals, np.inf).min(axis=1)
+            constant = all_flat & (top == bottom)
+            value[constant, column] = _signed_infinity(top[constant])
+        return value
+
+
+def _signed_infinity(values: np.ndarray) -> np.ndarray:
+    """Limit of mean / sd as sd -> 0: +inf, -inf, or 0 for a zero mean."""
+    return np.where(values > 0, np.inf, np.where(values < 0, -np.inf, 0.0))
+
+
+def _rows_per_chunk(configurations: int) -> int:
+    return max(2, _CHUNK_BYTES // (8 * configurations))
+
+
+def cscv(
+    returns,
+    *,
+    partitions: int = 16,
+    statistic: SplitStatistic = "sharpe",
+) -> CscvResult:
+    """Probability of backtest overfitting by combinatorially symmetric cross-validation.
+
+    Parameters
+    ----------
+    returns : numpy.ndarray or pandas.DataFrame
+        T x N per-window excess returns: rows are windows in time order, columns configurations.
+    partitions : int, default 16
+        Number S of contiguous blocks; even, 2 .. 20. Reduced, with a warning, when blocks would
+        hold too few windows (see Notes).
+    statistic : {"sharpe", "mean"}, default "sharpe"
+        Performance statistic on a half-sample: per-window Sharpe ratio (mean / sd, ddof = 1) or
+        mean excess return, over the pooled windows of its blocks.
+
+    Returns
+    -------
+    CscvResult
+        PBO, probability of loss, logits, degradation line, stochastic dominance and the per-split
+        raw material.
+
+    Raises
+    ------
+    InputError
+        ``returns`` not a finite 2-D matrix with at least 2 columns; ``partitions`` not an even
+        integer in 2 .. 20; unknown ``statistic``.
+    DegenerateDataError
+        Fewer windows than two blocks at the floor need (4 for "sharpe", 2 for "mean").
+
+    Warns
+    -----
+    SweepAuditWarning
+        ``partitions`` reduced; zero-variance half-samples; degradation line not computable.
+
+    Notes
+    -----
+    Bailey, Borwein, Lopez de Prado and Zhu (2017), J. Computational Finance 20(4), the CSCV
+    procedure:
+    for each split, n* = argmax of the in-sample statistic; w = rank of n* out of sample / (N + 1);
+    logit = ln(w / (1 - w)); PBO = share of logits <= 0. Degradation: least squares of the
+    out-of-sample on the in-sample statistic of n*. Conventions on blocks, ties, zero variance and
+    dominance are listed in the module docstring: the first ``T mod S`` blocks get one extra
+    window; in-sample ties select the lowest column index; out-of-sample ties get the mid-rank;
+    a zero-variance half has Sharpe ``sign(v) * inf`` (0 for v = 0).
+    """
+    matrix, used, statistic, messages = _validate(returns, partitions, statistic)
+    windows, configurations = matrix.shape
+    bounds = _block_bounds(windows, used)
+    indicator = _split_indicator(used)
+    combinations = indicator.shape[0]
+    half = combinations // 2
+    halves = _HalfStatistics(matrix, bounds, statistic)
+    if halves.constant_columns.size:
+        messages.append(
+            f"{halves.constant_columns.size} configuration(s) have at least {used // 2} blocks "
+            "of identical windows; a half-sample with zero variance gets Sharpe ratio +inf, "
+            "-inf or 0 by the sign of its constant value"
+        )
+
+    selected = np.empty(combinations, dtype=np.int64)
+    in_sample = np.empty(combinations)
+    out_of_sample = np.empty(combinations)
+    rank = np.empty(combinations)
+    t_statistic = np.empty(combinations)
+    # Keep every half-sample's statistics for the dominance pass when they fit the cache budget;
+    # otherwise they are recomputed chunk by chunk.
+    cache = (np.empty((combinations, configurations))
+             if combinations * configurations * 8 <= _CACHE_BYTES else None)
+    step = max(1, _rows_per_chunk(configurations) // 2)
+    for start in range(0, half, step):
+        first = np.arange(start, min(start + step, half))
+        rows = np.concatenate([first, combinations - 1 - first])
+        values = halves(indicator[rows])
+        if cache is not None:
+            cache[rows] = values
+        count = first.size
+        mirror = np.concatenate([np.arange(count, 2 * count), np.arange(count)])
+        every = np.arange(rows.size)
+        best = np.argmax(values, axis=1)  # first maximum: lowest index wins ties
+        chosen_oos = values[mirror, best]
+        below = np.empty(rows.size)
+        equal = np.empty(rows.size)
+        # Row k's out-of-sample half is row k + count (and back): compare on views, no copy.
+        for own, other in ((slice(0, count), slice(count, None)),
+                           (slice(count, None), slice(0, count))):
+            target = chosen_oos[own, None]
+            below[own] = np.count_nonzero(values[other] < target, axis=1)
+            equal[own] = np.count_nonzero(values[other] == target, axis=1)
+        selected[rows] = best
+        in_sample[rows] = values[every, best]
+        out_of_sample[rows] = chosen_oos
+        rank[rows] = below + (equal + 1) / 2.0
+        t_statistic[rows] = halves.t_statistic(indicator[rows], best)
+
+    relative = rank / (configurations + 1)
+    logits = np.log(relative / (1.0 - relative))
+    # 2 * rank <= N + 1 is the exact integer form of logit <= 0.
+    pbo = float(np.mean(2.0 * rank <= configurations + 1))
+    loss = float(np.mean(out_of_sample < 0))
+    quantiles = {q: float(v) for q, v in zip(_LOGIT_QUANTILE_LEVELS,
+                                             np.quantile(logits, _LOGIT_QUANTILE_LEVELS))}
+
+    slope = intercept = r_squared = None
+    finite = np.isfinite(in_sample) & np.isfinite(out_of_sample)
+    if not finite.all():
+        messages.append(
+            f"degradation line fitted on {int(finite.sum())} of {combinations} splits; the rest "
+            "have an infinite statistic (zero-variance half-sample)"
+        )
+    x, y = in_sample[finite], out_of_sample[finite]
+    if x.size >= 3 and np.ptp(x) > 0:
+        # Ordinary least squares y = intercept + slope * x.
+        dx, dy = x - x.mean(), y - y.mean()
+        sxx, sxy, syy = float(dx @ dx), float(dx @ dy), float(dy @ dy)
+        slope = sxy / sxx
+        intercept = float(y.mean()) - slope * float(x.mean())
+        r_squared = sxy * sxy / (sxx * syy) if syy > 0 else 0.0
+    else:
+        messages.append(
+            "degradation line not computed: the selected configuration's in-sample statistic "
+            "does not vary across splits (or fewer than 3 finite splits)"
+        )
+
+    if cache is not None:
+        chunks = (cache[i:i + step] for i in range(0, combinations, step))
+    else:
+        chunks = (halves(indicator[i:i + step]) for i in range(0, combinations, step))
+    dominance = _dominance(out_of_sample, chunks, combinations * configurations)
+    del cache
+    if dominance["second_order_dominance"] is None:
+        messages.append(
+            "second-order dominance and the pooled out-of-sample mean not computed: some "
+            "out-of-sample statistics are infinite (zero-variance half-samples)"
+        )
+
+    null = 0.5 if configurations % 2 == 0 else (configurations + 1) / (2 * configurations)
+    in_sample_blocks = np.nonzero(indicator)[1].reshape(combinations, used // 2)
+    for message in messages:
+        warnings.warn(message, SweepAuditWarning, stacklevel=2)
+    return CscvResult(
+        probability_of_overfitting=pbo,
+        probability_of_loss=loss,
+        logits=logits,
+        logit_quantiles=quantiles,
+        degradation_slope=slope,
+        degradation_intercept=intercept,
+        degradation_r_squared=r_squared,
+        in_sample=in_sample,
+        out_of_sample=out_of_sample,
+        selected=selected,
+        out_of_sample_rank=rank,
+        relative_rank=relative,
+        in_sample_blocks=in_sample_blocks,
+        in_sample_t_statistic=t_statistic,
+        median_out_of_sample=float(np.median(out_of_sample)),
+        null_probability_of_overfitting=null,
+        statistic=statistic,
+        partitions=used,
+        partitions_requested=int(partitions),
+        combinations=combinations,
+        windows=windows,
+        configurations=configurations,
+        block_bounds=bounds,
+        block_rule=_BLOCK_RULE,
+        warnings=tuple(messages),
+        **dominance,
+    )
+
+
+def _dominance(selected_oos, chunks, pooled_size) -> dict:
+    """Stochastic dominance of the selected out-of-sample statistic over the pooled one.
+
+    Every half-sample is out-of-sample for exactly one split, so the pooled sample is the
+    statistic of every configuration on every half-sample (``chunks`` yields them).
+    """
+    points = np.unique(selected_oos)  # sorted; may include +-inf
+    counts = np.zeros(points.size + 1)
+    sums = np.zeros(points.size + 1)
+    pooled_total = 0.0
+    pooled_nonfinite = 0
+    locate = _SlotFinder(points, pooled_size // 4)
+    for values in chunks:
+        values = values.ravel()
+        slot = locate(values)  # number of selected values strictly below each pooled value
+        counts += np.bincount(slot, minlength=points.size + 1)
+        finite = np.isfinite(values)
+        if finite.all():
+            sums += np.bincount(slot, weights=values, minlength=points.size + 1)
+            pooled_total += values.sum()
+        else:
+            pooled_nonfinite += int(values.size - finite.sum())
+    # F_pooled(x_k) = share of pooled values <= x_k, i.e. with slot <= k.
+    pooled_cdf = np.cumsum(counts)[:-1] / pooled_size
+    selected_cdf = np.searchsorted(np.sort(selected_oos), points, side="right") / selected_oos.size
+    first = float(max(0.0, np.max(selected_cdf - pooled_cdf)))
+
+    second: float | None = None
+    pooled_mean: float | None = None
+    if pooled_nonfinite == 0 and np.all(np.isfinite(selected_oos)):
+        # E[(x - X)^+] = x F(x) - E[X 1{X <= x}] at every selected value, plus x -> inf.
+        pooled_lpm = points * pooled_cdf - np.cumsum(sums)[:-1] / pooled_size
+        sel_sorted = np.sort(selected_oos)
+        sel_partial = np.cumsum(sel_sorted)[np.searchsorted(sel_sorted, points, side="right") - 1]
+        selected_lpm = points * selected_cdf - sel_partial / selected_oos.size
+        pooled_mean = pooled_total / pooled_size
+        gaps = np.append(selected_lpm - pooled_lpm, pooled_mean - float(np.mean(selected_oos)))
+        # Rounding in the partial sums: differences below this scale count as ties.
+        scale = 1e-12 * max(1.0, float(np.max(np.abs(points))))
+        second = float(np.max(gaps, initial=0.0))
+        second = 0.0 if second <= scale else second
+    return {
+        "first_order_dominance": first == 0.0,
+        "first_order_violation": first,
+        "second_order_dominance": None if second is None else second == 0.0,
+        "second_order_violation": second,
+        "pooled_out_of_sample_mean": pooled_mean,
+    }
+
+
+class _SlotFinder:
+    """``np.searchsorted(points, values, side="left")`` through a uniform-bin lookup table.
+
+    The bin of a value is a monotone function of it, so a value whose bin holds no point has as
+    many points below it as all lower bins hold; only values sharing a bin with a point need the
+    binary search. Exact, and several times faster than searching every value.
+    """
+
+    def __init__(self, points: np.ndarray, values_expected: int) -> None:
+        self.points = points
+        finite = points[np.isfinite(points)]
+        self.trivial = finite.size == 0 or finite[0] == finite[-1]
+        if self.trivial:
+            return
+        self.low = float(finite[0])
+        # Enough bins that few values share one with a point, never many more than values.
+        self.bins = int(np.clip(64 * points.size, 1024, min(_DOMINANCE_BINS, values_expected)))
+        self.scale = self.bins / (float(finite[-1]) - self.low)
+        point_bins = self._bins(points)
+        per_bin = np.bincount(point_bins, minlength=self.bins + 1)
+        self.below = np.concatenate([[0], np.cumsum(per_bin)[:-1]])
+        self.shared = per_bin > 0
+
+    def _bins(self, values: np.ndarray) -> np.ndarray:
+        # Monotone in the value; values below the lowest point share bin 0 with it and those above
+        # the top share the last bin, so both go through the exact search. Values are never NaN.
+        with np.errstate(invalid="ignore", over="ignore"):
+            scaled = values - self.low
+            scaled *= self.scale
+            np.clip(scaled, 0.0, float(self.bins), out=scaled)
+        return scaled.astype(np.int64)
+
+    def __call__(self, values: np.ndarray) -> np.ndarray:
+        if self.trivial:
+            return np.searchsorted(self.points, values, side="left")
+        bins = self._bins(values)
+        slot = self.below[bins]
+        exact = np.flatnonzero(self.shared[bins])
+        slot[exact] = np.searchsorted(self.points, values[exact], side="left")
+        return slot
+
+
+@dataclass(frozen=True)
+class OverfittingDiagnosis:
+    """Result of :func:`overfitting_diagnosis`.
+
+    Attributes
+    ----------
+    case : {"robust", "shared_edge", "no_edge", "overfit"}
+        ``robust``: the in-sample winner ranks well and earns out of sample. ``shared_edge``: it
+        earns out of sample but ranks no better than a random pick, because several
+        configurations share the edge. ``overfit``: its in-sample result stood out beyond what
+        the best of N noise configurations reaches, yet it loses out of sample too often.
+        ``no_edge``: nothing stands out even in sample and the winner loses too often.
+    passed : bool
+        True for ``robust`` and ``shared_edge``.
+    probability_of_overfitting, probability_of_loss : float
+        The CSCV figures the rule read.
+    in_sample_strength_share : float
+        Share of splits whose in-sample winner's t-statistic exceeds ``strength_threshold``.
+    strength_threshold : float
+        The 95% quantile of the maximum of N independent standard normals,
+        ``Phi^-1(0.95 ** (1 / N))``.
+    max_probability_of_overfitting, max_probability_of_loss, min_strength_share : float
+        Thresholds used.
+    reason : str
+        One sentence quoting the figures and thresholds.
+    """
+
+    case: OverfittingCase
+    passed: bool
+    probability_of_overfitting: float
+    probability_of_loss: float
+    in_sample_strength_share: float
+    strength_threshold: float
+    max_probability_of_overfitting: float
+    max_probability_of_loss: float
+    min_strength_share: float
+    reason: str
+
+
+def _validate_diagnosis(result, thresholds: dict[str, float]) -> None:
+    if not isinstance(result, CscvResult):
+        raise InputError(f"result must be a CscvResult from cscv(); got {type(result).__name__}")
+    for name, value in thresholds.items():
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not 0 <= value <= 1:
+            raise InputError(f"{name} must be a number in [0, 1]; got {value!r}")
+
+
+def overfitting_diagnosis(
+    result: CscvResult,
+    *,
+    max_probability_of_overfitting: float = 0.25,
+    max_probability_of_loss: float = 0.2,
+    min_strength_share: float = 0.15,
+) -> OverfittingDiagnosis:
+    """Read a CSCV result: is the in-sample winner's out-of-sample edge real, and why (not)?
+
+    Parameters
+    ----------
+    result : CscvResult
+        Output of :func:`cscv`.
+    max_probability_of_overfitting : float, default 0.25
+        PBO at or below which the winner counts as ranking well out of sample ("robust");
+        above it, a passing sweep is "shared_edge". Chosen from the simulation in
+        ``benchmarks/overfitting_rule_study.py``.
+    max_probability_of_loss : float, default 0.2
+        Largest share of splits in which the winner may lose out of sample and still pass.
+        Chosen from the same simulation (pure noise stays above it).
+    min_strength_share : float, default 0.15
+        Share of splits with an in-sample winner beyond the noise maximum above which a failing
+        sweep is "overfit" rather than "no_edge".
+
+    Returns
+    -------
+    OverfittingDiagnosis
+
+    Notes
+    -----
+    PBO (Bailey, Borwein, Lopez de Prado and Zhu 2017) measures whether picking the in-sample
+    winner beats picking a configuration at random out of sample. It sits near 1/2 both when
+    nothing has an edge and when many configurations share one, so it cannot decide alone. The
+    rule (docs/overfitting_rule.md):
+
+    1. ``probability_of_loss <= max_probability_of_loss``: passed; ``robust`` when
+       ``probability_of_overfitting <= max_probability_of_overfitting``, else ``shared_edge``.
+    2. Otherwise failed; ``overfit`` when the share of splits whose in-sample winner has a
+       t-statistic above ``Phi^-1(0.95 ** (1 / N))`` (95% quantile of the best of N independent
+       noise configurations; correlated configurations reach less, so this errs towards
+       ``no_edge``) is at least ``min_strength_share``, else ``no_edge``.
+    """
+    thresholds = {
+        "max_probability_of_overfitting": max_probability_of_overfitting,
+        "max_probability_of_loss": max_probability_of_loss,
+        "min_strength_share": min_strength_share,
+    }
+    _validate_diagnosis(result, thresholds)
+    pbo = result.probability_of_overfitting
+    loss = result.probability_of_loss
+    strength_threshold = float(special.ndtri(0.95 ** (1.0 / result.configurations)))
+    strength = float(np.mean(result.in_sample_t_statistic > strength_threshold))
+    case: OverfittingCase
+    if loss <= max_probability_of_loss:
+        if pbo <= max_probability_of_overfitting:
+            case = "robust"
+            reason = (f"the in-sample winner loses out of sample in {loss:.0%} of splits (at most "
+                      f"{max_probability_of_loss:.0%} allowed) and PBO is {pbo:.2f} (at most "
+                      f"{max_probability_of_overfitting:.2f})")
+        else:
+            case = "shared_edge"
+            reason = (f"the in-sample winner loses out of sample in only {loss:.0%} of splits (at "
+                      f"most {max_probability_of_loss:.0%} allowed) although PBO is {pbo:.2f} "
+                      f"(above {max_probability_of_overfitting:.2f}): several configurations "
+                      "appear to share the edge, so picking the winner adds little")
+    elif strength >= min_strength_share:
+        case = "overfit"
+        reason = (f"the in-sample winner stands out beyond the best of {result.configurations} "
+                  f"noise configurations in {strength:.0%} of splits (at least "
+                  f"{min_strength_share:.0%}) but loses out of sample in {loss:.0%} of splits "
+                  f"(more than {max_probability_of_loss:.0%}); PBO is {pbo:.2f}")
+    else:
+        case = "no_edge"
+        reason = (f"the in-sample winner loses out of sample in {loss:.0%} of splits (more than "
+                  f"{max_probability_of_loss:.0%}) and stands out beyond the best of "
+                  f"{result.configurations} noise configurations in only {strength:.0%} of "
+                  f"splits (below {min_strength_share:.0%}); PBO is {pbo:.2f}")
+    return OverfittingDiagnosis(
+        case=case,
+        passed=case in ("robust", "shared_edge"),
+        probability_of_overfitting=pbo,
+        probability_of_loss=loss,
+        in_sample_strength_share=strength,
+        strength_threshold=strength_threshold,
+        max_probability_of_overfitting=float(max_probability_of_overfitting),
+        max_probability_of_loss=float(max_probability_of_loss),
+        min_strength_share=float(min_strength_share),
+        reason=reason,
+    )

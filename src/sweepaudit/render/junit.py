@@ -1,0 +1,95 @@
+"""JUnit XML (``--junit PATH``): each check as a test case, for CI systems' test reports.
+
+Formats the audit JSON document only. Layout::
+
+    <testsuites name="sweepaudit" tests failures errors skipped time>
+      <testsuite name="sweepaudit" tests failures errors skipped time timestamp>
+        <properties> verdict, selected configuration, input, policy source, ... </properties>
+        <testcase classname="sweepaudit.checks" name="<check id>" time="0">
+          required check failed:  <failure message="<reason>" type="required">...</failure>
+          advisory check failed:  <skipped message="advisory: <reason>"/>
+          passed:                 <system-out><reason></system-out>
+        </testcase>
+
+An advisory failure is reported as skipped: CI test reports show it apart from passes without
+marking the build red, which matches its meaning (reported, no effect on the verdict). ``errors``
+is always 0: an audit that cannot run writes no JUnit file and exits with status 2.
+"""
+
+from __future__ import annotations
+
+import xml.etree.ElementTree as ET
+from datetime import datetime, timezone
+
+__all__ = ["audit_to_junit"]
+
+
+def _number(x) -> str:
+    return "null" if x is None else f"{x:.6g}" if isinstance(x, float) else str(x)
+
+
+def audit_to_junit(document: dict, *, elapsed: float = 0.0, timestamp: datetime | None = None) -> str:
+    """The audit document as a JUnit XML string.
+
+    Parameters
+    ----------
+    document : dict
+        The audit JSON document.
+    elapsed : float
+        Seconds the audit took (the suite's ``time``).
+    timestamp : datetime, optional
+        When the audit ran (default now); written in UTC without a zone suffix, as JUnit expects.
+    """
+    checks = document["checks"]
+    failures = sum(1 for c in checks if not c["passed"] and c["required"])
+    skipped = sum(1 for c in checks if not c["passed"] and not c["required"])
+    counts = {
+        "tests": str(len(checks)),
+        "failures": str(failures),
+        "errors": "0",
+        "skipped": str(skipped),
+        "time": f"{elapsed:.3f}",
+    }
+    when = (timestamp or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(tzinfo=None)
+    root = ET.Element("testsuites", {"name": "sweepaudit", **counts})
+    suite = ET.SubElement(
+        root, "testsuite", {"name": "sweepaudit", **counts, "timestamp": when.isoformat(timespec="seconds")}
+    )
+    props = ET.SubElement(suite, "properties")
+    inp = document.get("input", {})
+    settings = document.get("settings", {})
+    ledger = document.get("ledger")
+    values = {
+        "verdict": document["verdict"],
+        "selected_configuration": document["selected"]["configuration"],
+        "selection_rule": document["selected"]["rule"],
+        "input": inp.get("path"),
+        "input_sha256": inp.get("sha256"),
+        "configurations": inp.get("configurations"),
+        "windows": inp.get("windows"),
+        "policy_source": document.get("policy_source", "defaults"),
+        "seed": settings.get("seed"),
+        "resamples": settings.get("resamples"),
+        "tool_version": document.get("tool", {}).get("version"),
+    }
+    if ledger:
+        values["trials_used"] = ledger.get("trials_used")
+    if document.get("baseline"):
+        values["baseline"] = document["baseline"]["path"]
+    for name, value in values.items():
+        if value is not None:
+            ET.SubElement(props, "property", {"name": name, "value": str(value)})
+    for c in checks:
+        case = ET.SubElement(
+            suite, "testcase", {"classname": "sweepaudit.checks", "name": c["id"], "time": "0"}
+        )
+        figures = f"value {_number(c['value'])}, threshold {_number(c['threshold'])}"
+        if c["passed"]:
+            ET.SubElement(case, "system-out").text = f"{c['reason']} ({figures})"
+        elif c["required"]:
+            failure = ET.SubElement(case, "failure", {"message": c["reason"], "type": "required"})
+            failure.text = f"{c['reason']}\n{figures}; verdict {document['verdict']}"
+        else:
+            ET.SubElement(case, "skipped", {"message": f"advisory: {c['reason']}"})
+    ET.indent(root)
+    return '<?xml version="1.0" encoding="utf-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"
