@@ -406,6 +406,7 @@ def test_cli_calibrate_runs_and_writes_json(sweep_csv, tmp_path):
     assert {c["id"] for c in doc["null"]["checks"]} >= {"enough_windows", "mean_interval"}
     assert doc["settings"]["resamples"] == 199
     assert "--sweeps 4" in doc["command"] and "False-go rate" in result.output
+    assert "auditing simulated sweeps" not in result.output  # no progress bar off a terminal
 
 
 def test_cli_calibrate_bad_input_exits_2(sweep_csv, tmp_path):
