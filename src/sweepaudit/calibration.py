@@ -67,9 +67,13 @@ __all__ = [
     "simulate_short_record",
     "plant_edge",
     "per_window_edge",
+    "plateau_columns",
+    "spread_columns",
     "calibrate_verdict",
     "null_like",
     "calibrate_sweep",
+    "calibration_to_dict",
+    "sweep_calibration_to_dict",
 ]
 
 BlockSeries = Literal["average", "selected"]
@@ -1112,5 +1116,3 @@ def sweep_calibration_to_dict(result: SweepCalibration, *, command: str | None =
         "command": command,
     }
 
-
-__all__ += ["calibration_to_dict", "sweep_calibration_to_dict", "plateau_columns", "spread_columns"]
