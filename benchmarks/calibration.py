@@ -181,7 +181,14 @@ def markdown(doc: dict) -> str:
         "",
         "## Findings",
         "",
+        "Stated from the figures by the generator; the policy defaults are the lead's decision.",
+        "",
         *[f"- {s}" for s in findings(rows, level)],
+        "",
+        "How to read the tables: a false-go rate well under the significance level means the verdict is "
+        "conservative on that family (it buys safety with power); the check columns show which check "
+        "does the work (a required check that fails in nearly every null sweep is the one keeping the "
+        "false-go rate down, and it is also the one that costs power in the alternatives).",
         "",
         "## Null families: false-go rate (target: at most the significance level)",
         "",
