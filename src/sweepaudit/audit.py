@@ -15,6 +15,7 @@ import numpy as np
 
 from .errors import InputError, SweepAuditWarning
 from .methods.bootstrap_ci import BootstrapIntervals, IntervalMethod, bootstrap_intervals
+from .methods.cscv import CscvResult, OverfittingDiagnosis, cscv, overfitting_diagnosis
 from .methods.haircut import HaircutSharpe, haircut_sharpe
 from .methods.trials import SharpeInference, sharpe_inference
 from .policy import DEFAULT_POLICY, Policy
@@ -88,6 +89,8 @@ class AuditResults:
     warnings: tuple[str, ...]
     sharpe: SharpeInference | None = None
     haircut: HaircutSharpe | None = None
+    overfitting: CscvResult | None = None
+    overfitting_diagnosis: OverfittingDiagnosis | None = None
     verdict: Verdict | None = field(default=None)
     # Filled by the CLI when the audit is compared with an earlier one (--baseline); read by the
     # baseline_drift check.
@@ -173,6 +176,15 @@ def audit(
             tests=inference.trials,
             periods_per_year=sweep.periods_per_year,
         )
+        overfit = diagnosis = None
+        if sweep.n_configurations >= 2:
+            overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
+            diagnosis = overfitting_diagnosis(
+                overfit,
+                max_probability_of_overfitting=policy.max_probability_of_overfitting,
+                max_probability_of_loss=policy.max_probability_of_loss,
+                min_strength_share=policy.min_strength_share,
+            )
 
     notes = list(sweep.notes) + list(inference.warnings)
     notes += [str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning)]
@@ -199,5 +211,7 @@ def audit(
         warnings=tuple(notes),
         sharpe=inference,
         haircut=haircut,
+        overfitting=overfit,
+        overfitting_diagnosis=diagnosis,
     )
     return replace(results, verdict=decide(results, policy))

@@ -217,6 +217,22 @@ def _baseline_drift(results: AuditResults, policy: Policy) -> Check | None:
     return Check("baseline_drift", True, worst.worsening, worst.allowed, reason)
 
 
+@check("overfitting")
+def _overfitting(results: AuditResults, policy: Policy) -> Check | None:
+    d = results.overfitting_diagnosis
+    if d is None:
+        return None
+    meaning = {
+        "robust": "picking the in-sample winner holds up out of sample",
+        "shared_edge": "several configurations share the edge, so the choice among them matters "
+        "little but the edge itself holds up out of sample",
+        "overfit": "the in-sample winner is a product of the selection and does not hold up out of sample",
+        "no_edge": "nothing in the sweep holds up out of sample",
+    }[d.case]
+    reason = f"CSCV finds this sweep {d.case.replace('_', ' ')}: {d.reason}; {meaning}."
+    return Check("overfitting", d.passed, d.probability_of_loss, d.max_probability_of_loss, reason)
+
+
 def decide(results: AuditResults, policy: Policy) -> Verdict:
     """Run every registered check; the verdict is go only when every required check passes.
 

@@ -88,6 +88,9 @@ def _sections(doc: dict) -> list:
     sh = doc["results"].get("sharpe")
     if sh:
         parts.append(_sharpe_table(sh, ppy))
+    ov = doc["results"].get("overfitting")
+    if ov:
+        parts.append(_overfitting_table(ov))
 
     checks = Table(title="Checks", title_justify="left")
     checks.add_column("check")
@@ -109,6 +112,25 @@ def _sections(doc: dict) -> list:
         parts.append(w)
     parts.append(Text(doc["caution"], style="italic"))
     return parts
+
+
+def _overfitting_table(ov: dict) -> Table:
+    t = Table(title=f"Overfitting: CSCV over {ov['combinations']:,} splits of {ov['partitions']} blocks "
+              f"({ov['statistic']})", title_justify="left", show_header=False)
+    t.add_column("figure")
+    t.add_column("value")
+    t.add_row("probability of backtest overfitting (PBO)",
+              f"{prob(ov['probability_of_overfitting'])}  (pure luck: {prob(ov['null_probability_of_overfitting'])})")
+    t.add_row("in-sample winner loses out of sample", prob(ov["probability_of_loss"]))
+    deg = ov["degradation"]
+    t.add_row("degradation: out-of-sample = a + b x in-sample",
+              f"b = {fmt(deg['slope'], 3)}, a = {fmt(deg['intercept'], 3)}, R^2 = {fmt(deg['r_squared'], 3)}")
+    sd = ov["stochastic_dominance"]
+    t.add_row("winner dominates a random pick (1st / 2nd order)",
+              f"{'yes' if sd['first_order'] else 'no'} / "
+              f"{'-' if sd['second_order'] is None else ('yes' if sd['second_order'] else 'no')}")
+    t.add_row("diagnosis", ov["diagnosis"]["case"].replace("_", " "))
+    return t
 
 
 def _sharpe_table(sh: dict, ppy) -> Table:
