@@ -599,3 +599,11 @@ def test_gathered_moments_match_the_shared_engine():
     gathered = gathered_moments(x, resamples.indices())
     np.testing.assert_allclose(gathered.mean, engine.mean, rtol=0, atol=1e-13)
     np.testing.assert_allclose(gathered.second, engine.second, rtol=0, atol=1e-13)
+
+
+def test_moment_chunk_bounds():
+    from sweepaudit.methods.snooping import moment_chunk
+
+    assert moment_chunk(2000) == 2048
+    assert moment_chunk(10) == 4096
+    assert moment_chunk(10**6) == 256

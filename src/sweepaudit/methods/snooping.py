@@ -88,6 +88,7 @@ __all__ = [
     "StepRecentring",
     "StepwiseResult",
     "SuperiorPredictiveAbility",
+    "moment_chunk",
     "reality_check",
     "stepwise_superior",
     "superior_predictive_ability",
@@ -271,7 +272,7 @@ def _obtain_moments(
                 f"resamples must be drawn for the T = {t} windows of returns; "
                 f"got resamples of {resamples.windows} windows"
             )
-        return resampled_moments(x, resamples)
+        return resampled_moments(x, resamples, chunk=moment_chunk(t))
     if not isinstance(moments, ResampledMoments):
         raise InputError(f"moments must be a ResampledMoments; got {type(moments).__name__}")
     mean = np.asarray(moments.mean)
@@ -291,6 +292,17 @@ def _obtain_moments(
             f"resamples has {resamples.count}"
         )
     return moments
+
+
+def moment_chunk(windows: int) -> int:
+    """Resamples per ``weights @ returns`` product: about 32 MB of weights, 256 to 4,096 rows.
+
+    A memory knob only (the engine's figures do not depend on it), but products of 256 rows run
+    about half as fast as products of 2,048 rows with OpenBLAS at T = 2,000 (measured; see
+    ``docs/snooping_performance.md``).
+    """
+    rows = (2**22 // max(int(windows), 1)) // 256 * 256
+    return max(256, min(4096, rows))
 
 
 def _validate_block(column_block: int) -> int:
@@ -352,7 +364,7 @@ def _omega(source: Callable[[], ColumnBlocks], n: int, t: int) -> np.ndarray:
     """Bootstrap standard deviation of sqrt(n) * mean*_k (divisor B), one pass over the blocks."""
     omega = np.empty(n)
     for cols, block in source():
-        omega[cols] = np.sqrt(t * np.var(block, axis=0))
+        omega[cols] = np.sqrt(t * np.var(np.asfortranarray(block), axis=0))
     return omega
 
 
@@ -514,7 +526,9 @@ def superior_predictive_ability(
     nulls = {name: np.full(count, -np.inf) for name in ("lower", "consistent", "upper")}
     # One pass over the column blocks: omega, the recentring and the three maxima per block.
     for cols, piece in source():
-        variance_of_mean = np.var(piece, axis=0)
+        # Column-contiguous copy: each column's variance is then summed the same way whatever
+        # the block width, so column blocks never change a figure (not even the last bit).
+        variance_of_mean = np.var(np.asfortranarray(piece), axis=0)
         omega[cols] = np.sqrt(t * variance_of_mean)
         if studentize:
             _check_omega(omega[cols], cols.start)
