@@ -9,7 +9,7 @@ Usage (from the worktree root)::
     PYTHONPATH=src /work/main/.venv/bin/python benchmarks/snooping_speed.py            # full
     PYTHONPATH=src /work/main/.venv/bin/python benchmarks/snooping_speed.py --quick    # small
 
-The data are synthetic: correlated normal excess returns, one configuration with a small edge.
+The data are synthetic: correlated normal excess returns, five configurations with an edge.
 """
 
 from __future__ import annotations
@@ -34,11 +34,12 @@ BLOCK_LENGTH = 10
 
 
 def synthetic_sweep(windows: int, configurations: int, seed: int = 20) -> np.ndarray:
-    """Synthetic excess returns (not market data): a common factor plus noise, one small edge."""
+    """Synthetic excess returns (not market data): a common factor plus noise; five configurations
+    have edges of 0.05 to 0.25 standard deviations per window, so StepM takes several steps."""
     rng = np.random.default_rng(seed)
     common = rng.standard_normal((windows, 1))
     x = 0.6 * common + 0.8 * rng.standard_normal((windows, configurations))
-    x[:, 0] += 0.05
+    x[:, :5] += np.array([0.25, 0.2, 0.15, 0.1, 0.05])
     return x * 0.01
 
 

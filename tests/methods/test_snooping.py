@@ -16,6 +16,8 @@ Verified against an outside reference
   configurations, fat tails) within a binomial tolerance of the 5% level, and power with one real
   edge (theory: a level-alpha test rejects a true null at most alpha of the time).
 
+Equation and algorithm numbers of the papers are cited from memory.
+
 Internal consistency only
 - ``pvalue_lower <= pvalue <= pvalue_upper``; results do not depend on ``column_block``; moments
   given or computed from resamples give the same figures; the include-observed critical value

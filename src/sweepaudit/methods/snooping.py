@@ -9,6 +9,8 @@ resamples, consumed as a precomputed :class:`~sweepaudit.resample.ResampledMomen
 When no moments are given, :func:`~sweepaudit.resample.resampled_moments` computes them from the
 :class:`~sweepaudit.resample.Resamples`.
 
+Equation, section and algorithm numbers cited below are from memory of the papers.
+
 Conventions
 -----------
 Scale
