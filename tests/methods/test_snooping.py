@@ -117,16 +117,9 @@ def test_unstudentized_spa_equals_arch_lower_consistent_upper(seed):
     assert ours.pvalue == spa.pvalues["consistent"]
     assert ours.pvalue_upper == spa.pvalues["upper"]
     np.testing.assert_allclose(ours.omega**2, spa._loss_diff_var, rtol=1e-10)
-    # the data make the three recentrings differ: columns 4 and 5 fall below the threshold
+    # the data make the recentrings differ: columns 4 and 5 fall below the threshold
     assert not ours.relevant.all()
-
-
-def test_unstudentized_spa_recentrings_differ_on_this_data():
-    # guards the test above against data on which the three p-values trivially coincide
-    x = synthetic_sweep(5, means=(0.05, 0.03, 0.0, -0.02, -0.05, -0.6))
-    m = resampled_moments(x, draw_resamples(x.shape[0], count=999, block_length=5, seed=1))
-    res = superior_predictive_ability(x, moments=m, studentize=False)
-    assert res.pvalue_lower < res.pvalue_upper
+    assert ours.pvalue_lower < ours.pvalue_upper
 
 
 def stepm_data(seed):
@@ -151,7 +144,7 @@ def test_stepm_equals_arch_stepm_with_consistent_recentring(seed):
         counting="strict-share",
     )
     assert list(ours.significant) == sorted(int(k) for k in arch_stepm.superior_models)
-    assert len(ours.significant) >= 2
+    assert len(ours.significant) >= 2 and ours.steps >= 2
 
 
 def test_stepm_upper_equals_arch_when_every_configuration_is_relevant():

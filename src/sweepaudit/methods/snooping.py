@@ -380,13 +380,19 @@ def _maximum_over_blocks(
     """``max_k (mean*_{k,b} - centre_k) * scale_k`` over the kept columns, per resample b."""
     out = np.full(resamples, -np.inf)
     for cols, block in source():
-        z = block - centre[cols]
-        if scale is not None:
-            z *= scale[cols]
-        if keep is not None:
-            z = z[:, keep[cols]]
-        if z.shape[1]:
-            np.maximum(out, z.max(axis=1), out=out)
+        c = centre[cols]
+        s = None if scale is None else scale[cols]
+        if keep is not None and not keep[cols].all():
+            # only the kept columns are recentred: StepM's later steps touch fewer columns
+            kept = np.flatnonzero(keep[cols])
+            if not kept.size:
+                continue
+            block, c = block[:, kept], c[kept]
+            s = None if s is None else s[kept]
+        z = block - c
+        if s is not None:
+            z *= s
+        np.maximum(out, z.max(axis=1), out=out)
     return out
 
 
@@ -528,27 +534,50 @@ def superior_predictive_ability(
     nulls = {name: np.full(count, -np.inf) for name in ("lower", "consistent", "upper")}
     # One pass over the column blocks: omega, the recentring and the three maxima per block.
     for cols, piece in source():
-        # Column-contiguous copy: each column's variance is then summed the same way whatever
-        # the block width, so column blocks never change a figure (not even the last bit).
-        variance_of_mean = np.var(np.asfortranarray(piece), axis=0)
-        omega[cols] = np.sqrt(t * variance_of_mean)
+        mu = mean[cols]
+        # Order the block's columns as [mean >= 0 | threshold <= mean < 0 | mean < threshold]:
+        # the recentred draws are then A = (mean* - mean) * scale or B = mean* * scale on
+        # contiguous column ranges, and the three maxima need two passes instead of three.
+        # The Fortran-ordered copy also sums each column's variance the same way whatever the
+        # block width, so column blocks never change a figure (not even the last bit).
+        order = np.argsort(mu < 0, kind="stable")
+        sorted_piece = np.asfortranarray(piece[:, order])
+        variance_of_mean = np.var(sorted_piece, axis=0)
+        block_omega = np.sqrt(t * variance_of_mean)
         if studentize:
-            _check_omega(omega[cols], cols.start)
-            scale = root_n / omega[cols]
+            _check_omega(block_omega[np.argsort(order)], cols.start)
+            scale = root_n / block_omega
         else:
             scale = np.full(piece.shape[1], root_n)
-        mu = mean[cols]
-        keep = mu >= -np.sqrt(variance_of_mean * factor)
-        relevant[cols] = keep
-        centres = {
-            "lower": np.maximum(mu, 0.0),
-            "consistent": np.where(keep, mu, 0.0),
-            "upper": mu,
-        }
-        for name, centre in centres.items():
-            z = piece - centre
-            z *= scale
-            np.maximum(nulls[name], z.max(axis=1), out=nulls[name])
+        mu_sorted = mu[order]
+        keep = mu_sorted >= -np.sqrt(variance_of_mean * factor)
+        # within the negative part, relevant columns (near zero) first
+        negative = int(np.count_nonzero(mu_sorted < 0))
+        start = piece.shape[1] - negative
+        tail = np.argsort(~keep[start:], kind="stable")
+        order[start:] = order[start:][tail]
+        sorted_piece[:, start:] = sorted_piece[:, start:][:, tail]
+        for values in (variance_of_mean, block_omega, scale, mu_sorted, keep):
+            values[start:] = values[start:][tail]
+        cut = start + int(np.count_nonzero(keep[start:]))
+        omega[cols.start + order] = block_omega
+        relevant[cols.start + order] = keep
+
+        a_draws = sorted_piece - mu_sorted
+        a_draws *= scale
+        upper = a_draws.max(axis=1)
+        positive_part = a_draws[:, :start].max(axis=1) if start else np.full(count, -np.inf)
+        near_part = a_draws[:, start:cut].max(axis=1) if cut > start else np.full(count, -np.inf)
+        del a_draws
+        b_draws = sorted_piece[:, start:] * scale[start:]
+        near_zero = b_draws[:, : cut - start].max(axis=1) if cut > start else np.full(count, -np.inf)
+        far_zero = b_draws[:, cut - start :].max(axis=1) if piece.shape[1] > cut else np.full(count, -np.inf)
+        # lower: g = max(mean, 0); consistent: g = mean if relevant else 0; upper: g = mean
+        lower = np.maximum(positive_part, np.maximum(near_zero, far_zero))
+        consistent = np.maximum(np.maximum(positive_part, near_part), far_zero)
+        np.maximum(nulls["lower"], lower, out=nulls["lower"])
+        np.maximum(nulls["consistent"], consistent, out=nulls["consistent"])
+        np.maximum(nulls["upper"], upper, out=nulls["upper"])
     for name in nulls:
         np.maximum(nulls[name], 0.0, out=nulls[name])
 
