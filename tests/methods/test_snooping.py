@@ -602,3 +602,15 @@ def test_moment_chunk_bounds():
     assert moment_chunk(2000) == 2048
     assert moment_chunk(10) == 4096
     assert moment_chunk(10**6) == 256
+
+
+def test_unstudentized_upper_spa_is_the_reality_check(sweep):
+    # Hansen (2005): with g(x) = x and no studentization the SPA is White's reality check
+    # (floored at zero, which changes nothing when the best sample mean is positive)
+    x, _, m = sweep
+    assert x.mean(axis=0).max() > 0
+    for counting in ("include-observed", "strict-share"):
+        rc = reality_check(x, moments=m, counting=counting)
+        spa = superior_predictive_ability(x, moments=m, studentize=False, counting=counting)
+        assert spa.pvalue_upper == rc.pvalue
+        assert spa.statistic == pytest.approx(rc.statistic, rel=1e-12)

@@ -362,12 +362,15 @@ def _check_omega(omega: np.ndarray, first_column: int = 0) -> None:
         )
 
 
-def _omega(source: Callable[[], ColumnBlocks], n: int, t: int) -> np.ndarray:
-    """Bootstrap standard deviation of sqrt(n) * mean*_k (divisor B), one pass over the blocks."""
-    omega = np.empty(n)
+def _variance_of_means(source: Callable[[], ColumnBlocks], n: int) -> np.ndarray:
+    """Bootstrap variance of mean*_k (divisor B), one pass over the blocks; omega^2 = n times it.
+
+    Fortran-ordered copies sum each column the same way whatever the block width.
+    """
+    variance = np.empty(n)
     for cols, block in source():
-        omega[cols] = np.sqrt(t * np.var(np.asfortranarray(block), axis=0))
-    return omega
+        variance[cols] = np.var(np.asfortranarray(block), axis=0)
+    return variance
 
 
 def _maximum_over_blocks(
@@ -661,7 +664,8 @@ def stepwise_superior(
     source = _stored_blocks(np.asarray(m.mean), block)
     if studentize:
         _check_constant(x)
-    omega = _omega(source, n, t)
+    variance_of_mean = _variance_of_means(source, n)
+    omega = np.sqrt(t * variance_of_mean)
     if studentize:
         _check_omega(omega)
         scale = root_n / omega
@@ -670,7 +674,8 @@ def stepwise_superior(
     if recentring == "upper":
         centre = mean
     else:
-        threshold = -(omega / root_n) * math.sqrt(_consistent_factor(t))
+        # the same threshold expression as superior_predictive_ability (Hansen 2005)
+        threshold = -np.sqrt(variance_of_mean * _consistent_factor(t))
         centre = np.where(mean >= threshold, mean, 0.0)
     statistics = mean * scale
 
