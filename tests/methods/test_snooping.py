@@ -604,10 +604,11 @@ def test_moment_chunk_bounds():
     assert moment_chunk(10**6) == 256
 
 
-def test_unstudentized_upper_spa_is_the_reality_check(sweep):
+def test_unstudentized_upper_spa_is_the_reality_check():
     # Hansen (2005): with g(x) = x and no studentization the SPA is White's reality check
     # (floored at zero, which changes nothing when the best sample mean is positive)
-    x, _, m = sweep
+    x = synthetic_sweep(12, t=160, means=(0.15, 0.05, 0.0, -0.1, -0.4))
+    m = resampled_moments(x, draw_resamples(160, count=399, block_length=4, seed=12))
     assert x.mean(axis=0).max() > 0
     for counting in ("include-observed", "strict-share"):
         rc = reality_check(x, moments=m, counting=counting)
