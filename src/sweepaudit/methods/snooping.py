@@ -1,4 +1,4 @@
-"""Data-snooping tests over a whole sweep: White's reality check, Hansen's SPA and Romano-Wolf StepM.
+"""Data-snooping tests over a sweep: White's reality check, Hansen's SPA and Romano-Wolf StepM.
 
 All three ask whether the best of N configurations beats the benchmark by more than the luck of
 picking the best would explain. The null hypothesis is "no configuration has a positive expected
@@ -39,7 +39,7 @@ Differences from ``arch.bootstrap.SPA`` / ``StepM`` (the reference in the tests)
       studentized by default, as in Hansen (2005, eq. 6); with ``studentize=False`` it is arch's
       statistic floored at zero, so all three p-values coincide with arch's whenever some
       configuration has a positive sample mean (and arch's ``nested=True`` variance is used).
-    * Our reality check p-value equals arch's "upper" SPA p-value (with ``counting="strict-share"``).
+    * Our reality check p-value equals arch's "upper" SPA p-value (``counting="strict-share"``).
     * arch's StepM recentres with the consistent rule; Romano and Wolf (2005) recentre every
       configuration at its sample mean. ``stepwise_superior`` follows the paper by default and
       offers ``recentring="consistent"`` (the stepwise SPA of Hsu, Hsu and Kuan 2010), which with
@@ -155,7 +155,8 @@ class SuperiorPredictiveAbility:
     studentized : bool
         Whether the statistic divides by ``omega``.
     null_lower, null_consistent, null_upper : ndarray, shape (B,)
-        Bootstrap null distributions ``max(max_k sqrt(n) * (mean*_{k,b} - g(mean_k)) / omega_k, 0)``.
+        Bootstrap null distributions, one value per resample:
+        ``max(max_k sqrt(n) * (mean*_{k,b} - g(mean_k)) / omega_k, 0)``.
     counting : {"include-observed", "strict-share"}
         How the p-values count.
     """
@@ -254,7 +255,9 @@ def _validate_level(level: float) -> float:
     try:
         value = float(level)
     except (TypeError, ValueError):
-        raise InputError(f"level must be a number strictly between 0 and 1; got {level!r}") from None
+        raise InputError(
+            f"level must be a number strictly between 0 and 1; got {level!r}"
+        ) from None
     if not 0.0 < value < 1.0:
         raise InputError(f"level must lie strictly between 0 and 1; got {level!r}")
     return value
@@ -266,7 +269,9 @@ def _obtain_moments(
     t, n = x.shape
     if moments is None:
         if resamples is None:
-            raise InputError("give either moments (ResampledMoments) or resamples (Resamples); got neither")
+            raise InputError(
+                "give either moments (ResampledMoments) or resamples (Resamples); got neither"
+            )
         if not isinstance(resamples, Resamples):
             raise InputError(f"resamples must be a Resamples; got {type(resamples).__name__}")
         if resamples.windows != t:
@@ -569,12 +574,13 @@ def superior_predictive_ability(
         a_draws = sorted_piece - mu_sorted
         a_draws *= scale
         upper = a_draws.max(axis=1)
-        positive_part = a_draws[:, :start].max(axis=1) if start else np.full(count, -np.inf)
-        near_part = a_draws[:, start:cut].max(axis=1) if cut > start else np.full(count, -np.inf)
+        none = np.full(count, -np.inf)
+        positive_part = a_draws[:, :start].max(axis=1) if start else none
+        near_part = a_draws[:, start:cut].max(axis=1) if cut > start else none
         del a_draws
         b_draws = sorted_piece[:, start:] * scale[start:]
-        near_zero = b_draws[:, : cut - start].max(axis=1) if cut > start else np.full(count, -np.inf)
-        far_zero = b_draws[:, cut - start :].max(axis=1) if piece.shape[1] > cut else np.full(count, -np.inf)
+        near_zero = b_draws[:, : cut - start].max(axis=1) if cut > start else none
+        far_zero = b_draws[:, cut - start :].max(axis=1) if piece.shape[1] > cut else none
         # lower: g = max(mean, 0); consistent: g = mean if relevant else 0; upper: g = mean
         lower = np.maximum(positive_part, np.maximum(near_zero, far_zero))
         consistent = np.maximum(np.maximum(positive_part, near_part), far_zero)
