@@ -54,7 +54,7 @@ Memory
     a figure. The internal reducers consume an iterator of ``(columns, resampled mean block)``
     pairs, so a source that computes resampled means block by block (when ``B x N`` does not fit in
     memory) can replace slicing a stored matrix without touching the statistics. The reality check
-    and SPA need one pass over the blocks; StepM one pass for omega (studentized) and one per step.
+    and SPA need one pass over the blocks; StepM one pass for omega and one per step.
 
 References
 ----------
