@@ -160,8 +160,20 @@ class Policy:
         low=0.0, high=1.0,
         source="sweepaudit's choice on simulation evidence (docs/overfitting_rule.md)",
     )
+    snooping_test: str = _f(
+        "spa",
+        "data-snooping p-value that gates: spa (Hansen's consistent p-value) or reality_check (White's)",
+        choices=("spa", "reality_check"),
+        source="Hansen (2005): the consistent SPA p-value is more powerful than the reality check",
+    )
+    snooping_studentize: bool = _f(
+        True,
+        "studentize the SPA statistic and StepM by each configuration's bootstrap standard deviation",
+        source="Hansen (2005) and Romano and Wolf (2005) studentize",
+    )
     required: tuple[str, ...] = _f(
-        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "overfitting", "baseline_drift"),
+        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "overfitting", "data_snooping",
+         "baseline_drift"),
         "checks that must pass for a go; the others are advisory",
         check_ids=True,
     )

@@ -88,6 +88,9 @@ def _sections(doc: dict) -> list:
     sh = doc["results"].get("sharpe")
     if sh:
         parts.append(_sharpe_table(sh, ppy))
+    sn = doc["results"].get("snooping")
+    if sn:
+        parts.append(_snooping_table(sn, doc["selected"]["configuration"]))
     ov = doc["results"].get("overfitting")
     if ov:
         parts.append(_overfitting_table(ov))
@@ -112,6 +115,28 @@ def _sections(doc: dict) -> list:
         parts.append(w)
     parts.append(Text(doc["caution"], style="italic"))
     return parts
+
+
+_STEPM_SHOWN = 10
+
+
+def _snooping_table(sn: dict, selected: str) -> Table:
+    t = Table(title="Data-snooping tests (null: no configuration beats the benchmark)",
+              title_justify="left", show_header=False)
+    t.add_column("figure")
+    t.add_column("value")
+    t.add_row("White's reality check p-value", prob(sn["reality_check"]["pvalue"]))
+    spa = sn["spa"]
+    t.add_row(f"Hansen's SPA p-value ({'studentized' if spa['studentized'] else 'not studentized'})",
+              f"consistent {prob(spa['pvalue'])}  (lower {prob(spa['pvalue_lower'])}, upper {prob(spa['pvalue_upper'])})")
+    st = sn["stepm"]
+    names = st["significant"]
+    shown = "; ".join(names[:_STEPM_SHOWN]) + (f", ... ({len(names) - _STEPM_SHOWN} more)" if len(names) > _STEPM_SHOWN else "")
+    t.add_row(f"StepM: beat the benchmark at {st['level']:g}", f"{len(names)}: {shown}" if names else "none")
+    t.add_row("selected configuration survives StepM",
+              "yes" if sn["selected_survives_stepm"] else f"NO: {selected} is not among them")
+    t.add_row("gate", f"{sn['gating']} p-value {prob(sn['gating_pvalue'])}")
+    return t
 
 
 def _overfitting_table(ov: dict) -> Table:
