@@ -64,7 +64,8 @@ def _sections(doc: dict) -> list:
     inp = doc["input"]
     data = Table(title="The data", show_header=False, box=None, title_justify="left")
     data.add_row("file", f"{inp['path']} ({inp['layout']} layout)")
-    data.add_row("sweep", f"{inp['configurations']:,} configurations x {inp['windows']:,} windows, "
+    plural = "s" if inp["configurations"] != 1 else ""
+    data.add_row("sweep", f"{inp['configurations']:,} configuration{plural} x {inp['windows']:,} windows, "
                           f"{inp['first_window']} to {inp['last_window']}")
     ppy = inp["periods_per_year"]
     data.add_row("periods per year", f"{fmt(ppy)} ({inp['periods_per_year_source']}"
