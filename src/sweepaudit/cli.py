@@ -21,6 +21,7 @@ from .load import LoadOptions, load_sweep
 from .policy import DEFAULT_POLICY
 from .render.files import write_atomic
 from .render.json import audit_to_dict, dumps
+from .render.report import check_report_path, write_report
 from .render.terminal import render_terminal
 
 EXIT_GO, EXIT_NO_GO, EXIT_BAD_INPUT = 0, 1, 2
@@ -148,6 +149,9 @@ def audit_command(
     ] = None,
     interval_method: Annotated[IntervalChoice, typer.Option(help="Bootstrap interval.")] = IntervalChoice.percentile,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the audit JSON here.")] = None,
+    report_path: Annotated[
+        Optional[Path], typer.Option("--report", help="Write the audit report here: .md (Markdown) or .html.")
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing; use the exit status.")] = False,
 ) -> None:
     """Audit the per-window excess returns of a parameter sweep and print a go / no-go verdict.
@@ -163,6 +167,8 @@ def audit_command(
     stderr = Console(stderr=True)
     try:
         _check_output(json_path, "JSON file")
+        if report_path is not None:
+            check_report_path(report_path)
         if resamples is not None and quick:
             raise SweepAuditError("give either --resamples or --quick, not both")
         options = LoadOptions(
@@ -195,6 +201,8 @@ def audit_command(
         document = audit_to_dict(results, command=reproduce_command(results, options))
         if json_path is not None:
             write_atomic(json_path, dumps(document))
+        if report_path is not None:
+            write_report(report_path, document, results)
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
     if not quiet:
