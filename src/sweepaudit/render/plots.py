@@ -85,8 +85,13 @@ _RASTERISE_POINTS = 1_000
 EULER_GAMMA = 0.5772156649
 
 
-def _new(width: float, height: float) -> MplFigure:
-    return MplFigure(figsize=(width, height), layout="constrained", facecolor=PALETTE["paper"])
+def _new(width: float, height: float, *, fitted: bool = False, left: float = 0.1, bottom: float = 0.14) -> MplFigure:
+    """A figure; ``fitted`` lays it out around labels of unknown length (slower: measures text)."""
+    if fitted:
+        return MplFigure(figsize=(width, height), layout="constrained", facecolor=PALETTE["paper"])
+    fig = MplFigure(figsize=(width, height), facecolor=PALETTE["paper"])
+    fig.subplots_adjust(left=left, right=0.97, bottom=bottom, top=0.9)
+    return fig
 
 
 def _svg(fig: MplFigure) -> bytes:
@@ -171,20 +176,25 @@ def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
 
     def draw():
         if n <= _NAMED_RANKING_LIMIT:
-            fig = _new(6.8, min(1.4 + 0.2 * n, 11.0))
+            shown = [_short(names[i]) for i in order]
+            # margin for the longest label (about 0.0085 of the width per character at 7-8 pt)
+            left = min(0.6, 0.05 + 0.0085 * max(len(t) for t in shown))
+            height = min(1.4 + 0.2 * n, 11.0)
+            fig = _new(6.8, height, left=left, bottom=0.5 / height)
+            fig.subplots_adjust(top=1 - 0.35 / height)
             ax = fig.add_subplot()
             y = np.arange(n)
             ax.hlines(y, low[order], high[order], color=PALETTE["steel"], linewidth=1.6, label=f"{level} interval")
             ax.plot(est[order], y, linestyle="none", marker="o", markersize=3.5, color=PALETTE["ink"], label="estimate")
             ax.plot(est[k], pos, linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
                     markeredgecolor=PALETTE["ink"], label="selected")
-            ax.set_yticks(y, [names[i] for i in order], fontsize=7 if n > 25 else 8)
+            ax.set_yticks(y, shown, fontsize=7 if n > 25 else 8)
             ax.get_yticklabels()[pos].set_fontweight("bold")
             ax.axvline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
             ax.set_xlabel(label)
             ax.set_ylim(-0.7, n - 0.3)
         else:
-            fig = _new(7.2, 3.8)
+            fig = _new(7.2, 3.8, left=0.1)
             ax = fig.add_subplot()
             x = np.arange(1, n + 1)
             many = n > _RASTERISE_POINTS // 2
@@ -193,7 +203,7 @@ def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
             ax.plot(x, est[order], linestyle="-", linewidth=1.2, color=PALETTE["ink"], label="estimate")
             ax.plot(pos + 1, est[k], linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
                     markeredgecolor=PALETTE["ink"], label="selected")
-            ax.annotate(names[k], (pos + 1, est[k]), xytext=(-8, 12), textcoords="offset points",
+            ax.annotate(_short(names[k]), (pos + 1, est[k]), xytext=(-8, 12), textcoords="offset points",
                         ha="right", fontsize=8, arrowprops={"arrowstyle": "-", "color": PALETTE["ink"]})
             ax.axhline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
             ax.set_xlabel(f"rank of {n:,} configurations (worst to best)")
@@ -219,6 +229,11 @@ def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
 # ---------------------------------------------------------------------------------------------
 
 
+def _short(name: str, limit: int = 60) -> str:
+    """A configuration name short enough for an axis label (the tables keep the full name)."""
+    return name if len(name) <= limit else name[: limit - 1] + "\u2026"
+
+
 def _tick(v: Any) -> str:
     return figure(v) if isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool) else str(v)
 
@@ -235,7 +250,8 @@ def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
     a, b = results.sweep.parameters.columns
 
     def draw():
-        fig = _new(max(4.8, 1.2 + 0.6 * len(xs)), max(3.4, 1.2 + 0.45 * len(ys)))
+        fig = _new(max(4.8, 1.2 + 0.6 * len(xs)), max(3.4, 1.2 + 0.45 * len(ys)), left=0.12, bottom=0.22)
+        fig.subplots_adjust(right=0.84)  # room for the colour bar and its label
         ax = fig.add_subplot()
         masked = np.ma.masked_invalid(values)
         image = ax.imshow(masked, cmap=SURFACE_MAP, origin="lower", aspect="auto", interpolation="nearest")
@@ -258,9 +274,9 @@ def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
         ax.set_xlabel(str(a))
         ax.set_ylabel(str(b))
         ax.set_title(f"{label} over the parameter grid")
-        fig.colorbar(image, ax=ax, label=label)
+        fig.colorbar(image, ax=ax, label=label, fraction=0.06, pad=0.03)
         ax.legend(handles=[Patch(fill=False, edgecolor=PALETTE["rust"], hatch="////", linewidth=2, label="selected")],
-                  loc="upper left", bbox_to_anchor=(0, -0.12), ncols=1)
+                  loc="upper left", bbox_to_anchor=(0, -0.14), ncols=1)
         return fig
 
     return _figure(
@@ -308,7 +324,8 @@ def logit_histogram(doc: dict, overfitting: Any) -> Figure | None:
         ax.set_xlabel("logit of the in-sample winner's out-of-sample relative rank")
         ax.set_ylabel("splits")
         ax.set_title("Where the in-sample winner ranks out of sample")
-        ax.legend(loc="upper left", bbox_to_anchor=(0, -0.18))
+        ax.legend(loc="upper left")
+        ax.set_ylim(top=ax.get_ylim()[1] * 1.3)  # room for the legend above the bars
         return fig
 
     return _figure(
@@ -341,7 +358,7 @@ def degradation_scatter(doc: dict, overfitting: Any) -> Figure | None:
     unit = "Sharpe ratio per window" if statistic == "sharpe" else "mean excess return per window"
 
     def draw():
-        fig = _new(5.6, 4.0)
+        fig = _new(5.6, 4.0, left=0.14, bottom=0.12)
         ax = fig.add_subplot()
         many = x.size > _RASTERISE_POINTS
         ax.scatter(x, y, s=6 if many else 14, marker="o", facecolors="none" if not many else PALETTE["steel"],
@@ -350,7 +367,7 @@ def degradation_scatter(doc: dict, overfitting: Any) -> Figure | None:
         if slope is not None and intercept is not None:
             grid = np.linspace(x.min(), x.max(), 50)
             ax.plot(grid, intercept + slope * grid, color=PALETTE["rust"], linestyle="--", linewidth=2,
-                    label=f"degradation: out = {figure(intercept)} + {figure(slope)} x in")
+                    label=f"degradation: out = {figure(intercept)} {'-' if slope < 0 else '+'} {figure(abs(slope))} x in")
         ax.axhline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
         ax.set_xlabel(f"in sample: {unit}")
         ax.set_ylabel(f"out of sample: {unit}")
@@ -462,7 +479,7 @@ def deflated_by_trials(doc: dict, results: AuditResults | None) -> Figure | None
     at_used = float(deflated_probability(float(p["sharpe"]), trials=[used], **kwargs)[0])
 
     def draw():
-        fig = _new(6.4, 3.4)
+        fig = _new(6.4, 3.6, left=0.15)
         ax = fig.add_subplot()
         ax.plot(counts, curve, color=PALETTE["ink"], linewidth=1.8, linestyle="-", label="deflated Sharpe probability")
         ax.axhline(0.95, color=PALETTE["steel"], linestyle=":", linewidth=1.2, label="0.95 (conventional level)")

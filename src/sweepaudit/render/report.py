@@ -426,7 +426,7 @@ def _absent(section_id: str, title: str, block: str, meaning: str, references: t
         section_id,
         title,
         meaning=(meaning,),
-        notes=(f"Not computed in this audit: the JSON has no `results.{block}` block, so nothing is shown here.",),
+        notes=(f"Not computed in this audit: the JSON has no results.{block} block, so nothing is shown here.",),
         references=references,
         absent=True,
     )
