@@ -109,7 +109,7 @@ def _figure(name: str, title: str, caption: str, alt: str, draw) -> Figure:
 
 def _sharpe_label(doc: dict) -> tuple[str, bool]:
     annual = doc["input"].get("periods_per_year") is not None
-    return ("Sharpe ratio, annualized" if annual else "Sharpe ratio per window"), annual
+    return ("annualized Sharpe ratio" if annual else "Sharpe ratio per window"), annual
 
 
 # ---------------------------------------------------------------------------------------------
@@ -209,14 +209,14 @@ def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
             ax.set_xlabel(f"rank of {n:,} configurations (worst to best)")
             ax.set_ylabel(label)
             ax.set_xlim(0, n + 1)
-        ax.set_title(f"{label} of every configuration, sorted")
+        ax.set_title(f"{label[0].upper() + label[1:]} of every configuration, sorted")
         ax.legend(loc="lower right")
         return fig
 
     return _figure(
         "sharpe_ranking",
         "Sharpe ratio of every configuration",
-        f"Every configuration's {label.lower()} with its {level} block-bootstrap interval, sorted from worst "
+        f"Every configuration's {label} with its {level} block-bootstrap interval, sorted from worst "
         "to best; the diamond marks the selected configuration. When most intervals overlap, the ranking "
         "is mostly noise.",
         "Sorted Sharpe ratios of all configurations with interval bars and the selected one marked.",
@@ -273,7 +273,7 @@ def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
         ax.set_yticks(range(0, len(ys), step_y), [_tick(v) for v in ys[::step_y]])
         ax.set_xlabel(str(a))
         ax.set_ylabel(str(b))
-        ax.set_title(f"{label} over the parameter grid")
+        ax.set_title(f"{label[0].upper() + label[1:]} over the parameter grid")
         fig.colorbar(image, ax=ax, label=label, fraction=0.06, pad=0.03)
         ax.legend(handles=[Patch(fill=False, edgecolor=PALETTE["rust"], hatch="////", linewidth=2, label="selected")],
                   loc="upper left", bbox_to_anchor=(0, -0.14), ncols=1)
@@ -282,7 +282,7 @@ def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
     return _figure(
         "sharpe_surface",
         "Sharpe ratio over the parameter grid",
-        f"The {label.lower()} of each combination of {a} and {b}; darker is higher. The hatched, outlined "
+        f"The {label} of each combination of {a} and {b}; darker is higher. The hatched, outlined "
         "cell is the selected configuration. A real edge tends to sit on a plateau of similar cells; a lone "
         "dark cell among light ones is a warning sign.",
         f"Heat map of the Sharpe ratio over {a} and {b} with the selected cell outlined.",

@@ -684,7 +684,7 @@ SECTIONS: tuple[SectionFunction, ...] = (
 )
 
 
-def _headline(doc: dict) -> tuple[tuple[str, str], ...]:
+def _headline(doc: dict, results: AuditResults | None = None) -> tuple[tuple[str, str], ...]:
     sel = doc["results"]["bootstrap"]["selected"]
     annual = _annual(doc)
     out = [
@@ -700,6 +700,12 @@ def _headline(doc: dict) -> tuple[tuple[str, str], ...]:
     ov = doc["results"].get("overfitting")
     if ov and ov.get("probability_of_overfitting") is not None:
         out.append(("probability of overfitting", figure(ov["probability_of_overfitting"])))
+    peak = isolated_peak(results) if results is not None else None
+    if peak is not None:
+        out.append((
+            "parameter surface",
+            "ISOLATED PEAK among weak neighbours" if peak.isolated else "not an isolated peak",
+        ))
     return tuple(out)
 
 
@@ -720,7 +726,7 @@ def build_report(doc: dict, results: AuditResults | None = None) -> Report:
         rule=doc["selected"]["rule"],
         reasons=tuple(doc["reasons"]),
         caution=doc["caution"],
-        headline=_headline(doc),
+        headline=_headline(doc, results),
         input_path=doc["input"]["path"],
         sections=tuple(fn(doc, results) for fn in SECTIONS),
         tool=f"{tool.get('name', 'sweepaudit')} {tool.get('version', '')}".strip(),
@@ -776,12 +782,20 @@ def write_report(path: str | os.PathLike, doc: dict, results: AuditResults | Non
         from .html import render_html
 
         write_atomic(target, render_html(report))
+        _share(target)
         return
     from .markdown import render_markdown
 
     folder = figures_folder(target)
     text = render_markdown(report, figures_dir=folder.name)
     _write_markdown(target, text, {f"{f.name}.svg": f.svg for f in report.figures}, folder)
+
+
+def _share(path: Path, *, folder: bool = False) -> None:
+    """Give a finished report the permissions of any file the user creates (temporary files are private)."""
+    mask = os.umask(0)
+    os.umask(mask)
+    os.chmod(path, (0o777 if folder else 0o666) & ~mask)
 
 
 def _write_markdown(target: Path, text: str, files: dict[str, bytes], folder: Path) -> None:
@@ -794,6 +808,8 @@ def _write_markdown(target: Path, text: str, files: dict[str, bytes], folder: Pa
     try:
         for name, data in files.items():
             (staging / name).write_bytes(data)
+            _share(staging / name)
+        _share(staging, folder=True)
         if folder.exists():
             old = Path(tempfile.mkdtemp(prefix=f".{folder.name}.", suffix=".old", dir=parent))
             os.rmdir(old)
@@ -801,6 +817,7 @@ def _write_markdown(target: Path, text: str, files: dict[str, bytes], folder: Pa
         os.replace(staging, folder)
         try:
             write_atomic(target, text)
+            _share(target)
         except BaseException:
             shutil.rmtree(folder, ignore_errors=True)
             if old is not None:
