@@ -309,6 +309,17 @@ def test_hostile_names_are_escaped_in_html(hostile):
     assert not [t for t, _ in _tags(html) if t in ("script", "u")]
 
 
+def test_hostile_names_stay_text_in_the_figure_files(hostile):
+    folder, _ = hostile
+    svgs = list(figures_folder(folder / "r.md").glob("*.svg"))
+    assert svgs
+    for path in svgs:
+        root = ET.parse(path).getroot()
+        assert not [e for e in root.iter() if e.tag.rsplit("}", 1)[-1] == "script"], path.name
+    ranking = (figures_folder(folder / "r.md") / "sharpe_ranking.svg").read_text()
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in ranking
+
+
 def test_hostile_names_cannot_break_markdown(hostile):
     folder, doc = hostile
     md = (folder / "r.md").read_text()

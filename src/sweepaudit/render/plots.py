@@ -250,7 +250,9 @@ def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
     a, b = results.sweep.parameters.columns
 
     def draw():
-        fig = _new(max(4.8, 1.2 + 0.6 * len(xs)), max(3.4, 1.2 + 0.45 * len(ys)), left=0.12, bottom=0.22)
+        width = min(9.0, max(4.8, 1.2 + 0.6 * len(xs)))
+        height = min(7.0, max(3.4, 1.2 + 0.45 * len(ys)))
+        fig = _new(width, height, left=0.12, bottom=0.8 / height)
         fig.subplots_adjust(right=0.84)  # room for the colour bar and its label
         ax = fig.add_subplot()
         masked = np.ma.masked_invalid(values)

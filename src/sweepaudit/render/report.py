@@ -389,7 +389,7 @@ def _intervals_section(doc: dict, results: AuditResults | None) -> Section:
         tuple(columns),
         tuple(all_rows),
         caption=f"Every configuration, per window ({level} intervals)",
-        collapsed=len(all_rows) > 12,
+        collapsed=len(all_rows) > 60,
     )
     figs = [plots.bootstrap_mean(doc, results)] if results is not None else []
     m = sel["mean"]
@@ -788,7 +788,10 @@ def write_report(path: str | os.PathLike, doc: dict, results: AuditResults | Non
 
     folder = figures_folder(target)
     text = render_markdown(report, figures_dir=folder.name)
-    _write_markdown(target, text, {f"{f.name}.svg": f.svg for f in report.figures}, folder)
+    try:
+        _write_markdown(target, text, {f"{f.name}.svg": f.svg for f in report.figures}, folder)
+    except OSError as exc:
+        raise InputError(f"--report: cannot write {target} and its figures in {folder}: {exc.strerror or exc}") from None
 
 
 def _share(path: Path, *, folder: bool = False) -> None:
