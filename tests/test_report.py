@@ -153,7 +153,7 @@ class _WithOverfitting:
 
 
 class _CscvArrays:
-    def __init__(self, rng, splits=12870):
+    def __init__(self, rng, splits=3432):  # C(14, 7): 14 blocks
         ins = rng.normal(0.25, 0.05, splits)
         self.in_sample = ins
         self.out_of_sample = 0.1456 - 0.3129 * ins + rng.normal(0, 0.05, splits)
@@ -243,7 +243,7 @@ def test_method_blocks_present_are_shown_with_every_figure(edge_audit, tmp_path)
     assert len([t for t, a in _tags(html) if t == "img"]) == len(names) == 7
     for p in figures_folder(tmp_path / "full.md").iterdir():
         assert ET.parse(p).getroot().tag.endswith("svg")
-        assert p.stat().st_size < 400_000  # 12,870 split points are rasterised inside the SVG
+        assert p.stat().st_size < 400_000  # 3,432 split points are rasterised inside the SVG
 
 
 def test_html_is_self_contained_and_script_free(written):

@@ -23,14 +23,6 @@ def escape(text: object) -> str:
     return _SPECIAL.sub(r"\\\1", s)
 
 
-def _code(text: str) -> str:
-    """An inline code span that survives backticks in the text (CommonMark: a longer fence)."""
-    s = str(text).replace("\n", " ")
-    fence = "`" * (max((len(m) for m in re.findall(r"`+", s)), default=0) + 1)
-    pad = " " if s.startswith("`") or s.endswith("`") else ""
-    return f"{fence}{pad}{s}{pad}{fence}"
-
-
 def _table(t: Table) -> list[str]:
     lines = []
     if t.caption:
