@@ -29,8 +29,11 @@ def _table(t: Table) -> list[str]:
         lines += [f"*{escape(t.caption)}*", ""]
     lines.append("| " + " | ".join(escape(c) for c in t.columns) + " |")
     lines.append("|" + "|".join("---" for _ in t.columns) + "|")
-    for row in t.rows:
-        lines.append("| " + " | ".join(escape(c) for c in row) + " |")
+    for i, row in enumerate(t.rows):
+        cells = [escape(c) for c in row]
+        if i == t.highlight:
+            cells = [f"**{c}**" for c in cells]
+        lines.append("| " + " | ".join(cells) + " |")
     lines.append("")
     return lines
 

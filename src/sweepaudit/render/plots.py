@@ -71,7 +71,9 @@ _STYLE = {
     "ytick.color": PALETTE["ink"],
     "hatch.color": PALETTE["ink"],
     "hatch.linewidth": 0.6,
-    "legend.frameon": False,
+    "legend.frameon": True,  # a white box keeps legends readable over lines and bars
+    "legend.framealpha": 0.92,
+    "legend.edgecolor": "#ffffff",
     "legend.fontsize": 8,
     "savefig.dpi": 110,  # for rasterised point clouds inside the SVG
 }
@@ -140,7 +142,8 @@ def bootstrap_mean(doc: dict, results: AuditResults) -> Figure:
         ax.set_xlabel("mean excess return per window (%)")
         ax.set_ylabel("resamples")
         ax.set_title("How much the mean excess return moves when the record is redrawn")
-        ax.legend(loc="upper left")
+        ax.set_ylim(top=ax.get_ylim()[1] * 1.45)  # room for the legend above the bars
+        ax.legend(loc="upper left", ncols=2)
         return fig
 
     return _figure(

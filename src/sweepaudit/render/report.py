@@ -108,6 +108,7 @@ class Table:
     rows: tuple[tuple[str, ...], ...]
     caption: str = ""
     collapsed: bool = False  # long tables: folded in HTML (a <details> element), shown in Markdown
+    highlight: int | None = None  # row to emphasise (the selected configuration)
 
 
 @dataclass(frozen=True)
@@ -376,7 +377,7 @@ def _intervals_section(doc: dict, results: AuditResults | None) -> Section:
     annual = _annual(doc)
     columns = ["configuration", "mean", "mean low", "mean high", "Sharpe", "Sharpe low", "Sharpe high"]
     if annual:
-        columns += ["annualized Sharpe", "low", "high"]
+        columns += ["annualized Sharpe", "annualized low", "annualized high"]
     all_rows = []
     for c in boot["configurations"]:
         row = [c["configuration"]] + [figure(c["mean"][k]) for k in ("estimate", "low", "high")]
@@ -390,6 +391,8 @@ def _intervals_section(doc: dict, results: AuditResults | None) -> Section:
         tuple(all_rows),
         caption=f"Every configuration, per window ({level} intervals)",
         collapsed=len(all_rows) > 60,
+        highlight=next((i for i, c in enumerate(boot["configurations"])
+                        if c["configuration"] == doc["selected"]["configuration"]), None),
     )
     figs = [plots.bootstrap_mean(doc, results)] if results is not None else []
     m = sel["mean"]
