@@ -42,6 +42,7 @@ __all__ = [
     "figure",
     "report_format",
     "check_report_path",
+    "figures_folder",
     "build_report",
     "isolated_peak",
     "write_report",
@@ -307,7 +308,6 @@ def _selection_section(doc: dict, results: AuditResults | None) -> Section:
     from . import plots
 
     sel = doc["selected"]
-    boot = doc["results"]["bootstrap"]
     figs: list[Figure] = []
     notes: list[str] = []
     if results is not None:
