@@ -15,6 +15,16 @@ $(STAMP): pyproject.toml
 demo: $(STAMP)
 	-$(BIN)/sweepaudit audit fixtures/demo_edge_long.csv --seed 7
 
+# Example reports from the synthetic demo sweeps. A no-go audit exits 1 and still writes its report;
+# any other failure (exit 2: bad input) stops make.
+REPORT_RUN = $(BIN)/sweepaudit audit --seed 7 --quiet
+
+reports: $(STAMP)
+	$(REPORT_RUN) fixtures/demo_edge_long.csv --report reports/demo_edge.html || [ $$? -eq 1 ]
+	$(REPORT_RUN) fixtures/demo_edge_long.csv --report reports/demo_edge.md || [ $$? -eq 1 ]
+	$(REPORT_RUN) fixtures/demo_noise_long.csv --report reports/demo_noise.html || [ $$? -eq 1 ]
+	$(REPORT_RUN) fixtures/demo_noise_long.csv --report reports/demo_noise.md || [ $$? -eq 1 ]
+
 test: $(STAMP)
 	$(BIN)/python -m pytest
 

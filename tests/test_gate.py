@@ -599,7 +599,7 @@ def test_policy_example_loads():
 
 
 def test_readme_section_commands_use_real_options():
-    text = (ROOT / "docs" / "ci_gate_readme_section.md").read_text()
+    text = (ROOT / "README.md").read_text()
     commands = _sweepaudit_commands(text)
     assert commands
     for words in commands:

@@ -15,6 +15,16 @@ import numpy as np
 
 from .errors import InputError, SweepAuditWarning
 from .methods.bootstrap_ci import BootstrapIntervals, IntervalMethod, bootstrap_intervals
+from .methods.cscv import CscvResult, OverfittingDiagnosis, cscv, overfitting_diagnosis
+from .methods.snooping import (
+    RealityCheck,
+    StepwiseResult,
+    SuperiorPredictiveAbility,
+    moment_chunk,
+    reality_check,
+    stepwise_superior,
+    superior_predictive_ability,
+)
 from .methods.haircut import HaircutSharpe, haircut_sharpe
 from .methods.trials import SharpeInference, sharpe_inference
 from .policy import DEFAULT_POLICY, Policy
@@ -73,6 +83,32 @@ class AuditSettings:
 
 
 @dataclass(frozen=True, eq=False)
+class Snooping:
+    """The data-snooping tests of one audit, all on the audit's shared resamples."""
+
+    reality_check: RealityCheck
+    spa: SuperiorPredictiveAbility
+    spa_unstudentized: SuperiorPredictiveAbility
+    stepm: StepwiseResult
+    stepm_unstudentized: StepwiseResult
+    gating: str
+    studentized: bool
+
+    @property
+    def gating_spa(self) -> SuperiorPredictiveAbility:
+        return self.spa if self.studentized else self.spa_unstudentized
+
+    @property
+    def gating_stepm(self) -> StepwiseResult:
+        return self.stepm if self.studentized else self.stepm_unstudentized
+
+    @property
+    def pvalue(self) -> float:
+        """The p-value the policy gates on."""
+        return self.reality_check.pvalue if self.gating == "reality_check" else self.gating_spa.pvalue
+
+
+@dataclass(frozen=True, eq=False)
 class AuditResults:
     """Everything an audit found; renderers format this and nothing else."""
 
@@ -88,6 +124,9 @@ class AuditResults:
     warnings: tuple[str, ...]
     sharpe: SharpeInference | None = None
     haircut: HaircutSharpe | None = None
+    overfitting: CscvResult | None = None
+    overfitting_diagnosis: OverfittingDiagnosis | None = None
+    snooping: Snooping | None = None
     verdict: Verdict | None = field(default=None)
     # Filled by the CLI when the audit is compared with an earlier one (--baseline); read by the
     # baseline_drift check.
@@ -154,7 +193,7 @@ def audit(
             sweep.n_windows, count=count, kind=settings.bootstrap, block_length=block, seed=settings.seed
         )
         moments = resampled_moments(
-            x, resamples, progress=(lambda done: progress(done, count)) if progress else None
+            x, resamples, chunk=moment_chunk(sweep.n_windows), progress=(lambda done: progress(done, count)) if progress else None
         )
         intervals = bootstrap_intervals(x, moments, confidence=confidence, method=settings.interval_method)
         inference = sharpe_inference(
@@ -173,11 +212,35 @@ def audit(
             tests=inference.trials,
             periods_per_year=sweep.periods_per_year,
         )
+        overfit = diagnosis = snooping = None
+        if sweep.n_configurations >= 2:
+            level = policy.significance
+            snooping = Snooping(
+                reality_check=reality_check(x, moments=moments),
+                spa=superior_predictive_ability(x, moments=moments, studentize=True),
+                spa_unstudentized=superior_predictive_ability(x, moments=moments, studentize=False),
+                stepm=stepwise_superior(x, level=level, moments=moments, studentize=True),
+                stepm_unstudentized=stepwise_superior(x, level=level, moments=moments, studentize=False),
+                gating=policy.snooping_test,
+                studentized=policy.snooping_studentize,
+            )
+            overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
+            diagnosis = overfitting_diagnosis(
+                overfit,
+                max_probability_of_overfitting=policy.max_probability_of_overfitting,
+                max_probability_of_loss=policy.max_probability_of_loss,
+                min_strength_share=policy.min_strength_share,
+            )
 
     notes = list(sweep.notes) + list(inference.warnings)
     notes += [str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning)]
     if sweep.n_configurations == 1:
         notes.append("a single configuration: selection tests need at least two configurations and were skipped")
+    if snooping is not None and selected not in snooping.gating_stepm.significant:
+        notes.append(
+            f"the selected configuration {sweep.configurations[selected]!r} is not among the "
+            f"configurations StepM finds beating the benchmark at the {policy.significance:g} level"
+        )
     if intervals.degenerate_resamples:
         notes.append(
             f"{intervals.degenerate_resamples} resamples had a configuration with zero variance; "
@@ -199,5 +262,8 @@ def audit(
         warnings=tuple(notes),
         sharpe=inference,
         haircut=haircut,
+        overfitting=overfit,
+        overfitting_diagnosis=diagnosis,
+        snooping=snooping,
     )
     return replace(results, verdict=decide(results, policy))

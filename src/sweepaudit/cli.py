@@ -30,6 +30,7 @@ from .policy import policy_to_toml, resolve_policy
 from .render.files import write_atomic
 from .render.json import dumps
 from .render.junit import audit_to_junit
+from .render.report import check_report_path, write_report
 from .render.terminal import render_terminal
 
 EXIT_GO, EXIT_NO_GO, EXIT_BAD_INPUT = 0, 1, 2
@@ -178,6 +179,9 @@ def audit_command(
         Optional[int],
         typer.Option(help="Trials the deflated Sharpe ratio counts (at least the configurations); with --ledger the larger count wins."),
     ] = None,
+    report_path: Annotated[
+        Optional[Path], typer.Option("--report", help="Write the audit report here: .md (Markdown) or .html.")
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing; use the exit status.")] = False,
 ) -> None:
     """Audit the per-window excess returns of a parameter sweep and print a go / no-go verdict.
@@ -197,6 +201,8 @@ def audit_command(
     try:
         _check_output(json_path, "JSON file")
         _check_output(junit_path, "JUnit file")
+        if report_path is not None:
+            check_report_path(report_path)
         if resamples is not None and quick:
             raise SweepAuditError("give either --resamples or --quick, not both")
         loaded = resolve_policy(policy_path)
@@ -235,13 +241,16 @@ def audit_command(
         bar, update = _progress_callback(stderr) if not quiet else (None, None)
         if bar is not None:
             with bar:
-                document = gated_audit(sweep, progress=update, **gate).document
+                gated = gated_audit(sweep, progress=update, **gate)
         else:
-            document = gated_audit(sweep, **gate).document
+            gated = gated_audit(sweep, **gate)
+        document, results = gated.document, gated.results
         if json_path is not None:
             write_atomic(json_path, dumps(document))
         if junit_path is not None:
             write_atomic(junit_path, audit_to_junit(document, elapsed=time.perf_counter() - started))
+        if report_path is not None:
+            write_report(report_path, document, results)
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
     if not quiet:

@@ -129,8 +129,53 @@ class Policy:
         low=0.5, high=1.0, high_open=True,
         source="Bailey and Lopez de Prado (2012), 0.95",
     )
+    partitions: int = _f(
+        16,
+        "CSCV: number of contiguous blocks S (even) the windows are split into",
+        low=2, high=20,
+        source="Bailey, Borwein, Lopez de Prado and Zhu (2017) suggest 16",
+    )
+    overfitting_statistic: str = _f(
+        "sharpe",
+        "CSCV: statistic that ranks configurations in each half (sharpe or mean)",
+        choices=("sharpe", "mean"),
+        source="Bailey, Borwein, Lopez de Prado and Zhu (2017) use the Sharpe ratio",
+    )
+    max_probability_of_loss: float = _f(
+        0.2,
+        "overfitting check: the in-sample winner may lose money out of sample in at most this share of splits",
+        low=0.0, high=1.0,
+        source="sweepaudit's choice on simulation evidence (docs/overfitting_rule.md)",
+    )
+    max_probability_of_overfitting: float = _f(
+        0.25,
+        "overfitting check: PBO at or below this is 'robust'; above it with few losses is 'shared edge'",
+        low=0.0, high=1.0,
+        source="sweepaudit's choice on simulation evidence (docs/overfitting_rule.md)",
+    )
+    min_strength_share: float = _f(
+        0.15,
+        "overfitting check: share of splits whose in-sample winner beats the best-of-N noise level, "
+        "which separates 'overfit' from 'no edge' when the winner loses out of sample",
+        low=0.0, high=1.0,
+        source="sweepaudit's choice on simulation evidence (docs/overfitting_rule.md)",
+    )
+    snooping_test: str = _f(
+        "spa",
+        "data-snooping p-value that gates: spa (Hansen's consistent p-value) or reality_check (White's)",
+        choices=("spa", "reality_check"),
+        source="Hansen (2005): the consistent SPA p-value is more powerful than the reality check",
+    )
+    snooping_studentize: bool = _f(
+        False,
+        "gate on the studentized SPA and StepM (divided by each configuration's bootstrap standard "
+        "deviation) instead of the unstudentized ones; both are always reported",
+        source="sweepaudit's choice on simulation evidence: the studentized tests over-rejected "
+        "(8-10% at the 5% level) under AR(1) windows, the unstudentized held 5% (README)",
+    )
     required: tuple[str, ...] = _f(
-        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "baseline_drift"),
+        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "overfitting", "data_snooping",
+         "baseline_drift"),
         "checks that must pass for a go; the others are advisory",
         check_ids=True,
     )

@@ -217,6 +217,59 @@ def _baseline_drift(results: AuditResults, policy: Policy) -> Check | None:
     return Check("baseline_drift", True, worst.worsening, worst.allowed, reason)
 
 
+@check("overfitting")
+def _overfitting(results: AuditResults, policy: Policy) -> Check | None:
+    d = results.overfitting_diagnosis
+    if d is None:
+        return None
+    meaning = {
+        "robust": "picking the in-sample winner holds up out of sample",
+        "shared_edge": "several configurations share the edge, so the choice among them matters "
+        "little but the edge itself holds up out of sample",
+        "overfit": "the in-sample winner is a product of the selection and does not hold up out of sample",
+        "no_edge": "nothing in the sweep holds up out of sample",
+    }[d.case]
+    reason = f"CSCV finds this sweep {d.case.replace('_', ' ')}: {d.reason}; {meaning}."
+    return Check("overfitting", d.passed, d.probability_of_loss, d.max_probability_of_loss, reason)
+
+
+@check("data_snooping")
+def _data_snooping(results: AuditResults, policy: Policy) -> Check | None:
+    sn = results.snooping
+    if sn is None:
+        return None
+    p = sn.pvalue
+    level = policy.significance
+    n = results.sweep.n_configurations
+    name = (
+        "White's reality check" if sn.gating == "reality_check"
+        else f"Hansen's SPA test ({'studentized, ' if sn.studentized else ''}consistent p-value)"
+    )
+    ok = p <= level
+    stepm = sn.gating_stepm
+    k = results.selected_index
+    selected = results.sweep.configurations[k]
+    survivors = len(stepm.significant)
+    if k in stepm.significant:
+        step_note = f"StepM keeps {selected!r} among the {survivors} configuration(s) that beat the benchmark."
+    else:
+        step_note = (
+            f"StepM does not find {selected!r} itself beating the benchmark "
+            f"({survivors} configuration(s) survive)."
+        )
+    if ok:
+        reason = (
+            f"{name}: p = {p:.4f} at or below the policy's {level:g}: the best of the {n} configurations "
+            f"beats the benchmark by more than the best of {n} could by luck. {step_note}"
+        )
+    else:
+        reason = (
+            f"{name}: p = {p:.4f} above the policy's {level:g}: the best of the {n} configurations does "
+            f"not beat the benchmark by more than the best of {n} could by luck. {step_note}"
+        )
+    return Check("data_snooping", ok, p, level, reason)
+
+
 def decide(results: AuditResults, policy: Policy) -> Verdict:
     """Run every registered check; the verdict is go only when every required check passes.
 

@@ -139,6 +139,10 @@ def audit_to_dict(
     }
     if results.sharpe is not None:
         out["results"]["sharpe"] = _sharpe_block(results)
+    if results.snooping is not None:
+        out["results"]["snooping"] = _snooping_block(results)
+    if results.overfitting is not None:
+        out["results"]["overfitting"] = _overfitting_block(results)
     if getattr(results, "baseline", None) is not None:
         from ..baseline import baseline_to_dict
 
@@ -146,6 +150,85 @@ def audit_to_dict(
     if ledger is not None:
         out["ledger"] = ledger
     return _clean(out)
+
+
+def _spa(spa) -> dict:
+    return {
+        "statistic": spa.statistic,
+        "pvalue": spa.pvalue,
+        "pvalue_lower": spa.pvalue_lower,
+        "pvalue_upper": spa.pvalue_upper,
+        "studentized": spa.studentized,
+    }
+
+
+def _stepm(step, names) -> dict:
+    return {
+        "significant": [names[i] for i in step.significant],
+        "level": step.level,
+        "studentized": step.studentized,
+        "recentring": step.recentring,
+        "steps": step.steps,
+        "critical_values": list(step.critical_values),
+    }
+
+
+def _snooping_block(results: AuditResults) -> dict:
+    sn = results.snooping
+    names = results.sweep.configurations
+    gating_stepm = sn.gating_stepm
+    return {
+        "gating": sn.gating,
+        "gating_pvalue": sn.pvalue,
+        "counting": sn.reality_check.counting,
+        "reality_check": {
+            "statistic": sn.reality_check.statistic,
+            "pvalue": sn.reality_check.pvalue,
+            "best": names[sn.reality_check.best],
+        },
+        "spa": _spa(sn.gating_spa),
+        "spa_studentized": _spa(sn.spa),
+        "spa_unstudentized": _spa(sn.spa_unstudentized),
+        "stepm": _stepm(gating_stepm, names),
+        "stepm_studentized": _stepm(sn.stepm, names),
+        "stepm_unstudentized": _stepm(sn.stepm_unstudentized, names),
+        "selected_survives_stepm": results.selected_index in gating_stepm.significant,
+    }
+
+
+def _overfitting_block(results: AuditResults) -> dict:
+    r = results.overfitting
+    d = results.overfitting_diagnosis
+    return {
+        "statistic": r.statistic,
+        "partitions": r.partitions,
+        "partitions_requested": r.partitions_requested,
+        "combinations": r.combinations,
+        "block_rule": r.block_rule,
+        "probability_of_overfitting": r.probability_of_overfitting,
+        "null_probability_of_overfitting": r.null_probability_of_overfitting,
+        "probability_of_loss": r.probability_of_loss,
+        "median_out_of_sample": r.median_out_of_sample,
+        "degradation": {
+            "slope": r.degradation_slope,
+            "intercept": r.degradation_intercept,
+            "r_squared": r.degradation_r_squared,
+        },
+        "logits": {"quantiles": {f"{q:g}": v for q, v in r.logit_quantiles.items()}},
+        "stochastic_dominance": {
+            "first_order": r.first_order_dominance,
+            "first_order_violation": r.first_order_violation,
+            "second_order": r.second_order_dominance,
+            "second_order_violation": r.second_order_violation,
+        },
+        "diagnosis": {
+            "case": d.case,
+            "passed": d.passed,
+            "in_sample_strength_share": d.in_sample_strength_share,
+            "strength_threshold": d.strength_threshold,
+            "reason": d.reason,
+        },
+    }
 
 
 def _deflated(d, periods_per_year) -> dict:

@@ -64,7 +64,8 @@ def _sections(doc: dict) -> list:
     inp = doc["input"]
     data = Table(title="The data", show_header=False, box=None, title_justify="left")
     data.add_row("file", f"{inp['path']} ({inp['layout']} layout)")
-    data.add_row("sweep", f"{inp['configurations']:,} configurations x {inp['windows']:,} windows, "
+    plural = "s" if inp["configurations"] != 1 else ""
+    data.add_row("sweep", f"{inp['configurations']:,} configuration{plural} x {inp['windows']:,} windows, "
                           f"{inp['first_window']} to {inp['last_window']}")
     ppy = inp["periods_per_year"]
     data.add_row("periods per year", f"{fmt(ppy)} ({inp['periods_per_year_source']}"
@@ -88,6 +89,12 @@ def _sections(doc: dict) -> list:
     sh = doc["results"].get("sharpe")
     if sh:
         parts.append(_sharpe_table(sh, ppy))
+    sn = doc["results"].get("snooping")
+    if sn:
+        parts.append(_snooping_table(sn, doc["selected"]["configuration"]))
+    ov = doc["results"].get("overfitting")
+    if ov:
+        parts.append(_overfitting_table(ov))
 
     checks = Table(title="Checks", title_justify="left")
     checks.add_column("check")
@@ -109,6 +116,47 @@ def _sections(doc: dict) -> list:
         parts.append(w)
     parts.append(Text(doc["caution"], style="italic"))
     return parts
+
+
+_STEPM_SHOWN = 10
+
+
+def _snooping_table(sn: dict, selected: str) -> Table:
+    t = Table(title="Data-snooping tests (null: no configuration beats the benchmark)",
+              title_justify="left", show_header=False)
+    t.add_column("figure")
+    t.add_column("value")
+    t.add_row("White's reality check p-value", prob(sn["reality_check"]["pvalue"]))
+    spa = sn["spa"]
+    t.add_row(f"Hansen's SPA p-value ({'studentized' if spa['studentized'] else 'not studentized'})",
+              f"consistent {prob(spa['pvalue'])}  (lower {prob(spa['pvalue_lower'])}, upper {prob(spa['pvalue_upper'])})")
+    st = sn["stepm"]
+    names = st["significant"]
+    shown = "; ".join(names[:_STEPM_SHOWN]) + (f", ... ({len(names) - _STEPM_SHOWN} more)" if len(names) > _STEPM_SHOWN else "")
+    t.add_row(f"StepM: beat the benchmark at {st['level']:g}", f"{len(names)}: {shown}" if names else "none")
+    t.add_row("selected configuration survives StepM",
+              "yes" if sn["selected_survives_stepm"] else f"NO: {selected} is not among them")
+    t.add_row("gate", f"{sn['gating']} p-value {prob(sn['gating_pvalue'])}")
+    return t
+
+
+def _overfitting_table(ov: dict) -> Table:
+    t = Table(title=f"Overfitting: CSCV over {ov['combinations']:,} splits of {ov['partitions']} blocks "
+              f"({ov['statistic']})", title_justify="left", show_header=False)
+    t.add_column("figure")
+    t.add_column("value")
+    t.add_row("probability of backtest overfitting (PBO)",
+              f"{prob(ov['probability_of_overfitting'])}  (pure luck: {prob(ov['null_probability_of_overfitting'])})")
+    t.add_row("in-sample winner loses out of sample", prob(ov["probability_of_loss"]))
+    deg = ov["degradation"]
+    t.add_row("degradation: out-of-sample = a + b x in-sample",
+              f"b = {fmt(deg['slope'], 3)}, a = {fmt(deg['intercept'], 3)}, R^2 = {fmt(deg['r_squared'], 3)}")
+    sd = ov["stochastic_dominance"]
+    t.add_row("winner dominates a random pick (1st / 2nd order)",
+              f"{'yes' if sd['first_order'] else 'no'} / "
+              f"{'-' if sd['second_order'] is None else ('yes' if sd['second_order'] else 'no')}")
+    t.add_row("diagnosis", ov["diagnosis"]["case"].replace("_", " "))
+    return t
 
 
 def _sharpe_table(sh: dict, ppy) -> Table:

@@ -1,0 +1,5 @@
+"""``python -m sweepaudit``: the command line."""
+
+from .cli import main
+
+main()

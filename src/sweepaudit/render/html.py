@@ -1,0 +1,43 @@
+"""The audit report as one self-contained HTML file (jinja2, autoescaping on).
+
+Figures are embedded as base64 ``data:`` URIs and the stylesheet is inline, so the file needs no
+other file and loads nothing from the network. The page carries no script. Every string from the
+user (configuration names, file names) is escaped by jinja2's autoescaping, never marked safe.
+"""
+
+from __future__ import annotations
+
+import base64
+import re
+
+from jinja2 import Environment, PackageLoader, StrictUndefined
+
+from .report import Figure, Report
+
+__all__ = ["render_html"]
+
+
+_NUMBER = re.compile(r"^(-?[0-9][0-9,.]*(e[-+][0-9]+)?( \[.*\])?|n/a)$")
+
+
+def _data_uri(fig: Figure) -> str:
+    return "data:image/svg+xml;base64," + base64.b64encode(fig.svg).decode("ascii")
+
+
+def _environment() -> Environment:
+    env = Environment(
+        loader=PackageLoader("sweepaudit.render", "templates"),
+        autoescape=True,  # every template, whatever its name: user strings are never markup
+        undefined=StrictUndefined,
+        trim_blocks=True,
+        lstrip_blocks=True,
+        keep_trailing_newline=True,
+    )
+    env.filters["data_uri"] = _data_uri
+    env.tests["number_like"] = lambda text: bool(_NUMBER.match(str(text)))
+    return env
+
+
+def render_html(report: Report) -> str:
+    """The report as an HTML document (a string; the caller writes it atomically)."""
+    return _environment().get_template("report.html.j2").render(report=report)

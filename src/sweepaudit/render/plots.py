@@ -1,0 +1,554 @@
+"""The report's figures, drawn with matplotlib's object API on the Agg/SVG canvases (no GUI, no pyplot).
+
+Every function takes the audit JSON document and the raw material it plots and returns a
+:class:`~sweepaudit.render.report.Figure` (SVG bytes with ``svg.fonttype: none``, so text stays text
+and files stay small; dense point clouds are rasterised inside the SVG). Functions whose raw material
+is absent return None and the report leaves the figure out.
+
+Figures are readable in grey-scale print: series differ by line style, hatching and marker, not only
+by colour. The palette is our own, restrained: ink, rust, steel and sand.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+from typing import TYPE_CHECKING, Any
+
+import matplotlib
+
+matplotlib.use("Agg")  # never a GUI, even where a display exists
+
+import numpy as np
+from matplotlib.colors import LinearSegmentedColormap
+from matplotlib.figure import Figure as MplFigure
+from matplotlib.patches import Patch, Rectangle
+from scipy.special import ndtr, ndtri
+
+from .report import Figure, _grid, figure
+
+if TYPE_CHECKING:
+    from ..audit import AuditResults
+
+__all__ = [
+    "PALETTE",
+    "bootstrap_mean",
+    "sharpe_ranking",
+    "sharpe_surface",
+    "logit_histogram",
+    "degradation_scatter",
+    "deflated_by_trials",
+    "deflated_probability",
+    "cumulative_excess",
+]
+
+PALETTE = {
+    "ink": "#222b33",
+    "rust": "#a4471f",
+    "steel": "#5e7d92",
+    "sand": "#d9c9a8",
+    "mist": "#c8cdd2",
+    "paper": "#ffffff",
+}
+
+# Light to dark with monotone lightness, so the heat map reads in grey-scale print.
+SURFACE_MAP = LinearSegmentedColormap.from_list(
+    "sweepaudit_surface", ["#f6f1e7", "#d9c9a8", "#8fa3b0", "#4d6475", "#222b33"]
+)
+
+_STYLE = {
+    "svg.fonttype": "none",
+    "svg.hashsalt": "sweepaudit",  # stable element ids: same audit, same bytes
+    "font.family": "sans-serif",
+    "font.size": 9,
+    "axes.titlesize": 10,
+    "axes.labelsize": 9,
+    "axes.edgecolor": PALETTE["ink"],
+    "axes.labelcolor": PALETTE["ink"],
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "xtick.color": PALETTE["ink"],
+    "ytick.color": PALETTE["ink"],
+    "hatch.color": PALETTE["ink"],
+    "hatch.linewidth": 0.6,
+    "legend.frameon": True,  # a white box keeps legends readable over lines and bars
+    "legend.framealpha": 0.92,
+    "legend.edgecolor": "#ffffff",
+    "legend.fontsize": 8,
+    "savefig.dpi": 110,  # for rasterised point clouds inside the SVG
+}
+
+# Beyond these sizes labels are thinned or cells left unlabelled, so 1,000 configurations stay fast.
+_NAMED_RANKING_LIMIT = 50
+_ANNOTATED_CELLS_LIMIT = 150
+_RASTERISE_POINTS = 1_000
+
+#: Euler-Mascheroni constant of the expected-maximum approximation (Bailey and Lopez de Prado 2014).
+EULER_GAMMA = 0.5772156649
+
+
+def _new(width: float, height: float, *, fitted: bool = False, left: float = 0.1, bottom: float = 0.14) -> MplFigure:
+    """A figure; ``fitted`` lays it out around labels of unknown length (slower: measures text)."""
+    if fitted:
+        return MplFigure(figsize=(width, height), layout="constrained", facecolor=PALETTE["paper"])
+    fig = MplFigure(figsize=(width, height), facecolor=PALETTE["paper"])
+    fig.subplots_adjust(left=left, right=0.97, bottom=bottom, top=0.9)
+    return fig
+
+
+def _svg(fig: MplFigure) -> bytes:
+    buffer = io.BytesIO()
+    fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": "sweepaudit"})
+    return buffer.getvalue()
+
+
+def _figure(name: str, title: str, caption: str, alt: str, draw) -> Figure:
+    with matplotlib.rc_context(_STYLE):
+        fig = draw()
+        svg = _svg(fig)
+    return Figure(name=name, title=title, caption=caption, alt=alt, svg=svg)
+
+
+def _sharpe_label(doc: dict) -> tuple[str, bool]:
+    annual = doc["input"].get("periods_per_year") is not None
+    return ("annualized Sharpe ratio" if annual else "Sharpe ratio per window"), annual
+
+
+# ---------------------------------------------------------------------------------------------
+# (1) bootstrap distribution of the selected configuration's mean excess return
+# ---------------------------------------------------------------------------------------------
+
+
+def bootstrap_mean(doc: dict, results: AuditResults) -> Figure:
+    """Histogram of the resampled mean excess return (percent per window) with its interval."""
+    k = results.selected_index
+    dist = np.asarray(results.intervals.mean_distribution[:, k], dtype=float) * 100
+    sel = doc["results"]["bootstrap"]["selected"]["mean"]
+    level = f"{100 * doc['settings']['confidence']:g}%"
+
+    def draw():
+        fig = _new(6.4, 3.4)
+        ax = fig.add_subplot()
+        lo, hi = sel["low"] * 100, sel["high"] * 100
+        ax.axvspan(lo, hi, facecolor=PALETTE["sand"], alpha=0.45, hatch="///", edgecolor=PALETTE["ink"],
+                   linewidth=0, label=f"{level} interval [{lo:.3g}%, {hi:.3g}%]")
+        ax.hist(dist, bins=60, color=PALETTE["steel"], edgecolor=PALETTE["paper"], linewidth=0.3,
+                label=f"{len(dist):,} resampled means")
+        ax.axvline(sel["estimate"] * 100, color=PALETTE["ink"], linewidth=1.8, linestyle="-",
+                   label=f"observed mean {sel['estimate'] * 100:.3g}%")
+        for edge in (lo, hi):
+            ax.axvline(edge, color=PALETTE["ink"], linewidth=1.0, linestyle="--")
+        ax.axvline(0, color=PALETTE["rust"], linewidth=1.4, linestyle=":", label="zero: no edge")
+        ax.set_xlabel("mean excess return per window (%)")
+        ax.set_ylabel("resamples")
+        ax.set_title("How much the mean excess return moves when the record is redrawn")
+        ax.set_ylim(top=ax.get_ylim()[1] * 1.45)  # room for the legend above the bars
+        ax.legend(loc="upper left", ncols=2)
+        return fig
+
+    return _figure(
+        "bootstrap_mean",
+        "Bootstrap distribution of the mean excess return",
+        f"Each bar counts block-bootstrap resamples of the selected configuration's track record by their "
+        f"mean excess return (percent per window). The hatched band is the {level} interval; the dotted line "
+        "is zero. A band that crosses zero means the data do not rule out no edge.",
+        "Histogram of resampled mean excess returns with the confidence interval shaded and zero marked.",
+        draw,
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# (2) every configuration's Sharpe ratio with its interval, sorted
+# ---------------------------------------------------------------------------------------------
+
+
+def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
+    """Every configuration's Sharpe ratio (annualised when possible) with its interval, sorted."""
+    label, annual = _sharpe_label(doc)
+    key = "sharpe_annualized" if annual else "sharpe"
+    configs = doc["results"]["bootstrap"]["configurations"]
+    est = np.array([c[key]["estimate"] if c.get(key) else np.nan for c in configs], dtype=float)
+    low = np.array([c[key]["low"] if c.get(key) and c[key]["low"] is not None else np.nan for c in configs], dtype=float)
+    high = np.array([c[key]["high"] if c.get(key) and c[key]["high"] is not None else np.nan for c in configs], dtype=float)
+    names = [c["configuration"] for c in configs]
+    order = np.argsort(np.where(np.isfinite(est), est, -np.inf), kind="stable")
+    k = results.selected_index
+    pos = int(np.flatnonzero(order == k)[0])
+    n = len(configs)
+    level = f"{100 * doc['settings']['confidence']:g}%"
+
+    def draw():
+        if n <= _NAMED_RANKING_LIMIT:
+            shown = [_short(names[i]) for i in order]
+            # margin for the longest label (about 0.0085 of the width per character at 7-8 pt)
+            left = min(0.6, 0.05 + 0.0085 * max(len(t) for t in shown))
+            height = min(1.4 + 0.2 * n, 11.0)
+            fig = _new(6.8, height, left=left, bottom=0.5 / height)
+            fig.subplots_adjust(top=1 - 0.35 / height)
+            ax = fig.add_subplot()
+            y = np.arange(n)
+            ax.hlines(y, low[order], high[order], color=PALETTE["steel"], linewidth=1.6, label=f"{level} interval")
+            ax.plot(est[order], y, linestyle="none", marker="o", markersize=3.5, color=PALETTE["ink"], label="estimate")
+            ax.plot(est[k], pos, linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
+                    markeredgecolor=PALETTE["ink"], label="selected")
+            ax.set_yticks(y, shown, fontsize=7 if n > 25 else 8)
+            ax.get_yticklabels()[pos].set_fontweight("bold")
+            ax.axvline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
+            ax.set_xlabel(label)
+            ax.set_ylim(-0.7, n - 0.3)
+        else:
+            fig = _new(7.2, 3.8, left=0.1)
+            ax = fig.add_subplot()
+            x = np.arange(1, n + 1)
+            many = n > _RASTERISE_POINTS // 2
+            ax.vlines(x, low[order], high[order], color=PALETTE["mist"] if many else PALETTE["steel"],
+                      linewidth=0.8 if many else 1.2, label=f"{level} interval", rasterized=many)
+            ax.plot(x, est[order], linestyle="-", linewidth=1.2, color=PALETTE["ink"], label="estimate")
+            ax.plot(pos + 1, est[k], linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
+                    markeredgecolor=PALETTE["ink"], label="selected")
+            ax.annotate(_short(names[k]), (pos + 1, est[k]), xytext=(-8, 12), textcoords="offset points",
+                        ha="right", fontsize=8, arrowprops={"arrowstyle": "-", "color": PALETTE["ink"]})
+            ax.axhline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
+            ax.set_xlabel(f"rank of {n:,} configurations (worst to best)")
+            ax.set_ylabel(label)
+            ax.set_xlim(0, n + 1)
+        ax.set_title(f"{label[0].upper() + label[1:]} of every configuration, sorted")
+        ax.legend(loc="lower right")
+        return fig
+
+    return _figure(
+        "sharpe_ranking",
+        "Sharpe ratio of every configuration",
+        f"Every configuration's {label} with its {level} block-bootstrap interval, sorted from worst "
+        "to best; the diamond marks the selected configuration. When most intervals overlap, the ranking "
+        "is mostly noise.",
+        "Sorted Sharpe ratios of all configurations with interval bars and the selected one marked.",
+        draw,
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# (3) two-parameter heat map
+# ---------------------------------------------------------------------------------------------
+
+
+def _short(name: str, limit: int = 60) -> str:
+    """A configuration name short enough for an axis label (the tables keep the full name)."""
+    return name if len(name) <= limit else name[: limit - 1] + "\u2026"
+
+
+def _tick(v: Any) -> str:
+    return figure(v) if isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool) else str(v)
+
+
+def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
+    """Heat map of the Sharpe ratio over a two-parameter grid, the selected cell outlined; else None."""
+    g = _grid(results)
+    if g is None:
+        return None
+    xs, ys, grid, (r, c) = g
+    label, annual = _sharpe_label(doc)
+    ppy = doc["input"].get("periods_per_year")
+    values = grid * math.sqrt(ppy) if annual else grid
+    a, b = results.sweep.parameters.columns
+
+    def draw():
+        width = min(9.0, max(4.8, 1.2 + 0.6 * len(xs)))
+        height = min(7.0, max(3.4, 1.2 + 0.45 * len(ys)))
+        fig = _new(width, height, left=0.12, bottom=0.8 / height)
+        fig.subplots_adjust(right=0.84)  # room for the colour bar and its label
+        ax = fig.add_subplot()
+        masked = np.ma.masked_invalid(values)
+        image = ax.imshow(masked, cmap=SURFACE_MAP, origin="lower", aspect="auto", interpolation="nearest")
+        if values.size <= _ANNOTATED_CELLS_LIMIT:
+            finite = values[np.isfinite(values)]
+            mid = (finite.min() + finite.max()) / 2 if finite.size else 0
+            for i in range(values.shape[0]):
+                for j in range(values.shape[1]):
+                    v = values[i, j]
+                    if np.isfinite(v):
+                        ax.text(j, i, f"{v:.2f}", ha="center", va="center", fontsize=7,
+                                color=PALETTE["paper"] if v > mid else PALETTE["ink"])
+        ax.add_patch(Rectangle((c - 0.5, r - 0.5), 1, 1, fill=False, edgecolor=PALETTE["rust"], linewidth=3,
+                               hatch="////", label="selected"))
+        ax.add_patch(Rectangle((c - 0.5, r - 0.5), 1, 1, fill=False, edgecolor=PALETTE["ink"], linewidth=1))
+        step_x = max(1, len(xs) // 15)
+        step_y = max(1, len(ys) // 15)
+        ax.set_xticks(range(0, len(xs), step_x), [_tick(v) for v in xs[::step_x]])
+        ax.set_yticks(range(0, len(ys), step_y), [_tick(v) for v in ys[::step_y]])
+        ax.set_xlabel(str(a))
+        ax.set_ylabel(str(b))
+        ax.set_title(f"{label[0].upper() + label[1:]} over the parameter grid")
+        fig.colorbar(image, ax=ax, label=label, fraction=0.06, pad=0.03)
+        ax.legend(handles=[Patch(fill=False, edgecolor=PALETTE["rust"], hatch="////", linewidth=2, label="selected")],
+                  loc="upper left", bbox_to_anchor=(0, -0.14), ncols=1)
+        return fig
+
+    return _figure(
+        "sharpe_surface",
+        "Sharpe ratio over the parameter grid",
+        f"The {label} of each combination of {a} and {b}; darker is higher. The hatched, outlined "
+        "cell is the selected configuration. A real edge tends to sit on a plateau of similar cells; a lone "
+        "dark cell among light ones is a warning sign.",
+        f"Heat map of the Sharpe ratio over {a} and {b} with the selected cell outlined.",
+        draw,
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# (4) CSCV logits and (5) in-sample vs out-of-sample
+# ---------------------------------------------------------------------------------------------
+
+
+def logit_histogram(doc: dict, overfitting: Any) -> Figure | None:
+    """Histogram of the CSCV split logits, the share at or below zero hatched and shaded."""
+    logits = getattr(overfitting, "logits", None)
+    if logits is None:
+        return None
+    values = np.asarray(logits, dtype=float)
+    values = values[np.isfinite(values)]
+    if values.size == 0:
+        return None
+    block = doc["results"].get("overfitting") or {}
+    pbo = block.get("probability_of_overfitting")
+    share = float(np.mean(values <= 0)) if pbo is None else pbo
+
+    def draw():
+        fig = _new(6.4, 3.4)
+        ax = fig.add_subplot()
+        lo, hi = float(values.min()), float(values.max())
+        span = max(hi - lo, 1e-9)
+        step = span / 30
+        # bins with an edge at zero, so a bar never straddles the line
+        edges = np.arange(math.floor(min(lo, 0) / step) * step, max(hi, 0) + 2 * step, step)
+        ax.hist(values[values <= 0], bins=edges, color=PALETTE["rust"], hatch="///", edgecolor=PALETTE["ink"],
+                linewidth=0.4, label=f"at or below zero: {figure(share)} of splits (probability of overfitting)")
+        ax.hist(values[values > 0], bins=edges, color=PALETTE["mist"], edgecolor=PALETTE["ink"], linewidth=0.4,
+                label="above zero: the in-sample winner stays in the top half")
+        ax.axvline(0, color=PALETTE["ink"], linestyle="--", linewidth=1.2)
+        ax.set_xlabel("logit of the in-sample winner's out-of-sample relative rank")
+        ax.set_ylabel("splits")
+        ax.set_title("Where the in-sample winner ranks out of sample")
+        ax.legend(loc="upper left")
+        ax.set_ylim(top=ax.get_ylim()[1] * 1.3)  # room for the legend above the bars
+        return fig
+
+    return _figure(
+        "cscv_logits",
+        "CSCV logits of the in-sample winner",
+        "One count per split of the track record into two halves: the logit of the out-of-sample rank of "
+        "the configuration that was best in sample. Negative values (hatched) mean it fell to the bottom "
+        "half; their share is the probability of overfitting.",
+        "Histogram of CSCV logits with the part at or below zero hatched.",
+        draw,
+    )
+
+
+def degradation_scatter(doc: dict, overfitting: Any) -> Figure | None:
+    """In-sample vs out-of-sample statistic of the in-sample winner per split, with the degradation line."""
+    ins = getattr(overfitting, "in_sample", None)
+    oos = getattr(overfitting, "out_of_sample", None)
+    if ins is None or oos is None:
+        return None
+    x = np.asarray(ins, dtype=float)
+    y = np.asarray(oos, dtype=float)
+    ok = np.isfinite(x) & np.isfinite(y)
+    x, y = x[ok], y[ok]
+    if x.size == 0:
+        return None
+    deg = (doc["results"].get("overfitting") or {}).get("degradation") or {}
+    slope = deg.get("slope", getattr(overfitting, "degradation_slope", None))
+    intercept = deg.get("intercept", getattr(overfitting, "degradation_intercept", None))
+    statistic = getattr(overfitting, "statistic", "sharpe")
+    unit = "Sharpe ratio per window" if statistic == "sharpe" else "mean excess return per window"
+
+    def draw():
+        fig = _new(5.6, 4.0, left=0.14, bottom=0.12)
+        ax = fig.add_subplot()
+        many = x.size > _RASTERISE_POINTS
+        ax.scatter(x, y, s=6 if many else 14, marker="o", facecolors="none" if not many else PALETTE["steel"],
+                   edgecolors=PALETTE["steel"], linewidths=0.6, alpha=0.5 if many else 0.9,
+                   rasterized=many, label=f"{x.size:,} splits")
+        if slope is not None and intercept is not None:
+            grid = np.linspace(x.min(), x.max(), 50)
+            ax.plot(grid, intercept + slope * grid, color=PALETTE["rust"], linestyle="--", linewidth=2,
+                    label=f"degradation: out = {figure(intercept)} {'-' if slope < 0 else '+'} {figure(abs(slope))} x in")
+        ax.axhline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
+        ax.set_xlabel(f"in sample: {unit}")
+        ax.set_ylabel(f"out of sample: {unit}")
+        ax.set_title("The in-sample winner, in sample and out of sample")
+        ax.legend(loc="best")
+        return fig
+
+    return _figure(
+        "cscv_degradation",
+        "In-sample against out-of-sample performance",
+        "Each point is one split: the in-sample winner's statistic in the half where it was picked (across) "
+        "and in the other half (up). The dashed line is the least-squares fit; a slope near zero or below "
+        "means in-sample excellence does not carry over.",
+        "Scatter of in-sample against out-of-sample statistics per split with a fitted dashed line.",
+        draw,
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# (6) deflated Sharpe probability as a function of the number of trials
+# ---------------------------------------------------------------------------------------------
+
+
+def _formula_deflated_probability(sharpe, observations, skewness, kurtosis, variance, trials) -> np.ndarray:
+    """DSR by Bailey and Lopez de Prado (2014), eqs. (2) and (5), vectorised over ``trials``.
+
+    SR0(N) = sqrt(V) * ((1 - g) * Phi^-1(1 - 1/N) + g * Phi^-1(1 - 1/(N e))), the expected maximum
+    floored at 0 (N = 1 gives no selection premium); DSR = Phi((SR - SR0) sqrt(n - 1) /
+    sqrt(1 - skew SR + (kurt - 1)/4 SR^2)).
+    """
+    n_trials = np.asarray(trials, dtype=float)
+    expected_max = (1 - EULER_GAMMA) * ndtri(1 - 1 / n_trials) + EULER_GAMMA * ndtri(1 - 1 / (n_trials * math.e))
+    benchmark = math.sqrt(variance) * np.maximum(expected_max, 0.0)
+    spread = 1 - skewness * sharpe + (kurtosis - 1) / 4 * sharpe**2
+    if not spread > 0:
+        return np.full(n_trials.shape, np.nan)
+    return ndtr((sharpe - benchmark) * math.sqrt(observations - 1) / math.sqrt(spread))
+
+
+try:  # the methods layer's implementation, when present, is the one the audit's own figure uses
+    from ..methods.sharpe import deflated_sharpe as _deflated_sharpe
+except ImportError:  # pragma: no cover - depends on which methods are installed
+    _deflated_sharpe = None
+
+
+def deflated_probability(sharpe, *, observations, skewness, kurtosis, trial_sharpe_variance, trials) -> np.ndarray:
+    """Deflated Sharpe probability for each number of trials in ``trials``.
+
+    Calls :func:`sweepaudit.methods.sharpe.deflated_sharpe` when that module exists, else the formula
+    of Bailey and Lopez de Prado (2014), eqs. (2) and (5).
+    """
+    counts = np.atleast_1d(np.asarray(trials, dtype=float))
+    if _deflated_sharpe is not None:
+        return np.array([
+            _deflated_sharpe(sharpe, observations=observations, trials=float(t),
+                             trial_sharpe_variance=trial_sharpe_variance, skewness=skewness,
+                             kurtosis=kurtosis).probability
+            for t in counts
+        ])
+    return _formula_deflated_probability(sharpe, observations, skewness, kurtosis, trial_sharpe_variance, counts)
+
+
+def _sharpe_inputs(doc: dict, results: AuditResults | None) -> dict | None:
+    """The DSR inputs from the JSON's sharpe block, else from ``results.sharpe``; None when absent."""
+    block = doc["results"].get("sharpe")
+    if block is not None:
+        d = block.get("deflated") or {}
+        inputs = {
+            "sharpe": block.get("observed"),
+            "observations": block.get("observations"),
+            "skewness": block.get("skewness"),
+            "kurtosis": block.get("kurtosis"),
+            "trial_sharpe_variance": d.get("trial_sharpe_variance"),
+            "trials": d.get("trials"),
+            "effective_trials": d.get("effective_trials"),
+            "probability": d.get("probability"),
+        }
+    else:
+        s = getattr(results, "sharpe", None) if results is not None else None
+        if s is None:
+            return None
+        deflated = getattr(s, "deflated", s)
+        inputs = {
+            "sharpe": getattr(s, "observed", None),
+            "observations": getattr(s, "observations", None),
+            "skewness": getattr(s, "skewness", None),
+            "kurtosis": getattr(s, "kurtosis", None),
+            "trial_sharpe_variance": getattr(deflated, "trial_sharpe_variance", None),
+            "trials": getattr(deflated, "trials", None),
+            "effective_trials": getattr(deflated, "effective_trials", None),
+            "probability": getattr(deflated, "probability", None),
+        }
+    needed = ("sharpe", "observations", "skewness", "kurtosis", "trial_sharpe_variance", "trials")
+    if any(inputs[k] is None for k in needed) or inputs["trial_sharpe_variance"] <= 0:
+        return None
+    return inputs
+
+
+def deflated_by_trials(doc: dict, results: AuditResults | None) -> Figure | None:
+    """Deflated Sharpe probability against the number of trials, the trials counted marked."""
+    p = _sharpe_inputs(doc, results)
+    if p is None:
+        return None
+    used = float(p["trials"])
+    top = max(1_000.0, 10 * used)
+    counts = np.unique(np.round(np.geomspace(1, top, 160)))
+    kwargs = {k: float(p[k]) for k in ("observations", "skewness", "kurtosis", "trial_sharpe_variance")}
+    curve = deflated_probability(float(p["sharpe"]), trials=counts, **kwargs)
+    at_used = float(deflated_probability(float(p["sharpe"]), trials=[used], **kwargs)[0])
+
+    def draw():
+        fig = _new(6.4, 3.6, left=0.15)
+        ax = fig.add_subplot()
+        ax.plot(counts, curve, color=PALETTE["ink"], linewidth=1.8, linestyle="-", label="deflated Sharpe probability")
+        ax.axhline(0.95, color=PALETTE["steel"], linestyle=":", linewidth=1.2, label="0.95 (conventional level)")
+        ax.axvline(used, color=PALETTE["rust"], linestyle="--", linewidth=1.2)
+        ax.plot(used, at_used, linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
+                markeredgecolor=PALETTE["ink"], label=f"trials counted: {figure(p['trials'])} -> {figure(at_used)}")
+        eff = p.get("effective_trials")
+        if eff is not None and eff >= 1 and abs(eff - used) > 1e-9:
+            at_eff = float(deflated_probability(float(p["sharpe"]), trials=[float(eff)], **kwargs)[0])
+            ax.plot(eff, at_eff, linestyle="none", marker="s", markersize=7, markerfacecolor=PALETTE["paper"],
+                    markeredgecolor=PALETTE["ink"], label=f"effective trials: {figure(eff)} -> {figure(at_eff)}")
+        ax.set_xscale("log")
+        ax.set_ylim(-0.02, 1.02)
+        ax.set_xlabel("number of trials assumed (log scale)")
+        ax.set_ylabel("probability the true Sharpe ratio\nbeats the best of that many lucky trials")
+        ax.set_title("The more settings were tried, the less a high Sharpe ratio proves")
+        ax.legend(loc="lower left")
+        return fig
+
+    return _figure(
+        "deflated_by_trials",
+        "Deflated Sharpe probability against the number of trials",
+        "How the deflated Sharpe probability of the selected configuration falls as the number of trials "
+        "assumed grows. The diamond marks the trials the audit counted; a square marks the effective "
+        "(independent) trials when they differ. Count every setting ever tried, not only this sweep's.",
+        "Line of deflated Sharpe probability falling with the number of trials, trials counted marked.",
+        draw,
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# (7) cumulative excess return over time
+# ---------------------------------------------------------------------------------------------
+
+
+def cumulative_excess(doc: dict, results: AuditResults) -> Figure:
+    """Cumulative sum of the selected configuration's excess returns (percent), dates on the x axis."""
+    sweep = results.sweep
+    k = results.selected_index
+    path = np.cumsum(sweep.returns[:, k]) * 100
+    average = np.cumsum(sweep.returns.mean(axis=1)) * 100
+    dated = sweep.dates is not None
+    x = sweep.dates if dated else np.arange(1, sweep.n_windows + 1)
+
+    def draw():
+        fig = _new(6.8, 3.4)
+        ax = fig.add_subplot()
+        ax.plot(x, path, color=PALETTE["ink"], linewidth=1.6, linestyle="-", label="selected configuration")
+        if sweep.n_configurations > 1:
+            ax.plot(x, average, color=PALETTE["steel"], linewidth=1.3, linestyle="--",
+                    label=f"average of all {sweep.n_configurations:,} configurations")
+        ax.axhline(0, color=PALETTE["rust"], linestyle=":", linewidth=1)
+        ax.set_xlabel("window end date" if dated else "window")
+        ax.set_ylabel("cumulative excess return (%, summed)")
+        ax.set_title("Cumulative excess return over the benchmark")
+        ax.legend(loc="upper left")
+        return fig
+
+    return _figure(
+        "cumulative_excess",
+        "Cumulative excess return over time",
+        "The running sum of the selected configuration's per-window excess returns, in percent (summed, "
+        "not compounded), next to the average of every configuration of the sweep. A path that rises "
+        "steadily is more convincing than one that owes its total to a few windows.",
+        "Line chart of cumulative excess return of the selected configuration over time.",
+        draw,
+    )

@@ -1,0 +1,836 @@
+"""The audit report a researcher attaches to a research memo: one section model, two formats.
+
+:func:`build_report` turns the audit JSON document (the contract) plus the :class:`AuditResults`
+(for the raw material of the figures: bootstrap distributions, CSCV splits, the return series) into
+a list of :class:`Section`. The Markdown and HTML renderers only lay that list out, so both formats
+show the same sections, the same figures and the same numbers, each number formatted by
+:func:`figure`.
+
+Each method block of the JSON has one small section function. A block the audit did not produce
+(``results.sharpe``, ``results.overfitting``, ``results.snooping`` before those methods ran) gives
+a section that says plainly that it is absent; a figure whose raw material is absent is left out.
+
+:func:`write_report` picks the format from the file suffix and writes atomically: everything is
+rendered in memory first, so an error midway leaves no partial report and no figures folder.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import shutil
+import tempfile
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import TYPE_CHECKING, Any, Literal
+
+import numpy as np
+
+from ..errors import InputError
+
+if TYPE_CHECKING:
+    from ..audit import AuditResults
+
+__all__ = [
+    "REPORT_FORMATS",
+    "Figure",
+    "Table",
+    "Section",
+    "Report",
+    "PeakShape",
+    "figure",
+    "report_format",
+    "check_report_path",
+    "figures_folder",
+    "build_report",
+    "isolated_peak",
+    "write_report",
+]
+
+ReportFormat = Literal["markdown", "html"]
+REPORT_FORMATS: dict[str, ReportFormat] = {".md": "markdown", ".html": "html"}
+
+
+# ---------------------------------------------------------------------------------------------
+# formatting: the one helper every figure in the report goes through (the tests use it too)
+# ---------------------------------------------------------------------------------------------
+
+
+def figure(value: Any, digits: int = 4) -> str:
+    """A number for the report: 4 significant digits; whole numbers with thousands separators.
+
+    ``None`` (a figure the audit could not compute) becomes "n/a"; booleans become "yes" / "no".
+    """
+    if value is None:
+        return "n/a"
+    if isinstance(value, (bool, np.bool_)):
+        return "yes" if value else "no"
+    if isinstance(value, (int, np.integer)):
+        return f"{int(value):,}"
+    x = float(value)
+    if not math.isfinite(x):
+        return "n/a"
+    if x == 0:
+        return "0"
+    return f"{x:.{digits}g}"
+
+
+def _pct(value: Any) -> str:
+    """A fraction as a percentage, for prose only (tables carry the fraction through :func:`figure`)."""
+    return "n/a" if value is None else f"{100 * float(value):.3g}%"
+
+
+def _interval(block: dict | None) -> str:
+    if not block:
+        return "n/a"
+    return f"{figure(block['estimate'])} [{figure(block['low'])}, {figure(block['high'])}]"
+
+
+# ---------------------------------------------------------------------------------------------
+# the section model
+# ---------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Figure:
+    """A rendered plot: SVG bytes plus the words a reader needs."""
+
+    name: str  # file stem, e.g. "bootstrap_mean"
+    title: str
+    caption: str  # what the figure shows and how to read it
+    alt: str
+    svg: bytes
+
+
+@dataclass(frozen=True)
+class Table:
+    columns: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
+    caption: str = ""
+    collapsed: bool = False  # long tables: folded in HTML (a <details> element), shown in Markdown
+    highlight: int | None = None  # row to emphasise (the selected configuration)
+
+
+@dataclass(frozen=True)
+class Section:
+    """One section: plain-language paragraphs, facts, tables, figures, and the method's reference."""
+
+    id: str
+    title: str
+    meaning: tuple[str, ...] = ()  # what it means, in plain words
+    facts: tuple[tuple[str, str], ...] = ()  # label, value
+    tables: tuple[Table, ...] = ()
+    figures: tuple[Figure, ...] = ()
+    notes: tuple[str, ...] = ()  # bullets: findings, absent blocks
+    code: str | None = None  # a command to copy
+    references: tuple[str, ...] = ()
+    absent: bool = False  # the audit did not produce this block
+
+
+@dataclass(frozen=True)
+class Report:
+    title: str
+    verdict: str  # "go" | "no-go"
+    verdict_words: str
+    selected: str
+    rule: str
+    reasons: tuple[str, ...]
+    caution: str
+    headline: tuple[tuple[str, str], ...]
+    input_path: str
+    sections: tuple[Section, ...]
+    tool: str
+
+    @property
+    def figures(self) -> tuple[Figure, ...]:
+        return tuple(f for s in self.sections for f in s.figures)
+
+
+# ---------------------------------------------------------------------------------------------
+# the parameter surface: is the selected cell an isolated peak?
+# ---------------------------------------------------------------------------------------------
+
+#: The selected cell is an isolated peak among weak neighbours when its neighbours' mean Sharpe ratio
+#: is below this share of its own (they reach less than half the peak) ...
+PEAK_NEIGHBOUR_SHARE = 0.5
+#: ... and below this many bootstrap standard errors of the peak's Sharpe ratio (on their own the
+#: neighbours would not be told apart from no edge at all).
+PEAK_WEAK_STANDARD_ERRORS = 1.0
+
+
+@dataclass(frozen=True)
+class PeakShape:
+    """How the selected cell of a two-parameter grid compares with its grid neighbours.
+
+    Attributes
+    ----------
+    sharpe : float
+        Per-window Sharpe ratio of the selected configuration.
+    neighbour_mean : float
+        Mean per-window Sharpe ratio of its grid neighbours: the up to 4 cells one grid step away
+        along one parameter with the other held fixed, among those the sweep holds.
+    neighbours : int
+    standard_error : float
+        Bootstrap standard error of the selected Sharpe ratio (standard deviation of its
+        resampled values).
+    gap_in_standard_errors : float
+        ``(sharpe - neighbour_mean) / standard_error``.
+    isolated : bool
+        ``sharpe > 0`` and ``neighbour_mean < 0.5 * sharpe`` (the neighbours reach less than half the
+        peak) and ``neighbour_mean < 1 * standard_error`` (the neighbours are weak: within one standard
+        error of no edge). Both parts are our own rule of thumb.
+    """
+
+    sharpe: float
+    neighbour_mean: float
+    neighbours: int
+    standard_error: float
+    gap_in_standard_errors: float
+    isolated: bool
+
+
+def _grid(results: AuditResults) -> tuple[list, list, np.ndarray, tuple[int, int]] | None:
+    """The two-parameter grid of per-window Sharpe ratios (NaN where the sweep lacks a cell)."""
+    params = results.sweep.parameters
+    if params.shape[1] != 2 or results.sweep.n_configurations < 2:
+        return None
+    a, b = params.columns
+    try:
+        xs = sorted(params[a].unique())
+        ys = sorted(params[b].unique())
+    except TypeError:  # mixed types cannot be ordered into a grid
+        return None
+    grid = np.full((len(ys), len(xs)), np.nan)
+    ix = {v: i for i, v in enumerate(xs)}
+    iy = {v: i for i, v in enumerate(ys)}
+    cell = (0, 0)
+    for j, (va, vb) in enumerate(zip(params[a], params[b])):
+        grid[iy[vb], ix[va]] = results.sharpe_ratios[j]
+        if j == results.selected_index:
+            cell = (iy[vb], ix[va])
+    return xs, ys, grid, cell
+
+
+def isolated_peak(results: AuditResults) -> PeakShape | None:
+    """Compare the selected cell of a two-parameter sweep with its grid neighbours.
+
+    Returns None when the sweep does not have exactly two parameters or the selected cell has no
+    neighbour. A genuine edge usually sits on a plateau of similar settings; a lone high cell among
+    weak ones is what selection luck looks like (Bailey, Borwein, Lopez de Prado and Zhu 2017 discuss
+    the stability of performance across neighbouring parameters as a sign against overfitting).
+    """
+    g = _grid(results)
+    if g is None:
+        return None
+    _, _, grid, (r, c) = g
+    rows, cols = grid.shape
+    steps = ((r - 1, c), (r + 1, c), (r, c - 1), (r, c + 1))
+    values = np.array([grid[i, j] for i, j in steps if 0 <= i < rows and 0 <= j < cols])
+    values = values[np.isfinite(values)]
+    if values.size == 0:
+        return None
+    k = results.selected_index
+    sharpe = float(results.sharpe_ratios[k])
+    dist = results.intervals.sharpe_distribution[:, k]
+    dist = dist[np.isfinite(dist)]
+    se = float(np.std(dist, ddof=1)) if dist.size > 1 else float("nan")
+    mean = float(values.mean())
+    gap = (sharpe - mean) / se if se > 0 else float("nan")
+    isolated = bool(
+        sharpe > 0
+        and mean < PEAK_NEIGHBOUR_SHARE * sharpe
+        and math.isfinite(se)
+        and mean < PEAK_WEAK_STANDARD_ERRORS * se
+    )
+    return PeakShape(sharpe, mean, int(values.size), se, gap, isolated)
+
+
+# ---------------------------------------------------------------------------------------------
+# sections: one small function per block
+# ---------------------------------------------------------------------------------------------
+
+SectionFunction = Callable[[dict, "AuditResults | None"], Section]
+
+
+def _annual(doc: dict) -> bool:
+    return doc["input"].get("periods_per_year") is not None
+
+
+def _data_section(doc: dict, results: AuditResults | None) -> Section:
+    inp, st = doc["input"], doc["settings"]
+    ppy = inp.get("periods_per_year")
+    facts = [
+        ("input file", inp["path"]),
+        ("fingerprint (sha256)", inp.get("sha256") or "n/a (not read from a file)"),
+        ("layout", inp["layout"]),
+        ("configurations", figure(inp["configurations"])),
+        ("windows", figure(inp["windows"])),
+        ("first window", str(inp["first_window"])),
+        ("last window", str(inp["last_window"])),
+        (
+            "periods per year",
+            f"{figure(ppy)} ({inp.get('periods_per_year_source', 'given')}"
+            + (f", {inp['frequency']})" if inp.get("frequency") else ")")
+            if ppy is not None
+            else "unknown: figures are per window",
+        ),
+        ("units in the file", inp["units"]),
+        ("figures in this report", inp.get("figures_in", "fractions (0.01 = 1%)")),
+    ]
+    if inp.get("parameters"):
+        facts.append(("parameters swept", ", ".join(inp["parameters"])))
+    facts += [
+        ("resamples", figure(st["resamples"])),
+        ("bootstrap", st["bootstrap"]),
+        ("block length (windows)", figure(st["block_length"])),
+        ("block length chosen by", st.get("block_length_source", "n/a")),
+        ("seed", figure(st["seed"])),
+    ]
+    return Section(
+        "data",
+        "The data",
+        meaning=(
+            "Each value is one window's excess return (strategy minus benchmark) of one configuration "
+            "of the sweep. The fingerprint identifies the exact file audited: a different file, even one "
+            "byte different, has a different fingerprint.",
+        ),
+        facts=tuple(facts),
+        references=(
+            "Politis, D. N. and Romano, J. P. (1994). The stationary bootstrap. JASA 89(428), 1303-1313.",
+            "Politis, D. N. and White, H. (2004). Automatic block-length selection for the dependent "
+            "bootstrap. Econometric Reviews 23(1), 53-70 (correction: Patton, Politis and White 2009).",
+        ),
+    )
+
+
+def _selection_section(doc: dict, results: AuditResults | None) -> Section:
+    from . import plots
+
+    sel = doc["selected"]
+    figs: list[Figure] = []
+    notes: list[str] = []
+    if results is not None:
+        figs.append(plots.sharpe_ranking(doc, results))
+        surface = plots.sharpe_surface(doc, results)
+        if surface is not None:
+            figs.append(surface)
+        peak = isolated_peak(results)
+        if peak is not None:
+            words = (
+                f"The selected cell's Sharpe ratio ({figure(peak.sharpe)} per window) compares with a mean of "
+                f"{figure(peak.neighbour_mean)} over its {peak.neighbours} grid neighbours (one step along one "
+                f"parameter), a gap of {figure(peak.gap_in_standard_errors)} bootstrap standard errors "
+                f"(standard error {figure(peak.standard_error)}). The rule: an isolated peak is one whose "
+                "neighbours reach less than half its Sharpe ratio and stay within one standard error of zero."
+            )
+            if peak.isolated:
+                words += (
+                    " It is an ISOLATED PEAK among weak neighbours: a setting that works alone while its "
+                    "neighbours do not is what selection luck looks like; treat the edge with suspicion."
+                )
+            else:
+                words += (
+                    " It is not an isolated peak: nearby settings "
+                    + ("reach at least half its Sharpe ratio." if peak.neighbour_mean >= PEAK_NEIGHBOUR_SHARE * peak.sharpe
+                       else "show an edge of their own, more than one standard error above zero.")
+                )
+            notes.append(words)
+        figs.append(plots.cumulative_excess(doc, results))
+    n = doc["input"]["configurations"]
+    return Section(
+        "selection",
+        "The chosen configuration and how it was picked",
+        meaning=(
+            f"The audit judges one configuration out of {figure(n)}: {sel['configuration']}. "
+            f"It was chosen as: {sel['rule']}.",
+            "Picking the best of many settings flatters it: some of its edge is the luck of the draw. "
+            "The later sections measure how much of the edge survives once the search is allowed for.",
+        ),
+        facts=(("selected configuration", sel["configuration"]), ("chosen as", sel["rule"])),
+        figures=tuple(figs),
+        notes=tuple(notes),
+        references=(
+            "Bailey, D. H., Borwein, J. M., Lopez de Prado, M. and Zhu, Q. J. (2014). Pseudo-mathematics "
+            "and financial charlatanism: the effects of backtest overfitting on out-of-sample performance. "
+            "Notices of the AMS 61(5), 458-471.",
+        ),
+    )
+
+
+def _intervals_section(doc: dict, results: AuditResults | None) -> Section:
+    from . import plots
+
+    st = doc["settings"]
+    boot = doc["results"]["bootstrap"]
+    sel = boot["selected"]
+    level = _pct(st["confidence"])
+    rows = [
+        ("mean excess return", _interval(sel["mean"]), _interval(sel.get("mean_annualized"))),
+        ("Sharpe ratio", _interval(sel["sharpe"]), _interval(sel.get("sharpe_annualized"))),
+    ]
+    selected_table = Table(
+        ("figure", "per window: estimate [low, high]", "annualized: estimate [low, high]"),
+        tuple(rows),
+        caption=f"Selected configuration, {level} {st['interval_method']} block-bootstrap intervals",
+    )
+    annual = _annual(doc)
+    columns = ["configuration", "mean", "mean low", "mean high", "Sharpe", "Sharpe low", "Sharpe high"]
+    if annual:
+        columns += ["annualized Sharpe", "annualized low", "annualized high"]
+    all_rows = []
+    for c in boot["configurations"]:
+        row = [c["configuration"]] + [figure(c["mean"][k]) for k in ("estimate", "low", "high")]
+        row += [figure(c["sharpe"][k]) for k in ("estimate", "low", "high")]
+        if annual:
+            sa = c.get("sharpe_annualized") or {}
+            row += [figure(sa.get(k)) for k in ("estimate", "low", "high")]
+        all_rows.append(tuple(row))
+    every_table = Table(
+        tuple(columns),
+        tuple(all_rows),
+        caption=f"Every configuration, per window ({level} intervals)",
+        collapsed=len(all_rows) > 60,
+        highlight=next((i for i, c in enumerate(boot["configurations"])
+                        if c["configuration"] == doc["selected"]["configuration"]), None),
+    )
+    figs = [plots.bootstrap_mean(doc, results)] if results is not None else []
+    m = sel["mean"]
+    words = (
+        f"The selected configuration earned {_pct(m['estimate'])} per window over the benchmark; "
+        f"resampling the windows in blocks puts the {level} range at {_pct(m['low'])} to {_pct(m['high'])}."
+    )
+    words += (
+        " The range stays above zero." if m["low"] is not None and m["low"] > 0
+        else " The range reaches zero or below: the data do not rule out no edge at all."
+    )
+    return Section(
+        "intervals",
+        "How sure are the returns? Confidence intervals",
+        meaning=(
+            words,
+            "The block bootstrap redraws the track record many times in blocks of consecutive windows, "
+            "keeping fat tails and serial dependence, and reads the interval off the redrawn means. "
+            "These intervals do not allow for the search over configurations: the sections below do.",
+        ),
+        tables=(selected_table, every_table),
+        figures=tuple(figs),
+        references=(
+            "Efron, B. and Tibshirani, R. (1993). An Introduction to the Bootstrap. Chapman & Hall, ch. 13.",
+            "Davison, A. C. and Hinkley, D. V. (1997). Bootstrap Methods and their Application. Cambridge "
+            "University Press, sections 5.2 and 8.2.",
+            "Politis, D. N. and Romano, J. P. (1994). The stationary bootstrap. JASA 89(428), 1303-1313.",
+        ),
+    )
+
+
+def _absent(section_id: str, title: str, block: str, meaning: str, references: tuple[str, ...]) -> Section:
+    return Section(
+        section_id,
+        title,
+        meaning=(meaning,),
+        notes=(f"Not computed in this audit: the JSON has no results.{block} block, so nothing is shown here.",),
+        references=references,
+        absent=True,
+    )
+
+
+_SHARPE_REFS = (
+    "Bailey, D. H. and Lopez de Prado, M. (2012). The Sharpe ratio efficient frontier. Journal of Risk "
+    "15(2), 3-44 (probabilistic Sharpe ratio, minimum track record length).",
+    "Bailey, D. H. and Lopez de Prado, M. (2014). The deflated Sharpe ratio: correcting for selection "
+    "bias, backtest overfitting and non-normality. Journal of Portfolio Management 40(5), 94-107.",
+)
+
+
+def _sharpe_section(doc: dict, results: AuditResults | None) -> Section:
+    from . import plots
+
+    title = "The Sharpe ratio after allowing for the search"
+    meaning = (
+        "The deflated Sharpe ratio asks how likely the selected configuration's true Sharpe ratio is above "
+        "the best one would expect from the same number of trials with no skill at all, allowing for fat "
+        "tails and skew and the length of the record."
+    )
+    block = doc["results"].get("sharpe")
+    if block is None:
+        return _absent("sharpe", title, "sharpe", meaning, _SHARPE_REFS)
+    psr = block.get("probabilistic") or {}
+    dsr = block.get("deflated") or {}
+    mtr = block.get("min_track_record") or {}
+    facts = [
+        ("observed Sharpe ratio (per window)", figure(block.get("observed"))),
+        ("windows", figure(block.get("observations"))),
+        ("skewness", figure(block.get("skewness"))),
+        ("kurtosis (raw, 3 for normal)", figure(block.get("kurtosis"))),
+        ("probabilistic Sharpe ratio: benchmark", figure(psr.get("benchmark"))),
+        ("probabilistic Sharpe ratio: probability", figure(psr.get("probability"))),
+        ("trials counted", figure(dsr.get("trials"))),
+        ("effective trials", figure(dsr.get("effective_trials"))),
+        ("variance of the trials' Sharpe ratios", figure(dsr.get("trial_sharpe_variance"))),
+        ("best Sharpe ratio expected from luck (per window)", figure(dsr.get("benchmark_sharpe"))),
+        ("deflated Sharpe ratio: probability", figure(dsr.get("probability"))),
+        ("minimum track record (windows)", figure(mtr.get("observations"))),
+        ("minimum track record (years)", figure(mtr.get("years"))),
+    ]
+    known = {"observed", "observations", "skewness", "kurtosis", "probabilistic", "deflated", "min_track_record"}
+    facts += _extra_facts(block, known)
+    words = [meaning]
+    if dsr.get("probability") is not None:
+        words.append(
+            f"Here the probability is {_pct(dsr['probability'])} with {figure(dsr.get('trials'))} trials counted: "
+            + ("strong evidence of skill beyond the search." if dsr["probability"] >= 0.95
+               else "not enough to tell skill from the luck of the search.")
+        )
+    curve = plots.deflated_by_trials(doc, results)
+    return Section(
+        "sharpe",
+        title,
+        meaning=tuple(words),
+        facts=tuple(facts),
+        figures=(curve,) if curve is not None else (),
+        references=_SHARPE_REFS,
+    )
+
+
+_CSCV_REFS = (
+    "Bailey, D. H., Borwein, J. M., Lopez de Prado, M. and Zhu, Q. J. (2017). The probability of backtest "
+    "overfitting. Journal of Computational Finance 20(4), 39-69 (combinatorially symmetric cross-validation).",
+)
+
+
+def _overfitting_section(doc: dict, results: AuditResults | None) -> Section:
+    from . import plots
+
+    title = "Backtest overfitting: does the in-sample winner keep winning? (CSCV)"
+    meaning = (
+        "The track record is cut into blocks and split every possible way into two halves. In each split "
+        "the best configuration of one half is looked up in the other half. The probability of overfitting "
+        "is the share of splits where that winner falls to the bottom half out of sample."
+    )
+    block = doc["results"].get("overfitting")
+    if block is None:
+        return _absent("overfitting", title, "overfitting", meaning, _CSCV_REFS)
+    deg = block.get("degradation") or {}
+    facts = [
+        ("blocks (partitions)", figure(block.get("partitions"))),
+        ("splits (combinations)", figure(block.get("combinations"))),
+        ("probability of overfitting", figure(block.get("probability_of_overfitting"))),
+        ("probability of an out-of-sample loss", figure(block.get("probability_of_loss"))),
+        ("degradation slope", figure(deg.get("slope"))),
+        ("degradation intercept", figure(deg.get("intercept"))),
+    ]
+    extra_deg = {k: v for k, v in deg.items() if k not in ("slope", "intercept")}
+    facts += _extra_facts(extra_deg, set(), prefix="degradation ")
+    logits = block.get("logits") or {}
+    quant_rows = tuple((str(k), figure(v)) for k, v in logits.items()) if isinstance(logits, dict) else ()
+    tables = (Table(("logit quantile", "value"), quant_rows, caption="Quantiles of the split logits"),) if quant_rows else ()
+    facts += _extra_facts(block, {"partitions", "combinations", "probability_of_overfitting",
+                                  "probability_of_loss", "degradation", "logits"})
+    words = [meaning]
+    p = block.get("probability_of_overfitting")
+    if p is not None:
+        words.append(
+            f"Here the in-sample winner lands in the bottom half out of sample in {_pct(p)} of splits"
+            + (" (a coin flip or worse: no evidence the selection picks skill)." if p >= 0.5 else ".")
+        )
+    words.append(
+        "A negative degradation slope means that configurations which look better in sample tend to do "
+        "worse out of sample."
+    )
+    figs: list[Figure] = []
+    ov = getattr(results, "overfitting", None) if results is not None else None
+    if ov is not None:
+        for maker in (plots.logit_histogram, plots.degradation_scatter):
+            f = maker(doc, ov)
+            if f is not None:
+                figs.append(f)
+    return Section("overfitting", title, meaning=tuple(words), facts=tuple(facts), tables=tables,
+                   figures=tuple(figs), references=_CSCV_REFS)
+
+
+_SNOOP_REFS = (
+    "White, H. (2000). A reality check for data snooping. Econometrica 68(5), 1097-1126.",
+    "Hansen, P. R. (2005). A test for superior predictive ability. Journal of Business & Economic "
+    "Statistics 23(4), 365-380.",
+    "Romano, J. P. and Wolf, M. (2005). Stepwise multiple testing as formalized data snooping. "
+    "Econometrica 73(4), 1237-1282 (StepM).",
+)
+
+
+def _snooping_section(doc: dict, results: AuditResults | None) -> Section:
+    title = "Could the best result be luck? Data-snooping tests"
+    meaning = (
+        "These tests ask whether the best configuration beats the benchmark by more than the best of this "
+        "many configurations would by chance alone, using the same block-bootstrap resamples. A small "
+        "p-value (below the policy's significance level) is evidence of a real edge."
+    )
+    block = doc["results"].get("snooping")
+    if block is None:
+        return _absent("snooping", title, "snooping", meaning, _SNOOP_REFS)
+    rc = block.get("reality_check") or {}
+    spa = block.get("spa") or {}
+    stepm = block.get("stepm") or {}
+    rows = [
+        ("reality check (White 2000)", figure(rc.get("statistic")), figure(rc.get("pvalue"))),
+        ("superior predictive ability, consistent (Hansen 2005)", figure(spa.get("statistic")), figure(spa.get("pvalue"))),
+        ("superior predictive ability, lower", figure(spa.get("statistic")), figure(spa.get("pvalue_lower"))),
+        ("superior predictive ability, upper", figure(spa.get("statistic")), figure(spa.get("pvalue_upper"))),
+    ]
+    table = Table(("test", "statistic", "p-value"), tuple(rows), caption="Tests of the best configuration against chance")
+    significant = list(stepm.get("significant") or [])
+    notes = [
+        f"StepM (Romano and Wolf 2005) at level {figure(stepm.get('level'))}: "
+        + (f"{len(significant)} configuration(s) beat the benchmark after allowing for the search: "
+           + "; ".join(significant) if significant else "no configuration beats the benchmark after allowing for the search.")
+    ]
+    facts = _extra_facts(rc, {"statistic", "pvalue"}, prefix="reality check ")
+    facts += _extra_facts(spa, {"statistic", "pvalue", "pvalue_lower", "pvalue_upper"}, prefix="SPA ")
+    facts += _extra_facts(stepm, {"significant", "level"}, prefix="StepM ")
+    facts += _extra_facts(block, {"reality_check", "spa", "stepm"})
+    return Section("snooping", title, meaning=(meaning,), facts=tuple(facts), tables=(table,),
+                   notes=tuple(notes), references=_SNOOP_REFS)
+
+
+def _extra_facts(block: dict, known: set, prefix: str = "") -> list[tuple[str, str]]:
+    """Figures a block holds beyond the ones a section names, so no figure of the JSON goes unshown."""
+    out: list[tuple[str, str]] = []
+    for key, value in block.items():
+        if key in known:
+            continue
+        label = prefix + key.replace("_", " ")
+        if isinstance(value, dict):
+            out += _extra_facts(value, set(), prefix=label + ": ")
+        elif isinstance(value, list):
+            out.append((label, ", ".join(figure(v) if not isinstance(v, str) else v for v in value) or "none"))
+        elif isinstance(value, str):
+            out.append((label, value))
+        else:
+            out.append((label, figure(value)))
+    return out
+
+
+def _checks_section(doc: dict, results: AuditResults | None) -> Section:
+    rows = tuple(
+        (
+            c["id"],
+            "passed" if c["passed"] else "FAILED",
+            "required" if c.get("required", True) else "advisory",
+            figure(c.get("value")),
+            figure(c.get("threshold")),
+            c["reason"],
+        )
+        for c in doc["checks"]
+    )
+    policy = doc.get("policy") or {}
+    prow = []
+    for key, value in policy.items():
+        shown = ", ".join(value) if isinstance(value, list) else (value if isinstance(value, str) else figure(value))
+        prow.append((key.replace("_", " "), shown))
+    return Section(
+        "checks",
+        "The policy and each check",
+        meaning=(
+            "The verdict is GO only when every required check passes; advisory checks are shown but do not "
+            "change the verdict. Each check quotes the figure it measured and the threshold it was held to.",
+        ),
+        tables=(
+            Table(("check", "result", "kind", "value", "threshold", "reason"), rows, caption="Checks"),
+            Table(("policy setting", "value"), tuple(prow), caption="Policy applied"),
+        ),
+    )
+
+
+def _warnings_section(doc: dict, results: AuditResults | None) -> Section:
+    notes = tuple(doc["warnings"]) or ("No warnings.",)
+    return Section(
+        "warnings",
+        "Warnings",
+        meaning=("What the audit noticed about the data or the methods that a reader should weigh.",),
+        notes=notes,
+    )
+
+
+def _reproduce_section(doc: dict, results: AuditResults | None) -> Section:
+    rep = doc.get("reproduce") or {}
+    tool = doc.get("tool") or {}
+    facts = (
+        ("seed", figure(rep.get("seed"))),
+        ("tool version", f"{tool.get('name', 'sweepaudit')} {rep.get('version') or tool.get('version')}"),
+        ("schema", doc.get("schema", "n/a")),
+        ("input fingerprint (sha256)", doc["input"].get("sha256") or "n/a"),
+    )
+    command = rep.get("command")
+    return Section(
+        "reproduce",
+        "How to reproduce this audit",
+        meaning=(
+            "Run this command on the same file (same fingerprint) with the same tool version: it recomputes "
+            "every figure of this report exactly. Add --json PATH or --report PATH to write the outputs.",
+        ),
+        facts=facts,
+        code=command if command else None,
+        notes=() if command else ("The command that produced this audit was not recorded.",),
+    )
+
+
+SECTIONS: tuple[SectionFunction, ...] = (
+    _data_section,
+    _selection_section,
+    _intervals_section,
+    _sharpe_section,
+    _overfitting_section,
+    _snooping_section,
+    _checks_section,
+    _warnings_section,
+    _reproduce_section,
+)
+
+
+def _headline(doc: dict, results: AuditResults | None = None) -> tuple[tuple[str, str], ...]:
+    sel = doc["results"]["bootstrap"]["selected"]
+    annual = _annual(doc)
+    out = [
+        ("mean excess return per window", _interval(sel["mean"])),
+        ("Sharpe ratio per window", _interval(sel["sharpe"])),
+    ]
+    if annual:
+        out.insert(1, ("mean excess return, annualized", _interval(sel.get("mean_annualized"))))
+        out.append(("Sharpe ratio, annualized", _interval(sel.get("sharpe_annualized"))))
+    sh = doc["results"].get("sharpe")
+    if sh and (sh.get("deflated") or {}).get("probability") is not None:
+        out.append(("deflated Sharpe ratio probability", figure(sh["deflated"]["probability"])))
+    ov = doc["results"].get("overfitting")
+    if ov and ov.get("probability_of_overfitting") is not None:
+        out.append(("probability of overfitting", figure(ov["probability_of_overfitting"])))
+    peak = isolated_peak(results) if results is not None else None
+    if peak is not None:
+        out.append((
+            "parameter surface",
+            "ISOLATED PEAK among weak neighbours" if peak.isolated else "not an isolated peak",
+        ))
+    return tuple(out)
+
+
+def build_report(doc: dict, results: AuditResults | None = None) -> Report:
+    """The report's sections from the audit JSON document and (for figures) the audit results."""
+    go = doc["verdict"] == "go"
+    words = (
+        "The evidence supports the selected configuration's edge under the policy applied."
+        if go
+        else "The evidence does not support committing capital to the selected configuration."
+    )
+    tool = doc.get("tool") or {}
+    return Report(
+        title=f"Sweep audit: {doc['input']['path']}",
+        verdict=doc["verdict"],
+        verdict_words=words,
+        selected=doc["selected"]["configuration"],
+        rule=doc["selected"]["rule"],
+        reasons=tuple(doc["reasons"]),
+        caution=doc["caution"],
+        headline=_headline(doc, results),
+        input_path=doc["input"]["path"],
+        sections=tuple(fn(doc, results) for fn in SECTIONS),
+        tool=f"{tool.get('name', 'sweepaudit')} {tool.get('version', '')}".strip(),
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# writing
+# ---------------------------------------------------------------------------------------------
+
+
+def report_format(path: str | os.PathLike) -> ReportFormat:
+    """The report format from the file suffix (.md or .html); InputError for any other."""
+    suffix = Path(path).suffix.lower()
+    if suffix not in REPORT_FORMATS:
+        raise InputError(
+            f"--report: cannot tell the format of {str(path)!r} from its suffix {suffix or '(none)'!r}; "
+            "use a file name ending in .md (Markdown) or .html (HTML)"
+        )
+    return REPORT_FORMATS[suffix]
+
+
+def check_report_path(path: str | os.PathLike) -> None:
+    """Validate a report path before the audit runs: known suffix, existing folder."""
+    report_format(path)
+    target = Path(path)
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(f"--report: cannot write {target}: folder {folder} does not exist")
+    if target.is_dir():
+        raise InputError(f"--report: {target} is a folder; give a file name ending in .md or .html")
+
+
+def figures_folder(path: str | os.PathLike) -> Path:
+    """Where a Markdown report's figures go: ``<stem>_figures/`` beside the .md file."""
+    target = Path(path)
+    return target.with_name(f"{target.stem}_figures")
+
+
+def write_report(path: str | os.PathLike, doc: dict, results: AuditResults | None = None) -> None:
+    """Render the report fully in memory, then write it atomically (figures first for Markdown).
+
+    An error while rendering leaves the disk untouched: no partial report, no figures folder, and a
+    previous report at ``path`` stays as it was.
+    """
+    from .files import write_atomic
+
+    fmt = report_format(path)
+    check_report_path(path)
+    report = build_report(doc, results)
+    target = Path(path)
+    if fmt == "html":
+        from .html import render_html
+
+        write_atomic(target, render_html(report))
+        _share(target)
+        return
+    from .markdown import render_markdown
+
+    folder = figures_folder(target)
+    text = render_markdown(report, figures_dir=folder.name)
+    try:
+        _write_markdown(target, text, {f"{f.name}.svg": f.svg for f in report.figures}, folder)
+    except OSError as exc:
+        raise InputError(f"--report: cannot write {target} and its figures in {folder}: {exc.strerror or exc}") from None
+
+
+def _share(path: Path, *, folder: bool = False) -> None:
+    """Give a finished report the permissions of any file the user creates (temporary files are private)."""
+    mask = os.umask(0)
+    os.umask(mask)
+    os.chmod(path, (0o777 if folder else 0o666) & ~mask)
+
+
+def _write_markdown(target: Path, text: str, files: dict[str, bytes], folder: Path) -> None:
+    """Figures into a temporary folder, swapped in by rename; the .md written last, atomically."""
+    from .files import write_atomic
+
+    parent = target.parent if str(target.parent) else Path(".")
+    staging = Path(tempfile.mkdtemp(prefix=f".{folder.name}.", suffix=".tmp", dir=parent))
+    old: Path | None = None
+    try:
+        for name, data in files.items():
+            (staging / name).write_bytes(data)
+            _share(staging / name)
+        _share(staging, folder=True)
+        if folder.exists():
+            old = Path(tempfile.mkdtemp(prefix=f".{folder.name}.", suffix=".old", dir=parent))
+            os.rmdir(old)
+            os.replace(folder, old)
+        os.replace(staging, folder)
+        try:
+            write_atomic(target, text)
+            _share(target)
+        except BaseException:
+            shutil.rmtree(folder, ignore_errors=True)
+            if old is not None:
+                os.replace(old, folder)
+                old = None
+            raise
+    finally:
+        shutil.rmtree(staging, ignore_errors=True)
+        if old is not None:
+            shutil.rmtree(old, ignore_errors=True)
