@@ -213,16 +213,21 @@ def test_first_screen_comes_first(edge_audit, written):
         assert text.index(_shown(name, doc["caution"])) < first_section
 
 
-def test_absent_method_blocks_are_said_absent_and_have_no_figure(edge_audit, written):
-    doc, _ = edge_audit
-    for key in ("sharpe", "overfitting", "snooping"):
-        assert key not in doc["results"]
-    md = (written / "edge.md").read_text()
-    html = (written / "edge.html").read_text()
+def test_absent_method_blocks_are_said_absent_and_have_no_figure(edge_audit, tmp_path):
+    # A document from an audit whose method blocks are absent (CONTRACT.md: absent, not empty).
+    import dataclasses
+
+    doc, results = edge_audit
+    bare_doc = {**doc, "results": {"bootstrap": doc["results"]["bootstrap"]}}
+    bare = dataclasses.replace(results, sharpe=None, overfitting=None, snooping=None)
+    write_report(tmp_path / "edge.md", bare_doc, bare)
+    write_report(tmp_path / "edge.html", bare_doc, bare)
+    md = (tmp_path / "edge.md").read_text()
+    html = (tmp_path / "edge.html").read_text()
     for key in ("sharpe", "overfitting", "snooping"):
         assert f"no results.{key} block" in md
         assert f"no results.{key} block" in html
-    names = {p.stem for p in figures_folder(written / "edge.md").iterdir()}
+    names = {p.stem for p in figures_folder(tmp_path / "edge.md").iterdir()}
     assert names == {"bootstrap_mean", "sharpe_ranking", "sharpe_surface", "cumulative_excess"}
 
 
@@ -252,7 +257,7 @@ def test_html_is_self_contained_and_script_free(written):
     assert not re.search(r"""(src|href)\s*=\s*["'](?!data:|#)""", html)
     assert "url(" not in html and "@import" not in html
     imgs = [a for t, a in _tags(html) if t == "img"]
-    assert len(imgs) == 4
+    assert len(imgs) == 7
     for a in imgs:
         assert a["src"].startswith("data:image/svg+xml;base64,")
         svg = base64.b64decode(a["src"].split(",", 1)[1])
@@ -264,7 +269,7 @@ def test_html_is_self_contained_and_script_free(written):
 def test_markdown_links_every_figure_relatively(written):
     md = (written / "edge.md").read_text()
     links = re.findall(r"!\[[^\]]*\]\(([^)]+)\)", md)
-    assert len(links) == 4
+    assert len(links) == 7
     for link in links:
         assert not link.startswith("/") and link.startswith("edge_figures/")
         assert (written / link).is_file()
@@ -559,7 +564,7 @@ def test_html_report_renders_in_a_real_browser(edge_audit, written, tmp_path):
     match = re.search(r'<pre id="probe">([^<]*)</pre>', dom)
     assert match, "the probe did not run"
     sizes = match.group(1).split()
-    assert len(sizes) == 4
+    assert len(sizes) == 7
     for size in sizes:
         natural, shown = size.split("@")
         nw, nh = (int(v) for v in natural.split("x"))

@@ -8,6 +8,8 @@ Public API (stable names):
 - :func:`probabilistic_sharpe`, :func:`deflated_sharpe`, :func:`expected_max_sharpe`,
   :func:`minimum_track_record`, :func:`sharpe_inference`, :func:`effective_trials`,
   :func:`haircut_sharpe`
+- :func:`cscv`, :func:`overfitting_diagnosis` (probability of backtest overfitting)
+- :func:`reality_check`, :func:`superior_predictive_ability`, :func:`stepwise_superior`
 """
 
 __version__ = "0.1.0"
@@ -22,6 +24,12 @@ from .errors import (  # noqa: E402
 )
 from .load import LoadOptions, load_sweep  # noqa: E402
 from .methods.bootstrap_ci import bootstrap_intervals  # noqa: E402
+from .methods.cscv import cscv, overfitting_diagnosis  # noqa: E402
+from .methods.snooping import (  # noqa: E402
+    reality_check,
+    stepwise_superior,
+    superior_predictive_ability,
+)
 from .methods.haircut import haircut_sharpe  # noqa: E402
 from .methods.sharpe import (  # noqa: E402
     deflated_sharpe,
@@ -47,6 +55,11 @@ __all__ = [
     "LoadOptions",
     "load_sweep",
     "bootstrap_intervals",
+    "cscv",
+    "overfitting_diagnosis",
+    "reality_check",
+    "stepwise_superior",
+    "superior_predictive_ability",
     "haircut_sharpe",
     "deflated_sharpe",
     "expected_max_sharpe",

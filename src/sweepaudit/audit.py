@@ -30,6 +30,7 @@ from .methods.trials import SharpeInference, sharpe_inference
 from .policy import DEFAULT_POLICY, Policy
 from .resample import (
     BootstrapKind,
+    ResampledMoments,
     Resamples,
     automatic_block_length,
     draw_resamples,
@@ -145,6 +146,61 @@ class AuditResults:
         return self.intervals.confidence
 
 
+# Above this many bytes for the B x N resampled means, second moments and Sharpe ratios held at
+# once in float64, the audit streams over blocks of configurations instead.
+MEMORY_BUDGET = 4 * 2**30
+# Bytes of float64 B x n temporaries one block of configurations may use in the streamed path.
+BLOCK_BUDGET = 1_500 * 2**20
+
+
+def _resample_and_intervals(x, resamples, confidence, method, memory_budget, progress):
+    """The shared resampled moments and the intervals of every configuration.
+
+    In memory when the ``B x N`` moments fit ``memory_budget``. Otherwise the configurations are
+    streamed in blocks: each block's moments (the same resamples, regenerated from the seed) give
+    its intervals exactly as in memory; the resampled means and Sharpe ratios are kept for every
+    configuration in float32 (half the memory; relative rounding 6e-8, far below bootstrap noise)
+    and the second moments are dropped. The data-snooping tests need only the means, reduced
+    exactly over configurations.
+    """
+    t, n = x.shape
+    b = resamples.count
+    chunk = moment_chunk(t)
+    if 3 * b * n * 8 <= memory_budget:
+        moments = resampled_moments(
+            x, resamples, chunk=chunk, progress=(lambda done: progress(done, b)) if progress else None
+        )
+        return moments, bootstrap_intervals(x, moments, confidence=confidence, method=method)
+    width = max(1, min(n, BLOCK_BUDGET // (5 * 8 * b)))
+    mean = np.empty((b, n), dtype=np.float32)
+    sharpe = np.empty((b, n), dtype=np.float32)
+    degenerate = np.zeros(b, dtype=bool)
+    mean_iv: list = []
+    sharpe_iv: list = []
+    for start in range(0, n, width):
+        cols = slice(start, min(n, start + width))
+        block = resampled_moments(x[:, cols], resamples, chunk=chunk)
+        iv = bootstrap_intervals(x[:, cols], block, confidence=confidence, method=method)
+        mean[:, cols] = iv.mean_distribution
+        sharpe[:, cols] = iv.sharpe_distribution
+        degenerate |= ~np.isfinite(iv.sharpe_distribution).all(axis=1)
+        mean_iv += iv.mean
+        sharpe_iv += iv.sharpe
+        del block, iv
+        if progress is not None:
+            progress(round(b * cols.stop / n), b)
+    intervals = BootstrapIntervals(
+        mean=tuple(mean_iv),
+        sharpe=tuple(sharpe_iv),
+        mean_distribution=mean,
+        sharpe_distribution=sharpe,
+        confidence=float(confidence),
+        method=method,
+        degenerate_resamples=int(degenerate.sum()),
+    )
+    return ResampledMoments(mean=mean, second=None, windows=t), intervals
+
+
 def _select(sweep: Sweep, settings: AuditSettings, sharpe: np.ndarray) -> tuple[int, str]:
     if settings.selected is not None:
         return sweep.index_of(settings.selected), "named by the user"
@@ -157,6 +213,7 @@ def audit(
     settings: AuditSettings | None = None,
     policy: Policy | None = None,
     progress: Callable[[int, int], None] | None = None,
+    memory_budget: int = MEMORY_BUDGET,
 ) -> AuditResults:
     """Audit a sweep: resample once, run every method, apply the policy.
 
@@ -167,6 +224,9 @@ def audit(
     policy : Policy, optional
     progress : callable, optional
         ``progress(done, total)`` after each chunk of resamples.
+    memory_budget : int
+        Bytes the full ``B x N`` resampled moments may take before the audit streams over
+        configurations (see :func:`_resample_and_intervals`).
     """
     settings = settings or AuditSettings()
     policy = policy or DEFAULT_POLICY
@@ -192,10 +252,9 @@ def audit(
         resamples = draw_resamples(
             sweep.n_windows, count=count, kind=settings.bootstrap, block_length=block, seed=settings.seed
         )
-        moments = resampled_moments(
-            x, resamples, chunk=moment_chunk(sweep.n_windows), progress=(lambda done: progress(done, count)) if progress else None
+        moments, intervals = _resample_and_intervals(
+            x, resamples, confidence, settings.interval_method, memory_budget, progress
         )
-        intervals = bootstrap_intervals(x, moments, confidence=confidence, method=settings.interval_method)
         inference = sharpe_inference(
             x,
             selected=selected,

@@ -248,18 +248,21 @@ class ResampledMoments:
     ----------
     mean : ndarray, shape (B, N)
         ``mean[b, k]`` is the mean of configuration k's excess returns in resample b.
-    second : ndarray, shape (B, N)
-        The mean of squared excess returns in resample b (for resampled variances and Sharpe ratios).
+    second : ndarray, shape (B, N), or None
+        The mean of squared excess returns in resample b (for resampled variances and Sharpe
+        ratios); None when an audit streamed over configurations and kept only the means.
     windows : int
         T, the number of windows in each resample.
     """
 
     mean: np.ndarray
-    second: np.ndarray
+    second: np.ndarray | None
     windows: int
 
     def variance(self) -> np.ndarray:
         """Resampled sample variances (ddof = 1), clipped at zero against rounding."""
+        if self.second is None:
+            raise InputError("these resampled moments kept only the means (a streamed audit)")
         t = self.windows
         return np.maximum(self.second - self.mean**2, 0.0) * (t / (t - 1))
 

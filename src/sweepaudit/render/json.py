@@ -214,7 +214,7 @@ def _overfitting_block(results: AuditResults) -> dict:
             "intercept": r.degradation_intercept,
             "r_squared": r.degradation_r_squared,
         },
-        "logits": {"quantiles": {f"{q:g}": v for q, v in r.logit_quantiles.items()}},
+        "logits": {f"{q:g}": v for q, v in r.logit_quantiles.items()},
         "stochastic_dominance": {
             "first_order": r.first_order_dominance,
             "first_order_violation": r.first_order_violation,

@@ -317,8 +317,10 @@ def logit_histogram(doc: dict, overfitting: Any) -> Figure | None:
         fig = _new(6.4, 3.4)
         ax = fig.add_subplot()
         lo, hi = float(values.min()), float(values.max())
-        span = max(hi - lo, 1e-9)
-        step = span / 30
+        # Bins of one thirtieth of the range covering zero too; a fixed step when every split gives
+        # the same logit (one configuration wins and ranks the same in every split).
+        span = max(hi, 0.0) - min(lo, 0.0)
+        step = span / 30 if span > 1e-6 else 0.1
         # bins with an edge at zero, so a bar never straddles the line
         edges = np.arange(math.floor(min(lo, 0) / step) * step, max(hi, 0) + 2 * step, step)
         ax.hist(values[values <= 0], bins=edges, color=PALETTE["rust"], hatch="///", edgecolor=PALETTE["ink"],

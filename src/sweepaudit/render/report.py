@@ -474,6 +474,10 @@ def _sharpe_section(doc: dict, results: AuditResults | None) -> Section:
         ("minimum track record (years)", figure(mtr.get("years"))),
     ]
     known = {"observed", "observations", "skewness", "kurtosis", "probabilistic", "deflated", "min_track_record"}
+    facts += _extra_facts(psr, {"benchmark", "probability"}, prefix="probabilistic Sharpe ratio: ")
+    facts += _extra_facts(dsr, {"trials", "effective_trials", "trial_sharpe_variance", "benchmark_sharpe",
+                                "probability"}, prefix="deflated Sharpe ratio: ")
+    facts += _extra_facts(mtr, {"observations", "years"}, prefix="minimum track record: ")
     facts += _extra_facts(block, known)
     words = [meaning]
     if dsr.get("probability") is not None:
@@ -535,8 +539,10 @@ def _overfitting_section(doc: dict, results: AuditResults | None) -> Section:
             + (" (a coin flip or worse: no evidence the selection picks skill)." if p >= 0.5 else ".")
         )
     words.append(
-        "A negative degradation slope means that configurations which look better in sample tend to do "
-        "worse out of sample."
+        "The degradation line relates the winner's out-of-sample statistic to its in-sample one across "
+        "splits. When one configuration wins nearly every split its two halves share one record, so the "
+        "slope sits near -1 by construction; what matters is whether the out-of-sample statistic stays "
+        "above zero (the intercept and the probability of loss), not the sign of the slope."
     )
     figs: list[Figure] = []
     ov = getattr(results, "overfitting", None) if results is not None else None
@@ -601,6 +607,9 @@ def _extra_facts(block: dict, known: set, prefix: str = "") -> list[tuple[str, s
         label = prefix + key.replace("_", " ")
         if isinstance(value, dict):
             out += _extra_facts(value, set(), prefix=label + ": ")
+        elif isinstance(value, list) and any(isinstance(v, dict) for v in value):
+            for i, item in enumerate(value, start=1):
+                out += _extra_facts(item, set(), prefix=f"{label} {i}: ")
         elif isinstance(value, list):
             out.append((label, ", ".join(figure(v) if not isinstance(v, str) else v for v in value) or "none"))
         elif isinstance(value, str):
