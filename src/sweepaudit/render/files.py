@@ -29,6 +29,10 @@ def write_atomic(path: str | os.PathLike, data: str | bytes) -> None:
     except OSError as exc:
         raise InputError(f"cannot write {target}: {exc.strerror}") from None
     try:
+        # mkstemp makes the file private (0600); give it the usual permissions of a new file.
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)
         with os.fdopen(fd, "wb") as handle:
             handle.write(payload)
             handle.flush()
