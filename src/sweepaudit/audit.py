@@ -25,6 +25,7 @@ from .methods.snooping import (
     stepwise_superior,
     superior_predictive_ability,
 )
+from .methods.surface import PeakShape, isolated_peak
 from .methods.haircut import HaircutSharpe, haircut_sharpe
 from .methods.trials import SharpeInference, sharpe_inference
 from .policy import DEFAULT_POLICY, Policy
@@ -128,6 +129,7 @@ class AuditResults:
     overfitting: CscvResult | None = None
     overfitting_diagnosis: OverfittingDiagnosis | None = None
     snooping: Snooping | None = None
+    surface: PeakShape | None = None
     verdict: Verdict | None = field(default=None)
     # Filled by the CLI when the audit is compared with an earlier one (--baseline); read by the
     # baseline_drift check.
@@ -325,4 +327,5 @@ def audit(
         overfitting_diagnosis=diagnosis,
         snooping=snooping,
     )
+    results = replace(results, surface=isolated_peak(results))
     return replace(results, verdict=decide(results, policy))

@@ -270,6 +270,26 @@ def _data_snooping(results: AuditResults, policy: Policy) -> Check | None:
     return Check("data_snooping", ok, p, level, reason)
 
 
+@check("parameter_surface")
+def _parameter_surface(results: AuditResults, policy: Policy) -> Check | None:
+    peak = results.surface
+    if peak is None:
+        return None
+    ok = not peak.isolated
+    if ok:
+        reason = (
+            f"The selected cell of the parameter grid is not an isolated peak: its grid neighbours average "
+            f"a Sharpe ratio of {_fmt(peak.neighbour_mean)} per window against its {_fmt(peak.sharpe)}."
+        )
+    else:
+        reason = (
+            f"The selected cell is an isolated peak among weak neighbours (they average a Sharpe ratio of "
+            f"{_fmt(peak.neighbour_mean)} per window against its {_fmt(peak.sharpe)}, within one standard "
+            "error of zero): a setting that works alone is what selection luck looks like."
+        )
+    return Check("parameter_surface", ok, peak.neighbour_mean, peak.sharpe * 0.5, reason)
+
+
 def decide(results: AuditResults, policy: Policy) -> Verdict:
     """Run every registered check; the verdict is go only when every required check passes.
 

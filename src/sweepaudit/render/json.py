@@ -141,6 +141,17 @@ def audit_to_dict(
         out["results"]["sharpe"] = _sharpe_block(results)
     if results.snooping is not None:
         out["results"]["snooping"] = _snooping_block(results)
+    if results.surface is not None:
+        peak = results.surface
+        out["results"]["surface"] = {
+            "parameters": list(sweep.parameters.columns),
+            "selected_sharpe": peak.sharpe,
+            "neighbour_mean_sharpe": peak.neighbour_mean,
+            "neighbours": peak.neighbours,
+            "standard_error": peak.standard_error,
+            "gap_in_standard_errors": peak.gap_in_standard_errors,
+            "isolated_peak": peak.isolated,
+        }
     if results.overfitting is not None:
         out["results"]["overfitting"] = _overfitting_block(results)
     if getattr(results, "baseline", None) is not None:

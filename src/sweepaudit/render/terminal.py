@@ -86,6 +86,15 @@ def _sections(doc: dict) -> list:
     figures.add_row("Sharpe ratio", _iv(boot["sharpe"]), _iv(boot["sharpe_annualized"]))
     parts.append(figures)
 
+    surface = doc["results"].get("surface")
+    if surface:
+        verdict = ("an ISOLATED PEAK among weak neighbours: what selection luck looks like"
+                   if surface["isolated_peak"] else "not an isolated peak")
+        parts.append(Text(
+            f"Parameter surface ({', '.join(surface['parameters'])}): the selected cell's Sharpe ratio "
+            f"{fmt(surface['selected_sharpe'])} against {fmt(surface['neighbour_mean_sharpe'])} on average over "
+            f"its {surface['neighbours']} grid neighbours ({fmt(surface['gap_in_standard_errors'], 3)} standard "
+            f"errors apart): {verdict}.\n"))
     sh = doc["results"].get("sharpe")
     if sh:
         parts.append(_sharpe_table(sh, ppy))
