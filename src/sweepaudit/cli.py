@@ -120,32 +120,44 @@ def _progress_callback(console: Console):
     return bar, update
 
 
+# Input options shared by `audit` and `calibrate` (one definition, one help text).
+SweepArg = Annotated[str, typer.Argument(metavar="SWEEP", help="CSV, TSV or Parquet file; - reads CSV from standard input.")]
+LayoutOpt = Annotated[LayoutChoice, typer.Option(help="Input layout; auto detects it.")]
+WindowColumnOpt = Annotated[Optional[str], typer.Option(help="Column holding the window (date or label).")]
+ValueColumnOpt = Annotated[Optional[str], typer.Option(help="Long layout: column holding the excess return.")]
+ParameterColumnsOpt = Annotated[
+    Optional[str], typer.Option(help="Long layout: comma-separated columns naming a configuration.")
+]
+BenchmarkOpt = Annotated[
+    Optional[str],
+    typer.Option(help="Inputs are raw strategy returns: subtract this benchmark column (wide) or configuration (long)."),
+]
+BenchmarkFileOpt = Annotated[
+    Optional[str], typer.Option(help="Inputs are raw strategy returns: subtract the benchmark series in this file.")
+]
+UnitsOpt = Annotated[UnitsChoice, typer.Option(help="Units of the returns in the file.")]
+PeriodsOpt = Annotated[
+    Optional[float], typer.Option(help="Windows per year (e.g. 52 for weekly); inferred from dated windows otherwise.")
+]
+CommonWindowsOpt = Annotated[bool, typer.Option("--common-windows", help="Keep only the windows every configuration covers.")]
+SelectOpt = Annotated[
+    Optional[str], typer.Option(help="Judge this configuration instead of the highest full-sample Sharpe ratio.")
+]
+
+
 @app.command("audit", no_args_is_help=True)
 def audit_command(
-    sweep_path: Annotated[str, typer.Argument(metavar="SWEEP", help="CSV, TSV or Parquet file; - reads CSV from standard input.")],
-    layout: Annotated[LayoutChoice, typer.Option(help="Input layout; auto detects it.")] = LayoutChoice.auto,
-    window_column: Annotated[Optional[str], typer.Option(help="Column holding the window (date or label).")] = None,
-    value_column: Annotated[Optional[str], typer.Option(help="Long layout: column holding the excess return.")] = None,
-    parameter_columns: Annotated[
-        Optional[str], typer.Option(help="Long layout: comma-separated columns naming a configuration.")
-    ] = None,
-    benchmark: Annotated[
-        Optional[str],
-        typer.Option(help="Inputs are raw strategy returns: subtract this benchmark column (wide) or configuration (long)."),
-    ] = None,
-    benchmark_file: Annotated[
-        Optional[str], typer.Option(help="Inputs are raw strategy returns: subtract the benchmark series in this file.")
-    ] = None,
-    units: Annotated[UnitsChoice, typer.Option(help="Units of the returns in the file.")] = UnitsChoice.fraction,
-    periods_per_year: Annotated[
-        Optional[float], typer.Option(help="Windows per year (e.g. 52 for weekly); inferred from dated windows otherwise.")
-    ] = None,
-    common_windows: Annotated[
-        bool, typer.Option("--common-windows", help="Keep only the windows every configuration covers.")
-    ] = False,
-    select: Annotated[
-        Optional[str], typer.Option(help="Judge this configuration instead of the highest full-sample Sharpe ratio.")
-    ] = None,
+    sweep_path: SweepArg,
+    layout: LayoutOpt = LayoutChoice.auto,
+    window_column: WindowColumnOpt = None,
+    value_column: ValueColumnOpt = None,
+    parameter_columns: ParameterColumnsOpt = None,
+    benchmark: BenchmarkOpt = None,
+    benchmark_file: BenchmarkFileOpt = None,
+    units: UnitsOpt = UnitsChoice.fraction,
+    periods_per_year: PeriodsOpt = None,
+    common_windows: CommonWindowsOpt = False,
+    select: SelectOpt = None,
     seed: Annotated[int, typer.Option(help="Seed of the resamples: same input and seed, same JSON.")] = 0,
     resamples: Annotated[
         Optional[int], typer.Option(help="Bootstrap resamples (default 10,000, the policy's).")
@@ -403,30 +415,17 @@ def _render_calibration(document: dict) -> None:
 
 @app.command("calibrate", no_args_is_help=True)
 def calibrate_command(
-    sweep_path: Annotated[str, typer.Argument(metavar="SWEEP", help="CSV, TSV or Parquet file; - reads CSV from standard input.")],
-    layout: Annotated[LayoutChoice, typer.Option(help="Input layout; auto detects it.")] = LayoutChoice.auto,
-    window_column: Annotated[Optional[str], typer.Option(help="Column holding the window (date or label).")] = None,
-    value_column: Annotated[Optional[str], typer.Option(help="Long layout: column holding the excess return.")] = None,
-    parameter_columns: Annotated[
-        Optional[str], typer.Option(help="Long layout: comma-separated columns naming a configuration.")
-    ] = None,
-    benchmark: Annotated[
-        Optional[str],
-        typer.Option(help="Inputs are raw strategy returns: subtract this benchmark column (wide) or configuration (long)."),
-    ] = None,
-    benchmark_file: Annotated[
-        Optional[str], typer.Option(help="Inputs are raw strategy returns: subtract the benchmark series in this file.")
-    ] = None,
-    units: Annotated[UnitsChoice, typer.Option(help="Units of the returns in the file.")] = UnitsChoice.fraction,
-    periods_per_year: Annotated[
-        Optional[float], typer.Option(help="Windows per year (e.g. 52 for weekly); inferred from dated windows otherwise.")
-    ] = None,
-    common_windows: Annotated[
-        bool, typer.Option("--common-windows", help="Keep only the windows every configuration covers.")
-    ] = False,
-    select: Annotated[
-        Optional[str], typer.Option(help="Judge this configuration instead of the highest full-sample Sharpe ratio.")
-    ] = None,
+    sweep_path: SweepArg,
+    layout: LayoutOpt = LayoutChoice.auto,
+    window_column: WindowColumnOpt = None,
+    value_column: ValueColumnOpt = None,
+    parameter_columns: ParameterColumnsOpt = None,
+    benchmark: BenchmarkOpt = None,
+    benchmark_file: BenchmarkFileOpt = None,
+    units: UnitsOpt = UnitsChoice.fraction,
+    periods_per_year: PeriodsOpt = None,
+    common_windows: CommonWindowsOpt = False,
+    select: SelectOpt = None,
     sweeps: Annotated[int, typer.Option(help="Null sweeps to audit (standard error of a 5% rate: 1.5% at 200).")] = 200,
     edge: Annotated[
         float, typer.Option(help="Annualised Sharpe ratio of the edge planted for the power estimate; 0 skips power.")
