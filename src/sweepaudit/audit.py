@@ -160,10 +160,11 @@ def _resample_and_intervals(x, resamples, confidence, method, memory_budget, pro
 
     In memory when the ``B x N`` moments fit ``memory_budget``. Otherwise the configurations are
     streamed in blocks: each block's moments (the same resamples, regenerated from the seed) give
-    its intervals exactly as in memory; the resampled means and Sharpe ratios are kept for every
-    configuration in float32 (half the memory; relative rounding 6e-8, far below bootstrap noise)
-    and the second moments are dropped. The data-snooping tests need only the means, reduced
-    exactly over configurations.
+    its intervals exactly as in memory; the resampled means are kept for every configuration in
+    float64, so the data-snooping tests (which need only the means, reduced over configurations
+    block by block) give exactly the figures of the in-memory path; the second moments are dropped
+    and the resampled Sharpe ratios are kept in float32 (relative rounding 6e-8, far below
+    bootstrap noise; they only serve re-levelling intervals and plots).
     """
     t, n = x.shape
     b = resamples.count
@@ -174,7 +175,7 @@ def _resample_and_intervals(x, resamples, confidence, method, memory_budget, pro
         )
         return moments, bootstrap_intervals(x, moments, confidence=confidence, method=method)
     width = max(1, min(n, BLOCK_BUDGET // (5 * 8 * b)))
-    mean = np.empty((b, n), dtype=np.float32)
+    mean = np.empty((b, n), dtype=np.float64)
     sharpe = np.empty((b, n), dtype=np.float32)
     degenerate = np.zeros(b, dtype=bool)
     mean_iv: list = []
