@@ -211,7 +211,9 @@ def test_window_column_flag(tmp_path):
     frame.insert(0, "obs", np.arange(101, 101 + len(WEEKS)))
     path = tmp_path / "w.csv"
     frame.to_csv(path, index=False)
-    assert load_sweep(str(path)).configurations == ("obs", "a", "b")
+    with pytest.raises(InputError, match=r"column 'obs': holds only whole numbers: it looks like a window"):
+        load_sweep(str(path))
+    assert load_sweep(str(path), LoadOptions(layout="wide")).configurations == ("obs", "a", "b")
     s = load_sweep(str(path), LoadOptions(window_column="obs"))
     assert s.configurations == ("a", "b")
     assert s.windows == tuple(str(i) for i in range(101, 101 + len(WEEKS)))
@@ -770,3 +772,24 @@ def test_invalid_units(tmp_path):
     frame.to_csv(tmp_path / "w.csv")
     with pytest.raises(InputError, match=r"units must be one of fraction, percent, bps; got 'percentage'"):
         load_sweep(str(tmp_path / "w.csv"), LoadOptions(units="percentage"))
+
+
+def test_long_file_with_an_unnamed_window_column_is_refused_not_read_as_wide(tmp_path):
+    # A long file whose window column has no window-like name ("t") would otherwise be read as
+    # wide with row numbers as windows, auditing the window and parameter columns as configurations.
+    rng = np.random.default_rng(2)
+    rows = [(t, lb, f"{rng.normal(0, 0.01):.6f}") for lb in (5, 10, 20) for t in range(1, 61)]
+    path = _write_csv(tmp_path / "t.csv", ["t", "lookback", "pnl"], rows)
+    with pytest.raises(InputError, match=r"t.csv, column 't': holds only whole numbers"):
+        load_sweep(str(path))
+    s = load_sweep(str(path), LoadOptions(window_column="t", value_column="pnl"))
+    assert s.layout == "long" and s.configurations == ("lookback=5", "lookback=10", "lookback=20")
+
+
+def test_returns_of_100_percent_or_more_in_a_window_are_flagged(tmp_path):
+    frame, _ = _wide_frame(["a", "b"], WEEKS)
+    frame.iloc[3, 1] = 1.5
+    path = tmp_path / "w.csv"
+    frame.to_csv(path)
+    s = load_sweep(str(path))
+    assert any("configuration 'b' has an excess return of 1.5 (100% or more)" in n for n in s.notes)

@@ -346,6 +346,22 @@ def load_sweep(path: str, options: LoadOptions | None = None) -> Sweep:
             layout = "wide"
     if layout not in ("long", "wide"):
         raise InputError(f"layout must be auto, long or wide; got {layout!r}")
+    if opt.layout == "auto" and layout == "wide" and window_col is None and opt.units == "fraction":
+        # Without a window column every column becomes a configuration: refuse a column of whole
+        # numbers, which is an index, a window or a parameter, not excess returns as fractions.
+        for c in columns:
+            if c == opt.benchmark or not pd.api.types.is_numeric_dtype(frame[c]):
+                continue
+            v = frame[c].to_numpy(dtype=np.float64)
+            v = v[np.isfinite(v)]
+            if v.size and np.all(v == np.round(v)) and np.any(v != 0):
+                raise InputError(
+                    "holds only whole numbers: it looks like a window, index or parameter column, not "
+                    "excess returns as fractions; name the window column with --window-column, give "
+                    "--units percent or bps, or pass --layout wide to audit it as a configuration",
+                    path=label,
+                    column=c,
+                )
 
     notes: list[str] = []
     if layout == "long":
@@ -365,6 +381,13 @@ def load_sweep(path: str, options: LoadOptions | None = None) -> Sweep:
             f"only {t} windows; the audit needs at least {MIN_WINDOWS} (block bootstrap and moment "
             "estimates), and the selection tests need many more to say anything",
             path=label,
+        )
+    biggest = np.abs(matrix).max(axis=0)
+    if biggest.max() >= 1.0:
+        k = int(np.argmax(biggest))
+        notes.append(
+            f"configuration {names[k]!r} has an excess return of {biggest[k]:g} (100% or more) in one "
+            f"window, read as {opt.units}: check --units (percent? bps?) and that it is a return column"
         )
     sd = matrix.std(axis=0)
     constant = np.flatnonzero(sd <= 1e-15 * np.maximum(1.0, np.abs(matrix).max(axis=0)))
