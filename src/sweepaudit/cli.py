@@ -26,7 +26,7 @@ from .errors import SweepAuditError
 from .load import LoadOptions, load_sweep
 from .baseline import read_baseline
 from .gate import gated_audit
-from .policy import policy_to_toml, resolve_policy
+from .policy import policy_from_mapping, policy_to_toml, resolve_policy
 from .render.files import write_atomic
 from .render.json import dumps
 from .render.junit import audit_to_junit
@@ -100,6 +100,23 @@ def _check_output(path: Optional[Path], what: str) -> None:
         raise SweepAuditError(f"cannot write the {what} {path}: folder {folder} does not exist")
     if path.is_dir():
         raise SweepAuditError(f"cannot write the {what} {path}: it is a folder; give a file name")
+    if path.exists() and not path.is_file():
+        raise SweepAuditError(f"cannot write the {what} {path}: it is not a regular file")
+
+
+def _check_distinct(outputs: dict[str, Optional[Path]], inputs: dict[str, object]) -> None:
+    """Refuse an output that would overwrite an input (the sweep, a ledger, ...) or another output."""
+    seen: dict[Path, str] = {}
+    for what, value in inputs.items():
+        if value is not None and str(value) != "-":
+            seen[Path(value).resolve()] = what
+    for what, path in outputs.items():
+        if path is None:
+            continue
+        key = path.resolve()
+        if key in seen:
+            raise SweepAuditError(f"the {what} {path} would overwrite the {seen[key]}; give another file name")
+        seen[key] = what
 
 
 def _progress_callback(console: Console):
@@ -215,9 +232,20 @@ def audit_command(
         _check_output(junit_path, "JUnit file")
         if report_path is not None:
             check_report_path(report_path)
+            _check_output(report_path, "report")
+        _check_distinct(
+            {"JSON file": json_path, "JUnit file": junit_path, "report": report_path},
+            {"input sweep": sweep_path, "benchmark file": benchmark_file, "trial ledger": ledger_path,
+             "baseline": baseline_path, "policy file": policy_path},
+        )
         if resamples is not None and quick:
             raise SweepAuditError("give either --resamples or --quick, not both")
         loaded = resolve_policy(policy_path)
+        # Options that override the policy obey the policy's ranges (a 10% interval would make
+        # mean_interval meaningless; a handful of resamples, every p-value coarse).
+        overrides = {k: v for k, v in (("confidence", confidence), ("resamples", resamples)) if v is not None}
+        if overrides:
+            policy_from_mapping(overrides, source="command-line option")
         baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
         options = LoadOptions(
             layout=layout.value,
@@ -248,7 +276,7 @@ def audit_command(
             baseline_path=str(baseline_path) if baseline_path is not None else None,
             ledger_path=ledger_path,
             declared_trials=trials,
-            command=lambda results: reproduce_command(results, options),
+            command=lambda results: reproduce_command(results, options, policy_source=loaded.source),
         )
         bar, update = _progress_callback(stderr) if not quiet else (None, None)
         if bar is not None:
@@ -257,12 +285,18 @@ def audit_command(
         else:
             gated = gated_audit(sweep, **gate)
         document, results = gated.document, gated.results
-        if json_path is not None:
-            write_atomic(json_path, dumps(document))
-        if junit_path is not None:
-            write_atomic(junit_path, audit_to_junit(document, elapsed=time.perf_counter() - started))
+        # Render everything in memory first; the report (figures and all) is written first, so a
+        # failure there leaves no JSON or JUnit file behind either.
+        json_text = dumps(document) if json_path is not None else None
+        junit_text = (
+            audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path is not None else None
+        )
         if report_path is not None:
             write_report(report_path, document, results)
+        if json_text is not None:
+            write_atomic(json_path, json_text)
+        if junit_text is not None:
+            write_atomic(junit_path, junit_text)
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
     if not quiet:
@@ -270,9 +304,12 @@ def audit_command(
     raise typer.Exit(EXIT_GO if document["verdict"] == "go" else EXIT_NO_GO)
 
 
-def reproduce_command(results, options: LoadOptions) -> str:
+def reproduce_command(results, options: LoadOptions, *, policy_source: str = "defaults") -> str:
     """The canonical command that reproduces every figure of this audit (output options left out)."""
     words = ["sweepaudit", "audit", results.sweep.path if results.sweep.path != "<stdin>" else "-"]
+    if policy_source != "defaults":
+        # A policy found in a pyproject.toml applies only from that folder: name it.
+        words += ["--policy", policy_source]
     defaults = LoadOptions()
     for name in ("layout", "window_column", "value_column", "benchmark", "benchmark_file", "units", "periods_per_year"):
         value = getattr(options, name)
@@ -464,6 +501,8 @@ def calibrate_command(
     stderr = Console(stderr=True)
     try:
         _check_output(json_path, "JSON file")
+        _check_distinct({"JSON file": json_path}, {"input sweep": sweep_path, "benchmark file": benchmark_file,
+                                                    "policy file": policy_path})
         if sweeps < 1:
             raise SweepAuditError(f"--sweeps must be at least 1; got {sweeps}")
         if resamples < 1:

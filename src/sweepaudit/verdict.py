@@ -175,10 +175,11 @@ def _baseline_drift(results: AuditResults, policy: Policy) -> Check | None:
     where = comparison.path
     judged = [g for g in comparison.gated if g.allowed is not None]
     if not judged:
+        # A truncated or foreign baseline must not switch the gate off silently.
         return Check(
-            "baseline_drift", True, None, None,
-            f"No gated figure is present in both this audit and the baseline {where}; nothing to hold "
-            "against it.",
+            "baseline_drift", False, None, None,
+            f"No gated figure is present in both this audit and the baseline {where}, so the gate cannot "
+            "compare them: regenerate the baseline from an audit you trust.",
         )
 
     def ratio(g):
@@ -287,7 +288,11 @@ def _parameter_surface(results: AuditResults, policy: Policy) -> Check | None:
             f"{_fmt(peak.neighbour_mean)} per window against its {_fmt(peak.sharpe)}, within one standard "
             "error of zero): a setting that works alone is what selection luck looks like."
         )
-    return Check("parameter_surface", ok, peak.neighbour_mean, peak.sharpe * 0.5, reason)
+    # The rule's bar is the lower of its two parts: half the peak, and one standard error.
+    from .methods.surface import PEAK_NEIGHBOUR_SHARE, PEAK_WEAK_STANDARD_ERRORS
+
+    bar = min(PEAK_NEIGHBOUR_SHARE * peak.sharpe, PEAK_WEAK_STANDARD_ERRORS * peak.standard_error)
+    return Check("parameter_surface", ok, peak.neighbour_mean, bar, reason)
 
 
 def decide(results: AuditResults, policy: Policy) -> Verdict:
@@ -312,6 +317,13 @@ def decide(results: AuditResults, policy: Policy) -> Verdict:
         )
     failed = [c for c in checks if c.required and not c.passed]
     # Each reason names its check, so a reader of the reasons alone knows which test spoke.
+    if not any(c.required for c in checks):
+        return Verdict(
+            "no-go",
+            ("policy: no required check ran (the policy requires none, or disables them all), so "
+             "nothing supports a go; require at least one check",),
+            tuple(checks),
+        )
     if failed:
         return Verdict("no-go", tuple(f"{c.id}: {c.reason}" for c in failed), tuple(checks))
     return Verdict("go", tuple(f"{c.id}: {c.reason}" for c in checks if c.required), tuple(checks))
