@@ -294,7 +294,8 @@ def audit(
                 min_strength_share=policy.min_strength_share,
             )
 
-    notes = list(sweep.notes) + list(inference.warnings)
+    # The audit says once, below, that periods per year are unknown.
+    notes = list(sweep.notes) + [w for w in inference.warnings if not w.startswith("periods per year unknown")]
     notes += [str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning)]
     if sweep.n_configurations == 1:
         notes.append("a single configuration: selection tests need at least two configurations and were skipped")

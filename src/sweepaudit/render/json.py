@@ -245,7 +245,7 @@ def _overfitting_block(results: AuditResults) -> dict:
 def _deflated(d, periods_per_year) -> dict:
     root = math.sqrt(periods_per_year) if periods_per_year else None
     return {
-        "trials": d.trials,
+        "trials": int(d.trials) if float(d.trials).is_integer() else d.trials,
         "trial_sharpe_variance": d.trial_sharpe_variance,
         "expected_maximum": d.expected_maximum,
         "benchmark_sharpe": d.benchmark_sharpe,
@@ -261,7 +261,8 @@ def _sharpe_block(results: AuditResults) -> dict:
     head = _deflated(inf.deflated, ppy)
     head.update(
         {
-            "effective_trials": inf.effective_trials,
+            # Li and Ji count whole tests; an eigenvalue sum lands a rounding error off the integer.
+            "effective_trials": round(inf.effective_trials, 9),
             "effective_trials_method": inf.effective_trials_method,
             "declared_trials": inf.trials,
             "trials_used": inf.trials_for_deflation,
