@@ -793,3 +793,14 @@ def test_returns_of_100_percent_or_more_in_a_window_are_flagged(tmp_path):
     frame.to_csv(path)
     s = load_sweep(str(path))
     assert any("configuration 'b' has an excess return of 1.5 (100% or more)" in n for n in s.notes)
+
+
+def test_periods_per_year_that_disagree_with_the_dates_are_flagged(tmp_path):
+    frame, _ = _wide_frame(["a", "b"], WEEKS)
+    path = tmp_path / "w.csv"
+    frame.to_csv(path)
+    s = load_sweep(str(path), LoadOptions(periods_per_year=12))
+    assert s.periods_per_year == 12
+    assert any("--periods-per-year 12 disagrees with the window dates, which look weekly (52 a year)" in n
+               for n in s.notes)
+    assert not load_sweep(str(path), LoadOptions(periods_per_year=52)).notes

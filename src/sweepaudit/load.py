@@ -402,6 +402,13 @@ def load_sweep(path: str, options: LoadOptions | None = None) -> Sweep:
 
     if opt.periods_per_year is not None:
         ppy, source, freq = float(opt.periods_per_year), "given", None
+        if dates is not None:
+            inferred, name = _infer_periods(dates)
+            if inferred is not None and abs(inferred - ppy) > 0.25 * inferred:
+                notes.append(
+                    f"--periods-per-year {ppy:g} disagrees with the window dates, which look {name} "
+                    f"({inferred:g} a year): annualised figures use {ppy:g}"
+                )
     elif dates is not None:
         ppy, freq = _infer_periods(dates)
         source = "inferred" if ppy else "unknown"
