@@ -119,19 +119,19 @@ def _check_distinct(outputs: dict[str, Optional[Path]], inputs: dict[str, object
         seen[key] = what
 
 
-def _progress_callback(console: Console):
-    """A progress bar on stderr for long resampling runs; none when stderr is not a terminal."""
+def _progress_bar(console: Console, label: str):
+    """A progress bar on stderr for long runs; none when stderr is not a terminal."""
     if not console.is_terminal:
         return None, None
     from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
 
-    bar = Progress(TextColumn("resampling"), BarColumn(), TextColumn("{task.completed:,}/{task.total:,}"),
+    bar = Progress(TextColumn(label), BarColumn(), TextColumn("{task.completed:,}/{task.total:,}"),
                    TimeRemainingColumn(), console=console, transient=True)
     task = {"id": None}
 
     def update(done: int, total: int) -> None:
         if task["id"] is None:
-            task["id"] = bar.add_task("resampling", total=total)
+            task["id"] = bar.add_task(label, total=total)
         bar.update(task["id"], completed=done)
 
     return bar, update
@@ -247,16 +247,10 @@ def audit_command(
         if overrides:
             policy_from_mapping(overrides, source="command-line option")
         baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
-        options = LoadOptions(
-            layout=layout.value,
-            window_column=window_column,
-            value_column=value_column,
-            parameter_columns=tuple(c.strip() for c in parameter_columns.split(",")) if parameter_columns else None,
-            benchmark=benchmark,
-            benchmark_file=benchmark_file,
-            units=units.value,
-            periods_per_year=periods_per_year,
-            common_windows=common_windows,
+        options = _load_options(
+            layout=layout, window_column=window_column, value_column=value_column,
+            parameter_columns=parameter_columns, benchmark=benchmark, benchmark_file=benchmark_file,
+            units=units, periods_per_year=periods_per_year, common_windows=common_windows,
         )
         sweep = load_sweep(sweep_path, options)
         settings = AuditSettings(
@@ -278,7 +272,7 @@ def audit_command(
             declared_trials=trials,
             command=lambda results: reproduce_command(results, options, policy_source=loaded.source),
         )
-        bar, update = _progress_callback(stderr) if not quiet else (None, None)
+        bar, update = _progress_bar(stderr, "resampling") if not quiet else (None, None)
         if bar is not None:
             with bar:
                 gated = gated_audit(sweep, progress=update, **gate)
@@ -306,19 +300,10 @@ def audit_command(
 
 def reproduce_command(results, options: LoadOptions, *, policy_source: str = "defaults") -> str:
     """The canonical command that reproduces every figure of this audit (output options left out)."""
-    words = ["sweepaudit", "audit", results.sweep.path if results.sweep.path != "<stdin>" else "-"]
+    words = ["sweepaudit", "audit", *_input_words(results.sweep.path, options)]
     if policy_source != "defaults":
         # A policy found in a pyproject.toml applies only from that folder: name it.
         words += ["--policy", policy_source]
-    defaults = LoadOptions()
-    for name in ("layout", "window_column", "value_column", "benchmark", "benchmark_file", "units", "periods_per_year"):
-        value = getattr(options, name)
-        if value != getattr(defaults, name):
-            words += [f"--{name.replace('_', '-')}", str(value)]
-    if options.parameter_columns:
-        words += ["--parameter-columns", ",".join(options.parameter_columns)]
-    if options.common_windows:
-        words.append("--common-windows")
     s = results.settings
     words += ["--seed", str(s.seed), "--resamples", str(results.resamples.count), "--confidence",
               f"{results.confidence:g}", "--bootstrap", results.resamples.kind]
@@ -364,6 +349,21 @@ def policy_command(
 # calibrate: how often would this verdict say go on null sweeps shaped like this one?
 
 
+def _input_words(path: str, options: LoadOptions) -> list[str]:
+    """The sweep path and the input options that differ from the defaults, as command words."""
+    words = [path if path != "<stdin>" else "-"]
+    defaults = LoadOptions()
+    for name in ("layout", "window_column", "value_column", "benchmark", "benchmark_file", "units", "periods_per_year"):
+        value = getattr(options, name)
+        if value != getattr(defaults, name):
+            words += [f"--{name.replace('_', '-')}", str(value)]
+    if options.parameter_columns:
+        words += ["--parameter-columns", ",".join(options.parameter_columns)]
+    if options.common_windows:
+        words.append("--common-windows")
+    return words
+
+
 def _load_options(
     *, layout, window_column, value_column, parameter_columns, benchmark, benchmark_file, units,
     periods_per_year, common_windows,
@@ -380,24 +380,6 @@ def _load_options(
         periods_per_year=periods_per_year,
         common_windows=common_windows,
     )
-
-
-def _calibration_progress(console: Console):
-    """A progress bar over audited sweeps on stderr; none when stderr is not a terminal."""
-    if not console.is_terminal:
-        return None, None
-    from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
-
-    bar = Progress(TextColumn("auditing simulated sweeps"), BarColumn(), TextColumn("{task.completed:,}/{task.total:,}"),
-                   TimeRemainingColumn(), console=console, transient=True)
-    task = {"id": None}
-
-    def update(done: int, total: int) -> None:
-        if task["id"] is None:
-            task["id"] = bar.add_task("calibrate", total=total)
-        bar.update(task["id"], completed=done)
-
-    return bar, update
 
 
 def _render_calibration(document: dict) -> None:
@@ -521,23 +503,14 @@ def calibrate_command(
         if trials is not None:
             trials_to_count(sweep.n_configurations, declared=trials)  # the audit's own rule for --trials
         settings = AuditSettings(seed=seed, resamples=resamples, selected=select, trials=trials)
-        bar, update = _calibration_progress(stderr) if not quiet else (None, None)
+        bar, update = _progress_bar(stderr, "auditing simulated sweeps") if not quiet else (None, None)
         run = dict(sweeps=sweeps, edge=edge, settings=settings, resamples=resamples, policy=loaded.policy, seed=seed)
         if bar is not None:
             with bar:
                 result = calibrate_sweep(sweep, progress=update, **run)
         else:
             result = calibrate_sweep(sweep, **run)
-        words = ["sweepaudit", "calibrate", sweep.path if sweep.path != "<stdin>" else "-"]
-        defaults = LoadOptions()
-        for name in ("layout", "window_column", "value_column", "benchmark", "benchmark_file", "units", "periods_per_year"):
-            value = getattr(options, name)
-            if value != getattr(defaults, name):
-                words += [f"--{name.replace('_', '-')}", str(value)]
-        if options.parameter_columns:
-            words += ["--parameter-columns", ",".join(options.parameter_columns)]
-        if options.common_windows:
-            words.append("--common-windows")
+        words = ["sweepaudit", "calibrate", *_input_words(sweep.path, options)]
         if select is not None:
             words += ["--select", select]
         if policy_path is not None:
