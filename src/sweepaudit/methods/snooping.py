@@ -319,6 +319,14 @@ def moment_chunk(windows: int) -> int:
     return max(256, min(4096, rows))
 
 
+def _prepare(returns, counting, column_block, moments, resamples):
+    """The checked returns, column block and resampled moments every public test starts from."""
+    x = _validate_returns(returns)
+    _validate_counting(counting)
+    block = _validate_block(column_block)
+    return x, block, _obtain_moments(x, moments, resamples)
+
+
 def _validate_block(column_block: int) -> int:
     if int(column_block) != column_block or int(column_block) < 1:
         raise InputError(f"column_block must be a positive whole number; got {column_block!r}")
@@ -466,10 +474,7 @@ def reality_check(
     its own mean makes this the least favourable null, which is why it loses power when many
     configurations are poor (Hansen 2005, section 2).
     """
-    x = _validate_returns(returns)
-    _validate_counting(counting)
-    block = _validate_block(column_block)
-    m = _obtain_moments(x, moments, resamples)
+    x, block, m = _prepare(returns, counting, column_block, moments, resamples)
     t, _ = x.shape
     mean = x.mean(axis=0)
     root_n = math.sqrt(t)
@@ -531,10 +536,7 @@ def superior_predictive_ability(
     ordered the same way and ``pvalue_lower <= pvalue <= pvalue_upper`` holds exactly.
     For ``T < 3`` (``ln ln n < 0``) the threshold is taken as 0.
     """
-    x = _validate_returns(returns)
-    _validate_counting(counting)
-    block = _validate_block(column_block)
-    m = _obtain_moments(x, moments, resamples)
+    x, block, m = _prepare(returns, counting, column_block, moments, resamples)
     t, n = x.shape
     count = m.mean.shape[0]
     mean = x.mean(axis=0)
