@@ -22,6 +22,10 @@ def sweep():
     return sweep_from_array(x, periods_per_year=52)
 
 
+def _figures(intervals):
+    return np.array([(i.estimate, i.low, i.high) for i in intervals])
+
+
 def test_streamed_audit_equals_in_memory_audit(sweep, monkeypatch):
     settings = AuditSettings(seed=4, resamples=999)
     whole = audit(sweep, settings=settings)
@@ -30,16 +34,21 @@ def test_streamed_audit_equals_in_memory_audit(sweep, monkeypatch):
     streamed = audit(sweep, settings=settings, memory_budget=0)
     assert streamed.intervals.sharpe_distribution.dtype == np.float32
     assert whole.intervals.sharpe_distribution.dtype == np.float64
-    # Intervals come from each block's float64 moments: identical.
-    assert streamed.intervals.mean == whole.intervals.mean
-    assert streamed.intervals.sharpe == whole.intervals.sharpe
+    # The two paths compute the same resampled moments as weights @ returns products of different
+    # shapes (all configurations at once, or 7 at a time). BLAS sums a product in blocks whose size
+    # depends on the shapes, so the last bit of a float64 mean may differ between the two paths:
+    # bit identity across call shapes is not promised, agreement to rounding (1e-12 relative) is.
+    # (The same input and seed on the same machine give the same bytes: tests/test_cli.py.)
+    np.testing.assert_allclose(_figures(streamed.intervals.mean), _figures(whole.intervals.mean), rtol=1e-12)
+    np.testing.assert_allclose(_figures(streamed.intervals.sharpe), _figures(whole.intervals.sharpe), rtol=1e-12)
     np.testing.assert_allclose(streamed.intervals.sharpe_distribution, whole.intervals.sharpe_distribution, rtol=1e-6)
-    # Snooping on the same float64 means, reduced block by block: exactly the same figures.
+    # Snooping on the same float64 means, reduced block by block: the same figures to rounding; a
+    # p-value counts null draws, so a draw within rounding of the statistic could move it by one.
     for name in ("reality_check", "spa", "spa_unstudentized"):
         a, b = getattr(whole.snooping, name), getattr(streamed.snooping, name)
-        assert a.pvalue == b.pvalue
-        assert a.statistic == b.statistic
-    np.testing.assert_array_equal(whole.snooping.spa.null_consistent, streamed.snooping.spa.null_consistent)
+        assert a.pvalue == pytest.approx(b.pvalue, abs=1.01 / 1000)
+        assert a.statistic == pytest.approx(b.statistic, rel=1e-12)
+    np.testing.assert_allclose(whole.snooping.spa.null_consistent, streamed.snooping.spa.null_consistent, rtol=1e-12)
     assert 0.002 < whole.snooping.spa_unstudentized.pvalue < 0.9
     assert whole.snooping.stepm.significant == streamed.snooping.stepm.significant
     assert [c.passed for c in whole.verdict.checks] == [c.passed for c in streamed.verdict.checks]

@@ -24,6 +24,7 @@ from sweepaudit.policy import (
     Policy,
     discover_policy,
     load_policy_file,
+    CHECK_IDS,
     policy_from_mapping,
     policy_to_toml,
     resolve_policy,
@@ -45,6 +46,11 @@ def write_sweep(path, *, windows=60, configurations=4, edge=0.0, seed=1):
 
 
 # --- defaults and the printed policy -------------------------------------------------------------
+
+
+def test_the_static_check_ids_are_the_verdict_checks_in_display_order():
+    # The policy validates check ids without importing the verdict: its list must stay in step.
+    assert tuple(CHECKS) == CHECK_IDS
 
 
 def test_defaults_are_the_dataclass_defaults_and_name_registered_checks():

@@ -12,35 +12,34 @@ Public API (stable names):
 - :func:`reality_check`, :func:`superior_predictive_ability`, :func:`stepwise_superior`
 """
 
-__version__ = "0.1.0"
-
-from .audit import AuditResults, AuditSettings, audit  # noqa: E402
-from .errors import (  # noqa: E402
+from ._version import __version__
+from .audit import AuditResults, AuditSettings, audit
+from .errors import (
     DegenerateDataError,
     InputError,
     PolicyError,
     SweepAuditError,
     SweepAuditWarning,
 )
-from .load import LoadOptions, load_sweep  # noqa: E402
-from .methods.bootstrap_ci import bootstrap_intervals  # noqa: E402
-from .methods.cscv import cscv, overfitting_diagnosis  # noqa: E402
-from .methods.snooping import (  # noqa: E402
+from .load import LoadOptions, load_sweep
+from .methods.bootstrap_ci import bootstrap_intervals
+from .methods.cscv import cscv, overfitting_diagnosis
+from .methods.snooping import (
     reality_check,
     stepwise_superior,
     superior_predictive_ability,
 )
-from .methods.haircut import haircut_sharpe  # noqa: E402
-from .methods.sharpe import (  # noqa: E402
+from .methods.haircut import haircut_sharpe
+from .methods.sharpe import (
     deflated_sharpe,
     expected_max_sharpe,
     minimum_track_record,
     probabilistic_sharpe,
 )
-from .methods.trials import effective_trials, sharpe_inference  # noqa: E402
-from .policy import DEFAULT_POLICY, Policy  # noqa: E402
-from .resample import Resamples, draw_resamples, resampled_moments  # noqa: E402
-from .sweep import Sweep, sweep_from_array  # noqa: E402
+from .methods.trials import effective_trials, sharpe_inference
+from .policy import DEFAULT_POLICY, Policy
+from .resample import Resamples, draw_resamples, resampled_moments
+from .sweep import Sweep, sweep_from_array
 
 __all__ = [
     "__version__",

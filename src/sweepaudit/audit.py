@@ -37,6 +37,7 @@ from .resample import (
     draw_resamples,
     resampled_moments,
 )
+from .results import AuditSettings, Snooping
 from .sweep import Sweep
 from .verdict import Verdict, decide
 
@@ -49,65 +50,6 @@ CAUTION = (
     "Statistical evidence, not investment advice. Past performance does not guarantee future "
     "results. Defer to your firm's own risk and compliance process before committing capital."
 )
-
-
-@dataclass(frozen=True)
-class AuditSettings:
-    """Every knob that changes a figure.
-
-    Attributes
-    ----------
-    seed : int
-        Seed of the resamples; the same input and seed give the same audit.
-    resamples : int or None
-        Number of bootstrap resamples; None takes the policy's.
-    confidence : float or None
-        Interval level; None takes the policy's.
-    bootstrap : {"stationary", "circular", "moving-block"}
-    block_length : float or None
-        None: automatic (Politis and White 2004 on the selected configuration's series).
-    interval_method : {"percentile", "basic"}
-    selected : str or None
-        Configuration to judge; None selects the highest full-sample Sharpe ratio.
-    trials : int or None
-        Trials the deflated Sharpe ratio counts; None counts the sweep's configurations. A trial
-        ledger or ``--trials`` declares more (every sweep the researcher tried).
-    """
-
-    seed: int = 0
-    resamples: int | None = None
-    confidence: float | None = None
-    bootstrap: BootstrapKind = "stationary"
-    block_length: float | None = None
-    interval_method: IntervalMethod = "percentile"
-    selected: str | None = None
-    trials: int | None = None
-
-
-@dataclass(frozen=True, eq=False)
-class Snooping:
-    """The data-snooping tests of one audit, all on the audit's shared resamples."""
-
-    reality_check: RealityCheck
-    spa: SuperiorPredictiveAbility
-    spa_unstudentized: SuperiorPredictiveAbility
-    stepm: StepwiseResult
-    stepm_unstudentized: StepwiseResult
-    gating: str
-    studentized: bool
-
-    @property
-    def gating_spa(self) -> SuperiorPredictiveAbility:
-        return self.spa if self.studentized else self.spa_unstudentized
-
-    @property
-    def gating_stepm(self) -> StepwiseResult:
-        return self.stepm if self.studentized else self.stepm_unstudentized
-
-    @property
-    def pvalue(self) -> float:
-        """The p-value the policy gates on."""
-        return self.reality_check.pvalue if self.gating == "reality_check" else self.gating_spa.pvalue
 
 
 @dataclass(frozen=True, eq=False)

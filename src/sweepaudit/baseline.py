@@ -21,7 +21,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Literal
 
+from ._version import AUDIT_SCHEMA
 from .errors import InputError
+from .results import BaselineComparison, CheckChange, FigureMove, GatedFigure, GatedMove
 
 __all__ = [
     "GatedFigure",
@@ -35,35 +37,6 @@ __all__ = [
     "compare_with_baseline",
     "baseline_to_dict",
 ]
-
-SCHEMA = "sweepaudit.audit/1"
-
-
-@dataclass(frozen=True)
-class GatedFigure:
-    """A figure the baseline gate watches.
-
-    Attributes
-    ----------
-    key : str
-        Dotted JSON key of the figure.
-    label : str
-        Plain words for reasons.
-    higher_is_better : bool
-    margin_field : str
-        The Policy field holding the allowed worsening.
-    scale : {"absolute", "interval_width"}
-        ``absolute``: the margin is in the figure's own units. ``interval_width``: the margin is a
-        fraction of the baseline interval's width (``high - low`` of the block holding the key),
-        which makes it free of the returns' units and frequency.
-    """
-
-    key: str
-    label: str
-    higher_is_better: bool
-    margin_field: str
-    scale: Literal["absolute", "interval_width"] = "absolute"
-
 
 GATED_FIGURES: tuple[GatedFigure, ...] = (
     GatedFigure(
@@ -99,90 +72,6 @@ GATED_FIGURES: tuple[GatedFigure, ...] = (
 )
 
 
-@dataclass(frozen=True)
-class FigureMove:
-    """A numeric figure that differs between the baseline and this audit (``change = after - before``)."""
-
-    key: str
-    before: float
-    after: float
-    change: float
-
-
-@dataclass(frozen=True)
-class GatedMove:
-    """A gated figure present in both audits.
-
-    Attributes
-    ----------
-    worsening : float
-        How far it moved in the worse direction (negative when it improved).
-    allowed : float or None
-        The largest worsening the policy allows, in the figure's units; None when the allowance
-        cannot be computed (no baseline interval width), in which case it does not gate.
-    exceeded : bool
-        ``worsening > allowed``: this figure fails the ``baseline_drift`` check.
-    """
-
-    figure: GatedFigure
-    before: float
-    after: float
-    worsening: float
-    allowed: float | None
-    exceeded: bool
-
-    @property
-    def key(self) -> str:
-        return self.figure.key
-
-
-@dataclass(frozen=True)
-class CheckChange:
-    """A check whose state differs: each state is "passed", "failed" or "absent"."""
-
-    id: str
-    before: str
-    after: str
-
-
-@dataclass(frozen=True)
-class BaselineComparison:
-    """This audit against a baseline audit.
-
-    Attributes
-    ----------
-    path : str
-        The baseline file.
-    verdict_before : str or None
-    selected_before, selected_after : str or None
-        The configuration each audit judged; when they differ the selected figures compare
-        different configurations.
-    moved : tuple of FigureMove
-        Every compared figure that changed, in document order.
-    checks_changed : tuple of CheckChange
-    gated : tuple of GatedMove
-        Every gated figure present in both audits.
-    """
-
-    path: str
-    verdict_before: str | None
-    selected_before: str | None
-    selected_after: str | None
-    moved: tuple[FigureMove, ...]
-    checks_changed: tuple[CheckChange, ...]
-    gated: tuple[GatedMove, ...]
-
-    @property
-    def worsened(self) -> tuple[GatedMove, ...]:
-        """Gated figures that moved in the worse direction (by any amount)."""
-        return tuple(g for g in self.gated if g.worsening > 0)
-
-    @property
-    def exceeded(self) -> tuple[GatedMove, ...]:
-        """Gated figures that worsened by more than the policy allows."""
-        return tuple(g for g in self.gated if g.exceeded)
-
-
 def read_baseline(path: str | Path) -> dict[str, Any]:
     """Read and check an earlier audit JSON.
 
@@ -210,9 +99,9 @@ def read_baseline(path: str | Path) -> dict[str, Any]:
     if not isinstance(document, dict):
         raise InputError("the baseline must be an audit JSON object", path=where)
     schema = document.get("schema")
-    if schema != SCHEMA:
+    if schema != AUDIT_SCHEMA:
         raise InputError(
-            f"the baseline's schema is {schema!r}, expected {SCHEMA!r}: pass a file written by "
+            f"the baseline's schema is {schema!r}, expected {AUDIT_SCHEMA!r}: pass a file written by "
             "sweepaudit audit --json",
             path=where,
         )

@@ -41,8 +41,10 @@ from scipy import stats
 
 from .audit import AuditSettings, audit
 from .errors import InputError
+from ._version import CALIBRATION_SCHEMA, __version__
 from .policy import DEFAULT_POLICY, Policy
 from .resample import GENERATION_GROUP, Resamples, automatic_block_length, draw_resamples
+from .results import BlockSeries, CheckRate, Rate, SweepCalibration, VerdictCalibration
 from .sweep import Sweep, sweep_from_array
 
 __all__ = [
@@ -76,7 +78,6 @@ __all__ = [
     "sweep_calibration_to_dict",
 ]
 
-BlockSeries = Literal["average", "selected"]
 BLOCK_SERIES: tuple[str, ...] = get_args(BlockSeries)
 
 # Typical scale of per-window excess returns over a benchmark: 1% a week is about 7% a year of
@@ -120,32 +121,6 @@ def _check_count(name: str, value: int, low: int = 1) -> int:
 
 # --------------------------------------------------------------------------------------------
 # Binomial rates with Monte Carlo error
-
-
-@dataclass(frozen=True)
-class Rate:
-    """A Monte Carlo estimate of a probability from ``events`` out of ``trials`` simulated sweeps.
-
-    Attributes
-    ----------
-    events, trials : int
-    rate : float
-        ``events / trials`` (NaN when there were no trials).
-    standard_error : float
-        Binomial Monte Carlo standard error ``sqrt(rate * (1 - rate) / trials)``; zero when the
-        rate is 0 or 1, which is why ``upper_95`` is reported as well.
-    upper_95 : float
-        One-sided 95% Clopper and Pearson (1934) upper confidence bound on the true rate.
-    lower_95 : float
-        One-sided 95% Clopper-Pearson lower bound.
-    """
-
-    events: int
-    trials: int
-    rate: float
-    standard_error: float
-    upper_95: float
-    lower_95: float
 
 
 def binomial_rate(events: int, trials: int) -> Rate:
@@ -556,78 +531,6 @@ FAMILIES: tuple[Family, ...] = (
 # Running the audit on many sweeps
 
 
-@dataclass(frozen=True)
-class CheckRate:
-    """How often one check of the verdict failed across the simulated sweeps.
-
-    Attributes
-    ----------
-    id : str
-        The check's id (as in the audit JSON).
-    required : bool
-        Whether the policy requires the check (a failure then makes the verdict no-go).
-    failures : Rate
-        Failures among the sweeps where the check applied (``failures.trials`` of them).
-    """
-
-    id: str
-    required: bool
-    failures: Rate
-
-
-@dataclass(frozen=True, eq=False)
-class VerdictCalibration:
-    """Go rate and per-check failure rates of the full audit over simulated sweeps.
-
-    Attributes
-    ----------
-    sweeps : int
-        Number of simulated sweeps audited.
-    go : Rate
-        Share of sweeps with a "go" verdict: the false-go rate when no configuration has an edge,
-        the power when one has.
-    checks : tuple of CheckRate
-        Every check the verdict ran, in the verdict's order.
-    decisions : ndarray of bool, shape (sweeps,)
-        True where the verdict was go (raw material).
-    check_ids : tuple of str
-        Column labels of ``check_failed``.
-    check_failed : ndarray of float, shape (sweeps, checks)
-        1.0 failed, 0.0 passed, NaN where the check did not apply.
-    selected : ndarray of int, shape (sweeps,)
-        The configuration each audit judged.
-    planted_selected : Rate or None
-        Share of sweeps in which the audit judged a configuration that carries the planted edge
-        (None when no edge was planted).
-    audit_seeds : ndarray of int
-        The seed of each audit (replay one with ``AuditSettings(seed=...)``).
-    resamples : int
-        Bootstrap resamples per audit.
-    policy : Policy
-    seed : int
-    """
-
-    sweeps: int
-    go: Rate
-    checks: tuple[CheckRate, ...]
-    decisions: np.ndarray
-    check_ids: tuple[str, ...]
-    check_failed: np.ndarray
-    selected: np.ndarray
-    planted_selected: Rate | None
-    audit_seeds: np.ndarray
-    resamples: int
-    policy: Policy
-    seed: int
-
-    def check(self, check_id: str) -> CheckRate:
-        """The failure rate of one check, by id."""
-        for c in self.checks:
-            if c.id == check_id:
-                return c
-        raise InputError(f"no check {check_id!r} in this calibration; checks are {', '.join(self.check_ids)}")
-
-
 def _audit_seeds(seed: int, count: int) -> np.ndarray:
     # One independent child seed per sweep, so sweep i's audit does not depend on how many ran.
     children = np.random.SeedSequence(seed).spawn(count)
@@ -901,50 +804,6 @@ def null_like(
     return NullSweeps(sweep, centred, resamples, block_series, index)
 
 
-@dataclass(frozen=True, eq=False)
-class SweepCalibration:
-    """This sweep's false-go rate under the active policy, and power against a named edge.
-
-    Attributes
-    ----------
-    sweep : Sweep
-        The real sweep.
-    observed : str
-        The real sweep's own verdict ("go" or "no-go") with the same settings.
-    selected_index : int
-        The configuration the audit selected in the real sweep.
-    configuration : str
-        Its name.
-    null : VerdictCalibration
-        Audits of null sweeps shaped like the real one: its go rate is the false-go rate.
-    power : VerdictCalibration or None
-        Audits of the same null sweeps with the edge planted in ``configuration``; None when the
-        edge is 0.
-    edge_annual_sharpe : float
-        The planted edge as an annualised Sharpe ratio.
-    edge_per_window : float or None
-        The per-window mean added: edge / sqrt(periods per year) * sd of the configuration.
-    null_block_length : float
-        Mean block length of the null-sweep bootstrap.
-    block_series : {"average", "selected"}
-    sweeps, resamples, seed : int
-    """
-
-    sweep: Sweep
-    observed: str
-    selected_index: int
-    configuration: str
-    null: VerdictCalibration
-    power: VerdictCalibration | None
-    edge_annual_sharpe: float
-    edge_per_window: float | None
-    null_block_length: float
-    block_series: BlockSeries
-    sweeps: int
-    resamples: int
-    seed: int
-
-
 def calibrate_sweep(
     sweep: Sweep,
     *,
@@ -1079,8 +938,6 @@ def sweep_calibration_to_dict(result: SweepCalibration, *, command: str | None =
 
     Every figure the terminal shows is a field here; rates are probabilities in [0, 1].
     """
-    from . import __version__
-
     null = calibration_to_dict(result.null)
     power = None
     if result.power is not None:
@@ -1089,7 +946,7 @@ def sweep_calibration_to_dict(result: SweepCalibration, *, command: str | None =
         power["edge_per_window"] = result.edge_per_window
     policy = result.null.policy
     return {
-        "schema": "sweepaudit.calibration/1",
+        "schema": CALIBRATION_SCHEMA,
         "tool": {"name": "sweepaudit", "version": __version__},
         "input": {
             "path": result.sweep.path,

@@ -20,7 +20,7 @@ from typing import Annotated, Optional
 import typer
 from rich.console import Console
 
-from . import __version__
+from ._version import __version__
 from .audit import AuditSettings
 from .errors import SweepAuditError
 from .load import LoadOptions, load_sweep

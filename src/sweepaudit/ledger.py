@@ -28,8 +28,9 @@ from typing import Any
 
 import numpy as np
 
-from . import __version__
+from ._version import LEDGER_SCHEMA, __version__
 from .errors import InputError
+from .results import LedgerEntry, LedgerTally
 
 __all__ = [
     "LEDGER_SCHEMA",
@@ -43,9 +44,6 @@ __all__ = [
     "ledger_record",
     "open_ledger",
 ]
-
-LEDGER_SCHEMA = "sweepaudit.ledger/1"
-
 
 def sweep_fingerprint(returns: np.ndarray, configurations: tuple[str, ...] | list[str]) -> str:
     """SHA-256 fingerprint of a sweep's data.
@@ -74,51 +72,6 @@ def sweep_fingerprint(returns: np.ndarray, configurations: tuple[str, ...] | lis
     digest.update(json.dumps([names[k] for k in order], ensure_ascii=False).encode("utf-8") + b"\n")
     digest.update(x.astype("<f8", copy=False).tobytes(order="C"))
     return digest.hexdigest()
-
-
-@dataclass(frozen=True)
-class LedgerEntry:
-    """One record of the ledger (``line`` is 1-based)."""
-
-    line: int
-    fingerprint: str
-    configurations: int
-    record: dict[str, Any]
-
-
-@dataclass(frozen=True)
-class LedgerTally:
-    """What the ledger says about the trials of this sweep.
-
-    Attributes
-    ----------
-    path : str
-    records : int
-        Records in the ledger before this audit.
-    sweeps_before : int
-        Distinct fingerprints in the ledger before this audit.
-    fingerprint : str
-        This sweep's fingerprint.
-    configurations : int
-        This sweep's configurations.
-    new_sweep : bool
-        Whether this fingerprint was not yet recorded.
-    trials : int
-        Sum of configurations over distinct fingerprints, this sweep included.
-    """
-
-    path: str
-    records: int
-    sweeps_before: int
-    fingerprint: str
-    configurations: int
-    new_sweep: bool
-    trials: int
-
-    @property
-    def sweeps_recorded(self) -> int:
-        """Distinct sweeps once this audit is recorded."""
-        return self.sweeps_before + (1 if self.new_sweep else 0)
 
 
 def _bad_line(path: str, line: int, detail: str) -> InputError:

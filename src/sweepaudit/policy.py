@@ -35,8 +35,22 @@ __all__ = [
     "discover_policy",
     "resolve_policy",
     "policy_to_toml",
-    "known_check_ids",
+    "CHECK_IDS",
 ]
+
+#: Every check of the verdict, in the order the verdict runs and shows them. Written out here (the
+#: verdict registers one function per id; a test keeps the two in step) so that validating a
+#: policy never needs the verdict or the audit.
+CHECK_IDS: tuple[str, ...] = (
+    "enough_windows",
+    "mean_interval",
+    "deflated_sharpe",
+    "track_record",
+    "baseline_drift",
+    "overfitting",
+    "data_snooping",
+    "parameter_surface",
+)
 
 
 def _f(
@@ -62,7 +76,7 @@ def _f(
             "high_open": high_open,
             # Where the default comes from (a paper, "conventional", "common practice", ...).
             "source": source,
-            # A list of check ids: validated against the registered checks.
+            # A list of check ids: validated against CHECK_IDS.
             "check_ids": check_ids,
         },
     )
@@ -84,7 +98,7 @@ class Policy:
         Minimum number of windows for any verdict (36: three years of monthly data, common practice
         for a manager's minimum track record).
     required : tuple of str
-        Check ids that must pass for a go; a registered check not listed is advisory.
+        Check ids that must pass for a go; a check (one of :data:`CHECK_IDS`) not listed is advisory.
     disabled : tuple of str
         Check ids left out entirely.
     baseline_interval_margin, baseline_probability_margin, baseline_pvalue_margin : float
@@ -271,20 +285,11 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
     return policy
 
 
-def known_check_ids() -> tuple[str, ...]:
-    """Ids of every registered check (importing the audit registers them all)."""
-    from . import audit as _audit  # noqa: F401  (its imports register every check)
-    from .verdict import CHECKS
-
-    return tuple(CHECKS)
-
-
 def _validate_check_ids(names: tuple[str, ...], *, key: str, source: str) -> None:
-    known = known_check_ids()
     for name in names:
-        if name not in known:
+        if name not in CHECK_IDS:
             raise PolicyError(
-                f"{source}: {key} names an unknown check {name!r}; known checks are {', '.join(known)}"
+                f"{source}: {key} names an unknown check {name!r}; known checks are {', '.join(CHECK_IDS)}"
             )
     seen: set[str] = set()
     for name in names:
@@ -424,7 +429,7 @@ def policy_to_toml(policy: Policy | None = None) -> str:
     """The policy as commented TOML, ready to paste under ``[tool.sweepaudit]`` in a pyproject.toml
     or to save as a file for ``--policy``. Parsing it back gives the same policy."""
     policy = policy or DEFAULT_POLICY
-    checks = known_check_ids()
+    checks = CHECK_IDS
     lines = [
         "# sweepaudit policy. Paste under [tool.sweepaudit] in pyproject.toml, or save as a file",
         "# and pass it with --policy. Keys you leave out keep these defaults.",

@@ -12,43 +12,13 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Literal
 
+from .results import Check, Verdict
+
 if TYPE_CHECKING:
     from .audit import AuditResults
     from .policy import Policy
 
 __all__ = ["Check", "Verdict", "check", "CHECKS", "decide"]
-
-
-@dataclass(frozen=True)
-class Check:
-    """One test of the evidence.
-
-    Attributes
-    ----------
-    id : str
-        Stable snake_case name, used by the policy, JSON and JUnit output.
-    passed : bool
-    value, threshold : float or None
-        The numbers the reason quotes.
-    reason : str
-        One sentence a reader can act on: the figure, the threshold and what it means.
-    required : bool
-        Whether a failure makes the verdict no-go (otherwise the check is advisory).
-    """
-
-    id: str
-    passed: bool
-    value: float | None
-    threshold: float | None
-    reason: str
-    required: bool = True
-
-
-@dataclass(frozen=True)
-class Verdict:
-    decision: Literal["go", "no-go"]
-    reasons: tuple[str, ...]
-    checks: tuple[Check, ...]
 
 
 CheckFunction = Callable[["AuditResults", "Policy"], "Check | None"]

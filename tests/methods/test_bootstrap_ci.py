@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 
 from sweepaudit.errors import InputError
-from sweepaudit.methods.bootstrap_ci import bootstrap_intervals, interval
+from sweepaudit.methods.bootstrap_ci import at_level, bootstrap_intervals, interval
 from sweepaudit.resample import Resamples, automatic_block_length, draw_resamples, resampled_moments
 
 
@@ -111,7 +111,7 @@ def test_basic_interval_reflects_percentile_and_relevels():
     for a, b in zip(pct.mean, basic.mean):
         assert b.low == pytest.approx(2 * a.estimate - a.high)
         assert b.high == pytest.approx(2 * a.estimate - a.low)
-    again = pct.at(0.5)
+    again = at_level(pct, 0.5)
     assert again.mean[0].high - again.mean[0].low < pct.mean[0].high - pct.mean[0].low
     assert again.mean[0] == bootstrap_intervals(x, m, confidence=0.5).mean[0]
 

@@ -182,5 +182,5 @@ def test_haircut_errors():
         haircut_sharpe(0.1, observations=10, periods_per_year=-12)
     with pytest.raises(InputError, match=r"sharpes must be finite"):
         haircut_sharpe([0.1, float("nan")], selected=0, observations=10)
-    with pytest.raises(InputError, match=r"method must be 'bonferroni', 'holm' or 'bhy'; received 'sidak'"):
+    with pytest.raises(InputError, match=r"method must be one of bonferroni, holm, bhy; got 'sidak'"):
         haircut_sharpe(0.1, observations=10).adjustment("sidak")

@@ -149,7 +149,7 @@ def test_effective_trials_errors():
         trials_from_average_correlation(1.5, configurations=3)
     with pytest.raises(InputError, match=r"configurations must be a positive integer; received 0"):
         trials_from_average_correlation(0.5, configurations=0)
-    with pytest.raises(InputError, match=r"method must be one of 'average_correlation', 'nyholt', 'li_ji'; received 'pca'"):
+    with pytest.raises(InputError, match=r"method must be one of average_correlation, nyholt, li_ji; got 'pca'"):
         effective_trials(np.random.default_rng(0).standard_normal((10, 2))).value("pca")
 
 

@@ -14,31 +14,18 @@ Politis, D. N. and Romano, J. P. (1994). The stationary bootstrap. JASA 89(428),
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-from typing import Literal, get_args
+from typing import get_args
 
 import numpy as np
 
+from .. import validate
 from ..errors import InputError
 from ..resample import ResampledMoments
+from ..results import BootstrapIntervals, Interval, IntervalMethod
 
-__all__ = ["Interval", "IntervalMethod", "BootstrapIntervals", "bootstrap_intervals", "interval"]
+__all__ = ["INTERVAL_METHODS", "bootstrap_intervals", "interval", "at_level"]
 
-IntervalMethod = Literal["percentile", "basic"]
 INTERVAL_METHODS: tuple[str, ...] = get_args(IntervalMethod)
-
-
-@dataclass(frozen=True)
-class Interval:
-    """A point estimate with a two-sided confidence interval."""
-
-    estimate: float
-    low: float
-    high: float
-
-    def scaled(self, factor: float) -> Interval:
-        """The interval of ``factor * statistic`` (a positive, monotone rescaling)."""
-        return Interval(self.estimate * factor, self.low * factor, self.high * factor)
 
 
 def interval(
@@ -67,59 +54,9 @@ def interval(
     return Interval(float(estimate), float(lo), float(hi))
 
 
-@dataclass(frozen=True, eq=False)
-class BootstrapIntervals:
-    """Intervals for every configuration, with the bootstrap distributions they came from.
-
-    Attributes
-    ----------
-    mean, sharpe : tuple of Interval
-        Per configuration, per window (mean excess return as a fraction; Sharpe ratio per window).
-    mean_distribution, sharpe_distribution : ndarray, shape (B, N)
-        The resampled statistics (kept so a user can change the level without resampling).
-    confidence : float
-    method : {"percentile", "basic"}
-    degenerate_resamples : int
-        Resamples in which some configuration had zero variance (their Sharpe ratio is dropped).
-    """
-
-    mean: tuple[Interval, ...]
-    sharpe: tuple[Interval, ...]
-    mean_distribution: np.ndarray
-    sharpe_distribution: np.ndarray
-    confidence: float
-    method: IntervalMethod
-    degenerate_resamples: int
-
-    def at(self, confidence: float, method: IntervalMethod | None = None) -> BootstrapIntervals:
-        """The same intervals at another level or method, from the kept distributions."""
-        return _intervals(
-            self.mean_estimates,
-            self.sharpe_estimates,
-            self.mean_distribution,
-            self.sharpe_distribution,
-            confidence,
-            method or self.method,
-        )
-
-    @property
-    def mean_estimates(self) -> np.ndarray:
-        return np.array([i.estimate for i in self.mean])
-
-    @property
-    def sharpe_estimates(self) -> np.ndarray:
-        return np.array([i.estimate for i in self.sharpe])
-
-
-def _check(confidence: float, method: str) -> None:
-    if not (0.0 < confidence < 1.0):
-        raise InputError(f"confidence must lie strictly between 0 and 1; got {confidence}")
-    if method not in INTERVAL_METHODS:
-        raise InputError(f"interval method must be one of {', '.join(INTERVAL_METHODS)}; got {method!r}")
-
-
 def _intervals(means, sharpes, mean_dist, sharpe_dist, confidence, method) -> BootstrapIntervals:
-    _check(confidence, method)
+    validate.probability(confidence, "confidence")
+    validate.choice(method, "method", INTERVAL_METHODS)
     alpha = 1.0 - confidence
     q = [alpha / 2, 1 - alpha / 2]
     mq = np.quantile(mean_dist, q, axis=0)
@@ -176,3 +113,20 @@ def bootstrap_intervals(
     sd = x.std(axis=0, ddof=1)
     sharpes = means / sd
     return _intervals(means, sharpes, moments.mean, moments.sharpe(), confidence, method)
+
+
+def at_level(
+    intervals: BootstrapIntervals, confidence: float, method: IntervalMethod | None = None
+) -> BootstrapIntervals:
+    """The same intervals at another level or method, read off the kept bootstrap distributions.
+
+    No resampling: the distributions of ``intervals`` are reused (Efron and Tibshirani 1993, ch. 13).
+    """
+    return _intervals(
+        intervals.mean_estimates,
+        intervals.sharpe_estimates,
+        intervals.mean_distribution,
+        intervals.sharpe_distribution,
+        confidence,
+        method or intervals.method,
+    )

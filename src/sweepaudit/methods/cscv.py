@@ -74,6 +74,7 @@ import numpy as np
 from scipy import special
 
 from sweepaudit.errors import DegenerateDataError, InputError, SweepAuditWarning
+from sweepaudit.results import CscvResult, OverfittingCase, OverfittingDiagnosis, SplitStatistic
 
 __all__ = [
     "CscvResult",
@@ -84,8 +85,6 @@ __all__ = [
     "overfitting_diagnosis",
 ]
 
-SplitStatistic = Literal["sharpe", "mean"]
-OverfittingCase = Literal["robust", "shared_edge", "no_edge", "overfit"]
 
 _STATISTICS: tuple[str, ...] = get_args(SplitStatistic)
 # Floor and comfortable minimum of windows per block (see module Notes).
@@ -101,101 +100,6 @@ _TABLE_BYTES = 96 * 2**20
 _DOMINANCE_BINS = 2**20
 _LOGIT_QUANTILE_LEVELS = (0.05, 0.25, 0.5, 0.75, 0.95)
 _BLOCK_RULE = "contiguous blocks in time order; the first T mod S blocks get one extra window"
-
-
-@dataclass(frozen=True)
-class CscvResult:
-    """Result of :func:`cscv`. Arrays have one entry per split unless stated otherwise.
-
-    Attributes
-    ----------
-    probability_of_overfitting : float
-        PBO: share of splits whose logit is ``<= 0`` (Bailey et al. 2017).
-    probability_of_loss : float
-        Share of splits whose selected configuration has an out-of-sample statistic ``< 0``.
-    logits : numpy.ndarray
-        ``ln(w / (1 - w))`` with ``w = rank / (N + 1)``, one per split.
-    logit_quantiles : dict[float, float]
-        Quantiles of ``logits`` at levels 0.05, 0.25, 0.5, 0.75 and 0.95 (linear interpolation).
-    degradation_slope, degradation_intercept, degradation_r_squared : float or None
-        Least-squares line of the selected configuration's out-of-sample statistic on its
-        in-sample statistic over splits with finite values; ``None`` (with a warning) when the
-        in-sample statistics do not vary or fewer than 3 finite pairs exist.
-    in_sample, out_of_sample : numpy.ndarray
-        The selected configuration's in-sample and out-of-sample statistic per split.
-    selected : numpy.ndarray
-        Column index (0-based) of the configuration selected in-sample, per split.
-    out_of_sample_rank : numpy.ndarray
-        Its out-of-sample mid-rank, 1 (worst) .. N (best).
-    relative_rank : numpy.ndarray
-        ``out_of_sample_rank / (N + 1)``.
-    in_sample_blocks : numpy.ndarray
-        ``(combinations, partitions // 2)`` block indices (0-based, ascending) of each split's
-        in-sample half; the out-of-sample half is the complement.
-    in_sample_t_statistic : numpy.ndarray
-        t-statistic of the selected configuration's in-sample mean, mean / (sd / sqrt(n)) with
-        ddof = 1 (for "sharpe" this is the in-sample Sharpe ratio times sqrt(n)); 0 for a
-        half-sample of one window, ``sign(mean) * inf`` (0 for a zero mean) for a constant one.
-    median_out_of_sample : float
-        Median of ``out_of_sample``.
-    null_probability_of_overfitting : float
-        PBO's value when out-of-sample ranks are uniform: 1/2 for even N, (N + 1) / (2N) for odd N.
-    first_order_dominance, second_order_dominance : bool
-        Whether the selected configuration's out-of-sample statistic dominates that of a
-        configuration picked at random (see module Notes for how it is measured).
-    first_order_violation, second_order_violation : float
-        Largest violation found (0 when dominance holds): ``max(F_selected - F_pooled)`` and
-        ``max(E[(x - X_selected)^+] - E[(x - X_pooled)^+])``. The second-order fields are
-        ``None`` (with a warning) when an infinite statistic occurs (zero-variance half-sample).
-    pooled_out_of_sample_mean : float or None
-        Mean out-of-sample statistic of all configurations pooled over splits (``None`` when an
-        infinite statistic occurs).
-    statistic : str
-        ``"sharpe"`` or ``"mean"``.
-    partitions, partitions_requested : int
-        Number of blocks S used, and the number asked for.
-    combinations : int
-        Number of splits, C(S, S/2).
-    windows, configurations : int
-        T and N.
-    block_bounds : numpy.ndarray
-        ``(partitions, 2)`` start (inclusive) and stop (exclusive) window index of each block.
-    block_rule : str
-        How the blocks were cut.
-    warnings : tuple[str, ...]
-        Every warning emitted while computing the result.
-    """
-
-    probability_of_overfitting: float
-    probability_of_loss: float
-    logits: np.ndarray
-    logit_quantiles: dict[float, float]
-    degradation_slope: float | None
-    degradation_intercept: float | None
-    degradation_r_squared: float | None
-    in_sample: np.ndarray
-    out_of_sample: np.ndarray
-    selected: np.ndarray
-    out_of_sample_rank: np.ndarray
-    relative_rank: np.ndarray
-    in_sample_blocks: np.ndarray
-    in_sample_t_statistic: np.ndarray
-    median_out_of_sample: float
-    null_probability_of_overfitting: float
-    first_order_dominance: bool
-    first_order_violation: float
-    second_order_dominance: bool | None
-    second_order_violation: float | None
-    pooled_out_of_sample_mean: float | None
-    statistic: str
-    partitions: int
-    partitions_requested: int
-    combinations: int
-    windows: int
-    configurations: int
-    block_bounds: np.ndarray
-    block_rule: str
-    warnings: tuple[str, ...]
 
 
 def _validate(returns, partitions, statistic) -> tuple[np.ndarray, int, str, list[str]]:
@@ -648,45 +552,6 @@ class _SlotFinder:
         exact = np.flatnonzero(self.shared[bins])
         slot[exact] = np.searchsorted(self.points, values[exact], side="left")
         return slot
-
-
-@dataclass(frozen=True)
-class OverfittingDiagnosis:
-    """Result of :func:`overfitting_diagnosis`.
-
-    Attributes
-    ----------
-    case : {"robust", "shared_edge", "no_edge", "overfit"}
-        ``robust``: the in-sample winner ranks well and earns out of sample. ``shared_edge``: it
-        earns out of sample but ranks no better than a random pick, because several
-        configurations share the edge. ``overfit``: its in-sample result stood out beyond what
-        the best of N noise configurations reaches, yet it loses out of sample too often.
-        ``no_edge``: nothing stands out even in sample and the winner loses too often.
-    passed : bool
-        True for ``robust`` and ``shared_edge``.
-    probability_of_overfitting, probability_of_loss : float
-        The CSCV figures the rule read.
-    in_sample_strength_share : float
-        Share of splits whose in-sample winner's t-statistic exceeds ``strength_threshold``.
-    strength_threshold : float
-        The 95% quantile of the maximum of N independent standard normals,
-        ``Phi^-1(0.95 ** (1 / N))``.
-    max_probability_of_overfitting, max_probability_of_loss, min_strength_share : float
-        Thresholds used.
-    reason : str
-        One sentence quoting the figures and thresholds.
-    """
-
-    case: OverfittingCase
-    passed: bool
-    probability_of_overfitting: float
-    probability_of_loss: float
-    in_sample_strength_share: float
-    strength_threshold: float
-    max_probability_of_overfitting: float
-    max_probability_of_loss: float
-    min_strength_share: float
-    reason: str
 
 
 def _validate_diagnosis(result, thresholds: dict[str, float]) -> None:

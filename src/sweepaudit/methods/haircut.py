@@ -33,89 +33,13 @@ from scipy import stats
 from statsmodels.stats.multitest import multipletests
 
 from sweepaudit.errors import InputError
+from sweepaudit.results import AdjustmentMethod, HaircutAdjustment, HaircutSharpe
 
 __all__ = ["HaircutAdjustment", "HaircutSharpe", "haircut_sharpe"]
 
-AdjustmentMethod = Literal["bonferroni", "holm", "bhy"]
 
 # Our method names -> statsmodels' names.
 _STATSMODELS_METHOD = {"bonferroni": "bonferroni", "holm": "holm", "bhy": "fdr_by"}
-
-
-@dataclass(frozen=True)
-class HaircutAdjustment:
-    """The selected configuration after one multiple-testing adjustment.
-
-    Attributes
-    ----------
-    method : {"bonferroni", "holm", "bhy"}
-    pvalue : float
-        Adjusted p-value of the selected configuration, in [0, 1].
-    t_statistic : float
-        ``Phi^-1(1 - pvalue / 2)``, capped at the unadjusted ``|t|`` (an adjustment never makes a
-        result more significant; the cap only binds when p-values underflow to 0).
-    sharpe : float
-        Haircut per-window Sharpe ratio ``sign(SR) * t_statistic / sqrt(T)``.
-    sharpe_annualized : float or None
-        ``sharpe * sqrt(periods_per_year)``; None when periods per year are unknown.
-    haircut : float or None
-        ``1 - sharpe / observed``: the share of the observed Sharpe ratio removed; None when the
-        observed Sharpe ratio is 0.
-    """
-
-    method: AdjustmentMethod
-    pvalue: float
-    t_statistic: float
-    sharpe: float
-    sharpe_annualized: float | None
-    haircut: float | None
-
-
-@dataclass(frozen=True)
-class HaircutSharpe:
-    """Haircut Sharpe ratio of the selected configuration (Harvey and Liu 2015).
-
-    Attributes
-    ----------
-    sharpe : float
-        Observed per-window Sharpe ratio of the selected configuration.
-    sharpe_annualized : float or None
-        ``sharpe * sqrt(periods_per_year)``.
-    observations : int
-        Windows T.
-    periods_per_year : float or None
-    tests : int
-        Number of tests the adjustment assumes (declared trials).
-    configurations : int
-        Tests whose Sharpe ratios were supplied; ``tests - configurations`` are unseen.
-    t_statistic : float
-        ``SR * sqrt(T)``.
-    pvalue : float
-        Unadjusted two-sided p-value ``2 (1 - Phi(|t|))``.
-    bonferroni, holm, bhy : HaircutAdjustment
-        The selected configuration under each adjustment.
-    configuration_pvalues : ndarray
-        Unadjusted p-values of the supplied configurations (raw material of Holm and BHY).
-    """
-
-    sharpe: float
-    sharpe_annualized: float | None
-    observations: int
-    periods_per_year: float | None
-    tests: int
-    configurations: int
-    t_statistic: float
-    pvalue: float
-    bonferroni: HaircutAdjustment
-    holm: HaircutAdjustment
-    bhy: HaircutAdjustment
-    configuration_pvalues: np.ndarray
-
-    def adjustment(self, method: AdjustmentMethod) -> HaircutAdjustment:
-        """The adjustment by name: "bonferroni", "holm" or "bhy"."""
-        if method not in _STATSMODELS_METHOD:
-            raise InputError(f"method must be 'bonferroni', 'holm' or 'bhy'; received {method!r}")
-        return getattr(self, method)
 
 
 def _validate(

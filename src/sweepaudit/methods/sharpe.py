@@ -36,6 +36,7 @@ import numpy as np
 from scipy import integrate, special, stats
 
 from sweepaudit.errors import DegenerateDataError, InputError
+from sweepaudit.results import DeflatedSharpe, ExpectedMaximum, ProbabilisticSharpe, ReturnMoments
 
 __all__ = [
     "EULER_MASCHERONI",
@@ -61,7 +62,6 @@ __all__ = [
 #: Prado (2014).
 EULER_MASCHERONI = 0.5772156649015329
 
-ExpectedMaximum = Literal["approximate", "exact"]
 Divisor = Literal["n-1", "n"]
 
 # Relative tolerance on the moment bound kurtosis >= 1 + skewness**2 (Pearson 1916); lets moments
@@ -162,34 +162,6 @@ def _nonconstant(array: np.ndarray, std: np.ndarray, name: str) -> None:
 # ---------------------------------------------------------------------------------------------
 # estimates from data
 # ---------------------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class ReturnMoments:
-    """Per-window moments of a return series (or of each column of a matrix).
-
-    Attributes
-    ----------
-    observations : int
-        Number of windows ``n``.
-    mean, standard_deviation : float or ndarray
-        Sample mean and sample standard deviation (``ddof=1``).
-    sharpe : float or ndarray
-        Per-window Sharpe ratio ``mean / standard_deviation``.
-    skewness : float or ndarray
-        Plain moment estimator ``m3 / m2**1.5`` (central moments with divisor ``n``; no small-sample
-        bias correction), the estimator ``scipy.stats.skew`` returns by default.
-    kurtosis : float or ndarray
-        RAW kurtosis, plain moment estimator ``m4 / m2**2`` (3 for a normal distribution), i.e.
-        ``scipy.stats.kurtosis(x, fisher=False)``.
-    """
-
-    observations: int
-    mean: float | np.ndarray
-    standard_deviation: float | np.ndarray
-    sharpe: float | np.ndarray
-    skewness: float | np.ndarray
-    kurtosis: float | np.ndarray
 
 
 def return_moments(returns: object) -> ReturnMoments:
@@ -498,38 +470,6 @@ def serial_correlation_standard_error(returns: object, *, lags: int | None = Non
     return math.sqrt(max(float(gradient @ long_run @ gradient), 0.0) / n)
 
 
-@dataclass(frozen=True)
-class ProbabilisticSharpe:
-    """Probabilistic Sharpe ratio, Bailey and Lopez de Prado (2012).
-
-    Attributes
-    ----------
-    sharpe : float
-        Observed per-window Sharpe ratio.
-    benchmark : float
-        Benchmark per-window Sharpe ratio ``SR*``.
-    observations : float
-        Windows ``n``.
-    skewness, kurtosis : float
-        Moments used (kurtosis raw).
-    standard_error : float
-        ``sqrt([1 - g3 SR + (g4 - 1)/4 SR^2] / (n - 1))`` at the observed SR.
-    statistic : float
-        ``z = (SR - SR*) / standard_error``.
-    probability : float
-        ``PSR = Phi(z)``: the probability that the true Sharpe ratio exceeds the benchmark.
-    """
-
-    sharpe: float
-    benchmark: float
-    observations: float
-    skewness: float
-    kurtosis: float
-    standard_error: float
-    statistic: float
-    probability: float
-
-
 def probabilistic_sharpe(
     sharpe: float,
     *,
@@ -717,47 +657,6 @@ def expected_max_sharpe(trials: float, *, trial_sharpe_variance: float, exact: b
     n_trials = _trials(trials)
     variance = _variance(trial_sharpe_variance)
     return math.sqrt(variance) * expected_max_standard_normal(n_trials, exact=exact)
-
-
-@dataclass(frozen=True)
-class DeflatedSharpe:
-    """Deflated Sharpe ratio, Bailey and Lopez de Prado (2014).
-
-    Attributes
-    ----------
-    sharpe : float
-        Observed per-window Sharpe ratio of the selected trial.
-    observations : float
-        Windows ``n``.
-    trials : float
-        Number of trials the benchmark assumes.
-    trial_sharpe_variance : float
-        Variance ``V`` of the trials' per-window Sharpe ratios.
-    skewness, kurtosis : float
-        Moments of the selected trial's returns (kurtosis raw).
-    expected_maximum : {"approximate", "exact"}
-        How ``E[max]`` of N standard normals was computed.
-    benchmark_sharpe : float
-        ``SR0 = sqrt(V) * E[max]``, per window.
-    standard_error : float
-        Standard error of the observed Sharpe ratio (PSR convention, ``n - 1``).
-    statistic : float
-        ``z = (SR - SR0) / standard_error``.
-    probability : float
-        ``DSR = PSR(SR0) = Phi(z)``.
-    """
-
-    sharpe: float
-    observations: float
-    trials: float
-    trial_sharpe_variance: float
-    skewness: float
-    kurtosis: float
-    expected_maximum: ExpectedMaximum
-    benchmark_sharpe: float
-    standard_error: float
-    statistic: float
-    probability: float
 
 
 def deflated_sharpe(

@@ -90,6 +90,7 @@ import numpy as np
 
 from ..errors import DegenerateDataError, InputError
 from ..resample import ResampledMoments, Resamples, resampled_moments
+from ..results import Counting, RealityCheck, StepRecentring, StepwiseResult, SuperiorPredictiveAbility
 
 __all__ = [
     "Counting",
@@ -103,128 +104,13 @@ __all__ = [
     "superior_predictive_ability",
 ]
 
-Counting = Literal["include-observed", "strict-share"]
 COUNTINGS: tuple[str, ...] = get_args(Counting)
-StepRecentring = Literal["upper", "consistent"]
 STEP_RECENTRINGS: tuple[str, ...] = get_args(StepRecentring)
 
 # Columns per block in the maxima: B x 256 float64 temporaries (20 MB at B = 10,000).
 COLUMN_BLOCK = 256
 
 ColumnBlocks = Iterator[tuple[slice, np.ndarray]]
-
-
-@dataclass(frozen=True)
-class RealityCheck:
-    """White's (2000) reality check for data snooping.
-
-    Attributes
-    ----------
-    statistic : float
-        ``V = max_k sqrt(n) * mean_k`` (White 2000, section 2.3).
-    pvalue : float
-        Bootstrap p-value of ``V`` under "no configuration beats the benchmark".
-    null_distribution : ndarray, shape (B,)
-        ``V*_b = max_k sqrt(n) * (mean*_{k,b} - mean_k)``, one value per resample.
-    best : int
-        Column index of the configuration with the largest sample mean.
-    counting : {"include-observed", "strict-share"}
-        How the p-value counts (see the module notes).
-    """
-
-    statistic: float
-    pvalue: float
-    null_distribution: np.ndarray
-    best: int
-    counting: Counting
-
-
-@dataclass(frozen=True)
-class SuperiorPredictiveAbility:
-    """Hansen's (2005) test for superior predictive ability.
-
-    Attributes
-    ----------
-    statistic : float
-        ``T = max(max_k sqrt(n) * mean_k / omega_k, 0)`` (Hansen 2005, eq. 6); without
-        studentization ``max(max_k sqrt(n) * mean_k, 0)``.
-    pvalue : float
-        The consistent p-value (recentring ``g(x) = x * 1{x >= -sqrt(omega**2 / n * 2 ln ln n)}``).
-    pvalue_lower : float
-        Recentring ``g(x) = max(x, 0)``: a lower bound, ``pvalue_lower <= pvalue``.
-    pvalue_upper : float
-        Recentring ``g(x) = x`` (White's reality check, studentized): ``pvalue <= pvalue_upper``.
-    omega : ndarray, shape (N,)
-        Bootstrap standard deviation of ``sqrt(n) * mean*_k`` per configuration.
-    relevant : ndarray of bool, shape (N,)
-        Configurations whose sample mean is above the consistent threshold, so the consistent null
-        recentres them at their sample mean (the others at zero).
-    studentized : bool
-        Whether the statistic divides by ``omega``.
-    null_lower, null_consistent, null_upper : ndarray, shape (B,)
-        Bootstrap null distributions, one value per resample:
-        ``max(max_k sqrt(n) * (mean*_{k,b} - g(mean_k)) / omega_k, 0)``.
-    counting : {"include-observed", "strict-share"}
-        How the p-values count.
-    """
-
-    statistic: float
-    pvalue: float
-    pvalue_lower: float
-    pvalue_upper: float
-    omega: np.ndarray
-    relevant: np.ndarray
-    studentized: bool
-    null_lower: np.ndarray
-    null_consistent: np.ndarray
-    null_upper: np.ndarray
-    counting: Counting
-
-
-@dataclass(frozen=True)
-class StepwiseResult:
-    """Romano and Wolf's (2005) StepM: the configurations that beat the benchmark.
-
-    Attributes
-    ----------
-    significant : tuple of int
-        Column indices (0-based, ascending) of the configurations rejected as "no better than the
-        benchmark", with the familywise error rate controlled at ``level``.
-    level : float
-        The familywise error rate alpha.
-    studentized : bool
-        Whether statistics divide by ``omega``.
-    steps : int
-        Number of steps run (= ``len(critical_values)``); the last step rejects nothing new unless
-        every configuration was rejected.
-    critical_values : tuple of float
-        Critical value of each step: the ``1 - level`` quantile of the bootstrap maximum over the
-        configurations not yet rejected. ``inf`` when B is too small to reject at ``level``.
-    statistics : ndarray, shape (N,)
-        ``sqrt(n) * mean_k`` (divided by ``omega_k`` when studentized).
-    omega : ndarray, shape (N,)
-        Bootstrap standard deviation of ``sqrt(n) * mean*_k``.
-    rejected_at_step : ndarray of int, shape (N,)
-        Step (1-based) at which each configuration was rejected; 0 if never.
-    null_maxima : tuple of ndarray, each shape (B,)
-        The bootstrap maximum over the remaining configurations, one array per step.
-    recentring : {"upper", "consistent"}
-        How the null recentres the resampled means.
-    counting : {"include-observed", "strict-share"}
-        How the critical values are read off the null maxima.
-    """
-
-    significant: tuple[int, ...]
-    level: float
-    studentized: bool
-    steps: int
-    critical_values: tuple[float, ...]
-    statistics: np.ndarray
-    omega: np.ndarray
-    rejected_at_step: np.ndarray
-    null_maxima: tuple[np.ndarray, ...]
-    recentring: StepRecentring
-    counting: Counting
 
 
 # --------------------------------------------------------------------------------------------------

@@ -12,6 +12,8 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ..results import PeakShape
+
 if TYPE_CHECKING:
     from ..audit import AuditResults
 
@@ -25,37 +27,6 @@ PEAK_NEIGHBOUR_SHARE = 0.5
 #: ... and below this many bootstrap standard errors of the peak's Sharpe ratio (on their own the
 #: neighbours would not be told apart from no edge at all).
 PEAK_WEAK_STANDARD_ERRORS = 1.0
-
-
-@dataclass(frozen=True)
-class PeakShape:
-    """How the selected cell of a two-parameter grid compares with its grid neighbours.
-
-    Attributes
-    ----------
-    sharpe : float
-        Per-window Sharpe ratio of the selected configuration.
-    neighbour_mean : float
-        Mean per-window Sharpe ratio of its grid neighbours: the up to 4 cells one grid step away
-        along one parameter with the other held fixed, among those the sweep holds.
-    neighbours : int
-    standard_error : float
-        Bootstrap standard error of the selected Sharpe ratio (standard deviation of its
-        resampled values).
-    gap_in_standard_errors : float
-        ``(sharpe - neighbour_mean) / standard_error``.
-    isolated : bool
-        ``sharpe > 0`` and ``neighbour_mean < 0.5 * sharpe`` (the neighbours reach less than half the
-        peak) and ``neighbour_mean < 1 * standard_error`` (the neighbours are weak: within one standard
-        error of no edge). Both parts are our own rule of thumb.
-    """
-
-    sharpe: float
-    neighbour_mean: float
-    neighbours: int
-    standard_error: float
-    gap_in_standard_errors: float
-    isolated: bool
 
 
 def parameter_grid(results: AuditResults) -> tuple[list, list, np.ndarray, tuple[int, int]] | None:

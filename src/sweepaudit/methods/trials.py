@@ -29,9 +29,17 @@ from typing import Literal
 import numpy as np
 
 from sweepaudit.errors import DegenerateDataError, InputError
+from sweepaudit.results import (
+    Annualization,
+    DeflatedVariant,
+    EffectiveTrials,
+    EffectiveTrialsMethod,
+    ExpectedMaximum,
+    SharpeInference,
+    TrialCount,
+    VarianceMode,
+)
 from sweepaudit.methods.sharpe import (
-    DeflatedSharpe,
-    ProbabilisticSharpe,
     annualization_factor,
     autocorrelations,
     deflated_sharpe,
@@ -53,11 +61,6 @@ __all__ = [
     "sharpe_inference",
 ]
 
-EffectiveTrialsMethod = Literal["average_correlation", "nyholt", "li_ji"]
-VarianceMode = Literal["null", "empirical"]
-TrialCount = Literal["declared", "effective"]
-ExpectedMaximum = Literal["approximate", "exact"]
-Annualization = Literal["square_root", "serial_correlation"]
 
 _EFFECTIVE_METHODS = ("average_correlation", "nyholt", "li_ji")
 
@@ -170,43 +173,6 @@ def li_ji_effective_trials(eigenvalues: object) -> float:
     return float(np.clip(np.sum(counted), 1.0, values.size))
 
 
-@dataclass(frozen=True)
-class EffectiveTrials:
-    """Effective number of independent trials in a sweep, by three estimators.
-
-    Attributes
-    ----------
-    configurations : int
-        Columns N of the sweep.
-    average_correlation : float
-        Mean of the N (N - 1) off-diagonal entries of the correlation matrix.
-    from_average_correlation : float
-        ``rho + (1 - rho) N`` clipped to [1, N] (Bailey and Lopez de Prado; from memory).
-    nyholt : float
-        Nyholt (2004) eigenvalue-variance estimate.
-    li_ji : float
-        Li and Ji (2005) eigenvalue estimate.
-    eigenvalues : ndarray
-        Eigenvalues of the N x N correlation matrix, descending (zeros beyond the rank when N > T).
-    """
-
-    configurations: int
-    average_correlation: float
-    from_average_correlation: float
-    nyholt: float
-    li_ji: float
-    eigenvalues: np.ndarray
-
-    def value(self, method: EffectiveTrialsMethod) -> float:
-        """The estimate of one method: "average_correlation", "nyholt" or "li_ji"."""
-        chosen = _option(method, "method", _EFFECTIVE_METHODS)
-        return {
-            "average_correlation": self.from_average_correlation,
-            "nyholt": self.nyholt,
-            "li_ji": self.li_ji,
-        }[chosen]
-
-
 def effective_trials(returns: object) -> EffectiveTrials:
     """Effective number of independent trials of a T x N returns matrix.
 
@@ -306,144 +272,6 @@ def trial_sharpe_variance(returns: object, *, mode: VarianceMode = "null") -> fl
 # ---------------------------------------------------------------------------------------------
 # sweep-level inference
 # ---------------------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class DeflatedVariant:
-    """One deflated Sharpe ratio under one combination of choices.
-
-    Attributes
-    ----------
-    variance_mode : {"null", "empirical"}
-    expected_maximum : {"approximate", "exact"}
-    trial_count : {"declared", "effective"}
-    result : DeflatedSharpe
-    """
-
-    variance_mode: VarianceMode
-    expected_maximum: ExpectedMaximum
-    trial_count: TrialCount
-    result: DeflatedSharpe
-
-
-@dataclass(frozen=True)
-class SharpeInference:
-    """Selection-adjusted Sharpe inference for the configuration an audit judges.
-
-    Every Sharpe figure is per window unless its name says ``annualized``.
-
-    Attributes
-    ----------
-    selected : int
-        Column index of the judged configuration.
-    observed : float
-        Its per-window Sharpe ratio (``ddof=1``).
-    observed_annualized : float or None
-        ``observed * annualization_factor``; None when periods per year are unknown.
-    annualization : {"square_root", "serial_correlation"}
-        Which factor ``observed_annualized`` uses.
-    annualization_factor : float or None
-        The factor used.
-    square_root_factor : float or None
-        ``sqrt(periods_per_year)``.
-    serial_correlation_factor : float or None
-        Lo's (2002) ``eta(q)`` from the selected configuration's sample autocorrelations; None when
-        periods per year are unknown or not a whole number, or the sweep has ``T <= q`` windows.
-    observations : int
-        Windows T.
-    periods_per_year : float or None
-    skewness : float
-        Selected configuration's skewness (plain moment estimator).
-    kurtosis : float
-        Its RAW kurtosis (3 for normal), plain moment estimator.
-    standard_error : float
-        iid standard error of ``observed`` (Mertens 2002, PSR's ``n - 1``), the one PSR/DSR use.
-    standard_error_serial_correlation : float
-        Serial-correlation-robust standard error (Lo 2002 with Newey-West, default lags), shown
-        beside it so a reader sees when autocorrelation makes the iid figures optimistic.
-    probabilistic : ProbabilisticSharpe
-        PSR against ``benchmark``.
-    deflated : DeflatedSharpe
-        The headline DSR (choices below).
-    trials : int
-        Declared trials (at least the number of configurations).
-    effective_trials : float
-        Effective trials by ``effective_trials_method``, plus the ``trials - configurations``
-        undeclared-in-file trials counted as independent.
-    effective_trials_detail : EffectiveTrials
-        All effective-trials estimates on the supplied configurations, with eigenvalues.
-    trial_sharpe_variance : float
-        V used by the headline DSR.
-    trial_sharpe_variance_null, trial_sharpe_variance_empirical : float or None
-        V under each mode (empirical is None for a single configuration).
-    variance_mode, expected_maximum, trials_for_deflation, effective_trials_method
-        The choices behind the headline ``deflated``.
-    variants : tuple of DeflatedVariant
-        The DSR under every combination of variance mode, expected-maximum method and trial
-        count (the empirical ones are absent for a single configuration).
-    min_track_record_observations : float or None
-        Windows needed for PSR(benchmark) to reach ``confidence``; None when the observed Sharpe
-        ratio does not exceed the benchmark (no length suffices).
-    min_track_record_years : float or None
-        The same in years; None when periods per year are unknown or the length is undefined.
-    benchmark : float
-        Per-window benchmark Sharpe ratio of the PSR and the minimum track record.
-    confidence : float
-        Level of the minimum track record.
-    configuration_sharpes : ndarray
-        Per-window Sharpe ratio of every configuration (raw material of the empirical V).
-    warnings : tuple of str
-        Why a value is None, in words the report can show.
-    """
-
-    selected: int
-    observed: float
-    observed_annualized: float | None
-    annualization: Annualization
-    annualization_factor: float | None
-    square_root_factor: float | None
-    serial_correlation_factor: float | None
-    observations: int
-    periods_per_year: float | None
-    skewness: float
-    kurtosis: float
-    standard_error: float
-    standard_error_serial_correlation: float
-    probabilistic: ProbabilisticSharpe
-    deflated: DeflatedSharpe
-    trials: int
-    effective_trials: float
-    effective_trials_detail: EffectiveTrials
-    trial_sharpe_variance: float
-    trial_sharpe_variance_null: float
-    trial_sharpe_variance_empirical: float | None
-    variance_mode: VarianceMode
-    expected_maximum: ExpectedMaximum
-    trials_for_deflation: TrialCount
-    effective_trials_method: EffectiveTrialsMethod
-    variants: tuple[DeflatedVariant, ...]
-    min_track_record_observations: float | None
-    min_track_record_years: float | None
-    benchmark: float
-    confidence: float
-    configuration_sharpes: np.ndarray
-    warnings: tuple[str, ...]
-
-    def variant(
-        self, variance_mode: VarianceMode, expected_maximum: ExpectedMaximum, trial_count: TrialCount
-    ) -> DeflatedSharpe:
-        """The DSR under one combination of choices (raises InputError if it was not computed)."""
-        for candidate in self.variants:
-            if (candidate.variance_mode, candidate.expected_maximum, candidate.trial_count) == (
-                variance_mode,
-                expected_maximum,
-                trial_count,
-            ):
-                return candidate.result
-        raise InputError(
-            "no deflated Sharpe ratio computed for "
-            f"variance_mode={variance_mode!r}, expected_maximum={expected_maximum!r}, trial_count={trial_count!r}"
-        )
 
 
 def _declared_trials(trials: object, configurations: int) -> int:

@@ -13,14 +13,11 @@ from typing import Any
 
 import numpy as np
 
-from .. import __version__
+from .._version import AUDIT_SCHEMA, __version__
 from ..audit import CAUTION, AuditResults
 from ..methods.bootstrap_ci import Interval
 
-__all__ = ["SCHEMA", "audit_to_dict", "dumps"]
-
-SCHEMA = "sweepaudit.audit/1"
-
+__all__ = ["audit_to_dict", "dumps"]
 
 def _clean(value: Any) -> Any:
     """JSON-safe copy: numpy scalars to Python, non-finite floats to None."""
@@ -70,7 +67,7 @@ def audit_to_dict(
     verdict = results.verdict
     params = sweep.parameters.reset_index(drop=True).to_dict("records") or [{}] * sweep.n_configurations
     out = {
-        "schema": SCHEMA,
+        "schema": AUDIT_SCHEMA,
         "tool": {"name": "sweepaudit", "version": __version__},
         "input": {
             "path": sweep.path,

@@ -1,0 +1,1099 @@
+"""Every frozen result type of sweepaudit, in one module with no logic, at the bottom of the layers.
+
+Methods build these from arrays, the audit gathers them into :class:`Evidence`, the verdict adds
+:class:`Verdict`, the baseline gate :class:`BaselineComparison`, calibration :class:`VerdictCalibration`.
+Keeping them here (beside :class:`~sweepaudit.sweep.Sweep`, :class:`~sweepaudit.resample.Resamples` and
+:class:`~sweepaudit.policy.Policy`, the types they refer to) means no layer imports another layer's
+module for a type. A result holds fields and trivial accessors only: computations live in the methods.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+import numpy as np
+import pandas as pd
+
+from . import validate
+from .errors import InputError
+from .policy import Policy
+from .resample import BootstrapKind, Resamples
+from .sweep import Sweep
+
+IntervalMethod = Literal["percentile", "basic"]
+ExpectedMaximum = Literal["approximate", "exact"]
+EffectiveTrialsMethod = Literal["average_correlation", "nyholt", "li_ji"]
+VarianceMode = Literal["null", "empirical"]
+TrialCount = Literal["declared", "effective"]
+Annualization = Literal["square_root", "serial_correlation"]
+AdjustmentMethod = Literal["bonferroni", "holm", "bhy"]
+SplitStatistic = Literal["sharpe", "mean"]
+OverfittingCase = Literal["robust", "shared_edge", "no_edge", "overfit"]
+Counting = Literal["include-observed", "strict-share"]
+StepRecentring = Literal["upper", "consistent"]
+BlockSeries = Literal["average", "selected"]
+
+@dataclass(frozen=True)
+class Interval:
+    """A point estimate with a two-sided confidence interval."""
+
+    estimate: float
+    low: float
+    high: float
+
+    def scaled(self, factor: float) -> Interval:
+        """The interval of ``factor * statistic`` (a positive, monotone rescaling)."""
+        return Interval(self.estimate * factor, self.low * factor, self.high * factor)
+
+
+@dataclass(frozen=True, eq=False)
+class BootstrapIntervals:
+    """Intervals for every configuration, with the bootstrap distributions they came from.
+
+    Attributes
+    ----------
+    mean, sharpe : tuple of Interval
+        Per configuration, per window (mean excess return as a fraction; Sharpe ratio per window).
+    mean_distribution, sharpe_distribution : ndarray, shape (B, N)
+        The resampled statistics (kept so a user can change the level without resampling, with
+        :func:`sweepaudit.methods.bootstrap_ci.at_level`).
+    confidence : float
+    method : {"percentile", "basic"}
+    degenerate_resamples : int
+        Resamples in which some configuration had zero variance (their Sharpe ratio is dropped).
+    """
+
+    mean: tuple[Interval, ...]
+    sharpe: tuple[Interval, ...]
+    mean_distribution: np.ndarray
+    sharpe_distribution: np.ndarray
+    confidence: float
+    method: IntervalMethod
+    degenerate_resamples: int
+
+    @property
+    def mean_estimates(self) -> np.ndarray:
+        return np.array([i.estimate for i in self.mean])
+
+    @property
+    def sharpe_estimates(self) -> np.ndarray:
+        return np.array([i.estimate for i in self.sharpe])
+
+
+@dataclass(frozen=True)
+class ReturnMoments:
+    """Per-window moments of a return series (or of each column of a matrix).
+
+    Attributes
+    ----------
+    observations : int
+        Number of windows ``n``.
+    mean, standard_deviation : float or ndarray
+        Sample mean and sample standard deviation (``ddof=1``).
+    sharpe : float or ndarray
+        Per-window Sharpe ratio ``mean / standard_deviation``.
+    skewness : float or ndarray
+        Plain moment estimator ``m3 / m2**1.5`` (central moments with divisor ``n``; no small-sample
+        bias correction), the estimator ``scipy.stats.skew`` returns by default.
+    kurtosis : float or ndarray
+        RAW kurtosis, plain moment estimator ``m4 / m2**2`` (3 for a normal distribution), i.e.
+        ``scipy.stats.kurtosis(x, fisher=False)``.
+    """
+
+    observations: int
+    mean: float | np.ndarray
+    standard_deviation: float | np.ndarray
+    sharpe: float | np.ndarray
+    skewness: float | np.ndarray
+    kurtosis: float | np.ndarray
+
+
+@dataclass(frozen=True)
+class ProbabilisticSharpe:
+    """Probabilistic Sharpe ratio, Bailey and Lopez de Prado (2012).
+
+    Attributes
+    ----------
+    sharpe : float
+        Observed per-window Sharpe ratio.
+    benchmark : float
+        Benchmark per-window Sharpe ratio ``SR*``.
+    observations : float
+        Windows ``n``.
+    skewness, kurtosis : float
+        Moments used (kurtosis raw).
+    standard_error : float
+        ``sqrt([1 - g3 SR + (g4 - 1)/4 SR^2] / (n - 1))`` at the observed SR.
+    statistic : float
+        ``z = (SR - SR*) / standard_error``.
+    probability : float
+        ``PSR = Phi(z)``: the probability that the true Sharpe ratio exceeds the benchmark.
+    """
+
+    sharpe: float
+    benchmark: float
+    observations: float
+    skewness: float
+    kurtosis: float
+    standard_error: float
+    statistic: float
+    probability: float
+
+
+@dataclass(frozen=True)
+class DeflatedSharpe:
+    """Deflated Sharpe ratio, Bailey and Lopez de Prado (2014).
+
+    Attributes
+    ----------
+    sharpe : float
+        Observed per-window Sharpe ratio of the selected trial.
+    observations : float
+        Windows ``n``.
+    trials : float
+        Number of trials the benchmark assumes.
+    trial_sharpe_variance : float
+        Variance ``V`` of the trials' per-window Sharpe ratios.
+    skewness, kurtosis : float
+        Moments of the selected trial's returns (kurtosis raw).
+    expected_maximum : {"approximate", "exact"}
+        How ``E[max]`` of N standard normals was computed.
+    benchmark_sharpe : float
+        ``SR0 = sqrt(V) * E[max]``, per window.
+    standard_error : float
+        Standard error of the observed Sharpe ratio (PSR convention, ``n - 1``).
+    statistic : float
+        ``z = (SR - SR0) / standard_error``.
+    probability : float
+        ``DSR = PSR(SR0) = Phi(z)``.
+    """
+
+    sharpe: float
+    observations: float
+    trials: float
+    trial_sharpe_variance: float
+    skewness: float
+    kurtosis: float
+    expected_maximum: ExpectedMaximum
+    benchmark_sharpe: float
+    standard_error: float
+    statistic: float
+    probability: float
+
+
+@dataclass(frozen=True)
+class EffectiveTrials:
+    """Effective number of independent trials in a sweep, by three estimators.
+
+    Attributes
+    ----------
+    configurations : int
+        Columns N of the sweep.
+    average_correlation : float
+        Mean of the N (N - 1) off-diagonal entries of the correlation matrix.
+    from_average_correlation : float
+        ``rho + (1 - rho) N`` clipped to [1, N] (Bailey and Lopez de Prado; from memory).
+    nyholt : float
+        Nyholt (2004) eigenvalue-variance estimate.
+    li_ji : float
+        Li and Ji (2005) eigenvalue estimate.
+    eigenvalues : ndarray
+        Eigenvalues of the N x N correlation matrix, descending (zeros beyond the rank when N > T).
+    """
+
+    configurations: int
+    average_correlation: float
+    from_average_correlation: float
+    nyholt: float
+    li_ji: float
+    eigenvalues: np.ndarray
+
+    def value(self, method: EffectiveTrialsMethod) -> float:
+        """The estimate of one method: "average_correlation", "nyholt" or "li_ji"."""
+        chosen = validate.choice(method, "method", ("average_correlation", "nyholt", "li_ji"))
+        return {
+            "average_correlation": self.from_average_correlation,
+            "nyholt": self.nyholt,
+            "li_ji": self.li_ji,
+        }[chosen]
+
+
+@dataclass(frozen=True)
+class DeflatedVariant:
+    """One deflated Sharpe ratio under one combination of choices.
+
+    Attributes
+    ----------
+    variance_mode : {"null", "empirical"}
+    expected_maximum : {"approximate", "exact"}
+    trial_count : {"declared", "effective"}
+    result : DeflatedSharpe
+    """
+
+    variance_mode: VarianceMode
+    expected_maximum: ExpectedMaximum
+    trial_count: TrialCount
+    result: DeflatedSharpe
+
+
+@dataclass(frozen=True)
+class SharpeInference:
+    """Selection-adjusted Sharpe inference for the configuration an audit judges.
+
+    Every Sharpe figure is per window unless its name says ``annualized``.
+
+    Attributes
+    ----------
+    selected : int
+        Column index of the judged configuration.
+    observed : float
+        Its per-window Sharpe ratio (``ddof=1``).
+    observed_annualized : float or None
+        ``observed * annualization_factor``; None when periods per year are unknown.
+    annualization : {"square_root", "serial_correlation"}
+        Which factor ``observed_annualized`` uses.
+    annualization_factor : float or None
+        The factor used.
+    square_root_factor : float or None
+        ``sqrt(periods_per_year)``.
+    serial_correlation_factor : float or None
+        Lo's (2002) ``eta(q)`` from the selected configuration's sample autocorrelations; None when
+        periods per year are unknown or not a whole number, or the sweep has ``T <= q`` windows.
+    observations : int
+        Windows T.
+    periods_per_year : float or None
+    skewness : float
+        Selected configuration's skewness (plain moment estimator).
+    kurtosis : float
+        Its RAW kurtosis (3 for normal), plain moment estimator.
+    standard_error : float
+        iid standard error of ``observed`` (Mertens 2002, PSR's ``n - 1``), the one PSR/DSR use.
+    standard_error_serial_correlation : float
+        Serial-correlation-robust standard error (Lo 2002 with Newey-West, default lags), shown
+        beside it so a reader sees when autocorrelation makes the iid figures optimistic.
+    probabilistic : ProbabilisticSharpe
+        PSR against ``benchmark``.
+    deflated : DeflatedSharpe
+        The headline DSR (choices below).
+    trials : int
+        Declared trials (at least the number of configurations).
+    effective_trials : float
+        Effective trials by ``effective_trials_method``, plus the ``trials - configurations``
+        undeclared-in-file trials counted as independent.
+    effective_trials_detail : EffectiveTrials
+        All effective-trials estimates on the supplied configurations, with eigenvalues.
+    trial_sharpe_variance : float
+        V used by the headline DSR.
+    trial_sharpe_variance_null, trial_sharpe_variance_empirical : float or None
+        V under each mode (empirical is None for a single configuration).
+    variance_mode, expected_maximum, trials_for_deflation, effective_trials_method
+        The choices behind the headline ``deflated``.
+    variants : tuple of DeflatedVariant
+        The DSR under every combination of variance mode, expected-maximum method and trial
+        count (the empirical ones are absent for a single configuration).
+    min_track_record_observations : float or None
+        Windows needed for PSR(benchmark) to reach ``confidence``; None when the observed Sharpe
+        ratio does not exceed the benchmark (no length suffices).
+    min_track_record_years : float or None
+        The same in years; None when periods per year are unknown or the length is undefined.
+    benchmark : float
+        Per-window benchmark Sharpe ratio of the PSR and the minimum track record.
+    confidence : float
+        Level of the minimum track record.
+    configuration_sharpes : ndarray
+        Per-window Sharpe ratio of every configuration (raw material of the empirical V).
+    warnings : tuple of str
+        Why a value is None, in words the report can show.
+    """
+
+    selected: int
+    observed: float
+    observed_annualized: float | None
+    annualization: Annualization
+    annualization_factor: float | None
+    square_root_factor: float | None
+    serial_correlation_factor: float | None
+    observations: int
+    periods_per_year: float | None
+    skewness: float
+    kurtosis: float
+    standard_error: float
+    standard_error_serial_correlation: float
+    probabilistic: ProbabilisticSharpe
+    deflated: DeflatedSharpe
+    trials: int
+    effective_trials: float
+    effective_trials_detail: EffectiveTrials
+    trial_sharpe_variance: float
+    trial_sharpe_variance_null: float
+    trial_sharpe_variance_empirical: float | None
+    variance_mode: VarianceMode
+    expected_maximum: ExpectedMaximum
+    trials_for_deflation: TrialCount
+    effective_trials_method: EffectiveTrialsMethod
+    variants: tuple[DeflatedVariant, ...]
+    min_track_record_observations: float | None
+    min_track_record_years: float | None
+    benchmark: float
+    confidence: float
+    configuration_sharpes: np.ndarray
+    warnings: tuple[str, ...]
+
+    def variant(
+        self, variance_mode: VarianceMode, expected_maximum: ExpectedMaximum, trial_count: TrialCount
+    ) -> DeflatedSharpe:
+        """The DSR under one combination of choices (raises InputError if it was not computed)."""
+        for candidate in self.variants:
+            if (candidate.variance_mode, candidate.expected_maximum, candidate.trial_count) == (
+                variance_mode,
+                expected_maximum,
+                trial_count,
+            ):
+                return candidate.result
+        raise InputError(
+            "no deflated Sharpe ratio computed for "
+            f"variance_mode={variance_mode!r}, expected_maximum={expected_maximum!r}, trial_count={trial_count!r}"
+        )
+
+
+@dataclass(frozen=True)
+class HaircutAdjustment:
+    """The selected configuration after one multiple-testing adjustment.
+
+    Attributes
+    ----------
+    method : {"bonferroni", "holm", "bhy"}
+    pvalue : float
+        Adjusted p-value of the selected configuration, in [0, 1].
+    t_statistic : float
+        ``Phi^-1(1 - pvalue / 2)``, capped at the unadjusted ``|t|`` (an adjustment never makes a
+        result more significant; the cap only binds when p-values underflow to 0).
+    sharpe : float
+        Haircut per-window Sharpe ratio ``sign(SR) * t_statistic / sqrt(T)``.
+    sharpe_annualized : float or None
+        ``sharpe * sqrt(periods_per_year)``; None when periods per year are unknown.
+    haircut : float or None
+        ``1 - sharpe / observed``: the share of the observed Sharpe ratio removed; None when the
+        observed Sharpe ratio is 0.
+    """
+
+    method: AdjustmentMethod
+    pvalue: float
+    t_statistic: float
+    sharpe: float
+    sharpe_annualized: float | None
+    haircut: float | None
+
+
+@dataclass(frozen=True)
+class HaircutSharpe:
+    """Haircut Sharpe ratio of the selected configuration (Harvey and Liu 2015).
+
+    Attributes
+    ----------
+    sharpe : float
+        Observed per-window Sharpe ratio of the selected configuration.
+    sharpe_annualized : float or None
+        ``sharpe * sqrt(periods_per_year)``.
+    observations : int
+        Windows T.
+    periods_per_year : float or None
+    tests : int
+        Number of tests the adjustment assumes (declared trials).
+    configurations : int
+        Tests whose Sharpe ratios were supplied; ``tests - configurations`` are unseen.
+    t_statistic : float
+        ``SR * sqrt(T)``.
+    pvalue : float
+        Unadjusted two-sided p-value ``2 (1 - Phi(|t|))``.
+    bonferroni, holm, bhy : HaircutAdjustment
+        The selected configuration under each adjustment.
+    configuration_pvalues : ndarray
+        Unadjusted p-values of the supplied configurations (raw material of Holm and BHY).
+    """
+
+    sharpe: float
+    sharpe_annualized: float | None
+    observations: int
+    periods_per_year: float | None
+    tests: int
+    configurations: int
+    t_statistic: float
+    pvalue: float
+    bonferroni: HaircutAdjustment
+    holm: HaircutAdjustment
+    bhy: HaircutAdjustment
+    configuration_pvalues: np.ndarray
+
+    def adjustment(self, method: AdjustmentMethod) -> HaircutAdjustment:
+        """The adjustment by name: "bonferroni", "holm" or "bhy"."""
+        return getattr(self, validate.choice(method, "method", ("bonferroni", "holm", "bhy")))
+
+
+@dataclass(frozen=True)
+class CscvResult:
+    """Result of :func:`cscv`. Arrays have one entry per split unless stated otherwise.
+
+    Attributes
+    ----------
+    probability_of_overfitting : float
+        PBO: share of splits whose logit is ``<= 0`` (Bailey et al. 2017).
+    probability_of_loss : float
+        Share of splits whose selected configuration has an out-of-sample statistic ``< 0``.
+    logits : numpy.ndarray
+        ``ln(w / (1 - w))`` with ``w = rank / (N + 1)``, one per split.
+    logit_quantiles : dict[float, float]
+        Quantiles of ``logits`` at levels 0.05, 0.25, 0.5, 0.75 and 0.95 (linear interpolation).
+    degradation_slope, degradation_intercept, degradation_r_squared : float or None
+        Least-squares line of the selected configuration's out-of-sample statistic on its
+        in-sample statistic over splits with finite values; ``None`` (with a warning) when the
+        in-sample statistics do not vary or fewer than 3 finite pairs exist.
+    in_sample, out_of_sample : numpy.ndarray
+        The selected configuration's in-sample and out-of-sample statistic per split.
+    selected : numpy.ndarray
+        Column index (0-based) of the configuration selected in-sample, per split.
+    out_of_sample_rank : numpy.ndarray
+        Its out-of-sample mid-rank, 1 (worst) .. N (best).
+    relative_rank : numpy.ndarray
+        ``out_of_sample_rank / (N + 1)``.
+    in_sample_blocks : numpy.ndarray
+        ``(combinations, partitions // 2)`` block indices (0-based, ascending) of each split's
+        in-sample half; the out-of-sample half is the complement.
+    in_sample_t_statistic : numpy.ndarray
+        t-statistic of the selected configuration's in-sample mean, mean / (sd / sqrt(n)) with
+        ddof = 1 (for "sharpe" this is the in-sample Sharpe ratio times sqrt(n)); 0 for a
+        half-sample of one window, ``sign(mean) * inf`` (0 for a zero mean) for a constant one.
+    median_out_of_sample : float
+        Median of ``out_of_sample``.
+    null_probability_of_overfitting : float
+        PBO's value when out-of-sample ranks are uniform: 1/2 for even N, (N + 1) / (2N) for odd N.
+    first_order_dominance, second_order_dominance : bool
+        Whether the selected configuration's out-of-sample statistic dominates that of a
+        configuration picked at random (see module Notes for how it is measured).
+    first_order_violation, second_order_violation : float
+        Largest violation found (0 when dominance holds): ``max(F_selected - F_pooled)`` and
+        ``max(E[(x - X_selected)^+] - E[(x - X_pooled)^+])``. The second-order fields are
+        ``None`` (with a warning) when an infinite statistic occurs (zero-variance half-sample).
+    pooled_out_of_sample_mean : float or None
+        Mean out-of-sample statistic of all configurations pooled over splits (``None`` when an
+        infinite statistic occurs).
+    statistic : str
+        ``"sharpe"`` or ``"mean"``.
+    partitions, partitions_requested : int
+        Number of blocks S used, and the number asked for.
+    combinations : int
+        Number of splits, C(S, S/2).
+    windows, configurations : int
+        T and N.
+    block_bounds : numpy.ndarray
+        ``(partitions, 2)`` start (inclusive) and stop (exclusive) window index of each block.
+    block_rule : str
+        How the blocks were cut.
+    warnings : tuple[str, ...]
+        Every warning emitted while computing the result.
+    """
+
+    probability_of_overfitting: float
+    probability_of_loss: float
+    logits: np.ndarray
+    logit_quantiles: dict[float, float]
+    degradation_slope: float | None
+    degradation_intercept: float | None
+    degradation_r_squared: float | None
+    in_sample: np.ndarray
+    out_of_sample: np.ndarray
+    selected: np.ndarray
+    out_of_sample_rank: np.ndarray
+    relative_rank: np.ndarray
+    in_sample_blocks: np.ndarray
+    in_sample_t_statistic: np.ndarray
+    median_out_of_sample: float
+    null_probability_of_overfitting: float
+    first_order_dominance: bool
+    first_order_violation: float
+    second_order_dominance: bool | None
+    second_order_violation: float | None
+    pooled_out_of_sample_mean: float | None
+    statistic: str
+    partitions: int
+    partitions_requested: int
+    combinations: int
+    windows: int
+    configurations: int
+    block_bounds: np.ndarray
+    block_rule: str
+    warnings: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class OverfittingDiagnosis:
+    """Result of :func:`overfitting_diagnosis`.
+
+    Attributes
+    ----------
+    case : {"robust", "shared_edge", "no_edge", "overfit"}
+        ``robust``: the in-sample winner ranks well and earns out of sample. ``shared_edge``: it
+        earns out of sample but ranks no better than a random pick, because several
+        configurations share the edge. ``overfit``: its in-sample result stood out beyond what
+        the best of N noise configurations reaches, yet it loses out of sample too often.
+        ``no_edge``: nothing stands out even in sample and the winner loses too often.
+    passed : bool
+        True for ``robust`` and ``shared_edge``.
+    probability_of_overfitting, probability_of_loss : float
+        The CSCV figures the rule read.
+    in_sample_strength_share : float
+        Share of splits whose in-sample winner's t-statistic exceeds ``strength_threshold``.
+    strength_threshold : float
+        The 95% quantile of the maximum of N independent standard normals,
+        ``Phi^-1(0.95 ** (1 / N))``.
+    max_probability_of_overfitting, max_probability_of_loss, min_strength_share : float
+        Thresholds used.
+    reason : str
+        One sentence quoting the figures and thresholds.
+    """
+
+    case: OverfittingCase
+    passed: bool
+    probability_of_overfitting: float
+    probability_of_loss: float
+    in_sample_strength_share: float
+    strength_threshold: float
+    max_probability_of_overfitting: float
+    max_probability_of_loss: float
+    min_strength_share: float
+    reason: str
+
+
+@dataclass(frozen=True)
+class RealityCheck:
+    """White's (2000) reality check for data snooping.
+
+    Attributes
+    ----------
+    statistic : float
+        ``V = max_k sqrt(n) * mean_k`` (White 2000, section 2.3).
+    pvalue : float
+        Bootstrap p-value of ``V`` under "no configuration beats the benchmark".
+    null_distribution : ndarray, shape (B,)
+        ``V*_b = max_k sqrt(n) * (mean*_{k,b} - mean_k)``, one value per resample.
+    best : int
+        Column index of the configuration with the largest sample mean.
+    counting : {"include-observed", "strict-share"}
+        How the p-value counts (see the module notes).
+    """
+
+    statistic: float
+    pvalue: float
+    null_distribution: np.ndarray
+    best: int
+    counting: Counting
+
+
+@dataclass(frozen=True)
+class SuperiorPredictiveAbility:
+    """Hansen's (2005) test for superior predictive ability.
+
+    Attributes
+    ----------
+    statistic : float
+        ``T = max(max_k sqrt(n) * mean_k / omega_k, 0)`` (Hansen 2005, eq. 6); without
+        studentization ``max(max_k sqrt(n) * mean_k, 0)``.
+    pvalue : float
+        The consistent p-value (recentring ``g(x) = x * 1{x >= -sqrt(omega**2 / n * 2 ln ln n)}``).
+    pvalue_lower : float
+        Recentring ``g(x) = max(x, 0)``: a lower bound, ``pvalue_lower <= pvalue``.
+    pvalue_upper : float
+        Recentring ``g(x) = x`` (White's reality check, studentized): ``pvalue <= pvalue_upper``.
+    omega : ndarray, shape (N,)
+        Bootstrap standard deviation of ``sqrt(n) * mean*_k`` per configuration.
+    relevant : ndarray of bool, shape (N,)
+        Configurations whose sample mean is above the consistent threshold, so the consistent null
+        recentres them at their sample mean (the others at zero).
+    studentized : bool
+        Whether the statistic divides by ``omega``.
+    null_lower, null_consistent, null_upper : ndarray, shape (B,)
+        Bootstrap null distributions, one value per resample:
+        ``max(max_k sqrt(n) * (mean*_{k,b} - g(mean_k)) / omega_k, 0)``.
+    counting : {"include-observed", "strict-share"}
+        How the p-values count.
+    """
+
+    statistic: float
+    pvalue: float
+    pvalue_lower: float
+    pvalue_upper: float
+    omega: np.ndarray
+    relevant: np.ndarray
+    studentized: bool
+    null_lower: np.ndarray
+    null_consistent: np.ndarray
+    null_upper: np.ndarray
+    counting: Counting
+
+
+@dataclass(frozen=True)
+class StepwiseResult:
+    """Romano and Wolf's (2005) StepM: the configurations that beat the benchmark.
+
+    Attributes
+    ----------
+    significant : tuple of int
+        Column indices (0-based, ascending) of the configurations rejected as "no better than the
+        benchmark", with the familywise error rate controlled at ``level``.
+    level : float
+        The familywise error rate alpha.
+    studentized : bool
+        Whether statistics divide by ``omega``.
+    steps : int
+        Number of steps run (= ``len(critical_values)``); the last step rejects nothing new unless
+        every configuration was rejected.
+    critical_values : tuple of float
+        Critical value of each step: the ``1 - level`` quantile of the bootstrap maximum over the
+        configurations not yet rejected. ``inf`` when B is too small to reject at ``level``.
+    statistics : ndarray, shape (N,)
+        ``sqrt(n) * mean_k`` (divided by ``omega_k`` when studentized).
+    omega : ndarray, shape (N,)
+        Bootstrap standard deviation of ``sqrt(n) * mean*_k``.
+    rejected_at_step : ndarray of int, shape (N,)
+        Step (1-based) at which each configuration was rejected; 0 if never.
+    null_maxima : tuple of ndarray, each shape (B,)
+        The bootstrap maximum over the remaining configurations, one array per step.
+    recentring : {"upper", "consistent"}
+        How the null recentres the resampled means.
+    counting : {"include-observed", "strict-share"}
+        How the critical values are read off the null maxima.
+    """
+
+    significant: tuple[int, ...]
+    level: float
+    studentized: bool
+    steps: int
+    critical_values: tuple[float, ...]
+    statistics: np.ndarray
+    omega: np.ndarray
+    rejected_at_step: np.ndarray
+    null_maxima: tuple[np.ndarray, ...]
+    recentring: StepRecentring
+    counting: Counting
+
+
+@dataclass(frozen=True)
+class PeakShape:
+    """How the selected cell of a two-parameter grid compares with its grid neighbours.
+
+    Attributes
+    ----------
+    sharpe : float
+        Per-window Sharpe ratio of the selected configuration.
+    neighbour_mean : float
+        Mean per-window Sharpe ratio of its grid neighbours: the up to 4 cells one grid step away
+        along one parameter with the other held fixed, among those the sweep holds.
+    neighbours : int
+    standard_error : float
+        Bootstrap standard error of the selected Sharpe ratio (standard deviation of its
+        resampled values).
+    gap_in_standard_errors : float
+        ``(sharpe - neighbour_mean) / standard_error``.
+    isolated : bool
+        ``sharpe > 0`` and ``neighbour_mean < 0.5 * sharpe`` (the neighbours reach less than half the
+        peak) and ``neighbour_mean < 1 * standard_error`` (the neighbours are weak: within one standard
+        error of no edge). Both parts are our own rule of thumb.
+    """
+
+    sharpe: float
+    neighbour_mean: float
+    neighbours: int
+    standard_error: float
+    gap_in_standard_errors: float
+    isolated: bool
+
+
+@dataclass(frozen=True)
+class AuditSettings:
+    """Every knob that changes a figure.
+
+    Attributes
+    ----------
+    seed : int
+        Seed of the resamples; the same input and seed give the same audit.
+    resamples : int or None
+        Number of bootstrap resamples; None takes the policy's.
+    confidence : float or None
+        Interval level; None takes the policy's.
+    bootstrap : {"stationary", "circular", "moving-block"}
+    block_length : float or None
+        None: automatic (Politis and White 2004 on the selected configuration's series).
+    interval_method : {"percentile", "basic"}
+    selected : str or None
+        Configuration to judge; None selects the highest full-sample Sharpe ratio.
+    trials : int or None
+        Trials the deflated Sharpe ratio counts; None counts the sweep's configurations. A trial
+        ledger or ``--trials`` declares more (every sweep the researcher tried).
+    """
+
+    seed: int = 0
+    resamples: int | None = None
+    confidence: float | None = None
+    bootstrap: BootstrapKind = "stationary"
+    block_length: float | None = None
+    interval_method: IntervalMethod = "percentile"
+    selected: str | None = None
+    trials: int | None = None
+
+
+@dataclass(frozen=True, eq=False)
+class Snooping:
+    """The data-snooping tests of one audit, all on the audit's shared resamples."""
+
+    reality_check: RealityCheck
+    spa: SuperiorPredictiveAbility
+    spa_unstudentized: SuperiorPredictiveAbility
+    stepm: StepwiseResult
+    stepm_unstudentized: StepwiseResult
+    gating: str
+    studentized: bool
+
+    @property
+    def gating_spa(self) -> SuperiorPredictiveAbility:
+        return self.spa if self.studentized else self.spa_unstudentized
+
+    @property
+    def gating_stepm(self) -> StepwiseResult:
+        return self.stepm if self.studentized else self.stepm_unstudentized
+
+    @property
+    def pvalue(self) -> float:
+        """The p-value the policy gates on."""
+        return self.reality_check.pvalue if self.gating == "reality_check" else self.gating_spa.pvalue
+
+
+@dataclass(frozen=True)
+class Check:
+    """One test of the evidence.
+
+    Attributes
+    ----------
+    id : str
+        Stable snake_case name, used by the policy, JSON and JUnit output.
+    passed : bool
+    value, threshold : float or None
+        The numbers the reason quotes.
+    reason : str
+        One sentence a reader can act on: the figure, the threshold and what it means.
+    required : bool
+        Whether a failure makes the verdict no-go (otherwise the check is advisory).
+    """
+
+    id: str
+    passed: bool
+    value: float | None
+    threshold: float | None
+    reason: str
+    required: bool = True
+
+
+@dataclass(frozen=True)
+class Verdict:
+    decision: Literal["go", "no-go"]
+    reasons: tuple[str, ...]
+    checks: tuple[Check, ...]
+
+
+@dataclass(frozen=True)
+class GatedFigure:
+    """A figure the baseline gate watches.
+
+    Attributes
+    ----------
+    key : str
+        Dotted JSON key of the figure.
+    label : str
+        Plain words for reasons.
+    higher_is_better : bool
+    margin_field : str
+        The Policy field holding the allowed worsening.
+    scale : {"absolute", "interval_width"}
+        ``absolute``: the margin is in the figure's own units. ``interval_width``: the margin is a
+        fraction of the baseline interval's width (``high - low`` of the block holding the key),
+        which makes it free of the returns' units and frequency.
+    """
+
+    key: str
+    label: str
+    higher_is_better: bool
+    margin_field: str
+    scale: Literal["absolute", "interval_width"] = "absolute"
+
+
+@dataclass(frozen=True)
+class FigureMove:
+    """A numeric figure that differs between the baseline and this audit (``change = after - before``)."""
+
+    key: str
+    before: float
+    after: float
+    change: float
+
+
+@dataclass(frozen=True)
+class GatedMove:
+    """A gated figure present in both audits.
+
+    Attributes
+    ----------
+    worsening : float
+        How far it moved in the worse direction (negative when it improved).
+    allowed : float or None
+        The largest worsening the policy allows, in the figure's units; None when the allowance
+        cannot be computed (no baseline interval width), in which case it does not gate.
+    exceeded : bool
+        ``worsening > allowed``: this figure fails the ``baseline_drift`` check.
+    """
+
+    figure: GatedFigure
+    before: float
+    after: float
+    worsening: float
+    allowed: float | None
+    exceeded: bool
+
+    @property
+    def key(self) -> str:
+        return self.figure.key
+
+
+@dataclass(frozen=True)
+class CheckChange:
+    """A check whose state differs: each state is "passed", "failed" or "absent"."""
+
+    id: str
+    before: str
+    after: str
+
+
+@dataclass(frozen=True)
+class BaselineComparison:
+    """This audit against a baseline audit.
+
+    Attributes
+    ----------
+    path : str
+        The baseline file.
+    verdict_before : str or None
+    selected_before, selected_after : str or None
+        The configuration each audit judged; when they differ the selected figures compare
+        different configurations.
+    moved : tuple of FigureMove
+        Every compared figure that changed, in document order.
+    checks_changed : tuple of CheckChange
+    gated : tuple of GatedMove
+        Every gated figure present in both audits.
+    """
+
+    path: str
+    verdict_before: str | None
+    selected_before: str | None
+    selected_after: str | None
+    moved: tuple[FigureMove, ...]
+    checks_changed: tuple[CheckChange, ...]
+    gated: tuple[GatedMove, ...]
+
+    @property
+    def worsened(self) -> tuple[GatedMove, ...]:
+        """Gated figures that moved in the worse direction (by any amount)."""
+        return tuple(g for g in self.gated if g.worsening > 0)
+
+    @property
+    def exceeded(self) -> tuple[GatedMove, ...]:
+        """Gated figures that worsened by more than the policy allows."""
+        return tuple(g for g in self.gated if g.exceeded)
+
+
+@dataclass(frozen=True)
+class LedgerEntry:
+    """One record of the ledger (``line`` is 1-based)."""
+
+    line: int
+    fingerprint: str
+    configurations: int
+    record: dict[str, Any]
+
+
+@dataclass(frozen=True)
+class LedgerTally:
+    """What the ledger says about the trials of this sweep.
+
+    Attributes
+    ----------
+    path : str
+    records : int
+        Records in the ledger before this audit.
+    sweeps_before : int
+        Distinct fingerprints in the ledger before this audit.
+    fingerprint : str
+        This sweep's fingerprint.
+    configurations : int
+        This sweep's configurations.
+    new_sweep : bool
+        Whether this fingerprint was not yet recorded.
+    trials : int
+        Sum of configurations over distinct fingerprints, this sweep included.
+    """
+
+    path: str
+    records: int
+    sweeps_before: int
+    fingerprint: str
+    configurations: int
+    new_sweep: bool
+    trials: int
+
+    @property
+    def sweeps_recorded(self) -> int:
+        """Distinct sweeps once this audit is recorded."""
+        return self.sweeps_before + (1 if self.new_sweep else 0)
+
+
+@dataclass(frozen=True)
+class Rate:
+    """A Monte Carlo estimate of a probability from ``events`` out of ``trials`` simulated sweeps.
+
+    Attributes
+    ----------
+    events, trials : int
+    rate : float
+        ``events / trials`` (NaN when there were no trials).
+    standard_error : float
+        Binomial Monte Carlo standard error ``sqrt(rate * (1 - rate) / trials)``; zero when the
+        rate is 0 or 1, which is why ``upper_95`` is reported as well.
+    upper_95 : float
+        One-sided 95% Clopper and Pearson (1934) upper confidence bound on the true rate.
+    lower_95 : float
+        One-sided 95% Clopper-Pearson lower bound.
+    """
+
+    events: int
+    trials: int
+    rate: float
+    standard_error: float
+    upper_95: float
+    lower_95: float
+
+
+@dataclass(frozen=True)
+class CheckRate:
+    """How often one check of the verdict failed across the simulated sweeps.
+
+    Attributes
+    ----------
+    id : str
+        The check's id (as in the audit JSON).
+    required : bool
+        Whether the policy requires the check (a failure then makes the verdict no-go).
+    failures : Rate
+        Failures among the sweeps where the check applied (``failures.trials`` of them).
+    """
+
+    id: str
+    required: bool
+    failures: Rate
+
+
+@dataclass(frozen=True, eq=False)
+class VerdictCalibration:
+    """Go rate and per-check failure rates of the full audit over simulated sweeps.
+
+    Attributes
+    ----------
+    sweeps : int
+        Number of simulated sweeps audited.
+    go : Rate
+        Share of sweeps with a "go" verdict: the false-go rate when no configuration has an edge,
+        the power when one has.
+    checks : tuple of CheckRate
+        Every check the verdict ran, in the verdict's order.
+    decisions : ndarray of bool, shape (sweeps,)
+        True where the verdict was go (raw material).
+    check_ids : tuple of str
+        Column labels of ``check_failed``.
+    check_failed : ndarray of float, shape (sweeps, checks)
+        1.0 failed, 0.0 passed, NaN where the check did not apply.
+    selected : ndarray of int, shape (sweeps,)
+        The configuration each audit judged.
+    planted_selected : Rate or None
+        Share of sweeps in which the audit judged a configuration that carries the planted edge
+        (None when no edge was planted).
+    audit_seeds : ndarray of int
+        The seed of each audit (replay one with ``AuditSettings(seed=...)``).
+    resamples : int
+        Bootstrap resamples per audit.
+    policy : Policy
+    seed : int
+    """
+
+    sweeps: int
+    go: Rate
+    checks: tuple[CheckRate, ...]
+    decisions: np.ndarray
+    check_ids: tuple[str, ...]
+    check_failed: np.ndarray
+    selected: np.ndarray
+    planted_selected: Rate | None
+    audit_seeds: np.ndarray
+    resamples: int
+    policy: Policy
+    seed: int
+
+    def check(self, check_id: str) -> CheckRate:
+        """The failure rate of one check, by id."""
+        for c in self.checks:
+            if c.id == check_id:
+                return c
+        raise InputError(f"no check {check_id!r} in this calibration; checks are {', '.join(self.check_ids)}")
+
+
+@dataclass(frozen=True, eq=False)
+class SweepCalibration:
+    """This sweep's false-go rate under the active policy, and power against a named edge.
+
+    Attributes
+    ----------
+    sweep : Sweep
+        The real sweep.
+    observed : str
+        The real sweep's own verdict ("go" or "no-go") with the same settings.
+    selected_index : int
+        The configuration the audit selected in the real sweep.
+    configuration : str
+        Its name.
+    null : VerdictCalibration
+        Audits of null sweeps shaped like the real one: its go rate is the false-go rate.
+    power : VerdictCalibration or None
+        Audits of the same null sweeps with the edge planted in ``configuration``; None when the
+        edge is 0.
+    edge_annual_sharpe : float
+        The planted edge as an annualised Sharpe ratio.
+    edge_per_window : float or None
+        The per-window mean added: edge / sqrt(periods per year) * sd of the configuration.
+    null_block_length : float
+        Mean block length of the null-sweep bootstrap.
+    block_series : {"average", "selected"}
+    sweeps, resamples, seed : int
+    """
+
+    sweep: Sweep
+    observed: str
+    selected_index: int
+    configuration: str
+    null: VerdictCalibration
+    power: VerdictCalibration | None
+    edge_annual_sharpe: float
+    edge_per_window: float | None
+    null_block_length: float
+    block_series: BlockSeries
+    sweeps: int
+    resamples: int
+    seed: int
+
+
