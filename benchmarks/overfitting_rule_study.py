@@ -25,7 +25,8 @@ from collections import Counter
 
 import numpy as np
 
-from sweepaudit.methods.cscv import cscv, overfitting_diagnosis
+from sweepaudit.methods.cscv import cscv
+from sweepaudit.methods.overfitting import overfitting_diagnosis
 
 WINDOWS, CONFIGURATIONS = 1000, 20
 LOSS_LEVELS = (0.05, 0.10, 0.15, 0.20, 0.25, 0.30)

@@ -34,7 +34,7 @@ import time
 
 import numpy as np
 
-from sweepaudit.methods.trials import sharpe_inference
+from sweepaudit.methods.inference import sharpe_inference
 
 SCENARIOS = (
     ("noise, independent", 1, 0.0, "none"),

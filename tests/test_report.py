@@ -14,8 +14,7 @@ Internal consistency only:
 - every figure of the JSON document's results blocks, checks, input and settings appears in both
   formats, formatted by ``report.figure`` (the one helper the renderers use);
 - atomic writing (no partial report or figures folder after a failure midway);
-- the isolated-peak rule of the parameter surface against a literal recomputation of its definition
-  (the rule itself is our own rule of thumb, see ``report.PeakShape``).
+- the report names an isolated peak of the parameter surface (the rule: tests/methods/test_surface.py).
 """
 
 from __future__ import annotations
@@ -45,7 +44,7 @@ from sweepaudit.load import LoadOptions, load_sweep
 from sweepaudit.render import plots, report
 from sweepaudit.render.json import audit_to_dict
 from sweepaudit.render.markdown import escape as md_escape
-from sweepaudit.render.report import build_report, figure, figures_folder, isolated_peak, write_report
+from sweepaudit.render.report import build_report, figure, figures_folder, write_report
 from sweepaudit.sweep import Sweep
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -458,25 +457,8 @@ def _grid_sweep(means, rng, t=400):
                  windows=tuple(str(k) for k in range(t)))
 
 
-def _literal_peak(results):
-    """The rule of report.PeakShape, recomputed from the sweep by a plain loop."""
-    p = results.sweep.parameters
-    k = results.selected_index
-    me = p.iloc[k]
-    fast_levels, slow_levels = sorted(p["fast"].unique()), sorted(p["slow"].unique())
-    fi, si = fast_levels.index(me["fast"]), slow_levels.index(me["slow"])
-    neighbours = []
-    for j in range(len(p)):
-        fj, sj = fast_levels.index(p.iloc[j]["fast"]), slow_levels.index(p.iloc[j]["slow"])
-        if abs(fj - fi) + abs(sj - si) == 1:
-            neighbours.append(results.sharpe_ratios[j])
-    mean = sum(neighbours) / len(neighbours)
-    se = np.std(results.intervals.sharpe_distribution[:, k], ddof=1)
-    s = results.sharpe_ratios[k]
-    return mean, len(neighbours), bool(s > 0 and mean < 0.5 * s and mean < se)
-
-
-def test_isolated_peak_flags_a_lone_cell_and_not_a_plateau():
+def test_report_names_an_isolated_peak_and_not_a_plateau():
+    # The rule itself is tested on arrays in tests/methods/test_surface.py.
     rng = np.random.default_rng(5)
     lone = audit(_grid_sweep([[0, 0, 0], [0, 0.35, 0], [0, 0, 0]], rng),
                  settings=AuditSettings(seed=2, resamples=300))
@@ -484,19 +466,15 @@ def test_isolated_peak_flags_a_lone_cell_and_not_a_plateau():
                     settings=AuditSettings(seed=2, resamples=300))
     for res, expected in ((lone, True), (plateau, False)):
         assert res.selected == "fast=2, slow=20"
-        shape = isolated_peak(res)
-        mean, count, isolated = _literal_peak(res)
-        assert shape.neighbours == count == 4
-        assert shape.neighbour_mean == pytest.approx(mean)
-        assert shape.isolated is isolated is expected
-    text = "\n".join(n for s in build_report(audit_to_dict(lone), lone).sections for n in s.notes)
-    assert "ISOLATED PEAK" in text
+        assert res.surface.neighbours == 4 and res.surface.isolated is expected
+        text = "\n".join(n for s in build_report(audit_to_dict(res), res).sections for n in s.notes)
+        assert ("ISOLATED PEAK" in text) is expected
+        assert ("It is not an isolated peak" in text) is not expected
 
 
 def test_no_surface_without_two_parameters(edge_audit):
     doc, results = edge_audit
     one = replace(results, sweep=replace(results.sweep, parameters=results.sweep.parameters.iloc[:, :1]))
-    assert isolated_peak(one) is None
     assert plots.sharpe_surface(doc, one) is None
 
 

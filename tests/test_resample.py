@@ -15,6 +15,7 @@ import pytest
 
 from sweepaudit.errors import DegenerateDataError, InputError
 from sweepaudit.resample import (
+    moment_chunk,
     Resamples,
     automatic_block_length,
     draw_resamples,
@@ -134,17 +135,17 @@ def test_automatic_block_length_rounds_up_for_fixed_blocks():
 
 
 def test_errors_name_the_rule_and_value():
-    with pytest.raises(InputError, match="bootstrap kind must be one of stationary, circular, moving-block; got 'iid'"):
+    with pytest.raises(InputError, match="kind must be one of stationary, circular, moving-block; got 'iid'"):
         draw_resamples(10, count=5, kind="iid", block_length=1.0, seed=0)
     with pytest.raises(DegenerateDataError, match="at least 2 windows; got 1"):
         draw_resamples(1, count=5, block_length=1.0, seed=0)
     with pytest.raises(InputError, match="at least 1; got 0"):
         draw_resamples(10, count=0, block_length=1.0, seed=0)
-    with pytest.raises(InputError, match=r"block length must lie in \[1, 10\] windows; got 11"):
+    with pytest.raises(InputError, match=r"block_length must lie in \[1, 10\] windows; got 11"):
         draw_resamples(10, count=5, block_length=11, seed=0)
     with pytest.raises(InputError, match="whole block length; got 2.5"):
         draw_resamples(10, count=5, kind="circular", block_length=2.5, seed=0)
-    with pytest.raises(InputError, match="non-negative integer; got -1"):
+    with pytest.raises(InputError, match="seed must be a whole number of at least 0; got -1"):
         draw_resamples(10, count=5, block_length=1.0, seed=-1)
     with pytest.raises(InputError, match="2-D integer array"):
         Resamples.from_indices(np.zeros(5, dtype=int))
@@ -162,3 +163,9 @@ def test_errors_name_the_rule_and_value():
 def test_indices_to_weights_small_case():
     w = indices_to_weights(np.array([[0, 0, 2], [1, 2, 2]]), 3)
     np.testing.assert_array_equal(w, [[2, 0, 1], [0, 1, 2]])
+
+
+def test_moment_chunk_bounds():
+    assert moment_chunk(2000) == 2048
+    assert moment_chunk(10) == 4096
+    assert moment_chunk(10**6) == 256

@@ -23,20 +23,17 @@ from .errors import (
 )
 from .load import LoadOptions, load_sweep
 from .methods.bootstrap_ci import bootstrap_intervals
-from .methods.cscv import cscv, overfitting_diagnosis
+from .methods.cscv import cscv
+from .methods.overfitting import overfitting_diagnosis
 from .methods.snooping import (
     reality_check,
     stepwise_superior,
     superior_predictive_ability,
 )
 from .methods.haircut import haircut_sharpe
-from .methods.sharpe import (
-    deflated_sharpe,
-    expected_max_sharpe,
-    minimum_track_record,
-    probabilistic_sharpe,
-)
-from .methods.trials import effective_trials, sharpe_inference
+from .methods.deflation import deflated_sharpe, effective_trials, expected_max_sharpe
+from .methods.inference import sharpe_inference
+from .methods.sharpe import minimum_track_record, probabilistic_sharpe
 from .policy import DEFAULT_POLICY, Policy
 from .resample import Resamples, draw_resamples, resampled_moments
 from .sweep import Sweep, sweep_from_array

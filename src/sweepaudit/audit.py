@@ -14,30 +14,25 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from .errors import InputError, SweepAuditWarning
-from .methods.bootstrap_ci import BootstrapIntervals, IntervalMethod, bootstrap_intervals
-from .methods.cscv import CscvResult, OverfittingDiagnosis, cscv, overfitting_diagnosis
-from .methods.snooping import (
-    RealityCheck,
-    StepwiseResult,
-    SuperiorPredictiveAbility,
-    moment_chunk,
-    reality_check,
-    stepwise_superior,
-    superior_predictive_ability,
-)
-from .methods.surface import PeakShape, isolated_peak
-from .methods.haircut import HaircutSharpe, haircut_sharpe
-from .methods.trials import SharpeInference, sharpe_inference
+from .methods.bootstrap_ci import bootstrap_intervals
+from .methods.cscv import cscv
+from .methods.haircut import haircut_sharpe
+from .methods.inference import sharpe_inference
+from .methods.overfitting import overfitting_diagnosis
+from .methods.snooping import reality_check, stepwise_superior, superior_predictive_ability
+from .methods.surface import isolated_peak
 from .policy import DEFAULT_POLICY, Policy
-from .resample import (
-    BootstrapKind,
-    ResampledMoments,
-    Resamples,
-    automatic_block_length,
-    draw_resamples,
-    resampled_moments,
+from .resample import ResampledMoments, Resamples, automatic_block_length, draw_resamples, moment_chunk, resampled_moments
+from .results import (
+    AuditSettings,
+    BootstrapIntervals,
+    CscvResult,
+    HaircutSharpe,
+    OverfittingDiagnosis,
+    PeakShape,
+    SharpeInference,
+    Snooping,
 )
-from .results import AuditSettings, Snooping
 from .sweep import Sweep
 from .verdict import Verdict, decide
 
@@ -271,5 +266,6 @@ def audit(
         overfitting_diagnosis=diagnosis,
         snooping=snooping,
     )
-    results = replace(results, surface=isolated_peak(results))
+    peak = isolated_peak(sweep.parameters, sharpe, selected=selected, sharpe_distribution=intervals.sharpe_distribution[:, selected])
+    results = replace(results, surface=peak)
     return replace(results, verdict=decide(results, policy))

@@ -182,6 +182,31 @@ class DeflatedSharpe:
     probability: float
 
 
+@dataclass(frozen=True, eq=False)
+class DeflatedCurve:
+    """The deflated Sharpe probability against the number of trials assumed (the report's figure).
+
+    Attributes
+    ----------
+    trials : ndarray
+        Whole trial counts from 1 upwards, evenly spaced on a log scale.
+    probability : ndarray
+        The deflated Sharpe probability at each count (same length as ``trials``).
+    trials_counted, at_trials_counted : float
+        The trials the audit counted and the probability there (the headline figure).
+    effective_trials, at_effective_trials : float or None
+        The effective (independent) trials and the probability there; None when they equal the
+        trials counted.
+    """
+
+    trials: np.ndarray
+    probability: np.ndarray
+    trials_counted: float
+    at_trials_counted: float
+    effective_trials: float | None
+    at_effective_trials: float | None
+
+
 @dataclass(frozen=True)
 class EffectiveTrials:
     """Effective number of independent trials in a sweep, by three estimators.
@@ -678,6 +703,30 @@ class StepwiseResult:
     counting: Counting
 
 
+@dataclass(frozen=True, eq=False)
+class SharpeGrid:
+    """Per-window Sharpe ratios of a two-parameter sweep laid out on its parameter grid.
+
+    Attributes
+    ----------
+    x_parameter, y_parameter : str
+        The first and the second parameter (columns and rows of the grid).
+    x_values, y_values : tuple
+        Their values in ascending order.
+    sharpe : ndarray, shape (len(y_values), len(x_values))
+        The Sharpe ratio of each cell; NaN where the sweep has no such configuration.
+    selected_cell : tuple of int
+        (row, column) of the selected configuration.
+    """
+
+    x_parameter: str
+    y_parameter: str
+    x_values: tuple
+    y_values: tuple
+    sharpe: np.ndarray
+    selected_cell: tuple[int, int]
+
+
 @dataclass(frozen=True)
 class PeakShape:
     """How the selected cell of a two-parameter grid compares with its grid neighbours.
@@ -699,6 +748,11 @@ class PeakShape:
         ``sharpe > 0`` and ``neighbour_mean < 0.5 * sharpe`` (the neighbours reach less than half the
         peak) and ``neighbour_mean < 1 * standard_error`` (the neighbours are weak: within one standard
         error of no edge). Both parts are our own rule of thumb.
+    neighbours_reach_half : bool
+        ``neighbour_mean >= 0.5 * sharpe``: the first part of the rule fails (the report says which).
+    threshold : float
+        The rule's bar for ``neighbour_mean``: the lower of its two parts, ``min(0.5 * sharpe,
+        1 * standard_error)``.
     """
 
     sharpe: float
@@ -707,6 +761,8 @@ class PeakShape:
     standard_error: float
     gap_in_standard_errors: float
     isolated: bool
+    neighbours_reach_half: bool
+    threshold: float
 
 
 @dataclass(frozen=True)

@@ -33,7 +33,12 @@ __all__ = [
     "nonconstant",
     "column_index",
     "generator",
+    "raw_moments",
 ]
+
+# Relative tolerance on the moment bound kurtosis >= 1 + skewness**2 (Pearson 1916); lets moments
+# computed from data, which satisfy it up to rounding, through.
+MOMENT_BOUND_TOLERANCE = 1e-9
 
 
 def _is_bool(value: Any) -> bool:
@@ -230,3 +235,20 @@ def generator(value: Any, name: str = "rng") -> np.random.Generator:
             f"{name} must be a numpy.random.Generator (numpy.random.default_rng(seed)); got {type(value).__name__}"
         )
     return value
+
+
+def raw_moments(skewness: Any, kurtosis: Any) -> tuple[float, float]:
+    """Skewness and RAW kurtosis (3 for a normal distribution) of one return series.
+
+    Every distribution has raw kurtosis ``>= 1 + skewness**2`` (Pearson 1916); failing the bound
+    usually means excess kurtosis (0 for a normal) was passed where raw kurtosis is expected.
+    """
+    g3 = finite_number(skewness, "skewness")
+    g4 = finite_number(kurtosis, "kurtosis")
+    if g4 < (1.0 + g3 * g3) * (1.0 - MOMENT_BOUND_TOLERANCE):
+        raise InputError(
+            "kurtosis must be raw kurtosis (3 for a normal distribution) and at least "
+            f"1 + skewness**2 = {1.0 + g3 * g3:g}; got kurtosis={g4!r} with skewness={g3!r}"
+            " (excess kurtosis passed by mistake?)"
+        )
+    return g3, g4

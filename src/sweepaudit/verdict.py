@@ -259,10 +259,7 @@ def _parameter_surface(results: AuditResults, policy: Policy) -> Check | None:
             "error of zero): a setting that works alone is what selection luck looks like."
         )
     # The rule's bar is the lower of its two parts: half the peak, and one standard error.
-    from .methods.surface import PEAK_NEIGHBOUR_SHARE, PEAK_WEAK_STANDARD_ERRORS
-
-    bar = min(PEAK_NEIGHBOUR_SHARE * peak.sharpe, PEAK_WEAK_STANDARD_ERRORS * peak.standard_error)
-    return Check("parameter_surface", ok, peak.neighbour_mean, bar, reason)
+    return Check("parameter_surface", ok, peak.neighbour_mean, peak.threshold, reason)
 
 
 def decide(results: AuditResults, policy: Policy) -> Verdict:

@@ -168,17 +168,17 @@ def test_zero_sharpe_has_no_haircut_fraction():
 
 
 def test_haircut_errors():
-    with pytest.raises(InputError, match=r"tests must be at least the number of Sharpe ratios supplied \(3\); received tests=2"):
+    with pytest.raises(InputError, match=r"tests must be at least the number of Sharpe ratios supplied \(3\); got 2"):
         haircut_sharpe([0.1, 0.2, 0.3], selected=0, observations=50, tests=2)
     with pytest.raises(InputError, match=r"selected must name the judged configuration .* when 3 Sharpe ratios are given"):
         haircut_sharpe([0.1, 0.2, 0.3], observations=50)
-    with pytest.raises(InputError, match=r"selected must be an index between 0 and 2; received 3"):
+    with pytest.raises(InputError, match=r"selected must be a column index from 0 to 2; got 3"):
         haircut_sharpe([0.1, 0.2, 0.3], selected=3, observations=50)
-    with pytest.raises(InputError, match=r"observations must be a whole number of windows, at least 2; received 1"):
+    with pytest.raises(InputError, match=r"observations must be a whole number of at least 2; got 1"):
         haircut_sharpe(0.1, observations=1)
-    with pytest.raises(InputError, match=r"tests must be a whole number; received 2.5"):
+    with pytest.raises(InputError, match=r"tests must be a whole number; got 2.5"):
         haircut_sharpe(0.1, observations=10, tests=2.5)
-    with pytest.raises(InputError, match=r"periods_per_year must be a positive number or None; received -12"):
+    with pytest.raises(InputError, match=r"periods_per_year must be positive and finite; got -12"):
         haircut_sharpe(0.1, observations=10, periods_per_year=-12)
     with pytest.raises(InputError, match=r"sharpes must be finite"):
         haircut_sharpe([0.1, float("nan")], selected=0, observations=10)

@@ -1,10 +1,7 @@
 """Tests of sweepaudit.methods.sharpe.
 
-Verified against an outside reference:
-- deflated_sharpe, expected_max_sharpe, max_trials_for_deflated_sharpe: the numerical example of
-  Bailey and Lopez de Prado (2014), values from memory (see METHODS.md);
-- expected_max_standard_normal: normal order statistics tables (Harter 1961), the closed form
-  1/sqrt(pi) for N = 2, and exact sampling of the maximum (max = Phi^-1(U^(1/N)));
+Verified against an outside reference (the deflated Sharpe ratio and the expected maximum are
+tested in test_deflation.py):
 - probabilistic_sharpe, minimum_track_record: hand computation from Bailey and Lopez de Prado (2012),
   worked out in the docstrings below;
 - annualization_factor: Lo (2002) AR(1) example, eta(12) = 2.1213 for rho = 0.5;
@@ -30,15 +27,11 @@ from scipy import signal, stats
 from statsmodels.tsa.stattools import acf
 
 from sweepaudit.errors import DegenerateDataError, InputError
+from sweepaudit.methods.deflation import deflated_sharpe
 from sweepaudit.methods.sharpe import (
-    EULER_MASCHERONI,
     annualization_factor,
     annualized_sharpe,
     autocorrelations,
-    deflated_sharpe,
-    expected_max_sharpe,
-    expected_max_standard_normal,
-    max_trials_for_deflated_sharpe,
     minimum_track_record,
     probabilistic_sharpe,
     return_moments,
@@ -61,63 +54,13 @@ PAPER = dict(
 
 
 # --------------------------------------------------------------------------------------------
-# Deflated Sharpe ratio: the paper's example
-# --------------------------------------------------------------------------------------------
-
-
-def test_deflated_sharpe_paper_example():
-    """Bailey and Lopez de Prado (2014), numerical example (from memory): SR0 = 0.1132, DSR = 0.9004."""
-    result = deflated_sharpe(**PAPER)
-    assert round(result.benchmark_sharpe, 4) == 0.1132
-    assert round(result.probability, 4) == 0.9004
-    assert result.expected_maximum == "approximate"
-    assert result.trials == 100 and result.observations == 1250
-
-
-def test_max_trials_paper_example():
-    """Bailey and Lopez de Prado (2014) (from memory): about 46 trials is the most keeping DSR > 0.95."""
-    arguments = {k: v for k, v in PAPER.items() if k != "trials"}
-    most = max_trials_for_deflated_sharpe(**arguments, level=0.95)
-    assert most == 46
-    # The bracket itself, from the definition: 46 passes, 47 fails.
-    assert deflated_sharpe(**{**PAPER, "trials": 46}).probability > 0.95
-    assert deflated_sharpe(**{**PAPER, "trials": 47}).probability <= 0.95
-
-
-def test_max_trials_edges():
-    arguments = {k: v for k, v in PAPER.items() if k not in ("trials",)}
-    # A Sharpe ratio of 0 never beats PSR(0) = 0.5 > 0.95: zero trials suffice to fail.
-    assert max_trials_for_deflated_sharpe(**{**arguments, "sharpe": 0.0}) == 0.0
-    # With no spread among trials the benchmark stays 0: the level holds for every count.
-    assert max_trials_for_deflated_sharpe(**{**arguments, "trial_sharpe_variance": 0.0}, search_limit=1000) == math.inf
-
-
-def test_expected_max_sharpe_paper_formula():
-    """Bailey and Lopez de Prado (2014) expected-maximum approximation written out with scipy's normal quantile."""
-    n, v = 100, 0.5 / 250
-    by_hand = math.sqrt(v) * (
-        (1 - EULER_MASCHERONI) * stats.norm.ppf(1 - 1 / n) + EULER_MASCHERONI * stats.norm.ppf(1 - 1 / (n * math.e))
-    )
-    assert expected_max_sharpe(n, trial_sharpe_variance=v) == pytest.approx(by_hand, rel=1e-12)
-    assert round(expected_max_sharpe(n, trial_sharpe_variance=v), 4) == 0.1132
-
-
-# --------------------------------------------------------------------------------------------
 # Convention errors change the answer
 # --------------------------------------------------------------------------------------------
 
 
-def test_annualised_inputs_change_the_answer():
-    """Feeding annualised SR and V (2.5 and 0.5) instead of per-window values gives another DSR."""
-    wrong = deflated_sharpe(
-        2.5, observations=1250, trials=100, trial_sharpe_variance=0.5, skewness=-3.0, kurtosis=10.0
-    )
-    assert abs(wrong.probability - 0.9004) > 0.05
-
-
 def test_excess_kurtosis_is_rejected_or_changes_the_answer():
     """Excess kurtosis 7 for the paper's raw 10 breaks kurtosis >= 1 + skew^2 (Pearson): an error."""
-    with pytest.raises(InputError, match=r"kurtosis must be raw kurtosis .* at least 1 \+ skewness\*\*2 = 10"):
+    with pytest.raises(InputError, match=r"kurtosis must be raw kurtosis .* at least 1 \+ skewness\*\*2 = 10; got kurtosis=7.0"):
         deflated_sharpe(**{**PAPER, "kurtosis": 7.0})
     # Where the bound does not catch it (no skew, raw 8 passed as excess 5) the PSR moves by
     # 0.0075 for a large per-window Sharpe ratio (kurtosis enters through SR^2, so small per-window
@@ -136,64 +79,6 @@ def test_sqrt_n_instead_of_sqrt_n_minus_one_changes_the_answer():
     assert round(by_hand_n, 4) == 0.9552
     psr = probabilistic_sharpe(sr, benchmark=0.0, observations=36, skewness=0.0, kurtosis=3.0)
     assert abs(psr.probability - by_hand_n) > 0.002
-
-
-# --------------------------------------------------------------------------------------------
-# Expected maximum of N standard normals
-# --------------------------------------------------------------------------------------------
-
-
-@pytest.mark.parametrize(
-    ("trials", "table"),
-    [(2, 0.564190), (10, 1.538753), (100, 2.507594), (1000, 3.241436)],
-)
-def test_exact_expected_maximum_matches_order_statistics_table(trials, table):
-    """Harter (1961), Biometrika 48: expected largest of N standard normals, 6 decimals."""
-    assert round(expected_max_standard_normal(trials, exact=True), 6) == table
-
-
-def test_exact_expected_maximum_two_is_one_over_root_pi():
-    """Closed form: E[max(Z1, Z2)] = 1/sqrt(pi)."""
-    assert expected_max_standard_normal(2, exact=True) == pytest.approx(1 / math.sqrt(math.pi), abs=1e-10)
-
-
-@pytest.mark.parametrize(("trials", "printed"), [(10, 1.574598), (100, 2.530603), (1000, 3.255122)])
-def test_approximate_expected_maximum_values(trials, printed):
-    """METHODS.md values of the Bailey and Lopez de Prado (2014) approximation, 6 decimals."""
-    assert round(expected_max_standard_normal(trials), 6) == printed
-
-
-def test_one_trial_has_zero_expected_maximum():
-    assert expected_max_standard_normal(1) == 0.0
-    assert expected_max_standard_normal(1, exact=True) == 0.0
-    assert expected_max_sharpe(1, trial_sharpe_variance=0.01, exact=True) == 0.0
-
-
-@pytest.mark.parametrize("trials", [3, 50, 10**6, 10**9])
-def test_exact_expected_maximum_against_exact_sampling(trials):
-    """The maximum of N iid normals is Phi^-1(U^(1/N)) (probability integral transform): sample it."""
-    rng = np.random.default_rng(20260101 + trials)
-    u = rng.random(200_000)
-    # 1 - U^(1/N) computed without cancellation, then the upper quantile.
-    maxima = stats.norm.isf(-np.expm1(np.log(u) / trials))
-    standard_error = maxima.std(ddof=1) / math.sqrt(maxima.size)
-    assert expected_max_standard_normal(trials, exact=True) == pytest.approx(maxima.mean(), abs=4 * standard_error)
-
-
-def test_expected_maximum_of_fractional_trial_counts_is_never_negative():
-    """Effective trial counts can be fractional: E[max] for N in [1, 2] lies between 0 and 1/sqrt(pi)
-    (Phi^N dominates Phi for N >= 1); the paper's approximation alone goes negative below ~1.28."""
-    for exact in (False, True):
-        values = [expected_max_standard_normal(n, exact=exact) for n in np.linspace(1.0, 2.0, 11)]
-        assert all(0.0 <= v <= 1 / math.sqrt(math.pi) + 1e-9 for v in values)
-        assert all(b >= a for a, b in zip(values, values[1:]))
-
-
-def test_exact_expected_maximum_is_fast_and_increasing_for_huge_counts():
-    values = [expected_max_standard_normal(n, exact=True) for n in (1e3, 1e6, 1e9, 1e12, 1e15)]
-    assert all(b > a for a, b in zip(values, values[1:]))
-    # Known asymptotics: E[max] ~ sqrt(2 ln N) from below (extreme value theory).
-    assert values[-1] < math.sqrt(2 * math.log(1e15))
 
 
 # --------------------------------------------------------------------------------------------
@@ -356,48 +241,30 @@ def test_serial_correlation_standard_error_monte_carlo():
 
 
 def test_error_observations_below_two():
-    with pytest.raises(InputError, match=r"observations must be at least 2 .*received 1"):
+    with pytest.raises(InputError, match=r"observations must be at least 2 .*got 1"):
         probabilistic_sharpe(0.1, benchmark=0.0, observations=1, skewness=0.0, kurtosis=3.0)
-    with pytest.raises(InputError, match=r"returns must hold at least 2 windows \(observations\); received 1"):
+    with pytest.raises(DegenerateDataError, match=r"returns must hold at least 2 windows; got 1"):
         sharpe_ratio([0.1])
 
 
-def test_error_negative_variance():
-    with pytest.raises(InputError, match=r"trial_sharpe_variance must be non-negative; received -0.1"):
-        expected_max_sharpe(10, trial_sharpe_variance=-0.1)
-
-
-def test_error_trials_below_one():
-    with pytest.raises(InputError, match=r"trials must be at least 1; received 0"):
-        deflated_sharpe(**{**PAPER, "trials": 0})
-
-
-def test_error_confidence_and_level():
-    with pytest.raises(InputError, match=r"confidence must lie strictly between 0 and 1; received 1.5"):
+def test_error_confidence():
+    with pytest.raises(InputError, match=r"confidence must lie strictly between 0 and 1; got 1.5"):
         minimum_track_record(0.2, benchmark=0.0, skewness=0.0, kurtosis=3.0, confidence=1.5)
-    with pytest.raises(InputError, match=r"level must lie strictly between 0 and 1; received 0"):
-        max_trials_for_deflated_sharpe(0.2, observations=100, trial_sharpe_variance=0.01, skewness=0.0, kurtosis=3.0, level=0)
-    with pytest.raises(InputError, match=r"search_limit must be a positive integer; received 0"):
-        max_trials_for_deflated_sharpe(
-            0.2, observations=100, trial_sharpe_variance=0.01, skewness=0.0, kurtosis=3.0, search_limit=0
-        )
 
 
 def test_error_options():
-    with pytest.raises(InputError, match=r"expected_maximum must be 'approximate' or 'exact'; received 'median'"):
-        deflated_sharpe(**PAPER, expected_maximum="median")
-    with pytest.raises(InputError, match=r"divisor must be 'n-1' or 'n'; received 'T'"):
+    with pytest.raises(InputError, match=r"divisor must be one of n-1, n; got 'T'"):
         sharpe_standard_error(0.1, observations=10, divisor="T")
-    with pytest.raises(InputError, match=r"serial_correlation must be 'adjusted' or 'ignored'; received 'yes'"):
+    with pytest.raises(InputError, match=r"serial_correlation must be one of adjusted, ignored; got 'yes'"):
         annualized_sharpe(np.arange(30.0), periods_per_year=12, serial_correlation="yes")
 
 
 def test_error_non_finite_and_non_numeric():
-    with pytest.raises(InputError, match=r"sharpe must be finite; received nan"):
+    with pytest.raises(InputError, match=r"sharpe must be a finite number; got nan"):
         probabilistic_sharpe(float("nan"), benchmark=0.0, observations=10, skewness=0.0, kurtosis=3.0)
-    with pytest.raises(InputError, match=r"benchmark must be a real number; received 'zero'"):
+    with pytest.raises(InputError, match=r"benchmark must be a finite number; got 'zero'"):
         probabilistic_sharpe(0.1, benchmark="zero", observations=10, skewness=0.0, kurtosis=3.0)
-    with pytest.raises(InputError, match=r"returns must be finite \(no NaN or infinity\)"):
+    with pytest.raises(InputError, match=r"returns must be finite; got 1 NaN or infinite value\(s\), the first at window 1"):
         return_moments([0.1, float("nan"), 0.2])
 
 
@@ -411,26 +278,26 @@ def test_error_constant_returns():
 
 
 def test_error_annualisation():
-    with pytest.raises(InputError, match=r"periods_per_year must be a positive integer .*received 12.5"):
+    with pytest.raises(InputError, match=r"periods_per_year must be a positive whole number .*got 12.5"):
         annualization_factor(12.5, autocorrelations=np.zeros(12))
-    with pytest.raises(InputError, match=r"autocorrelations must hold at least periods_per_year - 1 = 11 values .*received 3"):
+    with pytest.raises(InputError, match=r"autocorrelations must hold at least periods_per_year - 1 = 11 values .*got 3"):
         annualization_factor(12, autocorrelations=np.zeros(3))
-    with pytest.raises(InputError, match=r"periods_per_year must be positive; received -4"):
+    with pytest.raises(InputError, match=r"periods_per_year must be positive and finite; got -4"):
         annualization_factor(-4)
     with pytest.raises(DegenerateDataError, match=r"non-positive variance of the annual sum"):
         annualization_factor(3, autocorrelations=[-0.9, 0.0])
-    with pytest.raises(InputError, match=r"returns must hold more than periods_per_year = 12 windows .*received 10"):
+    with pytest.raises(InputError, match=r"returns must hold more than periods_per_year = 12 windows .*got 10"):
         annualized_sharpe(np.arange(10.0), periods_per_year=12)
-    with pytest.raises(InputError, match=r"max_lag must be below the number of observations \(5\); received 5"):
+    with pytest.raises(InputError, match=r"max_lag must be a whole number from 0 to 4; got 5"):
         autocorrelations(np.arange(5.0), max_lag=5)
 
 
 def test_error_serial_correlation_standard_error():
-    with pytest.raises(InputError, match=r"lags must be a whole number between 0 and 9; received 10"):
+    with pytest.raises(InputError, match=r"lags must be a whole number from 0 to 9; got 10"):
         serial_correlation_standard_error(np.arange(10.0), lags=10)
     with pytest.raises(DegenerateDataError, match=r"returns is constant"):
         serial_correlation_standard_error(np.full(50, 0.02))
-    with pytest.raises(InputError, match=r"returns must be 1-D; received shape \(10, 2\)"):
+    with pytest.raises(InputError, match=r"returns must be 1-D \(windows\); got shape \(10, 2\)"):
         serial_correlation_standard_error(np.ones((10, 2)))
 
 

@@ -68,22 +68,15 @@ import functools
 import math
 import warnings
 from dataclasses import dataclass
-from typing import Literal, get_args
+from typing import get_args
 
 import numpy as np
-from scipy import special
 
-from sweepaudit.errors import DegenerateDataError, InputError, SweepAuditWarning
-from sweepaudit.results import CscvResult, OverfittingCase, OverfittingDiagnosis, SplitStatistic
+from .. import validate
+from ..errors import DegenerateDataError, InputError, SweepAuditWarning
+from ..results import CscvResult, SplitStatistic
 
-__all__ = [
-    "CscvResult",
-    "OverfittingDiagnosis",
-    "OverfittingCase",
-    "SplitStatistic",
-    "cscv",
-    "overfitting_diagnosis",
-]
+__all__ = ["cscv"]
 
 
 _STATISTICS: tuple[str, ...] = get_args(SplitStatistic)
@@ -103,42 +96,23 @@ _BLOCK_RULE = "contiguous blocks in time order; the first T mod S blocks get one
 
 
 def _validate(returns, partitions, statistic) -> tuple[np.ndarray, int, str, list[str]]:
-    if statistic not in _STATISTICS:
-        raise InputError(
-            f"statistic must be one of {', '.join(map(repr, _STATISTICS))}; got {statistic!r}"
-        )
-    if isinstance(partitions, bool) or not isinstance(partitions, (int, np.integer)):
-        raise InputError(f"partitions must be an even integer >= 2; got {partitions!r}")
-    partitions = int(partitions)
-    if partitions < 2 or partitions % 2:
-        raise InputError(f"partitions must be an even integer >= 2; got {partitions}")
+    statistic = validate.choice(statistic, "statistic", _STATISTICS)
+    partitions = validate.whole_number(partitions, "partitions", minimum=2, what="an even whole number of at least 2")
+    if partitions % 2:
+        raise InputError(f"partitions must be an even whole number of at least 2; got {partitions}")
     if partitions > _MAX_PARTITIONS:
         raise InputError(
             f"partitions must be at most {_MAX_PARTITIONS} "
             f"(C({_MAX_PARTITIONS}, {_MAX_PARTITIONS // 2}) = "
             f"{math.comb(_MAX_PARTITIONS, _MAX_PARTITIONS // 2):,} splits); got {partitions}"
         )
-    try:
-        matrix = np.asarray(returns, dtype=np.float64)
-    except (TypeError, ValueError) as exc:
-        raise InputError(f"returns must be a numeric T x N matrix; {exc}") from None
-    if matrix.ndim != 2:
-        raise InputError(
-            f"returns must be a 2-D T x N matrix (windows x configurations); "
-            f"got {matrix.ndim} dimension(s) with shape {matrix.shape}"
-        )
-    windows, configurations = matrix.shape
-    if configurations < 2:
-        raise InputError(
-            f"returns must have at least 2 configurations (columns) to rank; got {configurations}"
-        )
-    bad = ~np.isfinite(matrix)
-    if bad.any():
-        row, col = np.argwhere(bad)[0]
-        raise InputError(
-            f"returns must be finite; got {int(bad.sum())} NaN or infinite value(s), "
-            f"the first at window {row} (0-based), configuration {col}"
-        )
+    matrix = validate.returns_matrix(returns, min_windows=1, min_configurations=2)
+    messages: list[str] = []
+    return matrix, _partitions_used(matrix.shape[0], partitions, statistic, messages), statistic, messages
+
+
+def _partitions_used(windows: int, partitions: int, statistic: str, messages: list[str]) -> int:
+    """``partitions``, or fewer (with a message) when blocks would hold too few windows."""
     floor = _FLOOR_WINDOWS_PER_BLOCK[statistic]
     comfortable = _COMFORTABLE_WINDOWS_PER_BLOCK[statistic]
     if windows < 2 * floor:
@@ -146,19 +120,18 @@ def _validate(returns, partitions, statistic) -> tuple[np.ndarray, int, str, lis
             f"returns has {windows} window(s); CSCV with statistic {statistic!r} needs at least "
             f"{2 * floor} windows (2 blocks of at least {floor} window(s) each)"
         )
-    messages: list[str] = []
-    used = partitions
-    if windows // partitions < comfortable:
-        evens = range(partitions, 1, -2)
-        used = next((s for s in evens if windows // s >= comfortable), 0) or next(
-            s for s in evens if windows // s >= floor
-        )
-        messages.append(
-            f"returns has {windows} windows, too few for partitions={partitions} with at least "
-            f"{comfortable} windows per block (statistic {statistic!r}); using partitions={used} "
-            f"({windows // used} or more windows per block, {math.comb(used, used // 2):,} splits)"
-        )
-    return matrix, used, statistic, messages
+    if windows // partitions >= comfortable:
+        return partitions
+    evens = range(partitions, 1, -2)
+    used = next((s for s in evens if windows // s >= comfortable), 0) or next(
+        s for s in evens if windows // s >= floor
+    )
+    messages.append(
+        f"returns has {windows} windows, too few for partitions={partitions} with at least "
+        f"{comfortable} windows per block (statistic {statistic!r}); using partitions={used} "
+        f"({windows // used} or more windows per block, {math.comb(used, used // 2):,} splits)"
+    )
+    return used
 
 
 def _block_bounds(windows: int, partitions: int) -> np.ndarray:
@@ -329,39 +302,86 @@ def cscv(
 
     Notes
     -----
-    Bailey, Borwein, Lopez de Prado and Zhu (2017), J. Computational Finance 20(4), the CSCV
-    procedure:
-    for each split, n* = argmax of the in-sample statistic; w = rank of n* out of sample / (N + 1);
-    logit = ln(w / (1 - w)); PBO = share of logits <= 0. Degradation: least squares of the
-    out-of-sample on the in-sample statistic of n*. Conventions on blocks, ties, zero variance and
-    dominance are listed in the module docstring: the first ``T mod S`` blocks get one extra
-    window; in-sample ties select the lowest column index; out-of-sample ties get the mid-rank;
-    a zero-variance half has Sharpe ``sign(v) * inf`` (0 for v = 0).
+    Bailey, Borwein, Lopez de Prado and Zhu (2017), the CSCV procedure: for each split,
+    n* = argmax of the in-sample statistic; w = rank of n* out of sample / (N + 1); logit =
+    ln(w / (1 - w)); PBO = share of logits <= 0. Degradation: least squares of the out-of-sample on
+    the in-sample statistic of n*. Blocks, ties, zero variance, dominance: the module docstring.
     """
     matrix, used, statistic, messages = _validate(returns, partitions, statistic)
-    windows, configurations = matrix.shape
-    bounds = _block_bounds(windows, used)
-    indicator = _split_indicator(used)
-    combinations = indicator.shape[0]
-    half = combinations // 2
-    halves = _HalfStatistics(matrix, bounds, statistic)
+    halves = _HalfStatistics(matrix, _block_bounds(matrix.shape[0], used), statistic)
     if halves.constant_columns.size:
         messages.append(
             f"{halves.constant_columns.size} configuration(s) have at least {used // 2} blocks "
             "of identical windows; a half-sample with zero variance gets Sharpe ratio +inf, "
             "-inf or 0 by the sign of its constant value"
         )
+    result = _splits(matrix, halves, used, int(partitions), messages)
+    for message in messages:
+        warnings.warn(message, SweepAuditWarning, stacklevel=2)
+    return result
 
-    selected = np.empty(combinations, dtype=np.int64)
-    in_sample = np.empty(combinations)
-    out_of_sample = np.empty(combinations)
-    rank = np.empty(combinations)
-    t_statistic = np.empty(combinations)
+
+def _splits(matrix: np.ndarray, halves: _HalfStatistics, used: int, requested: int, messages: list[str]) -> CscvResult:
+    """Every split's winner, then the figures CSCV reads off them (messages collect the warnings)."""
+    windows, configurations = matrix.shape
+    indicator = _split_indicator(used)
+    combinations = indicator.shape[0]
     # Keep every half-sample's statistics for the dominance pass when they fit the cache budget;
     # otherwise they are recomputed chunk by chunk.
     cache = (np.empty((combinations, configurations))
              if combinations * configurations * 8 <= _CACHE_BYTES else None)
     step = max(1, _rows_per_chunk(configurations) // 2)
+    winners = _winners(halves, indicator, step, cache)
+    relative = winners.rank / (configurations + 1)
+    logits = np.log(relative / (1.0 - relative))
+    quantiles = {q: float(v) for q, v in zip(_LOGIT_QUANTILE_LEVELS,
+                                             np.quantile(logits, _LOGIT_QUANTILE_LEVELS))}
+    slope, intercept, r_squared = _degradation(winners.in_sample, winners.out_of_sample, messages)
+    if cache is not None:
+        chunks = (cache[i:i + step] for i in range(0, combinations, step))
+    else:
+        chunks = (halves(indicator[i:i + step]) for i in range(0, combinations, step))
+    dominance = _dominance(winners.out_of_sample, chunks, combinations * configurations)
+    del cache
+    if dominance["second_order_dominance"] is None:
+        messages.append(
+            "second-order dominance and the pooled out-of-sample mean not computed: some "
+            "out-of-sample statistics are infinite (zero-variance half-samples)"
+        )
+    return CscvResult(
+        # 2 * rank <= N + 1 is the exact integer form of logit <= 0.
+        probability_of_overfitting=float(np.mean(2.0 * winners.rank <= configurations + 1)),
+        probability_of_loss=float(np.mean(winners.out_of_sample < 0)),
+        logits=logits, logit_quantiles=quantiles,
+        degradation_slope=slope, degradation_intercept=intercept, degradation_r_squared=r_squared,
+        in_sample=winners.in_sample, out_of_sample=winners.out_of_sample, selected=winners.selected,
+        out_of_sample_rank=winners.rank, relative_rank=relative,
+        in_sample_blocks=np.nonzero(indicator)[1].reshape(combinations, used // 2),
+        in_sample_t_statistic=winners.t_statistic,
+        median_out_of_sample=float(np.median(winners.out_of_sample)),
+        null_probability_of_overfitting=0.5 if configurations % 2 == 0 else (configurations + 1) / (2 * configurations),
+        statistic=halves.statistic, partitions=used, partitions_requested=requested, combinations=combinations,
+        windows=windows, configurations=configurations, block_bounds=_block_bounds(windows, used),
+        block_rule=_BLOCK_RULE, warnings=tuple(messages), **dominance,
+    )
+
+
+@dataclass(frozen=True)
+class _Winners:
+    """The in-sample winner of every split: its column, statistics in and out of sample, rank."""
+
+    selected: np.ndarray
+    in_sample: np.ndarray
+    out_of_sample: np.ndarray
+    rank: np.ndarray
+    t_statistic: np.ndarray
+
+
+def _winners(halves: _HalfStatistics, indicator: np.ndarray, step: int, cache: np.ndarray | None) -> _Winners:
+    """One pass over the splits in chunks: split i and its mirror C - 1 - i share their halves."""
+    combinations = indicator.shape[0]
+    half = combinations // 2
+    out = _Winners(*(np.empty(combinations, dtype=d) for d in (np.int64, float, float, float, float)))
     for start in range(0, half, step):
         first = np.arange(start, min(start + step, half))
         rows = np.concatenate([first, combinations - 1 - first])
@@ -370,7 +390,6 @@ def cscv(
             cache[rows] = values
         count = first.size
         mirror = np.concatenate([np.arange(count, 2 * count), np.arange(count)])
-        every = np.arange(rows.size)
         best = np.argmax(values, axis=1)  # first maximum: lowest index wins ties
         chosen_oos = values[mirror, best]
         below = np.empty(rows.size)
@@ -381,85 +400,33 @@ def cscv(
             target = chosen_oos[own, None]
             below[own] = np.count_nonzero(values[other] < target, axis=1)
             equal[own] = np.count_nonzero(values[other] == target, axis=1)
-        selected[rows] = best
-        in_sample[rows] = values[every, best]
-        out_of_sample[rows] = chosen_oos
-        rank[rows] = below + (equal + 1) / 2.0
-        t_statistic[rows] = halves.t_statistic(indicator[rows], best)
+        out.selected[rows] = best
+        out.in_sample[rows] = values[np.arange(rows.size), best]
+        out.out_of_sample[rows] = chosen_oos
+        out.rank[rows] = below + (equal + 1) / 2.0
+        out.t_statistic[rows] = halves.t_statistic(indicator[rows], best)
+    return out
 
-    relative = rank / (configurations + 1)
-    logits = np.log(relative / (1.0 - relative))
-    # 2 * rank <= N + 1 is the exact integer form of logit <= 0.
-    pbo = float(np.mean(2.0 * rank <= configurations + 1))
-    loss = float(np.mean(out_of_sample < 0))
-    quantiles = {q: float(v) for q, v in zip(_LOGIT_QUANTILE_LEVELS,
-                                             np.quantile(logits, _LOGIT_QUANTILE_LEVELS))}
 
-    slope = intercept = r_squared = None
+def _degradation(in_sample: np.ndarray, out_of_sample: np.ndarray, messages: list[str]):
+    """Least-squares line out = intercept + slope * in over splits with finite statistics."""
     finite = np.isfinite(in_sample) & np.isfinite(out_of_sample)
     if not finite.all():
         messages.append(
-            f"degradation line fitted on {int(finite.sum())} of {combinations} splits; the rest "
+            f"degradation line fitted on {int(finite.sum())} of {finite.size} splits; the rest "
             "have an infinite statistic (zero-variance half-sample)"
         )
     x, y = in_sample[finite], out_of_sample[finite]
-    if x.size >= 3 and np.ptp(x) > 0:
-        # Ordinary least squares y = intercept + slope * x.
-        dx, dy = x - x.mean(), y - y.mean()
-        sxx, sxy, syy = float(dx @ dx), float(dx @ dy), float(dy @ dy)
-        slope = sxy / sxx
-        intercept = float(y.mean()) - slope * float(x.mean())
-        r_squared = sxy * sxy / (sxx * syy) if syy > 0 else 0.0
-    else:
+    if not (x.size >= 3 and np.ptp(x) > 0):
         messages.append(
             "degradation line not computed: the selected configuration's in-sample statistic "
             "does not vary across splits (or fewer than 3 finite splits)"
         )
-
-    if cache is not None:
-        chunks = (cache[i:i + step] for i in range(0, combinations, step))
-    else:
-        chunks = (halves(indicator[i:i + step]) for i in range(0, combinations, step))
-    dominance = _dominance(out_of_sample, chunks, combinations * configurations)
-    del cache
-    if dominance["second_order_dominance"] is None:
-        messages.append(
-            "second-order dominance and the pooled out-of-sample mean not computed: some "
-            "out-of-sample statistics are infinite (zero-variance half-samples)"
-        )
-
-    null = 0.5 if configurations % 2 == 0 else (configurations + 1) / (2 * configurations)
-    in_sample_blocks = np.nonzero(indicator)[1].reshape(combinations, used // 2)
-    for message in messages:
-        warnings.warn(message, SweepAuditWarning, stacklevel=2)
-    return CscvResult(
-        probability_of_overfitting=pbo,
-        probability_of_loss=loss,
-        logits=logits,
-        logit_quantiles=quantiles,
-        degradation_slope=slope,
-        degradation_intercept=intercept,
-        degradation_r_squared=r_squared,
-        in_sample=in_sample,
-        out_of_sample=out_of_sample,
-        selected=selected,
-        out_of_sample_rank=rank,
-        relative_rank=relative,
-        in_sample_blocks=in_sample_blocks,
-        in_sample_t_statistic=t_statistic,
-        median_out_of_sample=float(np.median(out_of_sample)),
-        null_probability_of_overfitting=null,
-        statistic=statistic,
-        partitions=used,
-        partitions_requested=int(partitions),
-        combinations=combinations,
-        windows=windows,
-        configurations=configurations,
-        block_bounds=bounds,
-        block_rule=_BLOCK_RULE,
-        warnings=tuple(messages),
-        **dominance,
-    )
+        return None, None, None
+    dx, dy = x - x.mean(), y - y.mean()
+    sxx, sxy, syy = float(dx @ dx), float(dx @ dy), float(dy @ dy)
+    slope = sxy / sxx
+    return slope, float(y.mean()) - slope * float(x.mean()), (sxy * sxy / (sxx * syy) if syy > 0 else 0.0)
 
 
 def _dominance(selected_oos, chunks, pooled_size) -> dict:
@@ -552,102 +519,3 @@ class _SlotFinder:
         exact = np.flatnonzero(self.shared[bins])
         slot[exact] = np.searchsorted(self.points, values[exact], side="left")
         return slot
-
-
-def _validate_diagnosis(result, thresholds: dict[str, float]) -> None:
-    if not isinstance(result, CscvResult):
-        raise InputError(f"result must be a CscvResult from cscv(); got {type(result).__name__}")
-    for name, value in thresholds.items():
-        if isinstance(value, bool) or not isinstance(value, (int, float)) or not 0 <= value <= 1:
-            raise InputError(f"{name} must be a number in [0, 1]; got {value!r}")
-
-
-def overfitting_diagnosis(
-    result: CscvResult,
-    *,
-    max_probability_of_overfitting: float = 0.25,
-    max_probability_of_loss: float = 0.2,
-    min_strength_share: float = 0.15,
-) -> OverfittingDiagnosis:
-    """Read a CSCV result: is the in-sample winner's out-of-sample edge real, and why (not)?
-
-    Parameters
-    ----------
-    result : CscvResult
-        Output of :func:`cscv`.
-    max_probability_of_overfitting : float, default 0.25
-        PBO at or below which the winner counts as ranking well out of sample ("robust");
-        above it, a passing sweep is "shared_edge". Chosen from the simulation in
-        ``benchmarks/overfitting_rule_study.py``.
-    max_probability_of_loss : float, default 0.2
-        Largest share of splits in which the winner may lose out of sample and still pass.
-        Chosen from the same simulation (pure noise stays above it).
-    min_strength_share : float, default 0.15
-        Share of splits with an in-sample winner beyond the noise maximum above which a failing
-        sweep is "overfit" rather than "no_edge".
-
-    Returns
-    -------
-    OverfittingDiagnosis
-
-    Notes
-    -----
-    PBO (Bailey, Borwein, Lopez de Prado and Zhu 2017) measures whether picking the in-sample
-    winner beats picking a configuration at random out of sample. It sits near 1/2 both when
-    nothing has an edge and when many configurations share one, so it cannot decide alone. The
-    rule (docs/overfitting_rule.md):
-
-    1. ``probability_of_loss <= max_probability_of_loss``: passed; ``robust`` when
-       ``probability_of_overfitting <= max_probability_of_overfitting``, else ``shared_edge``.
-    2. Otherwise failed; ``overfit`` when the share of splits whose in-sample winner has a
-       t-statistic above ``Phi^-1(0.95 ** (1 / N))`` (95% quantile of the best of N independent
-       noise configurations; correlated configurations reach less, so this errs towards
-       ``no_edge``) is at least ``min_strength_share``, else ``no_edge``.
-    """
-    thresholds = {
-        "max_probability_of_overfitting": max_probability_of_overfitting,
-        "max_probability_of_loss": max_probability_of_loss,
-        "min_strength_share": min_strength_share,
-    }
-    _validate_diagnosis(result, thresholds)
-    pbo = result.probability_of_overfitting
-    loss = result.probability_of_loss
-    strength_threshold = float(special.ndtri(0.95 ** (1.0 / result.configurations)))
-    strength = float(np.mean(result.in_sample_t_statistic > strength_threshold))
-    case: OverfittingCase
-    if loss <= max_probability_of_loss:
-        if pbo <= max_probability_of_overfitting:
-            case = "robust"
-            reason = (f"the in-sample winner loses out of sample in {loss:.0%} of splits (at most "
-                      f"{max_probability_of_loss:.0%} allowed) and PBO is {pbo:.2f} (at most "
-                      f"{max_probability_of_overfitting:.2f})")
-        else:
-            case = "shared_edge"
-            reason = (f"the in-sample winner loses out of sample in only {loss:.0%} of splits (at "
-                      f"most {max_probability_of_loss:.0%} allowed) although PBO is {pbo:.2f} "
-                      f"(above {max_probability_of_overfitting:.2f}): several configurations "
-                      "appear to share the edge, so picking the winner adds little")
-    elif strength >= min_strength_share:
-        case = "overfit"
-        reason = (f"the in-sample winner stands out beyond the best of {result.configurations} "
-                  f"noise configurations in {strength:.0%} of splits (at least "
-                  f"{min_strength_share:.0%}) but loses out of sample in {loss:.0%} of splits "
-                  f"(more than {max_probability_of_loss:.0%}); PBO is {pbo:.2f}")
-    else:
-        case = "no_edge"
-        reason = (f"the in-sample winner loses out of sample in {loss:.0%} of splits (more than "
-                  f"{max_probability_of_loss:.0%}) and stands out beyond the best of "
-                  f"{result.configurations} noise configurations in only {strength:.0%} of "
-                  f"splits (below {min_strength_share:.0%}); PBO is {pbo:.2f}")
-    return OverfittingDiagnosis(
-        case=case,
-        passed=case in ("robust", "shared_edge"),
-        probability_of_overfitting=pbo,
-        probability_of_loss=loss,
-        in_sample_strength_share=strength,
-        strength_threshold=strength_threshold,
-        max_probability_of_overfitting=float(max_probability_of_overfitting),
-        max_probability_of_loss=float(max_probability_of_loss),
-        min_strength_share=float(min_strength_share),
-        reason=reason,
-    )

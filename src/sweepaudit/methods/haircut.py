@@ -25,17 +25,16 @@ under dependency. *Annals of Statistics* 29(4), 1165-1188.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
-from typing import Literal
 
 import numpy as np
 from scipy import stats
 from statsmodels.stats.multitest import multipletests
 
-from sweepaudit.errors import InputError
-from sweepaudit.results import AdjustmentMethod, HaircutAdjustment, HaircutSharpe
+from .. import validate
+from ..errors import InputError
+from ..results import HaircutAdjustment, HaircutSharpe
 
-__all__ = ["HaircutAdjustment", "HaircutSharpe", "haircut_sharpe"]
+__all__ = ["haircut_sharpe"]
 
 
 # Our method names -> statsmodels' names.
@@ -48,42 +47,40 @@ def _validate(
     try:
         values = np.atleast_1d(np.asarray(sharpes, dtype=float))
     except (TypeError, ValueError):
-        raise InputError(f"sharpes must be numeric per-window Sharpe ratios; received {sharpes!r}") from None
+        raise InputError(f"sharpes must be numeric per-window Sharpe ratios; got {sharpes!r}") from None
     if values.ndim != 1 or values.size < 1:
-        raise InputError(f"sharpes must be a number or a non-empty 1-D array; received shape {values.shape}")
+        raise InputError(f"sharpes must be a number or a non-empty 1-D array; got shape {values.shape}")
     if not np.all(np.isfinite(values)):
-        raise InputError("sharpes must be finite; received non-finite values")
-    if selected is None:
-        if values.size != 1:
-            raise InputError(
-                f"selected must name the judged configuration (0-based index) when {values.size} Sharpe ratios are given"
-            )
-        index = 0
-    else:
-        if isinstance(selected, bool) or not isinstance(selected, (int, np.integer)) or not 0 <= selected < values.size:
-            raise InputError(f"selected must be an index between 0 and {values.size - 1}; received {selected!r}")
-        index = int(selected)
-    if isinstance(observations, bool) or not isinstance(observations, (int, np.integer)) or observations < 2:
-        raise InputError(f"observations must be a whole number of windows, at least 2; received {observations!r}")
-    if tests is None:
-        count = values.size
-    else:
-        if isinstance(tests, bool) or not isinstance(tests, (int, np.integer)):
-            raise InputError(f"tests must be a whole number; received {tests!r}")
-        if tests < values.size:
-            raise InputError(
-                f"tests must be at least the number of Sharpe ratios supplied ({values.size}); received tests={tests}"
-            )
-        count = int(tests)
-    periods = None
-    if periods_per_year is not None:
-        try:
-            periods = float(periods_per_year)  # type: ignore[arg-type]
-        except (TypeError, ValueError):
-            periods = math.nan
-        if not math.isfinite(periods) or periods <= 0:
-            raise InputError(f"periods_per_year must be a positive number or None; received {periods_per_year!r}")
-    return values, index, int(observations), count, periods
+        raise InputError("sharpes must be finite; got non-finite values")
+    if selected is None and values.size != 1:
+        raise InputError(
+            f"selected must name the judged configuration (0-based index) when {values.size} Sharpe ratios are given"
+        )
+    index = 0 if selected is None else validate.column_index(selected, "selected", values.size)
+    n = validate.whole_number(observations, "observations", minimum=2)
+    count = values.size
+    if tests is not None:
+        validate.whole_number(tests, "tests")
+        count = int(validate.at_least(tests, "tests", values.size,
+                                      what=f"the number of Sharpe ratios supplied ({values.size})"))
+    return values, index, n, count, validate.periods_per_year(periods_per_year)
+
+
+def _adjustment(method: str, padded: np.ndarray, index: int, t_observed: float, observed: float, root: float,
+                annual: float | None) -> HaircutAdjustment:
+    """The selected configuration after one multiple-testing adjustment (statsmodels' ``multipletests``)."""
+    adjusted = float(multipletests(padded, method=_STATSMODELS_METHOD[method])[1][index])
+    adjusted = min(max(adjusted, 0.0), 1.0)
+    t_adjusted = min(float(stats.norm.isf(adjusted / 2.0)), abs(t_observed))
+    haircut_value = math.copysign(t_adjusted, observed) / root if observed != 0 else 0.0
+    return HaircutAdjustment(
+        method=method,  # type: ignore[arg-type]
+        pvalue=adjusted,
+        t_statistic=t_adjusted,
+        sharpe=haircut_value,
+        sharpe_annualized=None if annual is None else haircut_value * annual,
+        haircut=None if observed == 0 else 1.0 - haircut_value / observed,
+    )
 
 
 def haircut_sharpe(
@@ -138,32 +135,10 @@ def haircut_sharpe(
     t_observed = float(t_values[index])
     annual = None if periods is None else math.sqrt(periods)
 
-    adjustments = {}
-    for name, library_name in _STATSMODELS_METHOD.items():
-        adjusted = float(multipletests(padded, method=library_name)[1][index])
-        adjusted = min(max(adjusted, 0.0), 1.0)
-        t_adjusted = min(float(stats.norm.isf(adjusted / 2.0)), abs(t_observed))
-        haircut_value = math.copysign(t_adjusted, observed) / root if observed != 0 else 0.0
-        adjustments[name] = HaircutAdjustment(
-            method=name,  # type: ignore[arg-type]
-            pvalue=adjusted,
-            t_statistic=t_adjusted,
-            sharpe=haircut_value,
-            sharpe_annualized=None if annual is None else haircut_value * annual,
-            haircut=None if observed == 0 else 1.0 - haircut_value / observed,
-        )
-
+    adjusted = {m: _adjustment(m, padded, index, t_observed, observed, root, annual) for m in _STATSMODELS_METHOD}
     return HaircutSharpe(
-        sharpe=observed,
-        sharpe_annualized=None if annual is None else observed * annual,
-        observations=n,
-        periods_per_year=periods,
-        tests=count,
-        configurations=int(values.size),
-        t_statistic=t_observed,
-        pvalue=float(pvalues[index]),
-        bonferroni=adjustments["bonferroni"],
-        holm=adjustments["holm"],
-        bhy=adjustments["bhy"],
+        sharpe=observed, sharpe_annualized=None if annual is None else observed * annual, observations=n,
+        periods_per_year=periods, tests=count, configurations=int(values.size), t_statistic=t_observed,
+        pvalue=float(pvalues[index]), bonferroni=adjusted["bonferroni"], holm=adjusted["holm"], bhy=adjusted["bhy"],
         configuration_pvalues=pvalues,
     )

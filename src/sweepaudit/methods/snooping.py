@@ -83,13 +83,13 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass
-from typing import Literal, get_args
+from typing import get_args
 
 import numpy as np
 
+from .. import validate
 from ..errors import DegenerateDataError, InputError
-from ..resample import ResampledMoments, Resamples, resampled_moments
+from ..resample import ResampledMoments, Resamples, moment_chunk, resampled_moments
 from ..results import Counting, RealityCheck, StepRecentring, StepwiseResult, SuperiorPredictiveAbility
 
 __all__ = [
@@ -98,7 +98,6 @@ __all__ = [
     "StepRecentring",
     "StepwiseResult",
     "SuperiorPredictiveAbility",
-    "moment_chunk",
     "reality_check",
     "stepwise_superior",
     "superior_predictive_ability",
@@ -115,45 +114,6 @@ ColumnBlocks = Iterator[tuple[slice, np.ndarray]]
 
 # --------------------------------------------------------------------------------------------------
 # validation
-
-
-def _validate_returns(returns: np.ndarray) -> np.ndarray:
-    x = np.asarray(returns, dtype=np.float64)
-    if x.ndim == 1:
-        raise InputError(
-            f"returns must be a 2-D T x N matrix (windows x configurations); got a 1-D array of "
-            f"length {x.shape[0]} (reshape a single configuration to (T, 1))"
-        )
-    if x.ndim != 2:
-        raise InputError(
-            f"returns must be a 2-D T x N matrix (windows x configurations); got shape {x.shape}"
-        )
-    if x.shape[1] < 1:
-        raise InputError(f"returns must have at least 1 configuration; got shape {x.shape}")
-    if x.shape[0] < 2:
-        raise DegenerateDataError(
-            f"data-snooping tests need at least 2 windows; got {x.shape[0]}"
-        )
-    if not np.all(np.isfinite(x)):
-        raise InputError("returns must be finite; got NaN or infinite values")
-    return x
-
-
-def _validate_counting(counting: str) -> None:
-    if counting not in COUNTINGS:
-        raise InputError(f"counting must be one of {', '.join(COUNTINGS)}; got {counting!r}")
-
-
-def _validate_level(level: float) -> float:
-    try:
-        value = float(level)
-    except (TypeError, ValueError):
-        raise InputError(
-            f"level must be a number strictly between 0 and 1; got {level!r}"
-        ) from None
-    if not 0.0 < value < 1.0:
-        raise InputError(f"level must lie strictly between 0 and 1; got {level!r}")
-    return value
 
 
 def _obtain_moments(
@@ -194,29 +154,12 @@ def _obtain_moments(
     return moments
 
 
-def moment_chunk(windows: int) -> int:
-    """Resamples per ``weights @ returns`` product: about 32 MB of weights, 256 to 4,096 rows.
-
-    A memory knob only (the engine's figures do not depend on it), but products of 256 rows run
-    about half as fast as products of 2,048 rows with OpenBLAS at T = 2,000 (measured; see
-    ``docs/snooping_performance.md``).
-    """
-    rows = (2**22 // max(int(windows), 1)) // 256 * 256
-    return max(256, min(4096, rows))
-
-
 def _prepare(returns, counting, column_block, moments, resamples):
     """The checked returns, column block and resampled moments every public test starts from."""
-    x = _validate_returns(returns)
-    _validate_counting(counting)
-    block = _validate_block(column_block)
+    x = validate.returns_matrix(returns)
+    validate.choice(counting, "counting", COUNTINGS)
+    block = validate.whole_number(column_block, "column_block", minimum=1)
     return x, block, _obtain_moments(x, moments, resamples)
-
-
-def _validate_block(column_block: int) -> int:
-    if int(column_block) != column_block or int(column_block) < 1:
-        raise InputError(f"column_block must be a positive whole number; got {column_block!r}")
-    return int(column_block)
 
 
 # --------------------------------------------------------------------------------------------------
@@ -424,82 +367,89 @@ def superior_predictive_ability(
     """
     x, block, m = _prepare(returns, counting, column_block, moments, resamples)
     t, n = x.shape
-    count = m.mean.shape[0]
     mean = x.mean(axis=0)
-    root_n = math.sqrt(t)
-    factor = _consistent_factor(t)
-    source = _stored_blocks(np.asarray(m.mean), block)
     if studentize:
         _check_constant(x)
-
-    omega = np.empty(n)
-    relevant = np.empty(n, dtype=bool)
-    nulls = {name: np.full(count, -np.inf) for name in ("lower", "consistent", "upper")}
-    # One pass over the column blocks: omega, the recentring and the three maxima per block.
-    for cols, piece in source():
-        mu = mean[cols]
-        # Order the block's columns as [mean >= 0 | threshold <= mean < 0 | mean < threshold]:
-        # the recentred draws are then A = (mean* - mean) * scale or B = mean* * scale on
-        # contiguous column ranges, and the three maxima need two passes instead of three.
-        # The Fortran-ordered copy also sums each column's variance the same way whatever the
-        # block width, so column blocks never change a figure (not even the last bit).
-        order = np.argsort(mu < 0, kind="stable")
-        sorted_piece = np.asfortranarray(piece[:, order])
-        variance_of_mean = np.var(sorted_piece, axis=0)
-        block_omega = np.sqrt(t * variance_of_mean)
-        if studentize:
-            _check_omega(block_omega[np.argsort(order)], cols.start)
-            scale = root_n / block_omega
-        else:
-            scale = np.full(piece.shape[1], root_n)
-        mu_sorted = mu[order]
-        keep = mu_sorted >= -np.sqrt(variance_of_mean * factor)
-        # within the negative part, relevant columns (near zero) first
-        negative = int(np.count_nonzero(mu_sorted < 0))
-        start = piece.shape[1] - negative
-        tail = np.argsort(~keep[start:], kind="stable")
-        order[start:] = order[start:][tail]
-        sorted_piece[:, start:] = sorted_piece[:, start:][:, tail]
-        for values in (variance_of_mean, block_omega, scale, mu_sorted, keep):
-            values[start:] = values[start:][tail]
-        cut = start + int(np.count_nonzero(keep[start:]))
-        omega[cols.start + order] = block_omega
-        relevant[cols.start + order] = keep
-
-        a_draws = sorted_piece - mu_sorted
-        a_draws *= scale
-        upper = a_draws.max(axis=1)
-        none = np.full(count, -np.inf)
-        positive_part = a_draws[:, :start].max(axis=1) if start else none
-        near_part = a_draws[:, start:cut].max(axis=1) if cut > start else none
-        del a_draws
-        b_draws = sorted_piece[:, start:] * scale[start:]
-        near_zero = b_draws[:, : cut - start].max(axis=1) if cut > start else none
-        far_zero = b_draws[:, cut - start :].max(axis=1) if piece.shape[1] > cut else none
-        # lower: g = max(mean, 0); consistent: g = mean if relevant else 0; upper: g = mean
-        lower = np.maximum(positive_part, np.maximum(near_zero, far_zero))
-        consistent = np.maximum(np.maximum(positive_part, near_part), far_zero)
-        np.maximum(nulls["lower"], lower, out=nulls["lower"])
-        np.maximum(nulls["consistent"], consistent, out=nulls["consistent"])
-        np.maximum(nulls["upper"], upper, out=nulls["upper"])
-    for name in nulls:
-        np.maximum(nulls[name], 0.0, out=nulls[name])
-
-    scale_all = root_n / omega if studentize else np.full(n, root_n)
+    omega, relevant, nulls = _spa_nulls(_stored_blocks(np.asarray(m.mean), block), mean, t, m.mean.shape[0], studentize)
+    scale_all = math.sqrt(t) / omega if studentize else np.full(n, math.sqrt(t))
     statistic = max(float((mean * scale_all).max()), 0.0)
     return SuperiorPredictiveAbility(
         statistic=statistic,
         pvalue=_pvalue(nulls["consistent"], statistic, counting),
         pvalue_lower=_pvalue(nulls["lower"], statistic, counting),
         pvalue_upper=_pvalue(nulls["upper"], statistic, counting),
-        omega=omega,
-        relevant=relevant,
-        studentized=bool(studentize),
-        null_lower=nulls["lower"],
-        null_consistent=nulls["consistent"],
-        null_upper=nulls["upper"],
+        omega=omega, relevant=relevant, studentized=bool(studentize),
+        null_lower=nulls["lower"], null_consistent=nulls["consistent"], null_upper=nulls["upper"],
         counting=counting,
     )
+
+
+def _spa_nulls(source: Callable[[], ColumnBlocks], mean: np.ndarray, t: int, count: int, studentize: bool):
+    """omega, the relevant configurations and the three null maxima, in one pass over the column blocks."""
+    n = mean.size
+    omega = np.empty(n)
+    relevant = np.empty(n, dtype=bool)
+    nulls = {name: np.full(count, -np.inf) for name in ("lower", "consistent", "upper")}
+    for cols, piece in source():
+        order, block_omega, keep, maxima = _spa_block(piece, mean[cols], t, studentize, cols.start)
+        omega[cols.start + order] = block_omega
+        relevant[cols.start + order] = keep
+        for name, values in zip(("lower", "consistent", "upper"), maxima):
+            np.maximum(nulls[name], values, out=nulls[name])
+    for name in nulls:
+        np.maximum(nulls[name], 0.0, out=nulls[name])
+    return omega, relevant, nulls
+
+
+def _spa_block(piece: np.ndarray, mu: np.ndarray, t: int, studentize: bool, first_column: int):
+    """One column block of the SPA: its omega, relevant columns and per-resample maxima.
+
+    The block's columns are ordered [mean >= 0 | threshold <= mean < 0 | mean < threshold]: the
+    recentred draws are then A = (mean* - mean) * scale or B = mean* * scale on contiguous column
+    ranges, and the three maxima need two passes instead of three. The Fortran-ordered copy also
+    sums each column's variance the same way whatever the block width, so column blocks never
+    change a figure (not even the last bit).
+    """
+    root_n = math.sqrt(t)
+    order = np.argsort(mu < 0, kind="stable")
+    sorted_piece = np.asfortranarray(piece[:, order])
+    variance_of_mean = np.var(sorted_piece, axis=0)
+    block_omega = np.sqrt(t * variance_of_mean)
+    if studentize:
+        _check_omega(block_omega[np.argsort(order)], first_column)
+        scale = root_n / block_omega
+    else:
+        scale = np.full(piece.shape[1], root_n)
+    mu_sorted = mu[order]
+    keep = mu_sorted >= -np.sqrt(variance_of_mean * _consistent_factor(t))
+    # within the negative part, relevant columns (near zero) first
+    start = piece.shape[1] - int(np.count_nonzero(mu_sorted < 0))
+    tail = np.argsort(~keep[start:], kind="stable")
+    order[start:] = order[start:][tail]
+    sorted_piece[:, start:] = sorted_piece[:, start:][:, tail]
+    for values in (variance_of_mean, block_omega, scale, mu_sorted, keep):
+        values[start:] = values[start:][tail]
+    cut = start + int(np.count_nonzero(keep[start:]))
+    return order, block_omega, keep, _spa_maxima(sorted_piece, mu_sorted, scale, start, cut)
+
+
+def _spa_maxima(sorted_piece, mu_sorted, scale, start: int, cut: int):
+    """Per-resample maxima of the lower, consistent and upper recentred draws of one ordered block."""
+    count, width = sorted_piece.shape
+    a_draws = sorted_piece - mu_sorted
+    a_draws *= scale
+    upper = a_draws.max(axis=1)
+    none = np.full(count, -np.inf)
+    positive_part = a_draws[:, :start].max(axis=1) if start else none
+    near_part = a_draws[:, start:cut].max(axis=1) if cut > start else none
+    del a_draws
+    b_draws = sorted_piece[:, start:] * scale[start:]
+    near_zero = b_draws[:, : cut - start].max(axis=1) if cut > start else none
+    far_zero = b_draws[:, cut - start :].max(axis=1) if width > cut else none
+    # lower: g = max(mean, 0); consistent: g = mean if relevant else 0; upper: g = mean
+    lower = np.maximum(positive_part, np.maximum(near_zero, far_zero))
+    consistent = np.maximum(np.maximum(positive_part, near_part), far_zero)
+    return lower, consistent, upper
 
 
 def stepwise_superior(
@@ -549,17 +499,10 @@ def stepwise_superior(
     every remaining k with ``stat_k > c_j``; it stops when a step rejects nothing new or nothing
     remains.
     """
-    x = _validate_returns(returns)
-    level = _validate_level(level)
-    _validate_counting(counting)
-    if recentring not in STEP_RECENTRINGS:
-        raise InputError(
-            f"recentring must be one of {', '.join(STEP_RECENTRINGS)}; got {recentring!r}"
-        )
-    block = _validate_block(column_block)
-    m = _obtain_moments(x, moments, resamples)
+    level = validate.probability(level, "level")
+    validate.choice(recentring, "recentring", STEP_RECENTRINGS)
+    x, block, m = _prepare(returns, counting, column_block, moments, resamples)
     t, n = x.shape
-    count = m.mean.shape[0]
     mean = x.mean(axis=0)
     root_n = math.sqrt(t)
     source = _stored_blocks(np.asarray(m.mean), block)
@@ -569,18 +512,26 @@ def stepwise_superior(
     omega = np.sqrt(t * variance_of_mean)
     if studentize:
         _check_omega(omega)
-        scale = root_n / omega
-    else:
-        scale = np.full(n, root_n)
-    if recentring == "upper":
-        centre = mean
-    else:
-        # the same threshold expression as superior_predictive_ability (Hansen 2005)
-        threshold = -np.sqrt(variance_of_mean * _consistent_factor(t))
-        centre = np.where(mean >= threshold, mean, 0.0)
+    scale = root_n / omega if studentize else np.full(n, root_n)
+    # "consistent": the same threshold expression as superior_predictive_ability (Hansen 2005)
+    threshold = -np.sqrt(variance_of_mean * _consistent_factor(t))
+    centre = mean if recentring == "upper" else np.where(mean >= threshold, mean, 0.0)
     statistics = mean * scale
+    rejected_at, critical_values, null_maxima = _step_down(
+        source, centre, scale, statistics, level, counting, m.mean.shape[0]
+    )
+    return StepwiseResult(
+        significant=tuple(int(k) for k in np.flatnonzero(rejected_at)), level=level,
+        studentized=bool(studentize), steps=len(critical_values), critical_values=tuple(critical_values),
+        statistics=statistics, omega=omega, rejected_at_step=rejected_at, null_maxima=tuple(null_maxima),
+        recentring=recentring, counting=counting,
+    )
 
-    rejected_at = np.zeros(n, dtype=np.int64)
+
+def _step_down(source, centre, scale, statistics, level, counting, count):
+    """Romano and Wolf (2005), Algorithm 3.1: reject, recompute the critical value without the
+    rejected configurations, until a step rejects nothing new or nothing remains."""
+    rejected_at = np.zeros(statistics.size, dtype=np.int64)
     critical_values: list[float] = []
     null_maxima: list[np.ndarray] = []
     while True:
@@ -595,17 +546,4 @@ def stepwise_superior(
         if not new.any():
             break
         rejected_at[new] = len(critical_values)
-
-    return StepwiseResult(
-        significant=tuple(int(k) for k in np.flatnonzero(rejected_at)),
-        level=level,
-        studentized=bool(studentize),
-        steps=len(critical_values),
-        critical_values=tuple(critical_values),
-        statistics=statistics,
-        omega=omega,
-        rejected_at_step=rejected_at,
-        null_maxima=tuple(null_maxima),
-        recentring=recentring,
-        counting=counting,
-    )
+    return rejected_at, critical_values, null_maxima

@@ -25,7 +25,8 @@ from matplotlib.figure import Figure as MplFigure
 from matplotlib.patches import Patch, Rectangle
 from scipy.special import ndtr, ndtri
 
-from .report import Figure, _grid, figure
+from ..methods.surface import parameter_grid
+from .report import Figure, figure
 
 if TYPE_CHECKING:
     from ..audit import AuditResults
@@ -243,10 +244,10 @@ def _tick(v: Any) -> str:
 
 def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
     """Heat map of the Sharpe ratio over a two-parameter grid, the selected cell outlined; else None."""
-    g = _grid(results)
+    g = parameter_grid(results.sweep.parameters, results.sharpe_ratios, selected=results.selected_index)
     if g is None:
         return None
-    xs, ys, grid, (r, c) = g
+    xs, ys, grid, (r, c) = list(g.x_values), list(g.y_values), g.sharpe, g.selected_cell
     label, annual = _sharpe_label(doc)
     ppy = doc["input"].get("periods_per_year")
     values = grid * math.sqrt(ppy) if annual else grid

@@ -38,13 +38,11 @@ __all__ = [
     "Table",
     "Section",
     "Report",
-    "PeakShape",
     "figure",
     "report_format",
     "check_report_path",
     "figures_folder",
     "build_report",
-    "isolated_peak",
     "write_report",
 ]
 
@@ -147,13 +145,6 @@ class Report:
         return tuple(f for s in self.sections for f in s.figures)
 
 
-from ..methods.surface import (  # noqa: E402  (re-exported: the report's parameter-surface rule)
-    PEAK_NEIGHBOUR_SHARE,
-    PEAK_WEAK_STANDARD_ERRORS,
-    PeakShape,
-    isolated_peak,
-    parameter_grid as _grid,
-)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -225,7 +216,7 @@ def _selection_section(doc: dict, results: AuditResults | None) -> Section:
         surface = plots.sharpe_surface(doc, results)
         if surface is not None:
             figs.append(surface)
-        peak = isolated_peak(results)
+        peak = results.surface
         if peak is not None:
             words = (
                 f"The selected cell's Sharpe ratio ({figure(peak.sharpe)} per window) compares with a mean of "
@@ -242,7 +233,7 @@ def _selection_section(doc: dict, results: AuditResults | None) -> Section:
             else:
                 words += (
                     " It is not an isolated peak: nearby settings "
-                    + ("reach at least half its Sharpe ratio." if peak.neighbour_mean >= PEAK_NEIGHBOUR_SHARE * peak.sharpe
+                    + ("reach at least half its Sharpe ratio." if peak.neighbours_reach_half
                        else "show an edge of their own, more than one standard error above zero.")
                 )
             notes.append(words)
@@ -622,7 +613,7 @@ def _headline(doc: dict, results: AuditResults | None = None) -> tuple[tuple[str
     ov = doc["results"].get("overfitting")
     if ov and ov.get("probability_of_overfitting") is not None:
         out.append(("probability of overfitting", figure(ov["probability_of_overfitting"])))
-    peak = isolated_peak(results) if results is not None else None
+    peak = results.surface if results is not None else None
     if peak is not None:
         out.append((
             "parameter surface",
