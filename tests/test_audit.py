@@ -1,16 +1,20 @@
-"""Tests of the audit's orchestration (sweepaudit.audit).
+"""Tests of the audit's orchestration (sweepaudit.audit) and its engine (sweepaudit.engine).
 
 Internal consistency only: the streamed path (configurations in blocks, used when the B x N
-resampled moments exceed the memory budget) against the in-memory path on the same resamples.
+resampled moments exceed the memory budget) against the in-memory path on the same resamples;
+every method runs once on the evidence the verdict then judges.
 """
 
 import numpy as np
 import pytest
 
-import importlib
-
-audit_module = importlib.import_module("sweepaudit.audit")
 from sweepaudit import AuditSettings, audit, sweep_from_array
+from sweepaudit.audit import gather_evidence
+from sweepaudit.engine import local as engine
+from sweepaudit.engine import moments_and_intervals
+from sweepaudit.errors import InputError
+from sweepaudit.methods.bootstrap_ci import bootstrap_intervals
+from sweepaudit.verdict import decide
 
 
 @pytest.fixture
@@ -30,7 +34,7 @@ def test_streamed_audit_equals_in_memory_audit(sweep, monkeypatch):
     settings = AuditSettings(seed=4, resamples=999)
     whole = audit(sweep, settings=settings)
     # Blocks of 7 configurations: 7 columns x 999 resamples x 5 arrays x 8 bytes.
-    monkeypatch.setattr(audit_module, "BLOCK_BUDGET", 7 * 999 * 5 * 8)
+    monkeypatch.setattr(engine, "BLOCK_BUDGET", 7 * 999 * 5 * 8)
     streamed = audit(sweep, settings=settings, memory_budget=0)
     assert streamed.intervals.sharpe_distribution.dtype == np.float32
     assert whole.intervals.sharpe_distribution.dtype == np.float64
@@ -55,13 +59,29 @@ def test_streamed_audit_equals_in_memory_audit(sweep, monkeypatch):
 
 
 def test_streamed_moments_keep_only_means(sweep, monkeypatch):
-    monkeypatch.setattr(audit_module, "BLOCK_BUDGET", 10 * 200 * 5 * 8)
+    monkeypatch.setattr(engine, "BLOCK_BUDGET", 10 * 200 * 5 * 8)
     streamed = audit(sweep, settings=AuditSettings(seed=1, resamples=200), memory_budget=0)
-    from sweepaudit.errors import InputError
-
-    moments, _ = audit_module._resample_and_intervals(
-        sweep.returns, streamed.resamples, 0.95, "percentile", 0, None
+    moments, intervals = moments_and_intervals(
+        sweep.returns, streamed.resamples, memory_budget=0,
+        intervals=lambda x, m: bootstrap_intervals(x, m, confidence=0.95),
     )
     assert moments.second is None
+    assert intervals.mean == streamed.intervals.mean  # the same path, the same shapes: the same bits
     with pytest.raises(InputError, match="kept only the means"):
         moments.sharpe()
+
+
+def test_evidence_has_no_verdict_and_the_verdict_is_decided_from_it(sweep):
+    settings = AuditSettings(seed=2, resamples=200)
+    result = audit(sweep, settings=settings)
+    evidence = gather_evidence(sweep, settings=settings)
+    assert not hasattr(evidence, "verdict")
+    assert decide(evidence, result.policy) == result.verdict
+    assert result.sharpe is result.evidence.sharpe and result.selected == evidence.selected
+    assert result.document["verdict"] == result.verdict.decision
+    assert [c["id"] for c in result.document["checks"]] == [c.id for c in result.verdict.checks]
+
+
+def test_resamples_below_one_name_the_argument(sweep):
+    with pytest.raises(InputError, match="^resamples must be a whole number of at least 1; got 0$"):
+        gather_evidence(sweep, settings=AuditSettings(resamples=0))

@@ -31,7 +31,7 @@ import pytest
 from scipy import stats
 from typer.testing import CliRunner
 
-from sweepaudit.audit import AuditSettings, audit
+from sweepaudit import AuditSettings, audit
 from sweepaudit.calibration import (
     FAMILIES,
     binomial_rate,

@@ -23,7 +23,6 @@ import struct
 import time
 import xml.etree.ElementTree as ET
 from pathlib import Path
-from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
@@ -32,11 +31,12 @@ import typer
 from typer.testing import CliRunner
 
 from sweepaudit import verdict
-from sweepaudit.audit import AuditSettings, audit
+from sweepaudit import AuditSettings, audit
 from sweepaudit.baseline import GATED_FIGURES, compare_with_baseline, numeric_leaves, read_baseline
 from sweepaudit.cli import app
 from sweepaudit.errors import InputError
-from sweepaudit.gate import trials_to_count, with_baseline
+from sweepaudit.document import audit_document, ledger_block
+from sweepaudit.gate import trials_to_count
 from sweepaudit.ledger import (
     LedgerEntry,
     ledger_record,
@@ -48,7 +48,6 @@ from sweepaudit.ledger import (
 )
 from sweepaudit.load import load_sweep
 from sweepaudit.policy import DEFAULT_POLICY, policy_from_mapping
-from sweepaudit.render.json import audit_to_dict
 from sweepaudit.render.junit import audit_to_junit
 from sweepaudit.sweep import sweep_from_array
 from sweepaudit.verdict import Check
@@ -89,7 +88,7 @@ CHECK_IDS = list(verdict.CHECKS)
 
 def _fake_checks(failing: str | None):
     def make(check_id):
-        def fake(results, policy):
+        def fake(evidence, policy, baseline):
             ok = check_id != failing
             return Check(check_id, ok, 1.5 if ok else 0.5, 1.0, f"{check_id} figure {'above' if ok else 'below'} 1.0")
         return fake
@@ -100,23 +99,23 @@ def _fake_checks(failing: str | None):
 def test_a_check_failing_alone_flips_the_verdict_only_when_required(monkeypatch, small_results, failing):
     monkeypatch.setattr(verdict, "CHECKS", _fake_checks(failing))
     everything = policy_from_mapping({"required": CHECK_IDS})
-    v = verdict.decide(small_results, everything)
+    v = verdict.decide(small_results.evidence, everything)
     assert v.decision == "no-go"
     assert v.reasons == (f"{failing}: {failing} figure below 1.0",)
     others = policy_from_mapping({"required": [c for c in CHECK_IDS if c != failing]})
-    v = verdict.decide(small_results, others)
+    v = verdict.decide(small_results.evidence, others)
     assert v.decision == "go"
     advisory = [c for c in v.checks if c.id == failing]
     assert len(advisory) == 1 and not advisory[0].passed and not advisory[0].required
     assert all(failing not in r for r in v.reasons)
     off = policy_from_mapping({"required": [c for c in CHECK_IDS if c != failing], "disabled": [failing]})
-    v = verdict.decide(small_results, off)
+    v = verdict.decide(small_results.evidence, off)
     assert v.decision == "go" and failing not in [c.id for c in v.checks]
 
 
 def test_all_checks_passing_is_go_with_one_reason_per_required_check(monkeypatch, small_results):
     monkeypatch.setattr(verdict, "CHECKS", _fake_checks(None))
-    v = verdict.decide(small_results, policy_from_mapping({"required": CHECK_IDS[:1]}))
+    v = verdict.decide(small_results.evidence, policy_from_mapping({"required": CHECK_IDS[:1]}))
     assert v.decision == "go" and v.reasons == (f"{CHECK_IDS[0]}: {CHECK_IDS[0]} figure above 1.0",)
     assert len(v.checks) == len(CHECK_IDS)
 
@@ -150,7 +149,7 @@ def test_baseline_drift_is_absent_without_a_baseline(small_results):
 
 
 def _junit_doc(small_results):
-    doc = audit_to_dict(small_results)
+    doc = json.loads(json.dumps(small_results.document))
     doc["selected"]["configuration"] = 'band<1.5 & "wide"'  # characters XML must escape
     doc["checks"] = [
         {"id": "enough_windows", "passed": True, "required": True, "value": 60.0, "threshold": 36.0, "reason": "long enough"},
@@ -252,7 +251,7 @@ def test_gated_figures_margins_by_hand():
     assert moved["checks.mean_interval.value"] == pytest.approx(-0.0015)
     assert moved["results.bootstrap.selected.mean.high"] == pytest.approx(-0.001)
 
-    check = verdict.CHECKS["baseline_drift"](SimpleNamespace(baseline=comparison), DEFAULT_POLICY)
+    check = verdict.CHECKS["baseline_drift"](None, DEFAULT_POLICY, comparison)
     assert not check.passed
     assert check.value == pytest.approx(0.10) and check.threshold == 0.05
     assert "probability of backtest overfitting" in check.reason and "rose from 0.1 to 0.2" in check.reason
@@ -264,7 +263,7 @@ def test_direction_matters_improvements_never_gate():
     after = _doc(0.004, 0.008, 0.99, 0.05, spa=0.001)
     comparison = compare_with_baseline(after, before, path="b", policy=DEFAULT_POLICY)
     assert comparison.worsened == () and comparison.exceeded == ()
-    check = verdict.CHECKS["baseline_drift"](SimpleNamespace(baseline=comparison), DEFAULT_POLICY)
+    check = verdict.CHECKS["baseline_drift"](None, DEFAULT_POLICY, comparison)
     assert check.passed and "none of them got worse" in check.reason
 
 
@@ -420,7 +419,7 @@ def test_tally_counts_distinct_fingerprints():
 def test_declared_trials_rules():
     assert trials_to_count(10) == (None, None)
     assert trials_to_count(10, declared=25)[0] == 25
-    with pytest.raises(InputError, match=r"--trials must be at least the sweep's 10 configurations .* got 9"):
+    with pytest.raises(InputError, match=r"^trials must be at least the sweep's 10 configurations .* got 9$"):
         trials_to_count(10, declared=9)
     t = tally_trials((_entry(1, "a" * 64, 40),), fingerprint="b" * 64, configurations=10)
     used, note = trials_to_count(10, declared=30, tally=t)
@@ -611,14 +610,15 @@ def test_readme_section_commands_use_real_options():
 def test_terminal_shows_the_ledger_and_the_baseline(small_results):
     from rich.console import Console
 
-    from sweepaudit.gate import ledger_to_dict
     from sweepaudit.render.terminal import render_terminal
 
-    base = audit_to_dict(small_results)
+    base = json.loads(json.dumps(small_results.document))
     base["results"]["bootstrap"]["selected"]["mean"]["low"] += 1.0  # the baseline was far better
-    compared = with_baseline(small_results, base, path="audits/baseline.json")
+    compared = audit(small_results.sweep, settings=small_results.settings, baseline=base,
+                     baseline_path="audits/baseline.json")
     tally = tally_trials((), fingerprint="a" * 64, configurations=3, path="audits/trials.jsonl")
-    doc = audit_to_dict(compared, ledger=ledger_to_dict(tally, declared=None, used=3, note="3 trials counted"))
+    doc = audit_document(compared.evidence, compared.verdict, baseline=compared.baseline,
+                         ledger=ledger_block(tally, declared=None, used=3, note="3 trials counted"))
     console = Console(record=True, width=120)
     render_terminal(doc, console)
     text = console.export_text()
@@ -629,15 +629,12 @@ def test_terminal_shows_the_ledger_and_the_baseline(small_results):
     assert doc["verdict"] == "no-go" and doc["reasons"][-1].startswith("baseline_drift: ")
 
 
-def test_gated_audit_passes_the_counted_trials_to_the_audit(tmp_path):
-    from sweepaudit.gate import gated_audit
-
+def test_the_audit_with_a_ledger_passes_the_counted_trials_to_the_methods(tmp_path):
     ledger = tmp_path / "trials.jsonl"
     ledger.write_text(json.dumps({"fingerprint": "c" * 64, "configurations": 40}) + "\n")
     sweep = sweep_from_array(synthetic_returns(), periods_per_year=52)
-    gated = gated_audit(sweep, settings=AuditSettings(resamples=200), policy=DEFAULT_POLICY,
-                        ledger_path=ledger, declared_trials=10)
+    result = audit(sweep, settings=AuditSettings(resamples=200), policy=DEFAULT_POLICY, ledger=ledger, trials=10)
     # 40 recorded + 3 new = 43 > the declared 10: the deflated Sharpe code reads settings.trials.
-    assert gated.results.settings.trials == 43
-    assert gated.document["ledger"]["trials_used"] == 43 and gated.document["settings"]["trials"] == 43
+    assert result.settings.trials == 43 and result.sharpe.trials == 43
+    assert result.document["ledger"]["trials_used"] == 43 and result.document["settings"]["trials"] == 43
     assert len(read_ledger(ledger)) == 2

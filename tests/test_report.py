@@ -38,11 +38,10 @@ import pytest
 from markdown_it import MarkdownIt
 from typer.testing import CliRunner
 
-from sweepaudit.audit import AuditSettings, audit
+from sweepaudit import AuditSettings, audit
 from sweepaudit.cli import app
 from sweepaudit.load import LoadOptions, load_sweep
 from sweepaudit.render import plots, report
-from sweepaudit.render.json import audit_to_dict
 from sweepaudit.render.markdown import escape as md_escape
 from sweepaudit.render.report import build_report, figure, figures_folder, write_report
 from sweepaudit.sweep import Sweep
@@ -59,8 +58,9 @@ EDGE = ROOT / "fixtures" / "demo_edge_long.csv"
 @pytest.fixture(scope="module")
 def edge_audit():
     sweep = load_sweep(str(EDGE), LoadOptions())
-    results = audit(sweep, settings=AuditSettings(seed=7, resamples=400))
-    return audit_to_dict(results, command="sweepaudit audit fixtures/demo_edge_long.csv --seed 7"), results
+    result = audit(sweep, settings=AuditSettings(seed=7, resamples=400),
+                   command="sweepaudit audit fixtures/demo_edge_long.csv --seed 7")
+    return result.document, result.evidence
 
 
 @pytest.fixture(scope="module")
@@ -295,8 +295,9 @@ def hostile(tmp_path_factory):
     })
     csv = folder / "<u>sweep.csv"
     frame.to_csv(csv, index=False)
-    results = audit(load_sweep(str(csv), LoadOptions()), settings=AuditSettings(seed=1, resamples=200))
-    doc = audit_to_dict(results, command=f"sweepaudit audit '{csv}'")
+    result = audit(load_sweep(str(csv), LoadOptions()), settings=AuditSettings(seed=1, resamples=200),
+                   command=f"sweepaudit audit '{csv}'")
+    doc, results = result.document, result.evidence
     assert doc["selected"]["configuration"] == HOSTILE
     write_report(folder / "r.html", doc, results)
     write_report(folder / "r.md", doc, results)
@@ -467,7 +468,7 @@ def test_report_names_an_isolated_peak_and_not_a_plateau():
     for res, expected in ((lone, True), (plateau, False)):
         assert res.selected == "fast=2, slow=20"
         assert res.surface.neighbours == 4 and res.surface.isolated is expected
-        text = "\n".join(n for s in build_report(audit_to_dict(res), res).sections for n in s.notes)
+        text = "\n".join(n for s in build_report(res.document, res.evidence).sections for n in s.notes)
         assert ("ISOLATED PEAK" in text) is expected
         assert ("It is not an isolated peak" in text) is not expected
 
@@ -483,7 +484,7 @@ def test_ranking_of_a_thousand_configurations_thins_labels():
     from sweepaudit.sweep import sweep_from_array
 
     res = audit(sweep_from_array(rng.normal(0, 0.01, (60, 1000))), settings=AuditSettings(seed=1, resamples=100))
-    fig = plots.sharpe_ranking(audit_to_dict(res), res)
+    fig = plots.sharpe_ranking(res.document, res.evidence)
     root = ET.fromstring(fig.svg)
     texts = [e.text for e in root.iter() if e.tag.endswith("text") and e.text]
     assert sum(bool(re.fullmatch(r"config \d+", t)) for t in texts) == 1  # only the selected one is named

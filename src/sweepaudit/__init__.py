@@ -13,7 +13,7 @@ Public API (stable names):
 """
 
 from ._version import __version__
-from .audit import AuditResults, AuditSettings, audit
+from .api import audit
 from .errors import (
     DegenerateDataError,
     InputError,
@@ -36,11 +36,18 @@ from .methods.inference import sharpe_inference
 from .methods.sharpe import minimum_track_record, probabilistic_sharpe
 from .policy import DEFAULT_POLICY, Policy
 from .resample import Resamples, draw_resamples, resampled_moments
+from .results import AuditResult, AuditSettings, Evidence, Verdict
 from .sweep import Sweep, sweep_from_array
+
+# The result type's name before the verdict left the evidence; kept so existing imports work.
+AuditResults = AuditResult
 
 __all__ = [
     "__version__",
+    "AuditResult",
     "AuditResults",
+    "Evidence",
+    "Verdict",
     "AuditSettings",
     "audit",
     "DegenerateDataError",

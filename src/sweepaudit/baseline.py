@@ -1,5 +1,5 @@
-"""Compare an audit with an earlier one (``--baseline``): what moved, which checks changed state,
-and whether a gated figure worsened by more than the policy allows.
+"""Compare an audit with an earlier one (a baseline): what moved, which checks changed state, and
+whether a gated figure worsened by more than the policy allows. Pure work on JSON dicts.
 
 Both audits are compared through their JSON documents (schema ``sweepaudit.audit/1``), so a
 baseline written by an older sweepaudit works as long as it keeps the keys.
@@ -17,25 +17,21 @@ from __future__ import annotations
 
 import json
 import math
-from dataclasses import dataclass
+from dataclasses import replace
 from pathlib import Path
-from typing import Any, Literal
+from typing import Any
 
 from ._version import AUDIT_SCHEMA
 from .errors import InputError
 from .results import BaselineComparison, CheckChange, FigureMove, GatedFigure, GatedMove
 
 __all__ = [
-    "GatedFigure",
     "GATED_FIGURES",
-    "FigureMove",
-    "GatedMove",
-    "CheckChange",
-    "BaselineComparison",
     "read_baseline",
     "numeric_leaves",
+    "compare_results",
+    "compare_checks",
     "compare_with_baseline",
-    "baseline_to_dict",
 ]
 
 GATED_FIGURES: tuple[GatedFigure, ...] = (
@@ -126,14 +122,23 @@ def _walk(value: Any, key: str, out: dict[str, float]) -> None:
             _walk(item, f"{key}[{label if isinstance(label, str) else position}]", out)
 
 
-def numeric_leaves(document: dict[str, Any]) -> dict[str, float]:
-    """Every finite numeric figure under ``results`` and every check value, by dotted key."""
+def _result_leaves(document: dict[str, Any]) -> dict[str, float]:
     out: dict[str, float] = {}
     _walk(document.get("results", {}), "results", out)
-    for c in document.get("checks", []):
-        if isinstance(c, dict) and isinstance(c.get("id"), str) and _is_number(c.get("value")):
-            out[f"checks.{c['id']}.value"] = float(c["value"])
     return out
+
+
+def _check_leaves(document: dict[str, Any]) -> dict[str, float]:
+    return {
+        f"checks.{c['id']}.value": float(c["value"])
+        for c in document.get("checks", [])
+        if isinstance(c, dict) and isinstance(c.get("id"), str) and _is_number(c.get("value"))
+    }
+
+
+def numeric_leaves(document: dict[str, Any]) -> dict[str, float]:
+    """Every finite numeric figure under ``results`` and every check value, by dotted key."""
+    return {**_result_leaves(document), **_check_leaves(document)}
 
 
 def _lookup(document: dict[str, Any], dotted: str) -> Any:
@@ -153,38 +158,15 @@ def _states(document: dict[str, Any]) -> dict[str, str]:
     }
 
 
-def compare_with_baseline(
-    current: dict[str, Any],
-    baseline: dict[str, Any],
-    *,
-    path: str,
-    policy: Any,
-) -> BaselineComparison:
-    """Compare the audit document ``current`` with the ``baseline`` document.
-
-    Parameters
-    ----------
-    current, baseline : dict
-        Audit JSON documents (schema ``sweepaudit.audit/1``).
-    path : str
-        Where the baseline came from (reported).
-    policy : Policy
-        Supplies the margins named by :data:`GATED_FIGURES`.
-    """
-    before, after = numeric_leaves(baseline), numeric_leaves(current)
-    moved = tuple(
+def _moves(before: dict[str, float], after: dict[str, float]) -> tuple[FigureMove, ...]:
+    return tuple(
         FigureMove(key, before[key], value, value - before[key])
         for key, value in after.items()
         if key in before and value != before[key]
     )
-    old_states, new_states = _states(baseline), _states(current)
-    # The drift check itself is not compared: it only exists against a baseline.
-    ids = [i for i in dict.fromkeys([*old_states, *new_states]) if i != "baseline_drift"]
-    changed = tuple(
-        CheckChange(i, old_states.get(i, "absent"), new_states.get(i, "absent"))
-        for i in ids
-        if old_states.get(i, "absent") != new_states.get(i, "absent")
-    )
+
+
+def _gated(before: dict[str, float], after: dict[str, float], baseline: dict[str, Any], policy: Any):
     gated = []
     for figure in GATED_FIGURES:
         if figure.key not in before or figure.key not in after:
@@ -200,6 +182,26 @@ def compare_with_baseline(
             allowed = margin * (high - low) if _is_number(low) and _is_number(high) else None
         exceeded = allowed is not None and worsening > allowed
         gated.append(GatedMove(figure, b, a, worsening, allowed, exceeded))
+    return tuple(gated)
+
+
+def compare_results(current: dict[str, Any], baseline: dict[str, Any], *, path: str, policy: Any) -> BaselineComparison:
+    """Compare the ``results`` figures (and the selected configuration) of two audit documents.
+
+    This is everything the ``baseline_drift`` check reads; the check changes come after the
+    verdict with :func:`compare_checks`.
+
+    Parameters
+    ----------
+    current, baseline : dict
+        Audit JSON documents (schema ``sweepaudit.audit/1``); ``current`` needs only its
+        ``results`` and ``selected`` blocks.
+    path : str
+        Where the baseline came from (reported).
+    policy : Policy
+        Supplies the margins named by :data:`GATED_FIGURES`.
+    """
+    before, after = _result_leaves(baseline), _result_leaves(current)
     selected_before = _lookup(baseline, "selected.configuration")
     selected_after = _lookup(current, "selected.configuration")
     return BaselineComparison(
@@ -207,38 +209,39 @@ def compare_with_baseline(
         verdict_before=baseline.get("verdict") if isinstance(baseline.get("verdict"), str) else None,
         selected_before=selected_before if isinstance(selected_before, str) else None,
         selected_after=selected_after if isinstance(selected_after, str) else None,
-        moved=moved,
-        checks_changed=changed,
-        gated=tuple(gated),
+        moved=_moves(before, after),
+        checks_changed=(),
+        gated=_gated(before, after, baseline, policy),
     )
 
 
-def _gated_dict(g: GatedMove) -> dict[str, Any]:
-    return {
-        "key": g.key,
-        "before": g.before,
-        "after": g.after,
-        "change": g.after - g.before,
-        "higher_is_better": g.figure.higher_is_better,
-        "allowed_worsening": g.allowed,
-        "margin_field": g.figure.margin_field,
-        "exceeded": g.exceeded,
-    }
+def compare_checks(
+    comparison: BaselineComparison, checks: list[dict[str, Any]], baseline: dict[str, Any]
+) -> BaselineComparison:
+    """Add the checks to a comparison: each check value that moved, and each change of state.
+
+    ``checks`` are the current audit's checks as in its document (``{"id", "passed", "value"}``).
+    The drift check itself is not compared: it only exists against a baseline.
+    """
+    current = {"checks": [c for c in checks if c.get("id") != "baseline_drift"]}
+    old_states, new_states = _states(baseline), _states(current)
+    ids = [i for i in dict.fromkeys([*old_states, *new_states]) if i != "baseline_drift"]
+    changed = tuple(
+        CheckChange(i, old_states.get(i, "absent"), new_states.get(i, "absent"))
+        for i in ids
+        if old_states.get(i, "absent") != new_states.get(i, "absent")
+    )
+    moved = comparison.moved + _moves(_check_leaves(baseline), _check_leaves(current))
+    return replace(comparison, moved=moved, checks_changed=changed)
 
 
-def baseline_to_dict(comparison: BaselineComparison) -> dict[str, Any]:
-    """The JSON ``baseline`` block."""
-    return {
-        "path": comparison.path,
-        "verdict_before": comparison.verdict_before,
-        "selected_before": comparison.selected_before,
-        "selected_changed": comparison.selected_before != comparison.selected_after,
-        "moved": [
-            {"key": m.key, "before": m.before, "after": m.after, "change": m.change} for m in comparison.moved
-        ],
-        "checks_changed": [
-            {"id": c.id, "before": c.before, "after": c.after} for c in comparison.checks_changed
-        ],
-        "gated": [_gated_dict(g) for g in comparison.gated],
-        "worsened": [_gated_dict(g) for g in comparison.worsened],
-    }
+def compare_with_baseline(
+    current: dict[str, Any],
+    baseline: dict[str, Any],
+    *,
+    path: str,
+    policy: Any,
+) -> BaselineComparison:
+    """Compare the audit document ``current`` with the ``baseline`` document: figures and checks."""
+    figures = compare_results(current, baseline, path=path, policy=policy)
+    return compare_checks(figures, list(current.get("checks", [])), baseline)

@@ -11,7 +11,7 @@ Two kinds of evidence:
   measures this sweep's false-go rate under the active policy, and the power against an edge of a
   size the user names.
 
-All resampling goes through :func:`sweepaudit.audit.audit` and the shared engine
+All resampling goes through :func:`sweepaudit.audit.gather_evidence` and the shared engine
 (:func:`sweepaudit.resample.draw_resamples`); this module draws no bootstrap weights of its own.
 
 References
@@ -39,7 +39,9 @@ from typing import Literal, get_args
 import numpy as np
 from scipy import stats
 
-from .audit import AuditSettings, audit
+from .audit import gather_evidence
+from .results import AuditSettings
+from .verdict import decide
 from .errors import InputError
 from ._version import CALIBRATION_SCHEMA, __version__
 from .policy import DEFAULT_POLICY, Policy
@@ -561,11 +563,12 @@ def _run_audits(
         for i, sweep in enumerate(sweeps):
             if i >= count:
                 break
-            res = audit(sweep, settings=replace(settings, seed=int(audit_seeds[i])), policy=policy)
-            decisions[i] = res.verdict.decision == "go"
-            selected[i] = res.selected_index
+            evidence = gather_evidence(sweep, settings=replace(settings, seed=int(audit_seeds[i])), policy=policy)
+            verdict = decide(evidence, policy)
+            decisions[i] = verdict.decision == "go"
+            selected[i] = evidence.selected_index
             row: dict[str, bool] = {}
-            for c in res.verdict.checks:
+            for c in verdict.checks:
                 row[c.id] = not c.passed
                 required.setdefault(c.id, c.required)
             outcomes.append(row)
@@ -863,7 +866,7 @@ def calibrate_sweep(
         raise InputError(f"seed must be a non-negative integer; got {seed!r}")
     settings = _check_settings(settings, resamples)
     policy = policy or DEFAULT_POLICY
-    real = audit(sweep, settings=replace(settings, seed=int(seed)), policy=policy)
+    real = gather_evidence(sweep, settings=replace(settings, seed=int(seed)), policy=policy)
     k = real.selected_index
     null_seed, audit_seed = (int(c.generate_state(1, dtype=np.uint32)[0]) for c in np.random.SeedSequence(int(seed)).spawn(2))
     nulls = null_like(sweep, count=count, seed=null_seed, block_series=block_series, selected=k)
@@ -891,7 +894,7 @@ def calibrate_sweep(
         )
     return SweepCalibration(
         sweep=sweep,
-        observed=real.verdict.decision,
+        observed=decide(real, policy).decision,
         selected_index=k,
         configuration=sweep.configurations[k],
         null=null,

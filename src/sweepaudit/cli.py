@@ -21,11 +21,12 @@ import typer
 from rich.console import Console
 
 from ._version import __version__
-from .audit import AuditSettings
+from .api import audit
+from .baseline import read_baseline
 from .errors import SweepAuditError
 from .load import LoadOptions, load_sweep
-from .baseline import read_baseline
-from .gate import gated_audit
+from .results import AuditSettings, Evidence
+from .methods.inference import declared_trials
 from .policy import policy_from_mapping, policy_to_toml, resolve_policy
 from .render.files import write_atomic
 from .render.json import dumps
@@ -262,23 +263,25 @@ def audit_command(
             interval_method=interval_method.value,
             selected=select,
         )
-        gate = dict(
+        if trials is not None:
+            declared_trials(trials, sweep.n_configurations, name="--trials")
+        run = dict(
             settings=settings,
             policy=loaded.policy,
             policy_source=loaded.source,
             baseline=baseline_document,
             baseline_path=str(baseline_path) if baseline_path is not None else None,
-            ledger_path=ledger_path,
-            declared_trials=trials,
-            command=lambda results: reproduce_command(results, options, policy_source=loaded.source),
+            ledger=ledger_path,
+            trials=trials,
+            command=lambda evidence: reproduce_command(evidence, options, policy_source=loaded.source),
         )
         bar, update = _progress_bar(stderr, "resampling") if not quiet else (None, None)
         if bar is not None:
             with bar:
-                gated = gated_audit(sweep, progress=update, **gate)
+                result = audit(sweep, progress=update, **run)
         else:
-            gated = gated_audit(sweep, **gate)
-        document, results = gated.document, gated.results
+            result = audit(sweep, **run)
+        document = result.document
         # Render everything in memory first; the report (figures and all) is written first, so a
         # failure there leaves no JSON or JUnit file behind either.
         json_text = dumps(document) if json_path is not None else None
@@ -286,7 +289,7 @@ def audit_command(
             audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path is not None else None
         )
         if report_path is not None:
-            write_report(report_path, document, results)
+            write_report(report_path, document, result.evidence)
         if json_text is not None:
             write_atomic(json_path, json_text)
         if junit_text is not None:
@@ -298,15 +301,15 @@ def audit_command(
     raise typer.Exit(EXIT_GO if document["verdict"] == "go" else EXIT_NO_GO)
 
 
-def reproduce_command(results, options: LoadOptions, *, policy_source: str = "defaults") -> str:
+def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults") -> str:
     """The canonical command that reproduces every figure of this audit (output options left out)."""
-    words = ["sweepaudit", "audit", *_input_words(results.sweep.path, options)]
+    words = ["sweepaudit", "audit", *_input_words(evidence.sweep.path, options)]
     if policy_source != "defaults":
         # A policy found in a pyproject.toml applies only from that folder: name it.
         words += ["--policy", policy_source]
-    s = results.settings
-    words += ["--seed", str(s.seed), "--resamples", str(results.resamples.count), "--confidence",
-              f"{results.confidence:g}", "--bootstrap", results.resamples.kind]
+    s = evidence.settings
+    words += ["--seed", str(s.seed), "--resamples", str(evidence.resamples.count), "--confidence",
+              f"{evidence.confidence:g}", "--bootstrap", evidence.resamples.kind]
     if s.block_length is not None:
         words += ["--block-length", f"{s.block_length:g}"]
     if s.interval_method != "percentile":
@@ -478,7 +481,6 @@ def calibrate_command(
       sweepaudit calibrate sweep.parquet --sweeps 500 --edge 0.5 --json calibration.json
     """
     from .calibration import calibrate_sweep, sweep_calibration_to_dict
-    from .gate import trials_to_count
 
     stderr = Console(stderr=True)
     try:
@@ -501,7 +503,7 @@ def calibrate_command(
         loaded = resolve_policy(policy_path)
         sweep = load_sweep(sweep_path, options)
         if trials is not None:
-            trials_to_count(sweep.n_configurations, declared=trials)  # the audit's own rule for --trials
+            declared_trials(trials, sweep.n_configurations, name="--trials")  # the audit's own rule
         settings = AuditSettings(seed=seed, resamples=resamples, selected=select, trials=trials)
         bar, update = _progress_bar(stderr, "auditing simulated sweeps") if not quiet else (None, None)
         run = dict(sweeps=sweeps, edge=edge, settings=settings, resamples=resamples, policy=loaded.policy, seed=seed)

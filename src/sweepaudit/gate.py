@@ -1,52 +1,37 @@
-"""The audit as a CI gate: the glue between an audit and its baseline and trial ledger.
+"""The audit as a CI gate: the trials a deflation counts, from a declaration and the trial ledger.
 
-Used by the command line; library users can call these directly.
+:func:`counted_trials` holds the ledger locked from before the audit until its record is appended,
+so the count and the record are one step (see :mod:`sweepaudit.ledger`). The baseline comparison is
+pure dict work in :mod:`sweepaudit.baseline`; :func:`sweepaudit.api.audit` wires both in.
 """
 
 from __future__ import annotations
 
 import os
-from collections.abc import Callable
-from contextlib import ExitStack
-from dataclasses import dataclass, replace
-from typing import Any
+from collections.abc import Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass
 
-from .audit import AuditResults, AuditSettings, audit
-from .baseline import compare_with_baseline
-from .errors import InputError
-from .ledger import LedgerTally, ledger_record, open_ledger, sweep_fingerprint
-from .policy import Policy
+from .document import ledger_block
+from .ledger import Ledger, ledger_record, open_ledger, sweep_fingerprint
+from .methods.inference import declared_trials
+from .results import LedgerTally
 from .sweep import Sweep
-from .verdict import decide
 
-__all__ = ["GatedAudit", "gated_audit", "with_baseline", "trials_to_count", "ledger_to_dict"]
-
-
-def with_baseline(results: AuditResults, baseline_document: dict[str, Any], *, path: str) -> AuditResults:
-    """The audit compared with an earlier audit document, and its verdict decided again so that
-    the ``baseline_drift`` check takes part."""
-    from .render.json import audit_to_dict  # the comparison works on the JSON contract
-
-    comparison = compare_with_baseline(
-        audit_to_dict(results), baseline_document, path=path, policy=results.policy
-    )
-    compared = replace(results, baseline=comparison)
-    return replace(compared, verdict=decide(compared, results.policy))
+__all__ = ["TrialCount", "trials_to_count", "counted_trials"]
 
 
 def trials_to_count(
-    configurations: int, *, declared: int | None = None, tally: LedgerTally | None = None
+    configurations: int, *, declared: int | None = None, tally: LedgerTally | None = None, name: str = "trials"
 ) -> tuple[int | None, str | None]:
     """The trials the deflated Sharpe ratio counts, and a note saying where the number came from.
 
-    ``declared`` (``--trials``) may not be below the sweep's configurations. With a ledger the
-    count is the larger of the two. Without either: ``(None, None)`` (the sweep's configurations).
+    ``declared`` may not be below the sweep's configurations (``name`` is the argument or option
+    it came from, for the message). With a ledger the count is the larger of the two. Without
+    either: ``(None, None)`` (the sweep's configurations).
     """
-    if declared is not None and declared < configurations:
-        raise InputError(
-            f"--trials must be at least the sweep's {configurations} configurations (every "
-            f"configuration of the sweep is a trial); got {declared}"
-        )
+    if declared is not None:
+        declared_trials(declared, configurations, name=name)
     if tally is None:
         if declared is None:
             return None, None
@@ -61,85 +46,65 @@ def trials_to_count(
     )
 
 
-def ledger_to_dict(tally: LedgerTally, *, declared: int | None, used: int | None, note: str | None) -> dict:
-    """The JSON ``ledger`` block."""
-    return {
-        "path": tally.path,
-        "fingerprint": tally.fingerprint,
-        "new_sweep": tally.new_sweep,
-        "records_before": tally.records,
-        "sweeps_recorded": tally.sweeps_recorded,
-        "trials_counted": tally.trials,
-        "trials_declared": declared,
-        "trials_used": used,
-        "note": note,
-    }
-
-
-@dataclass(frozen=True, eq=False)
-class GatedAudit:
-    """An audit run as a gate.
+@dataclass
+class TrialCount:
+    """The trials of one audit and, with a ledger, the open ledger that will record it.
 
     Attributes
     ----------
-    results : AuditResults
-        With ``baseline`` filled when a baseline was given.
-    document : dict
-        The audit JSON, with the ``policy_source``, ``baseline`` and ``ledger`` blocks.
+    trials : int or None
+        The count the deflation uses (None: the sweep's configurations).
+    note : str or None
+        Where the count came from.
+    declared : int or None
+        The declared count, as given.
+    tally : LedgerTally or None
+        What the ledger said before this audit.
     """
 
-    results: AuditResults
-    document: dict
+    trials: int | None
+    note: str | None
+    declared: int | None
+    tally: LedgerTally | None = None
+    _ledger: Ledger | None = None
+
+    def block(self) -> dict | None:
+        """The JSON ``ledger`` block, or None without a ledger."""
+        if self.tally is None:
+            return None
+        return ledger_block(self.tally, declared=self.declared, used=self.trials, note=self.note)
+
+    def record(self, sweep: Sweep, *, selected: str, verdict: str) -> None:
+        """Append this audit to the ledger (nothing without one)."""
+        if self._ledger is None or self.tally is None:
+            return
+        self._ledger.append(ledger_record(
+            fingerprint=self.tally.fingerprint,
+            configurations=sweep.n_configurations,
+            windows=sweep.n_windows,
+            selected=selected,
+            verdict=verdict,
+            input_path=sweep.path,
+            trials=self.trials,
+        ))
 
 
-def gated_audit(
-    sweep: Sweep,
-    *,
-    settings: AuditSettings,
-    policy: Policy,
-    policy_source: str = "defaults",
-    baseline: dict[str, Any] | None = None,
-    baseline_path: str | None = None,
-    ledger_path: str | os.PathLike | None = None,
-    declared_trials: int | None = None,
-    command: Callable[[AuditResults], str] | None = None,
-    progress: Callable[[int, int], None] | None = None,
-) -> GatedAudit:
-    """Audit a sweep with the gate's extras: trials from a ledger, a baseline, the JSON document.
+@contextmanager
+def counted_trials(
+    sweep: Sweep, *, ledger: str | os.PathLike | None = None, declared: int | None = None
+) -> Iterator[TrialCount]:
+    """The trials of an audit of ``sweep``, the ledger (when given) locked until the block ends.
 
-    The ledger (when given) is locked from before the audit until its record is appended, so
-    the count and the record are one step. ``settings.trials`` is replaced by the trials counted
-    (see :func:`trials_to_count`). ``command(results)`` gives the JSON's reproduce command.
+    A declaration below the sweep's configurations is refused before the ledger is opened.
     """
-    from .render.json import audit_to_dict
-
-    trials_to_count(sweep.n_configurations, declared=declared_trials)  # reject a bad --trials early
-    with ExitStack() as stack:
-        ledger = stack.enter_context(open_ledger(ledger_path)) if ledger_path is not None else None
-        tally = None
-        if ledger is not None:
-            tally = ledger.tally(
-                fingerprint=sweep_fingerprint(sweep.returns, sweep.configurations),
-                configurations=sweep.n_configurations,
-            )
-        trials, note = trials_to_count(sweep.n_configurations, declared=declared_trials, tally=tally)
-        results = audit(sweep, settings=replace(settings, trials=trials), policy=policy, progress=progress)
-        if baseline is not None:
-            results = with_baseline(results, baseline, path=str(baseline_path))
-        document = audit_to_dict(
-            results,
-            command=command(results) if command is not None else None,
-            policy_source=policy_source,
-            ledger=ledger_to_dict(tally, declared=declared_trials, used=trials, note=note) if tally else None,
+    trials_to_count(sweep.n_configurations, declared=declared)
+    if ledger is None:
+        trials, note = trials_to_count(sweep.n_configurations, declared=declared)
+        yield TrialCount(trials, note, declared)
+        return
+    with open_ledger(ledger) as book:
+        tally = book.tally(
+            fingerprint=sweep_fingerprint(sweep.returns, sweep.configurations), configurations=sweep.n_configurations
         )
-        if ledger is not None:
-            ledger.append(ledger_record(
-                fingerprint=tally.fingerprint,
-                configurations=sweep.n_configurations,
-                windows=sweep.n_windows,
-                selected=results.selected,
-                verdict=document["verdict"],
-                input_path=sweep.path,
-                trials=trials,
-            ))
-    return GatedAudit(results, document)
+        trials, note = trials_to_count(sweep.n_configurations, declared=declared, tally=tally)
+        yield TrialCount(trials, note, declared, tally, book)

@@ -824,6 +824,66 @@ class Snooping:
         return self.reality_check.pvalue if self.gating == "reality_check" else self.gating_spa.pvalue
 
 
+@dataclass(frozen=True, eq=False)
+class Evidence:
+    """Everything an audit found, before any verdict: what the verdict judges and the document shows.
+
+    Attributes
+    ----------
+    sweep : Sweep
+    settings : AuditSettings
+        As given (``trials`` replaced by the trials counted when a ledger or a declaration was used).
+    policy : Policy
+        The policy the methods ran under (levels, partitions, the gating test).
+    selected_index : int
+    selection_rule : str
+        Why this configuration is the one judged.
+    resamples : Resamples
+        The resamples every bootstrap-based method shares (replayable from their seed).
+    block_length_source : str
+    intervals : BootstrapIntervals
+        Every configuration's mean and Sharpe intervals, with their bootstrap distributions.
+    sharpe_ratios : ndarray
+        Full-sample per-window Sharpe ratio of every configuration.
+    warnings : tuple of str
+        What the reader should weigh: loader notes, method warnings, absent figures.
+    sharpe, haircut : SharpeInference, HaircutSharpe
+    overfitting, overfitting_diagnosis, snooping : optional
+        None for a single configuration (selection tests need at least two).
+    surface : PeakShape or None
+        None unless the sweep is a two-parameter grid whose selected cell has neighbours.
+    deflation_curve : DeflatedCurve or None
+        The deflated probability against the number of trials (the report's figure).
+    """
+
+    sweep: Sweep
+    settings: AuditSettings
+    policy: Policy
+    selected_index: int
+    selection_rule: str
+    resamples: Resamples
+    block_length_source: str
+    intervals: BootstrapIntervals
+    sharpe_ratios: np.ndarray
+    warnings: tuple[str, ...]
+    sharpe: SharpeInference | None = None
+    haircut: HaircutSharpe | None = None
+    overfitting: CscvResult | None = None
+    overfitting_diagnosis: OverfittingDiagnosis | None = None
+    snooping: Snooping | None = None
+    surface: PeakShape | None = None
+    deflation_curve: DeflatedCurve | None = None
+
+    @property
+    def selected(self) -> str:
+        """The name of the configuration the audit judges."""
+        return self.sweep.configurations[self.selected_index]
+
+    @property
+    def confidence(self) -> float:
+        return self.intervals.confidence
+
+
 @dataclass(frozen=True)
 class Check:
     """One test of the evidence.
@@ -851,6 +911,9 @@ class Check:
 
 @dataclass(frozen=True)
 class Verdict:
+    """The go / no-go decision, its reasons (one per failed required check on no-go, one per
+    required check on go, each prefixed with its check id) and every check that ran."""
+
     decision: Literal["go", "no-go"]
     reasons: tuple[str, ...]
     checks: tuple[Check, ...]
@@ -1153,3 +1216,49 @@ class SweepCalibration:
     seed: int
 
 
+
+
+def _evidence(name: str, doc: str) -> property:
+    return property(lambda self: getattr(self.evidence, name), doc=doc)
+
+
+@dataclass(frozen=True, eq=False)
+class AuditResult:
+    """One audit, end to end: the evidence, the verdict on it and the JSON document of both.
+
+    Returned by :func:`sweepaudit.audit`. The evidence's fields are also readable here directly
+    (``result.sharpe`` is ``result.evidence.sharpe``).
+
+    Attributes
+    ----------
+    evidence : Evidence
+    verdict : Verdict
+        Decided once, the baseline comparison included.
+    document : dict
+        The audit JSON (schema ``sweepaudit.audit/1``).
+    baseline : BaselineComparison or None
+        The comparison with a baseline audit, when one was given.
+    """
+
+    evidence: Evidence
+    verdict: Verdict
+    document: dict
+    baseline: BaselineComparison | None = None
+
+    sweep = _evidence("sweep", "The audited sweep.")
+    settings = _evidence("settings", "The settings the audit ran with.")
+    policy = _evidence("policy", "The policy the audit ran and was judged under.")
+    selected = _evidence("selected", "The name of the configuration judged.")
+    selected_index = _evidence("selected_index", "The column of the configuration judged.")
+    selection_rule = _evidence("selection_rule", "Why that configuration was judged.")
+    resamples = _evidence("resamples", "The shared bootstrap resamples.")
+    intervals = _evidence("intervals", "Every configuration's bootstrap intervals.")
+    sharpe_ratios = _evidence("sharpe_ratios", "Every configuration's per-window Sharpe ratio.")
+    sharpe = _evidence("sharpe", "The selection-adjusted Sharpe inference.")
+    haircut = _evidence("haircut", "The haircut Sharpe ratio.")
+    overfitting = _evidence("overfitting", "The CSCV result.")
+    overfitting_diagnosis = _evidence("overfitting_diagnosis", "The CSCV diagnosis.")
+    snooping = _evidence("snooping", "The data-snooping tests.")
+    surface = _evidence("surface", "The parameter surface around the selected cell.")
+    warnings = _evidence("warnings", "What the reader should weigh.")
+    confidence = _evidence("confidence", "The interval level.")

@@ -1,27 +1,24 @@
-"""Checks and the go / no-go verdict, from an audit's results and the policy.
+"""Checks and the go / no-go verdict: evidence + policy (+ a baseline comparison) -> Verdict, once.
 
-Each check is a small function registered with :func:`check`. It receives the finished results and
-the policy and returns a :class:`Check` (or ``None`` when it does not apply, e.g. a selection test on
-a single configuration). Adding a check is one function here and one id in the policy's defaults.
+Each check is a small function registered with :func:`check`. It receives the evidence, the policy
+and the comparison with a baseline audit (None without one) and returns a :class:`Check` (or
+``None`` when it does not apply, e.g. a selection test on a single configuration). Adding a check
+is one function here, its id in :data:`sweepaudit.policy.CHECK_IDS` and, when it should gate by
+default, in the policy's ``required``.
 """
 
 from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from dataclasses import dataclass
-from typing import TYPE_CHECKING, Literal
 
-from .results import Check, Verdict
+from .policy import Policy
+from .results import BaselineComparison, Check, Evidence, Verdict
 
-if TYPE_CHECKING:
-    from .audit import AuditResults
-    from .policy import Policy
-
-__all__ = ["Check", "Verdict", "check", "CHECKS", "decide"]
+__all__ = ["check", "CHECKS", "decide"]
 
 
-CheckFunction = Callable[["AuditResults", "Policy"], "Check | None"]
+CheckFunction = Callable[[Evidence, Policy, "BaselineComparison | None"], "Check | None"]
 CHECKS: dict[str, CheckFunction] = {}
 
 
@@ -44,8 +41,8 @@ def _pct(x: float) -> str:
 
 
 @check("enough_windows")
-def _enough_windows(results: AuditResults, policy: Policy) -> Check:
-    t = results.sweep.n_windows
+def _enough_windows(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check:
+    t = evidence.sweep.n_windows
     need = policy.min_windows
     ok = t >= need
     if ok:
@@ -59,12 +56,12 @@ def _enough_windows(results: AuditResults, policy: Policy) -> Check:
 
 
 @check("mean_interval")
-def _mean_interval(results: AuditResults, policy: Policy) -> Check:
-    k = results.selected_index
-    iv = results.intervals.mean[k]
-    level = _pct(results.intervals.confidence)
+def _mean_interval(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check:
+    k = evidence.selected_index
+    iv = evidence.intervals.mean[k]
+    level = _pct(evidence.intervals.confidence)
     ok = iv.low > 0
-    name = results.sweep.configurations[k]
+    name = evidence.sweep.configurations[k]
     if ok:
         reason = (
             f"The {level} block-bootstrap interval for the mean excess return of {name!r} lies above "
@@ -80,8 +77,8 @@ def _mean_interval(results: AuditResults, policy: Policy) -> Check:
 
 
 @check("deflated_sharpe")
-def _deflated_sharpe(results: AuditResults, policy: Policy) -> Check | None:
-    inf = results.sharpe
+def _deflated_sharpe(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    inf = evidence.sharpe
     if inf is None:
         return None
     d = inf.deflated
@@ -106,11 +103,11 @@ def _deflated_sharpe(results: AuditResults, policy: Policy) -> Check | None:
 
 
 @check("track_record")
-def _track_record(results: AuditResults, policy: Policy) -> Check | None:
-    inf = results.sharpe
+def _track_record(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    inf = evidence.sharpe
     if inf is None:
         return None
-    t = results.sweep.n_windows
+    t = evidence.sweep.n_windows
     need = inf.min_track_record_observations
     level = _pct(inf.confidence)
     if need is None:
@@ -137,9 +134,9 @@ def _track_record(results: AuditResults, policy: Policy) -> Check | None:
     return Check("track_record", ok, float(t), float(need), reason)
 
 @check("baseline_drift")
-def _baseline_drift(results: AuditResults, policy: Policy) -> Check | None:
-    # Present only when the audit was compared with a --baseline audit (sweepaudit.baseline).
-    comparison = getattr(results, "baseline", None)
+def _baseline_drift(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    # Present only when the audit was compared with a baseline audit (sweepaudit.baseline).
+    comparison = baseline
     if comparison is None:
         return None
     where = comparison.path
@@ -189,8 +186,8 @@ def _baseline_drift(results: AuditResults, policy: Policy) -> Check | None:
 
 
 @check("overfitting")
-def _overfitting(results: AuditResults, policy: Policy) -> Check | None:
-    d = results.overfitting_diagnosis
+def _overfitting(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    d = evidence.overfitting_diagnosis
     if d is None:
         return None
     meaning = {
@@ -205,21 +202,21 @@ def _overfitting(results: AuditResults, policy: Policy) -> Check | None:
 
 
 @check("data_snooping")
-def _data_snooping(results: AuditResults, policy: Policy) -> Check | None:
-    sn = results.snooping
+def _data_snooping(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    sn = evidence.snooping
     if sn is None:
         return None
     p = sn.pvalue
     level = policy.significance
-    n = results.sweep.n_configurations
+    n = evidence.sweep.n_configurations
     name = (
         "White's reality check" if sn.gating == "reality_check"
         else f"Hansen's SPA test ({'studentized, ' if sn.studentized else ''}consistent p-value)"
     )
     ok = p <= level
     stepm = sn.gating_stepm
-    k = results.selected_index
-    selected = results.sweep.configurations[k]
+    k = evidence.selected_index
+    selected = evidence.sweep.configurations[k]
     survivors = len(stepm.significant)
     if k in stepm.significant:
         step_note = f"StepM keeps {selected!r} among the {survivors} configuration(s) that beat the benchmark."
@@ -242,8 +239,8 @@ def _data_snooping(results: AuditResults, policy: Policy) -> Check | None:
 
 
 @check("parameter_surface")
-def _parameter_surface(results: AuditResults, policy: Policy) -> Check | None:
-    peak = results.surface
+def _parameter_surface(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    peak = evidence.surface
     if peak is None:
         return None
     ok = not peak.isolated
@@ -262,8 +259,11 @@ def _parameter_surface(results: AuditResults, policy: Policy) -> Check | None:
     return Check("parameter_surface", ok, peak.neighbour_mean, peak.threshold, reason)
 
 
-def decide(results: AuditResults, policy: Policy) -> Verdict:
-    """Run every registered check; the verdict is go only when every required check passes.
+def decide(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None = None) -> Verdict:
+    """Run every registered check once; the verdict is go only when every required check passes.
+
+    ``baseline`` is the comparison with an earlier audit (:func:`sweepaudit.baseline.compare_results`);
+    without one the ``baseline_drift`` check does not apply.
 
     The reasons are ``"<check id>: <reason>"``: on no-go one per failed required check, on go one
     per required check.
@@ -272,11 +272,11 @@ def decide(results: AuditResults, policy: Policy) -> Verdict:
     advisory (reported, without effect on the verdict).
     """
     checks: list[Check] = []
-    disabled = set(getattr(policy, "disabled", ()))
+    disabled = set(policy.disabled)
     for check_id, fn in CHECKS.items():
         if check_id in disabled:
             continue
-        c = fn(results, policy)
+        c = fn(evidence, policy, baseline)
         if c is None:
             continue
         checks.append(

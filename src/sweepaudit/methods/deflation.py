@@ -81,15 +81,16 @@ def _standardised(array: np.ndarray) -> np.ndarray:
 # ---------------------------------------------------------------------------------------------
 
 
-def _expected_max_approximate(trials: float) -> float:
+def _expected_max_approximate(trials):
+    """The approximation for a trial count or an array of counts (elementwise the same arithmetic)."""
     # Bailey and Lopez de Prado (2014): (1 - gamma) Phi^-1(1 - 1/N) + gamma Phi^-1(1 - 1/(N e)).
-    value = float(
-        (1.0 - EULER_MASCHERONI) * stats.norm.isf(1.0 / trials)
-        + EULER_MASCHERONI * stats.norm.isf(1.0 / (trials * math.e))
+    value = (1.0 - EULER_MASCHERONI) * stats.norm.isf(1.0 / trials) + EULER_MASCHERONI * stats.norm.isf(
+        1.0 / (trials * math.e)
     )
     # The formula is built for large N and turns negative below N ~ 1.28 (fractional effective
-    # trial counts); the true expectation is at least E[one normal] = 0 for every N >= 1.
-    return max(value, 0.0)
+    # trial counts); the true expectation is at least E[one normal] = 0 for every N >= 1. At N = 1
+    # the first quantile is -inf, so the floor also gives the exact 0 there.
+    return np.maximum(value, 0.0)
 
 
 def _expected_max_exact(trials: float) -> float:
@@ -141,7 +142,7 @@ def expected_max_standard_normal(trials: float, *, exact: bool = False) -> float
     n_trials = _trials(trials)
     if n_trials == 1.0:
         return 0.0
-    return _expected_max_exact(n_trials) if exact else _expected_max_approximate(n_trials)
+    return _expected_max_exact(n_trials) if exact else float(_expected_max_approximate(n_trials))
 
 
 def expected_max_sharpe(trials: float, *, trial_sharpe_variance: float, exact: bool = False) -> float:
@@ -319,7 +320,7 @@ def deflated_by_trials(
 ) -> DeflatedCurve | None:
     """The deflated Sharpe probability against the number of trials assumed, for the report's figure.
 
-    The probability is :func:`deflated_sharpe` at each of about ``points`` whole trial counts spaced
+    The probability is the deflated Sharpe probability at each of about ``points`` whole trial counts spaced
     evenly on a log scale from 1 to ``max(1000, 10 * trials)``, and at the trials counted and the
     effective trials. It falls as the count grows because the expected maximum of N luck-only
     trials grows with N (Bailey and Lopez de Prado 2014, eq. 2).
@@ -333,20 +334,23 @@ def deflated_by_trials(
         return None
     inputs = dict(observations=observations, trial_sharpe_variance=trial_sharpe_variance, skewness=skewness,
                   kurtosis=kurtosis, expected_maximum=expected_maximum)
-
-    def probability(count: float) -> float:
-        return deflated_sharpe(sharpe, trials=float(count), **inputs).probability
-
-    used = float(trials)
-    counts = np.unique(np.round(np.geomspace(1, max(1_000.0, 10 * used), points)))
-    shown = effective_trials is not None and effective_trials >= 1 and abs(effective_trials - used) > 1e-9
+    at_counted = deflated_sharpe(sharpe, trials=float(trials), **inputs)
+    counts = np.unique(np.round(np.geomspace(1, max(1_000.0, 10 * float(trials)), points)))
+    # DSR(N) = Phi((SR - sqrt(V) E[max_N]) / SE): only the expected maximum depends on N, so the
+    # curve evaluates it on every count at once with the same functions deflated_sharpe uses.
+    if expected_maximum == "approximate":
+        maxima = _expected_max_approximate(counts)
+    else:
+        maxima = np.array([expected_max_standard_normal(c, exact=True) for c in counts])
+    benchmark = math.sqrt(at_counted.trial_sharpe_variance) * maxima
+    shown = effective_trials is not None and effective_trials >= 1 and abs(effective_trials - trials) > 1e-9
     return DeflatedCurve(
         trials=counts,
-        probability=np.array([probability(c) for c in counts]),
-        trials_counted=used,
-        at_trials_counted=probability(used),
+        probability=stats.norm.cdf((at_counted.sharpe - benchmark) / at_counted.standard_error),
+        trials_counted=float(trials),
+        at_trials_counted=at_counted.probability,
         effective_trials=float(effective_trials) if shown else None,
-        at_effective_trials=probability(effective_trials) if shown else None,
+        at_effective_trials=deflated_sharpe(sharpe, trials=float(effective_trials), **inputs).probability if shown else None,
     )
 
 

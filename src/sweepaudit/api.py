@@ -1,0 +1,106 @@
+"""The Python entry point: audit a sweep end to end, as the command line does.
+
+:func:`audit` gathers the evidence once (:mod:`sweepaudit.audit`), compares it with a baseline audit
+when one is given (:mod:`sweepaudit.baseline`), decides the verdict once with the comparison
+included (:mod:`sweepaudit.verdict`) and writes the JSON document once (:mod:`sweepaudit.document`).
+With a trial ledger the ledger stays locked from the count to the record (:mod:`sweepaudit.gate`).
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable
+from dataclasses import replace
+from typing import Any
+
+from .audit import gather_evidence
+from .baseline import compare_checks, compare_results, read_baseline
+from .document import audit_document, checks_block, results_document
+from .gate import counted_trials
+from .policy import DEFAULT_POLICY, Policy
+from .results import AuditResult, AuditSettings, BaselineComparison, Evidence, Verdict
+from .sweep import Sweep
+from .verdict import decide
+
+__all__ = ["audit"]
+
+Command = str | Callable[[Evidence], str] | None
+
+
+def audit(
+    sweep: Sweep,
+    *,
+    settings: AuditSettings | None = None,
+    policy: Policy | None = None,
+    baseline: dict[str, Any] | None = None,
+    baseline_path: str | os.PathLike | None = None,
+    ledger: str | os.PathLike | None = None,
+    trials: int | None = None,
+    command: Command = None,
+    policy_source: str = "defaults",
+    progress: Callable[[int, int], None] | None = None,
+    memory_budget: int | None = None,
+) -> AuditResult:
+    """Audit a sweep: resample once, run every method once, decide the verdict once.
+
+    Parameters
+    ----------
+    sweep : Sweep
+        From :func:`sweepaudit.load_sweep` or :func:`sweepaudit.sweep_from_array`.
+    settings : AuditSettings, optional
+        Every knob that changes a figure.
+    policy : Policy, optional
+        The verdict's thresholds (default policy).
+    baseline : dict, optional
+        An earlier audit document to compare with (the ``baseline_drift`` check); read from
+        ``baseline_path`` when only the path is given.
+    baseline_path : path, optional
+        Where the baseline came from (reported in the comparison).
+    ledger : path, optional
+        A trial ledger: every sweep it records counts as trials; this audit is appended to it.
+    trials : int, optional
+        Trials the deflated Sharpe ratio counts (at least the sweep's configurations; default
+        ``settings.trials``); with a ledger the larger count wins.
+    command : str or callable, optional
+        The reproduce command for the document, or ``command(evidence) -> str``.
+    policy_source : str
+        Where the policy came from (a file's path or ``"defaults"``), for the document.
+    progress : callable, optional
+        ``progress(done, total)`` as the resamples are worked through.
+    memory_budget : int, optional
+        Bytes the ``B x N`` resampled moments may take before the engine streams.
+
+    Returns
+    -------
+    AuditResult
+    """
+    settings = settings or AuditSettings()
+    policy = policy or DEFAULT_POLICY
+    if baseline is None and baseline_path is not None:
+        baseline = read_baseline(baseline_path)
+    declared = trials if trials is not None else settings.trials
+    with counted_trials(sweep, ledger=ledger, declared=declared) as count:
+        evidence = gather_evidence(
+            sweep, settings=replace(settings, trials=count.trials), policy=policy, progress=progress,
+            memory_budget=memory_budget,
+        )
+        verdict, comparison = _judge(evidence, policy, baseline, baseline_path)
+        document = audit_document(
+            evidence, verdict, command=command(evidence) if callable(command) else command,
+            policy_source=policy_source, baseline=comparison, ledger=count.block(),
+        )
+        count.record(sweep, selected=evidence.selected, verdict=verdict.decision)
+    return AuditResult(evidence, verdict, document, comparison)
+
+
+def _judge(
+    evidence: Evidence, policy: Policy, baseline: dict[str, Any] | None, path: str | os.PathLike | None
+) -> tuple[Verdict, BaselineComparison | None]:
+    """The verdict, decided once; with a baseline, the comparison the drift check reads and, once
+    the verdict's checks exist, the change of every check."""
+    if baseline is None:
+        return decide(evidence, policy), None
+    current = {"results": results_document(evidence), "selected": {"configuration": evidence.selected}}
+    figures = compare_results(current, baseline, path=str(path) if path is not None else "<baseline>", policy=policy)
+    verdict = decide(evidence, policy, figures)
+    return verdict, compare_checks(figures, checks_block(verdict), baseline)

@@ -1,0 +1,418 @@
+"""The JSON contract (schema ``sweepaudit.audit/1``): Evidence + Verdict -> the audit document.
+
+Every figure a user can see is a key of this document; the renderers (terminal, JUnit, report)
+format it and nothing else. Numbers are per window unless the key says ``annualized``; a figure
+that cannot be computed is ``null`` (never NaN or Infinity). Keys are added freely and never
+renamed or removed without a new schema.
+
+The block builders here select and reshape result fields; they compute no statistics.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import fields
+from typing import Any
+
+import numpy as np
+
+from ._version import AUDIT_SCHEMA, __version__
+from .results import BaselineComparison, Evidence, GatedMove, Interval, LedgerTally, Verdict
+
+__all__ = [
+    "CAUTION",
+    "results_document",
+    "checks_block",
+    "baseline_block",
+    "ledger_block",
+    "audit_document",
+]
+
+CAUTION = (
+    "Statistical evidence, not investment advice. Past performance does not guarantee future "
+    "results. Defer to your firm's own risk and compliance process before committing capital."
+)
+
+
+def _clean(value: Any) -> Any:
+    """JSON-safe copy: numpy scalars to Python, non-finite floats to None."""
+    if isinstance(value, dict):
+        return {str(k): _clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_clean(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [_clean(v) for v in value.tolist()]
+    if isinstance(value, (np.bool_, bool)):
+        return bool(value)
+    if isinstance(value, (np.integer,)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        f = float(value)
+        return f if math.isfinite(f) else None
+    return value
+
+
+def _interval(iv: Interval, factor: float | None = 1.0) -> dict | None:
+    if factor is None:
+        return None
+    s = iv.scaled(factor)
+    return {"estimate": s.estimate, "low": s.low, "high": s.high}
+
+
+def _input_block(evidence: Evidence) -> dict:
+    sweep = evidence.sweep
+    return {
+        "path": sweep.path,
+        "sha256": sweep.sha256,
+        "layout": sweep.layout,
+        "configurations": sweep.n_configurations,
+        "windows": sweep.n_windows,
+        "periods_per_year": sweep.periods_per_year,
+        "periods_per_year_source": sweep.periods_source,
+        "frequency": sweep.frequency,
+        "units": sweep.units,
+        "figures_in": "fractions (0.01 = 1%)",
+        "first_window": sweep.windows[0],
+        "last_window": sweep.windows[-1],
+        "parameters": list(sweep.parameters.columns),
+    }
+
+
+def _settings_block(evidence: Evidence) -> dict:
+    return {
+        "seed": evidence.settings.seed,
+        "resamples": evidence.resamples.count,
+        "bootstrap": evidence.resamples.kind,
+        "block_length": evidence.resamples.block_length,
+        "block_length_source": evidence.block_length_source,
+        "confidence": evidence.intervals.confidence,
+        "interval_method": evidence.intervals.method,
+        "trials": evidence.settings.trials,
+    }
+
+
+def checks_block(verdict: Verdict) -> list[dict]:
+    """The ``checks`` list: one object per check the verdict ran, in display order."""
+    return [
+        {
+            "id": c.id,
+            "passed": c.passed,
+            "required": c.required,
+            "value": c.value,
+            "threshold": c.threshold,
+            "reason": c.reason,
+        }
+        for c in verdict.checks
+    ]
+
+
+def _bootstrap_block(evidence: Evidence) -> dict:
+    sweep = evidence.sweep
+    ppy = sweep.periods_per_year
+    k = evidence.selected_index
+    iv = evidence.intervals
+    sharpe_factor = math.sqrt(ppy) if ppy else None
+    params = sweep.parameters.reset_index(drop=True).to_dict("records") or [{}] * sweep.n_configurations
+    return {
+        "selected": {
+            "mean": _interval(iv.mean[k]),
+            "mean_annualized": _interval(iv.mean[k], ppy),
+            "sharpe": _interval(iv.sharpe[k]),
+            "sharpe_annualized": _interval(iv.sharpe[k], sharpe_factor),
+        },
+        "configurations": [
+            {
+                "configuration": name,
+                "parameters": params[j],
+                "mean": _interval(iv.mean[j]),
+                "sharpe": _interval(iv.sharpe[j]),
+                "sharpe_annualized": _interval(iv.sharpe[j], sharpe_factor),
+            }
+            for j, name in enumerate(sweep.configurations)
+        ],
+    }
+
+
+def _surface_block(evidence: Evidence) -> dict:
+    peak = evidence.surface
+    return {
+        "parameters": list(evidence.sweep.parameters.columns),
+        "selected_sharpe": peak.sharpe,
+        "neighbour_mean_sharpe": peak.neighbour_mean,
+        "neighbours": peak.neighbours,
+        "standard_error": peak.standard_error,
+        "gap_in_standard_errors": peak.gap_in_standard_errors,
+        "isolated_peak": peak.isolated,
+    }
+
+
+def results_document(evidence: Evidence) -> dict:
+    """The ``results`` block: one sub-block per method the audit ran (absent when it did not run)."""
+    out: dict[str, Any] = {"bootstrap": _bootstrap_block(evidence)}
+    if evidence.sharpe is not None:
+        out["sharpe"] = _sharpe_block(evidence)
+    if evidence.snooping is not None:
+        out["snooping"] = _snooping_block(evidence)
+    if evidence.surface is not None:
+        out["surface"] = _surface_block(evidence)
+    if evidence.overfitting is not None:
+        out["overfitting"] = _overfitting_block(evidence)
+    return _clean(out)
+
+
+def audit_document(
+    evidence: Evidence,
+    verdict: Verdict,
+    *,
+    command: str | None = None,
+    policy_source: str = "defaults",
+    baseline: BaselineComparison | None = None,
+    ledger: dict | None = None,
+) -> dict:
+    """The whole audit JSON object.
+
+    Parameters
+    ----------
+    evidence, verdict
+        What the audit found and the verdict on it.
+    command : str, optional
+        The command that reproduces every figure (the ``reproduce`` block).
+    policy_source : str
+        The policy file's path or ``"defaults"``.
+    baseline : BaselineComparison, optional
+        The comparison with a baseline audit (the ``baseline`` block).
+    ledger : dict, optional
+        The trial ledger's block (:func:`ledger_block`) when one was used.
+    """
+    out = {
+        "schema": AUDIT_SCHEMA,
+        "tool": {"name": "sweepaudit", "version": __version__},
+        "input": _input_block(evidence),
+        "settings": _settings_block(evidence),
+        "selected": {"configuration": evidence.selected, "rule": evidence.selection_rule},
+        "verdict": verdict.decision,
+        "reasons": list(verdict.reasons),
+        "checks": checks_block(verdict),
+        "warnings": list(evidence.warnings),
+        "caution": CAUTION,
+        "policy": {f.name: getattr(evidence.policy, f.name) for f in fields(evidence.policy)},
+        "policy_source": policy_source,
+        "results": results_document(evidence),
+        "reproduce": {"command": command, "seed": evidence.settings.seed, "version": __version__},
+    }
+    if baseline is not None:
+        out["baseline"] = baseline_block(baseline)
+    if ledger is not None:
+        out["ledger"] = ledger
+    return _clean(out)
+
+
+def _spa(spa) -> dict:
+    return {
+        "statistic": spa.statistic,
+        "pvalue": spa.pvalue,
+        "pvalue_lower": spa.pvalue_lower,
+        "pvalue_upper": spa.pvalue_upper,
+        "studentized": spa.studentized,
+    }
+
+
+def _stepm(step, names) -> dict:
+    return {
+        "significant": [names[i] for i in step.significant],
+        "level": step.level,
+        "studentized": step.studentized,
+        "recentring": step.recentring,
+        "steps": step.steps,
+        "critical_values": list(step.critical_values),
+    }
+
+
+def _snooping_block(evidence: Evidence) -> dict:
+    sn = evidence.snooping
+    names = evidence.sweep.configurations
+    gating_stepm = sn.gating_stepm
+    return {
+        "gating": sn.gating,
+        "gating_pvalue": sn.pvalue,
+        "counting": sn.reality_check.counting,
+        "reality_check": {
+            "statistic": sn.reality_check.statistic,
+            "pvalue": sn.reality_check.pvalue,
+            "best": names[sn.reality_check.best],
+        },
+        "spa": _spa(sn.gating_spa),
+        "spa_studentized": _spa(sn.spa),
+        "spa_unstudentized": _spa(sn.spa_unstudentized),
+        "stepm": _stepm(gating_stepm, names),
+        "stepm_studentized": _stepm(sn.stepm, names),
+        "stepm_unstudentized": _stepm(sn.stepm_unstudentized, names),
+        "selected_survives_stepm": evidence.selected_index in gating_stepm.significant,
+    }
+
+
+def _overfitting_block(evidence: Evidence) -> dict:
+    r = evidence.overfitting
+    d = evidence.overfitting_diagnosis
+    return {
+        "statistic": r.statistic,
+        "partitions": r.partitions,
+        "partitions_requested": r.partitions_requested,
+        "combinations": r.combinations,
+        "block_rule": r.block_rule,
+        "probability_of_overfitting": r.probability_of_overfitting,
+        "null_probability_of_overfitting": r.null_probability_of_overfitting,
+        "probability_of_loss": r.probability_of_loss,
+        "median_out_of_sample": r.median_out_of_sample,
+        "degradation": {
+            "slope": r.degradation_slope,
+            "intercept": r.degradation_intercept,
+            "r_squared": r.degradation_r_squared,
+        },
+        "logits": {f"{q:g}": v for q, v in r.logit_quantiles.items()},
+        "stochastic_dominance": {
+            "first_order": r.first_order_dominance,
+            "first_order_violation": r.first_order_violation,
+            "second_order": r.second_order_dominance,
+            "second_order_violation": r.second_order_violation,
+        },
+        "diagnosis": {
+            "case": d.case,
+            "passed": d.passed,
+            "in_sample_strength_share": d.in_sample_strength_share,
+            "strength_threshold": d.strength_threshold,
+            "reason": d.reason,
+        },
+    }
+
+
+def _deflated(d, periods_per_year) -> dict:
+    root = math.sqrt(periods_per_year) if periods_per_year else None
+    return {
+        "trials": int(d.trials) if float(d.trials).is_integer() else d.trials,
+        "trial_sharpe_variance": d.trial_sharpe_variance,
+        "expected_maximum": d.expected_maximum,
+        "benchmark_sharpe": d.benchmark_sharpe,
+        "benchmark_sharpe_annualized": d.benchmark_sharpe * root if root else None,
+        "statistic": d.statistic,
+        "probability": d.probability,
+    }
+
+
+def _sharpe_block(evidence: Evidence) -> dict:
+    inf = evidence.sharpe
+    ppy = evidence.sweep.periods_per_year
+    head = _deflated(inf.deflated, ppy)
+    head.update(
+        {
+            # Li and Ji count whole tests; an eigenvalue sum lands a rounding error off the integer.
+            "effective_trials": round(inf.effective_trials, 9),
+            "effective_trials_method": inf.effective_trials_method,
+            "declared_trials": inf.trials,
+            "trials_used": inf.trials_for_deflation,
+            "variance_mode": inf.variance_mode,
+            "trial_sharpe_variance_null": inf.trial_sharpe_variance_null,
+            "trial_sharpe_variance_empirical": inf.trial_sharpe_variance_empirical,
+        }
+    )
+    detail = inf.effective_trials_detail
+    hc = evidence.haircut
+    block = {
+        "observed": inf.observed,
+        "observed_annualized": inf.observed_annualized,
+        "annualization": inf.annualization,
+        "serial_correlation_factor": inf.serial_correlation_factor,
+        "observations": inf.observations,
+        "skewness": inf.skewness,
+        "kurtosis": inf.kurtosis,
+        "standard_error": inf.standard_error,
+        "standard_error_serial_correlation": inf.standard_error_serial_correlation,
+        "probabilistic": {
+            "benchmark": inf.probabilistic.benchmark,
+            "statistic": inf.probabilistic.statistic,
+            "probability": inf.probabilistic.probability,
+        },
+        "deflated": head,
+        "deflated_variants": [
+            {
+                "variance_mode": v.variance_mode,
+                "expected_maximum": v.expected_maximum,
+                "trials_used": v.trial_count,
+                **_deflated(v.result, ppy),
+            }
+            for v in inf.variants
+        ],
+        "effective_trials": {
+            "average_correlation": detail.average_correlation,
+            "from_average_correlation": detail.from_average_correlation,
+            "nyholt": detail.nyholt,
+            "li_ji": detail.li_ji,
+        },
+        "min_track_record": {
+            "observations": inf.min_track_record_observations,
+            "years": inf.min_track_record_years,
+            "confidence": inf.confidence,
+        },
+    }
+    if hc is not None:
+        block["haircut"] = {
+            "tests": hc.tests,
+            "t_statistic": hc.t_statistic,
+            "pvalue": hc.pvalue,
+            **{
+                a.method: {
+                    "pvalue": a.pvalue,
+                    "sharpe": a.sharpe,
+                    "sharpe_annualized": a.sharpe_annualized,
+                    "haircut": a.haircut,
+                }
+                for a in (hc.bonferroni, hc.holm, hc.bhy)
+            },
+        }
+    return block
+
+
+def _gated_dict(g: GatedMove) -> dict[str, Any]:
+    return {
+        "key": g.key,
+        "before": g.before,
+        "after": g.after,
+        "change": g.after - g.before,
+        "higher_is_better": g.figure.higher_is_better,
+        "allowed_worsening": g.allowed,
+        "margin_field": g.figure.margin_field,
+        "exceeded": g.exceeded,
+    }
+
+
+def baseline_block(comparison: BaselineComparison) -> dict[str, Any]:
+    """The JSON ``baseline`` block."""
+    return {
+        "path": comparison.path,
+        "verdict_before": comparison.verdict_before,
+        "selected_before": comparison.selected_before,
+        "selected_changed": comparison.selected_before != comparison.selected_after,
+        "moved": [
+            {"key": m.key, "before": m.before, "after": m.after, "change": m.change} for m in comparison.moved
+        ],
+        "checks_changed": [
+            {"id": c.id, "before": c.before, "after": c.after} for c in comparison.checks_changed
+        ],
+        "gated": [_gated_dict(g) for g in comparison.gated],
+        "worsened": [_gated_dict(g) for g in comparison.worsened],
+    }
+
+
+def ledger_block(tally: LedgerTally, *, declared: int | None, used: int | None, note: str | None) -> dict:
+    """The JSON ``ledger`` block."""
+    return {
+        "path": tally.path,
+        "fingerprint": tally.fingerprint,
+        "new_sweep": tally.new_sweep,
+        "records_before": tally.records,
+        "sweeps_recorded": tally.sweeps_recorded,
+        "trials_counted": tally.trials,
+        "trials_declared": declared,
+        "trials_used": used,
+        "note": note,
+    }
