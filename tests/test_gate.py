@@ -46,7 +46,7 @@ from sweepaudit.ledger import (
     sweep_fingerprint,
     tally_trials,
 )
-from sweepaudit.load import load_sweep
+from sweepaudit.read import load_sweep
 from sweepaudit.policy import DEFAULT_POLICY, policy_from_mapping
 from sweepaudit.render.junit import audit_to_junit
 from sweepaudit.sweep import sweep_from_array

@@ -40,7 +40,7 @@ from typer.testing import CliRunner
 
 from sweepaudit import AuditSettings, audit
 from sweepaudit.cli import app
-from sweepaudit.load import LoadOptions, load_sweep
+from sweepaudit.read import LoadOptions, load_sweep
 from sweepaudit.render import plots, report
 from sweepaudit.render.markdown import escape as md_escape
 from sweepaudit.render.report import build_report, figure, figures_folder, write_report

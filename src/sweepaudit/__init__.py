@@ -21,7 +21,7 @@ from .errors import (
     SweepAuditError,
     SweepAuditWarning,
 )
-from .load import LoadOptions, load_sweep
+from .read import LoadOptions, load_sweep
 from .methods.bootstrap_ci import bootstrap_intervals
 from .methods.cscv import cscv
 from .methods.overfitting import overfitting_diagnosis

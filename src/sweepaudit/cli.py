@@ -24,7 +24,7 @@ from ._version import __version__
 from .api import audit
 from .baseline import read_baseline
 from .errors import SweepAuditError
-from .load import LoadOptions, load_sweep
+from .read import LoadOptions, load_sweep
 from .results import AuditSettings, Evidence
 from .methods.inference import declared_trials
 from .policy import policy_from_mapping, policy_to_toml, resolve_policy

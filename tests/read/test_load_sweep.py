@@ -1,4 +1,4 @@
-"""Tests of ``sweepaudit.load``: ``load_sweep`` and ``read_table`` (files -> Sweep).
+"""Tests of ``sweepaudit.read``: ``load_sweep`` and ``read_table`` (files -> Sweep).
 
 ``load_sweep`` and ``read_table`` are checked against something outside the project:
 
@@ -26,7 +26,7 @@ import pandas as pd
 import pytest
 
 from sweepaudit.errors import DegenerateDataError, InputError
-from sweepaudit.load import LoadOptions, load_sweep, read_table
+from sweepaudit.read import LoadOptions, load_sweep, read_table
 from sweepaudit.sweep import MIN_WINDOWS
 
 WEEKS = [d.date().isoformat() for d in pd.date_range("2023-01-06", periods=12, freq="7D")]

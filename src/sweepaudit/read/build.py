@@ -1,0 +1,281 @@
+"""Table -> matrix: the T x N excess returns, configuration names, parameter table and windows of a
+long or a wide table, with a benchmark subtracted when the inputs are raw strategy returns.
+
+Each builder returns ``(matrix, names, parameters, window_labels, dates)`` with windows in time
+order; missing values are never filled (:func:`~sweepaudit.read.checks.coverage` refuses or trims).
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError
+from .checks import coverage, numeric
+from .dates import cell_label, looks_like_dates, order_windows
+from .formats import read_table
+from .layout import ID_NAMES, VALUE_NAMES, WINDOW_NAMES, find_column, require_column
+from .options import LoadOptions
+
+__all__ = ["long_matrix", "wide_matrix", "subtract_benchmark_file", "parse_named_parameters"]
+
+
+def parse_named_parameters(names: list[str]) -> pd.DataFrame | None:
+    """Recover a parameter table from names like ``lookback=20, band=1.5``."""
+    rows = []
+    for name in names:
+        parts = [p.strip() for p in name.split(",")]
+        row = {}
+        for part in parts:
+            m = re.fullmatch(r"([A-Za-z_][\w.]*)\s*=\s*(.+)", part)
+            if not m:
+                return None
+            row[m.group(1)] = m.group(2).strip()
+        rows.append(row)
+    table = pd.DataFrame(rows, index=pd.Index(names, name="configuration"))
+    if table.isna().any().any():
+        return None
+    for col in table.columns:
+        num = pd.to_numeric(table[col], errors="coerce")
+        if num.notna().all():
+            table[col] = num
+    return table
+
+
+# ---------------------------------------------------------------------------------------------
+# long: one row per (configuration, window)
+
+
+def _long_columns(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions) -> tuple[str, list[str]]:
+    """The value column and the columns that name a configuration."""
+    columns = list(frame.columns)
+    if window_col is None:
+        raise InputError(
+            "long layout needs a window column; name it with --window-column "
+            f"(columns are {', '.join(columns)})",
+            path=label,
+        )
+    value_col = opt.value_column
+    if value_col is not None:
+        require_column(frame, value_col, label, "value")
+    else:
+        value_col = find_column(columns, VALUE_NAMES, exclude=(window_col,))
+        if value_col is None:
+            floats = [c for c in columns if c != window_col and pd.api.types.is_float_dtype(frame[c])]
+            if not floats:
+                raise InputError(
+                    "no numeric value column found; name it with --value-column "
+                    f"(columns are {', '.join(columns)})",
+                    path=label,
+                )
+            value_col = floats[-1]
+    if opt.parameter_columns:
+        params = list(opt.parameter_columns)
+        for c in params:
+            require_column(frame, c, label, "parameter")
+    else:
+        params = [c for c in columns if c not in (window_col, value_col)]
+    if not params:
+        raise InputError(
+            "long layout needs a configuration-id column or parameter columns besides the window "
+            f"column {window_col!r} and the value column {value_col!r}",
+            path=label,
+        )
+    return value_col, params
+
+
+def _configurations(frame: pd.DataFrame, params: list[str], label: str) -> tuple[np.ndarray, list[str], bool]:
+    """Each row's configuration code, the configuration names, and whether one id column names them."""
+    for c in params:
+        if frame[c].isna().any():
+            r = int(np.flatnonzero(frame[c].isna().to_numpy())[0])
+            raise InputError("missing parameter value", path=label, column=c, row=r + 1)
+    single_id = len(params) == 1 and (
+        params[0].lower() in ID_NAMES or not pd.api.types.is_numeric_dtype(frame[params[0]])
+    )
+    # Factorise first and label only the unique values: the file may hold millions of rows.
+    if len(params) == 1:
+        codes, uniq = pd.factorize(frame[params[0]])
+        combos = [(v,) for v in uniq]
+    else:
+        codes, uniq = pd.MultiIndex.from_frame(frame[params]).factorize()
+        combos = list(uniq)
+    if single_id:
+        names = [cell_label(c[0]) for c in combos]
+    else:
+        names = [", ".join(f"{p}={cell_label(v)}" for p, v in zip(params, c)) for c in combos]
+    if len(set(names)) != len(names):
+        raise InputError("two different parameter values print the same configuration name", path=label)
+    return codes, names, single_id
+
+
+def _long_windows(frame: pd.DataFrame, window_col: str, label: str):
+    """Each row's window code, the unique window labels, their time-order key and dates."""
+    window_codes, raw_windows = pd.factorize(frame[window_col])
+    if (window_codes < 0).any():
+        r = int(np.flatnonzero(window_codes < 0)[0])
+        raise InputError("missing window label", path=label, column=window_col, row=r + 1)
+    first_rows = pd.Series(window_codes).drop_duplicates().index.to_numpy()
+    order_key, dates = order_windows(pd.Series(raw_windows), label, window_col, first_rows)
+    return window_codes, [cell_label(v) for v in raw_windows], order_key, dates
+
+
+def _subtract_benchmark_configuration(matrix, names: list[str], table: pd.DataFrame, opt: LoadOptions, label, notes):
+    if opt.benchmark not in names:
+        raise InputError(
+            f"benchmark configuration {opt.benchmark!r} not found among the {len(names)} configurations",
+            path=label,
+        )
+    b = names.index(opt.benchmark)
+    if np.isnan(matrix[:, b]).any():
+        raise InputError(f"benchmark configuration {opt.benchmark!r} misses windows", path=label)
+    matrix = np.delete(matrix, b, axis=1) - matrix[:, [b]]
+    names.pop(b)
+    notes.append(f"excess returns computed against the benchmark configuration {opt.benchmark!r}")
+    return matrix, table.drop(index=opt.benchmark)
+
+
+def long_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions, notes: list[str]):
+    """The matrix of a long table (one row per configuration and window)."""
+    value_col, params = _long_columns(frame, label, window_col, opt)
+    values = numeric(frame[value_col], label, value_col)
+    config_codes, names, single_id = _configurations(frame, params, label)
+    window_codes, window_uniques, order_key, dates_unique = _long_windows(frame, window_col, label)
+    # Duplicate (configuration, window) pairs: name the second occurrence.
+    pair = config_codes.astype(np.int64) * (len(window_uniques) + 1) + window_codes
+    dup = pd.Series(pair).duplicated().to_numpy()
+    if dup.any():
+        r = int(np.flatnonzero(dup)[0])
+        raise InputError(
+            f"duplicate row for configuration {names[config_codes[r]]!r} and window "
+            f"{window_uniques[window_codes[r]]!r}",
+            path=label,
+            row=r + 1,
+        )
+    order = np.argsort(order_key.to_numpy(), kind="stable")
+    rank = np.empty_like(order)
+    rank[order] = np.arange(len(order))
+    matrix = np.full((len(window_uniques), len(names)), np.nan)
+    matrix[rank[window_codes], config_codes] = values
+    window_labels = [window_uniques[i] for i in order]
+    dates = None
+    if dates_unique is not None:
+        dates = pd.DatetimeIndex(dates_unique[order])
+        window_labels = [cell_label(d) for d in dates]
+    if single_id:
+        table = pd.DataFrame(index=pd.Index(names, name="configuration"))
+    else:
+        first_rows = pd.Series(np.arange(len(frame))).groupby(config_codes).first().to_numpy()
+        table = frame[params].iloc[first_rows].reset_index(drop=True)
+        table.index = pd.Index(names, name="configuration")
+    if opt.benchmark is not None:
+        matrix, table = _subtract_benchmark_configuration(matrix, names, table, opt, label, notes)
+    matrix, window_labels, dates = coverage(matrix, names, window_labels, dates, opt, label, notes)
+    return matrix, names, table, window_labels, dates
+
+
+# ---------------------------------------------------------------------------------------------
+# wide: one row per window, one column per configuration
+
+
+def _wide_windows(frame: pd.DataFrame, label: str, window_col: str | None):
+    """The row order (time order), the window labels and dates, and the configuration columns."""
+    if window_col is None:
+        order = np.arange(len(frame))
+        return order, [str(i + 1) for i in order], None, list(frame.columns)
+    labels = frame[window_col]
+    dup = labels.duplicated().to_numpy()
+    if dup.any():
+        r = int(np.flatnonzero(dup)[0])
+        raise InputError(f"window {cell_label(labels.iloc[r])!r} appears twice", path=label, column=window_col, row=r + 1)
+    order_key, dates = order_windows(labels, label, window_col)
+    order = np.argsort(order_key.to_numpy(), kind="stable")
+    window_labels = [cell_label(v) for v in labels.iloc[order]]
+    if dates is not None:
+        dates = pd.DatetimeIndex(dates[order])
+        window_labels = [cell_label(d) for d in dates]
+    return order, window_labels, dates, [c for c in frame.columns if c != window_col]
+
+
+def _wide_values(frame: pd.DataFrame, label: str, config_cols: list[str], order: np.ndarray) -> np.ndarray:
+    block = frame[config_cols]
+    if all(pd.api.types.is_float_dtype(d) for d in block.dtypes):
+        # Fast path for wide numeric files (a Parquet file of 100,000 configurations): one
+        # conversion; the per-column check runs only on a column holding an infinite value.
+        matrix = block.to_numpy(dtype=np.float64)
+        bad = np.isinf(matrix).any(axis=0)
+        if bad.any():
+            c = config_cols[int(np.flatnonzero(bad)[0])]
+            numeric(frame[c], label, c, allow_missing=True)
+        return matrix[order]
+    return np.column_stack([numeric(frame[c], label, c, allow_missing=True) for c in config_cols])[order]
+
+
+def wide_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions, notes: list[str]):
+    """The matrix of a wide table (one row per window, one column per configuration)."""
+    order, window_labels, dates, config_cols = _wide_windows(frame, label, window_col)
+    if opt.benchmark is not None:
+        require_column(frame, opt.benchmark, label, "benchmark")
+        if opt.benchmark not in config_cols:
+            raise InputError(f"the benchmark column {opt.benchmark!r} is the window column", path=label)
+    if not config_cols or (opt.benchmark is not None and len(config_cols) == 1):
+        raise InputError("no configuration columns: a wide file needs one column per configuration", path=label)
+    matrix = _wide_values(frame, label, config_cols, order)
+    names = list(config_cols)
+    if opt.benchmark is not None:
+        b = names.index(opt.benchmark)
+        bench = matrix[:, b]
+        if np.isnan(bench).any():
+            r = int(order[np.flatnonzero(np.isnan(bench))[0]])
+            raise InputError("missing benchmark value", path=label, column=opt.benchmark, row=r + 1)
+        matrix = np.delete(matrix, b, axis=1) - bench[:, None]
+        names.pop(b)
+        notes.append(f"excess returns computed against the benchmark column {opt.benchmark!r}")
+    table = parse_named_parameters(names)
+    if table is None:
+        table = pd.DataFrame(index=pd.Index(names, name="configuration"))
+    matrix, window_labels, dates = coverage(matrix, names, window_labels, dates, opt, label, notes)
+    return matrix, names, table, window_labels, dates
+
+
+# ---------------------------------------------------------------------------------------------
+# a benchmark in its own file
+
+
+def subtract_benchmark_file(matrix, window_labels, dates, opt: LoadOptions, notes):
+    """Excess returns against the benchmark series of ``opt.benchmark_file``, matched by window."""
+    frame, label, _ = read_table(opt.benchmark_file)
+    columns = list(frame.columns)
+    wcol = find_column(columns, WINDOW_NAMES) or columns[0]
+    vcols = [c for c in columns if c != wcol]
+    if opt.value_column and opt.value_column in vcols:
+        vcols = [opt.value_column]
+    if len(vcols) != 1:
+        raise InputError(
+            f"a benchmark file needs a window column and one value column; got {', '.join(columns)}",
+            path=label,
+        )
+    values = numeric(frame[vcols[0]], label, vcols[0])
+    keys = frame[wcol]
+    bdates = looks_like_dates(keys)
+    if dates is not None and bdates is not None:
+        lookup = pd.Series(values, index=bdates)
+        wanted = dates
+    else:
+        lookup = pd.Series(values, index=keys.astype(object).map(cell_label).to_numpy())
+        wanted = pd.Index(window_labels)
+    if lookup.index.duplicated().any():
+        r = int(np.flatnonzero(lookup.index.duplicated())[0])
+        raise InputError("window appears twice", path=label, column=wcol, row=r + 1)
+    aligned = lookup.reindex(wanted)
+    if aligned.isna().any():
+        t = int(np.flatnonzero(aligned.isna().to_numpy())[0])
+        raise InputError(
+            f"no benchmark value for window {window_labels[t]!r} ({int(aligned.isna().sum())} windows missing)",
+            path=label,
+            column=wcol,
+        )
+    notes.append(f"excess returns computed against the benchmark file {label}")
+    return matrix - aligned.to_numpy()[:, None]
