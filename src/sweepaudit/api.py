@@ -15,7 +15,7 @@ from typing import Any
 
 from .audit import gather_evidence
 from .baseline import compare_checks, compare_results, read_baseline
-from .document import audit_document, checks_block, results_document
+from .document import audit_document, checks_block, figure_material, results_document
 from .gate import counted_trials
 from .policy import DEFAULT_POLICY, Policy
 from .results import AuditResult, AuditSettings, BaselineComparison, Evidence, Verdict
@@ -90,7 +90,7 @@ def audit(
             policy_source=policy_source, baseline=comparison, ledger=count.block(),
         )
         count.record(sweep, selected=evidence.selected, verdict=verdict.decision)
-    return AuditResult(evidence, verdict, document, comparison)
+    return AuditResult(evidence, verdict, document, figure_material(evidence), comparison)
 
 
 def _judge(

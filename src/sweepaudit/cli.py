@@ -23,7 +23,7 @@ from rich.console import Console
 from ._version import __version__
 from .api import audit
 from .baseline import read_baseline
-from .errors import SweepAuditError
+from .errors import InputError, SweepAuditError
 from .read import LoadOptions, load_sweep
 from .results import AuditSettings, Evidence
 from .methods.inference import declared_trials
@@ -31,6 +31,7 @@ from .policy import policy_from_mapping, policy_to_toml, resolve_policy
 from .render.files import write_atomic
 from .render.json import dumps
 from .render.junit import audit_to_junit
+from .render.calibration import render_calibration
 from .render.report import check_report_path, write_report
 from .render.terminal import render_terminal
 
@@ -103,6 +104,14 @@ def _check_output(path: Optional[Path], what: str) -> None:
         raise SweepAuditError(f"cannot write the {what} {path}: it is a folder; give a file name")
     if path.exists() and not path.is_file():
         raise SweepAuditError(f"cannot write the {what} {path}: it is not a regular file")
+
+
+def _for_report(step, path: Path, *args) -> None:
+    """A report step whose error names the --report option (the library's names the path)."""
+    try:
+        step(path, *args)
+    except InputError as exc:
+        raise SweepAuditError(f"--report: {exc}") from None
 
 
 def _check_distinct(outputs: dict[str, Optional[Path]], inputs: dict[str, object]) -> None:
@@ -232,7 +241,7 @@ def audit_command(
         _check_output(json_path, "JSON file")
         _check_output(junit_path, "JUnit file")
         if report_path is not None:
-            check_report_path(report_path)
+            _for_report(check_report_path, report_path)
             _check_output(report_path, "report")
         _check_distinct(
             {"JSON file": json_path, "JUnit file": junit_path, "report": report_path},
@@ -289,7 +298,7 @@ def audit_command(
             audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path is not None else None
         )
         if report_path is not None:
-            write_report(report_path, document, result.evidence)
+            _for_report(write_report, report_path, document, result.figures)
         if json_text is not None:
             write_atomic(json_path, json_text)
         if junit_text is not None:
@@ -385,56 +394,6 @@ def _load_options(
     )
 
 
-def _render_calibration(document: dict) -> None:
-    from rich.table import Table
-
-    console = Console()
-
-    def pct(r: dict | None) -> str:
-        if r is None or r["rate"] is None:
-            return "n/a"
-        return f"{100 * r['rate']:.1f}% ± {100 * r['standard_error']:.1f}%"
-
-    level = document["policy"]["significance"]
-    false_go = document["false_go"]
-    console.print(
-        f"Calibration of {document['input']['path']} ({document['input']['windows']} windows x "
-        f"{document['input']['configurations']} configurations), selected {document['selected']['configuration']!r}; "
-        f"its own verdict: {document['observed_verdict']}."
-    )
-    console.print(
-        f"False-go rate on {false_go['sweeps']} null sweeps shaped like this one: {pct(false_go)} "
-        f"(Monte Carlo standard error; 95% upper bound {100 * false_go['upper_95']:.1f}%), "
-        f"against the policy's significance level of {100 * level:g}%."
-    )
-    power = document["power"]
-    if power is not None:
-        console.print(
-            f"Power against an edge of annualised Sharpe {power['edge_annualized_sharpe']:g} planted in the selected "
-            f"configuration: {pct(power['go'])}; the audit judged the edged configuration in "
-            f"{pct(power['planted_selected'])} of those sweeps."
-        )
-    table = Table(title="Failure rate of each check", show_lines=False)
-    table.add_column("check")
-    table.add_column("required")
-    table.add_column("null sweeps", justify="right")
-    if power is not None:
-        table.add_column("with the edge", justify="right")
-    edged = {c["id"]: c for c in power["checks"]} if power is not None else {}
-    for c in document["null"]["checks"]:
-        row = [c["id"], "yes" if c["required"] else "advisory", pct(c["failure"])]
-        if power is not None:
-            row.append(pct(edged[c["id"]]["failure"]) if c["id"] in edged else "n/a")
-        table.add_row(*row)
-    console.print(table)
-    if false_go["rate"] is not None and false_go["lower_95"] > level:
-        console.print(
-            f"The false-go rate is above {100 * level:g}% beyond Monte Carlo error: under this policy the verdict "
-            "says go too often on sweeps like this one."
-        )
-    console.print(f"Reproduce: {document['command']}")
-
-
 @app.command("calibrate", no_args_is_help=True)
 def calibrate_command(
     sweep_path: SweepArg,
@@ -527,7 +486,7 @@ def calibrate_command(
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
     if not quiet:
-        _render_calibration(document)
+        render_calibration(document)
     raise typer.Exit(EXIT_GO)
 
 

@@ -1,11 +1,13 @@
-"""The JSON contract (schema ``sweepaudit.audit/1``): Evidence + Verdict -> the audit document.
+"""The JSON contract (schema ``sweepaudit.audit/1``): Evidence + Verdict -> the audit document, and
+the raw material of the report's figures.
 
 Every figure a user can see is a key of this document; the renderers (terminal, JUnit, report)
 format it and nothing else. Numbers are per window unless the key says ``annualized``; a figure
 that cannot be computed is ``null`` (never NaN or Infinity). Keys are added freely and never
 renamed or removed without a new schema.
 
-The block builders here select and reshape result fields; they compute no statistics.
+The block builders here select and reshape result fields; they compute no statistics. The same
+holds for :func:`figure_material`, which picks the arrays the figures draw.
 """
 
 from __future__ import annotations
@@ -17,7 +19,8 @@ from typing import Any
 import numpy as np
 
 from ._version import AUDIT_SCHEMA, __version__
-from .results import BaselineComparison, Evidence, GatedMove, Interval, LedgerTally, Verdict
+from .methods.surface import parameter_grid
+from .results import BaselineComparison, Evidence, FigureMaterial, GatedMove, Interval, LedgerTally, Verdict
 
 __all__ = [
     "CAUTION",
@@ -26,6 +29,7 @@ __all__ = [
     "baseline_block",
     "ledger_block",
     "audit_document",
+    "figure_material",
 ]
 
 CAUTION = (
@@ -416,3 +420,24 @@ def ledger_block(tally: LedgerTally, *, declared: int | None, used: int | None, 
         "trials_used": used,
         "note": note,
     }
+
+
+def figure_material(evidence: Evidence) -> FigureMaterial:
+    """The arrays the report's figures draw, picked from the evidence (and the Sharpe ratios laid out
+    on the parameter grid)."""
+    k = evidence.selected_index
+    sweep = evidence.sweep
+    overfit = evidence.overfitting
+    return FigureMaterial(
+        selected_index=k,
+        mean_distribution=evidence.intervals.mean_distribution[:, k],
+        returns=sweep.returns,
+        dates=sweep.dates,
+        sharpe_grid=parameter_grid(sweep.parameters, evidence.sharpe_ratios, selected=k),
+        logits=None if overfit is None else overfit.logits,
+        in_sample=None if overfit is None else overfit.in_sample,
+        out_of_sample=None if overfit is None else overfit.out_of_sample,
+        split_statistic=None if overfit is None else overfit.statistic,
+        deflation_curve=evidence.deflation_curve,
+        surface=evidence.surface,
+    )

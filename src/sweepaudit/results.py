@@ -1218,6 +1218,46 @@ class SweepCalibration:
 
 
 
+@dataclass(frozen=True, eq=False)
+class FigureMaterial:
+    """The raw material of the report beyond the document: what its figures draw (no statistic
+    computed; picked from the evidence by :func:`sweepaudit.document.figure_material`).
+
+    Attributes
+    ----------
+    selected_index : int
+        The column of the configuration judged.
+    mean_distribution : ndarray, shape (B,)
+        Its resampled mean excess returns (the bootstrap histogram).
+    returns : ndarray, shape (T, N)
+        The sweep's excess returns (the cumulative curves of the selected and the average configuration).
+    dates : DatetimeIndex or None
+        The window dates, when the windows are dated.
+    sharpe_grid : SharpeGrid or None
+        The Sharpe ratios on the parameter grid (two-parameter sweeps only).
+    logits, in_sample, out_of_sample : ndarray or None
+        CSCV's per-split logits and the in-sample winner's statistic in and out of sample.
+    split_statistic : str or None
+        The statistic CSCV ranked by ("sharpe" or "mean").
+    deflation_curve : DeflatedCurve or None
+        The deflated Sharpe probability against the number of trials.
+    surface : PeakShape or None
+        The parameter-surface result, for the report's words on which part of the rule held.
+    """
+
+    selected_index: int
+    mean_distribution: np.ndarray
+    returns: np.ndarray
+    dates: pd.DatetimeIndex | None = None
+    sharpe_grid: SharpeGrid | None = None
+    logits: np.ndarray | None = None
+    in_sample: np.ndarray | None = None
+    out_of_sample: np.ndarray | None = None
+    split_statistic: str | None = None
+    deflation_curve: DeflatedCurve | None = None
+    surface: PeakShape | None = None
+
+
 def _evidence(name: str, doc: str) -> property:
     return property(lambda self: getattr(self.evidence, name), doc=doc)
 
@@ -1236,6 +1276,8 @@ class AuditResult:
         Decided once, the baseline comparison included.
     document : dict
         The audit JSON (schema ``sweepaudit.audit/1``).
+    figures : FigureMaterial
+        The raw material of the report's figures.
     baseline : BaselineComparison or None
         The comparison with a baseline audit, when one was given.
     """
@@ -1243,6 +1285,7 @@ class AuditResult:
     evidence: Evidence
     verdict: Verdict
     document: dict
+    figures: FigureMaterial
     baseline: BaselineComparison | None = None
 
     sweep = _evidence("sweep", "The audited sweep.")

@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 
+from .format import pct, prob, sig
 from .policy import Policy
 from .results import BaselineComparison, Check, Evidence, Verdict
 
@@ -30,14 +31,6 @@ def check(check_id: str) -> Callable[[CheckFunction], CheckFunction]:
         return fn
 
     return register
-
-
-def _fmt(x: float, digits: int = 4) -> str:
-    return f"{x:.{digits}g}"
-
-
-def _pct(x: float) -> str:
-    return f"{100 * x:.3g}%"
 
 
 @check("enough_windows")
@@ -59,18 +52,18 @@ def _enough_windows(evidence: Evidence, policy: Policy, baseline: BaselineCompar
 def _mean_interval(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check:
     k = evidence.selected_index
     iv = evidence.intervals.mean[k]
-    level = _pct(evidence.intervals.confidence)
+    level = pct(evidence.intervals.confidence)
     ok = iv.low > 0
     name = evidence.sweep.configurations[k]
     if ok:
         reason = (
             f"The {level} block-bootstrap interval for the mean excess return of {name!r} lies above "
-            f"zero (lower end {_fmt(iv.low)} per window)."
+            f"zero (lower end {sig(iv.low)} per window)."
         )
     else:
         reason = (
             f"The {level} block-bootstrap interval for the mean excess return of {name!r} reaches "
-            f"down to {_fmt(iv.low)} per window, at or below zero: the data do not rule out that it "
+            f"down to {sig(iv.low)} per window, at or below zero: the data do not rule out that it "
             "earns nothing over the benchmark."
         )
     return Check("mean_interval", ok, iv.low, 0.0, reason)
@@ -85,18 +78,18 @@ def _deflated_sharpe(evidence: Evidence, policy: Policy, baseline: BaselineCompa
     need = policy.min_deflated_probability
     ok = d.probability >= need
     luck = (
-        f"the best of {_fmt(d.trials, 6)} trials with no edge would reach a Sharpe ratio of about "
-        f"{_fmt(d.benchmark_sharpe)} per window by luck"
+        f"the best of {sig(d.trials, 6)} trials with no edge would reach a Sharpe ratio of about "
+        f"{sig(d.benchmark_sharpe)} per window by luck"
     )
     if ok:
         reason = (
-            f"Deflated Sharpe probability {_fmt(d.probability, 3)} reaches the policy's {_fmt(need, 3)}: "
-            f"{luck}, and the selected Sharpe ratio of {_fmt(d.sharpe)} clears it with confidence."
+            f"Deflated Sharpe probability {sig(d.probability, 3)} reaches the policy's {sig(need, 3)}: "
+            f"{luck}, and the selected Sharpe ratio of {sig(d.sharpe)} clears it with confidence."
         )
     else:
         reason = (
-            f"Deflated Sharpe probability {_fmt(d.probability, 3)} is below the policy's {_fmt(need, 3)}: "
-            f"{luck}, so the selected Sharpe ratio of {_fmt(d.sharpe)} is not clearly more than "
+            f"Deflated Sharpe probability {sig(d.probability, 3)} is below the policy's {sig(need, 3)}: "
+            f"{luck}, so the selected Sharpe ratio of {sig(d.sharpe)} is not clearly more than "
             "selection luck."
         )
     return Check("deflated_sharpe", ok, d.probability, need, reason)
@@ -109,7 +102,7 @@ def _track_record(evidence: Evidence, policy: Policy, baseline: BaselineComparis
         return None
     t = evidence.sweep.n_windows
     need = inf.min_track_record_observations
-    level = _pct(inf.confidence)
+    level = pct(inf.confidence)
     if need is None:
         return Check(
             "track_record",
@@ -123,12 +116,12 @@ def _track_record(evidence: Evidence, policy: Policy, baseline: BaselineComparis
     if ok:
         reason = (
             f"The track record of {t} windows is at least the minimum track record length of "
-            f"{_fmt(need)} windows needed to show a positive Sharpe ratio at {level} confidence."
+            f"{sig(need)} windows needed to show a positive Sharpe ratio at {level} confidence."
         )
     else:
         reason = (
             f"The track record of {t} windows is shorter than the minimum track record length of "
-            f"{_fmt(need)} windows needed to show a positive Sharpe ratio at {level} confidence, "
+            f"{sig(need)} windows needed to show a positive Sharpe ratio at {level} confidence, "
             "given its skewness and kurtosis: wait for more out-of-sample windows."
         )
     return Check("track_record", ok, float(t), float(need), reason)
@@ -157,8 +150,8 @@ def _baseline_drift(evidence: Evidence, policy: Policy, baseline: BaselineCompar
     def moved(g) -> str:
         verb = "fell" if g.figure.higher_is_better else "rose"
         return (
-            f"{g.figure.label} ({g.key}) {verb} from {_fmt(g.before)} to {_fmt(g.after)}, by "
-            f"{_fmt(g.worsening)}, more than the {_fmt(g.allowed)} the policy allows "
+            f"{g.figure.label} ({g.key}) {verb} from {sig(g.before)} to {sig(g.after)}, by "
+            f"{sig(g.worsening)}, more than the {sig(g.allowed)} the policy allows "
             f"({g.figure.margin_field})"
         )
 
@@ -173,8 +166,8 @@ def _baseline_drift(evidence: Evidence, policy: Policy, baseline: BaselineCompar
         return Check("baseline_drift", False, worst.worsening, worst.allowed, reason)
     if worst.worsening > 0:
         detail = (
-            f"the largest move was {worst.figure.label} ({worst.key}), worse by {_fmt(worst.worsening)} "
-            f"within the allowed {_fmt(worst.allowed)}"
+            f"the largest move was {worst.figure.label} ({worst.key}), worse by {sig(worst.worsening)} "
+            f"within the allowed {sig(worst.allowed)}"
         )
     else:
         detail = "none of them got worse"
@@ -227,12 +220,12 @@ def _data_snooping(evidence: Evidence, policy: Policy, baseline: BaselineCompari
         )
     if ok:
         reason = (
-            f"{name}: p = {p:.4f} at or below the policy's {level:g}: the best of the {n} configurations "
+            f"{name}: p = {prob(p)} at or below the policy's {sig(level, 6)}: the best of the {n} configurations "
             f"beats the benchmark by more than the best of {n} could by luck. {step_note}"
         )
     else:
         reason = (
-            f"{name}: p = {p:.4f} above the policy's {level:g}: the best of the {n} configurations does "
+            f"{name}: p = {prob(p)} above the policy's {sig(level, 6)}: the best of the {n} configurations does "
             f"not beat the benchmark by more than the best of {n} could by luck. {step_note}"
         )
     return Check("data_snooping", ok, p, level, reason)
@@ -247,12 +240,12 @@ def _parameter_surface(evidence: Evidence, policy: Policy, baseline: BaselineCom
     if ok:
         reason = (
             f"The selected cell of the parameter grid is not an isolated peak: its grid neighbours average "
-            f"a Sharpe ratio of {_fmt(peak.neighbour_mean)} per window against its {_fmt(peak.sharpe)}."
+            f"a Sharpe ratio of {sig(peak.neighbour_mean)} per window against its {sig(peak.sharpe)}."
         )
     else:
         reason = (
             f"The selected cell is an isolated peak among weak neighbours (they average a Sharpe ratio of "
-            f"{_fmt(peak.neighbour_mean)} per window against its {_fmt(peak.sharpe)}, within one standard "
+            f"{sig(peak.neighbour_mean)} per window against its {sig(peak.sharpe)}, within one standard "
             "error of zero): a setting that works alone is what selection luck looks like."
         )
     # The rule's bar is the lower of its two parts: half the peak, and one standard error.

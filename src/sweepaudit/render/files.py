@@ -8,7 +8,14 @@ from pathlib import Path
 
 from ..errors import InputError
 
-__all__ = ["write_atomic"]
+__all__ = ["share", "write_atomic"]
+
+
+def share(path: str | os.PathLike, *, folder: bool = False) -> None:
+    """Give a file (or folder) the permissions of any the user creates: temporary ones are private."""
+    mask = os.umask(0)
+    os.umask(mask)
+    os.chmod(path, (0o777 if folder else 0o666) & ~mask)
 
 
 def write_atomic(path: str | os.PathLike, data: str | bytes) -> None:
@@ -29,10 +36,7 @@ def write_atomic(path: str | os.PathLike, data: str | bytes) -> None:
     except OSError as exc:
         raise InputError(f"cannot write {target}: {exc.strerror}") from None
     try:
-        # mkstemp makes the file private (0600); give it the usual permissions of a new file.
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
+        share(tmp)  # mkstemp makes the file private (0600)
         with os.fdopen(fd, "wb") as handle:
             handle.write(payload)
             handle.flush()

@@ -21,11 +21,9 @@ from __future__ import annotations
 import xml.etree.ElementTree as ET
 from datetime import datetime, timezone
 
+from ..format import xml_number
+
 __all__ = ["audit_to_junit"]
-
-
-def _number(x) -> str:
-    return "null" if x is None else f"{x:.6g}" if isinstance(x, float) else str(x)
 
 
 def audit_to_junit(document: dict, *, elapsed: float = 0.0, timestamp: datetime | None = None) -> str:
@@ -83,7 +81,7 @@ def audit_to_junit(document: dict, *, elapsed: float = 0.0, timestamp: datetime 
         case = ET.SubElement(
             suite, "testcase", {"classname": "sweepaudit.checks", "name": c["id"], "time": "0"}
         )
-        figures = f"value {_number(c['value'])}, threshold {_number(c['threshold'])}"
+        figures = f"value {xml_number(c['value'])}, threshold {xml_number(c['threshold'])}"
         if c["passed"]:
             ET.SubElement(case, "system-out").text = f"{c['reason']} ({figures})"
         elif c["required"]:

@@ -10,25 +10,9 @@ from rich.panel import Panel
 from rich.table import Table
 from rich.text import Text
 
-__all__ = ["render_terminal", "fmt", "pct", "prob"]
+from ..format import fmt, pct, prob, sig
 
-
-def fmt(x, digits: int = 4) -> str:
-    """A figure for humans; '-' when it could not be computed."""
-    if x is None:
-        return "-"
-    if isinstance(x, int):
-        return f"{x:,}"
-    return f"{x:.{digits}g}"
-
-
-def prob(x) -> str:
-    """A probability or p-value, four decimals."""
-    return "-" if x is None else f"{x:.4f}"
-
-
-def pct(x, digits: int = 3) -> str:
-    return "-" if x is None else f"{100 * x:.{digits}g}%"
+__all__ = ["render_terminal"]
 
 
 def _iv(block, scale=1.0, as_pct=False) -> str:
@@ -142,7 +126,7 @@ def _snooping_table(sn: dict, selected: str) -> Table:
     st = sn["stepm"]
     names = st["significant"]
     shown = "; ".join(names[:_STEPM_SHOWN]) + (f", ... ({len(names) - _STEPM_SHOWN} more)" if len(names) > _STEPM_SHOWN else "")
-    t.add_row(f"StepM: beat the benchmark at {st['level']:g}", f"{len(names)}: {shown}" if names else "none")
+    t.add_row(f"StepM: beat the benchmark at {sig(st['level'], 6)}", f"{len(names)}: {shown}" if names else "none")
     t.add_row("selected configuration survives StepM",
               "yes" if sn["selected_survives_stepm"] else f"NO: {selected} is not among them")
     t.add_row("gate", f"{sn['gating']} p-value {prob(sn['gating_pvalue'])}")

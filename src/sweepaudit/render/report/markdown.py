@@ -9,7 +9,7 @@ from __future__ import annotations
 import re
 from urllib.parse import quote
 
-from .report import Report, Section, Table
+from .model import Report, Section, Table
 
 __all__ = ["render_markdown", "escape"]
 

@@ -1,10 +1,7 @@
-"""Tests of the audit report (sweepaudit.render.report, .markdown, .html, .plots and ``--report``).
+"""Tests of the audit report (sweepaudit.render.report: sections, markdown, html, plots, write; ``--report``).
 
-Checked against something outside the project:
-- the deflated Sharpe curve (``plots.deflated_probability`` and its formula fallback) reproduces the
-  worked example of Bailey and Lopez de Prado (2014), section 4 (values from memory: N = 100 trials,
-  V = 0.5 / 250, n = 1250, skewness -3, kurtosis 10, SR = 2.5 / sqrt(250) give SR0 = 0.1132 and
-  DSR = 0.9004), and falls as the number of trials grows (theory: SR0 increases with N);
+Checked against something outside the project (the deflated Sharpe curve the report draws is tested
+against the paper's example in tests/methods/test_deflation.py):
 - the Markdown is parsed by a CommonMark parser (markdown-it-py, with GFM tables): user strings do not
   break table rows and do not become HTML tags;
 - the HTML is parsed by Python's html.parser and loaded in a real browser (headless Chromium, marked
@@ -12,7 +9,7 @@ Checked against something outside the project:
 - the embedded and linked figures are well-formed SVG (xml.etree).
 Internal consistency only:
 - every figure of the JSON document's results blocks, checks, input and settings appears in both
-  formats, formatted by ``report.figure`` (the one helper the renderers use);
+  formats, formatted by ``sweepaudit.format.figure`` (the one helper the renderers use);
 - atomic writing (no partial report or figures folder after a failure midway);
 - the report names an isolated peak of the parameter surface (the rule: tests/methods/test_surface.py).
 """
@@ -41,12 +38,13 @@ from typer.testing import CliRunner
 from sweepaudit import AuditSettings, audit
 from sweepaudit.cli import app
 from sweepaudit.read import LoadOptions, load_sweep
-from sweepaudit.render import plots, report
-from sweepaudit.render.markdown import escape as md_escape
-from sweepaudit.render.report import build_report, figure, figures_folder, write_report
+from sweepaudit.document import figure_material
+from sweepaudit.format import figure
+from sweepaudit.render.report import build_report, figures_folder, plots, write_report
+from sweepaudit.render.report.markdown import escape as md_escape
 from sweepaudit.sweep import Sweep
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 EDGE = ROOT / "fixtures" / "demo_edge_long.csv"
 
 
@@ -60,15 +58,15 @@ def edge_audit():
     sweep = load_sweep(str(EDGE), LoadOptions())
     result = audit(sweep, settings=AuditSettings(seed=7, resamples=400),
                    command="sweepaudit audit fixtures/demo_edge_long.csv --seed 7")
-    return result.document, result.evidence
+    return result.document, result.figures
 
 
 @pytest.fixture(scope="module")
 def written(edge_audit, tmp_path_factory):
-    doc, results = edge_audit
+    doc, material = edge_audit
     folder = tmp_path_factory.mktemp("reports")
-    write_report(folder / "edge.html", doc, results)
-    write_report(folder / "edge.md", doc, results)
+    write_report(folder / "edge.html", doc, material)
+    write_report(folder / "edge.md", doc, material)
     return folder
 
 
@@ -140,26 +138,11 @@ SNOOPING_BLOCK = {
 }
 
 
-class _WithOverfitting:
-    """The audit's results plus a CSCV result's raw material (attributes named as CscvResult's)."""
-
-    def __init__(self, base, overfitting):
-        self._base = base
-        self.overfitting = overfitting
-
-    def __getattr__(self, name):
-        return getattr(self._base, name)
-
-
-class _CscvArrays:
-    def __init__(self, rng, splits=3432):  # C(14, 7): 14 blocks
-        ins = rng.normal(0.25, 0.05, splits)
-        self.in_sample = ins
-        self.out_of_sample = 0.1456 - 0.3129 * ins + rng.normal(0, 0.05, splits)
-        self.logits = rng.normal(1.5, 1.2, splits)
-        self.degradation_slope = -0.3129
-        self.degradation_intercept = 0.1456
-        self.statistic = "sharpe"
+def _cscv_arrays(material, rng, splits=3432):  # C(14, 7): 14 blocks
+    """The material with CSCV splits of its own (slope and intercept as in OVERFITTING_BLOCK)."""
+    ins = rng.normal(0.25, 0.05, splits)
+    return replace(material, in_sample=ins, out_of_sample=0.1456 - 0.3129 * ins + rng.normal(0, 0.05, splits),
+                   logits=rng.normal(1.5, 1.2, splits), split_statistic="sharpe")
 
 
 # ---------------------------------------------------------------------------------------------
@@ -169,18 +152,8 @@ class _CscvArrays:
 SECTION_IDS = ("data", "selection", "intervals", "sharpe", "overfitting", "snooping", "checks", "warnings", "reproduce")
 
 
-def test_figure_helper_formats():
-    assert figure(0.123456) == "0.1235"
-    assert figure(10000) == "10,000"
-    assert figure(None) == "n/a"
-    assert figure(True) == "yes"
-    assert figure(-0.00012346) == "-0.0001235"
-    assert figure(1.5e-7) == "1.5e-07"
-    assert figure(float("nan")) == "n/a"
-
-
 def test_both_formats_hold_every_section_and_figure_of_the_json(edge_audit, written):
-    doc, results = edge_audit
+    doc, material = edge_audit
     html = (written / "edge.html").read_text()
     md = (written / "edge.md").read_text()
     assert len(_figures_of(doc)) > 300  # 42 configurations x 3 blocks x 3 figures, and more
@@ -214,12 +187,11 @@ def test_first_screen_comes_first(edge_audit, written):
 
 def test_absent_method_blocks_are_said_absent_and_have_no_figure(edge_audit, tmp_path):
     # A document from an audit whose method blocks are absent (CONTRACT.md: absent, not empty).
-    import dataclasses
-
-    doc, results = edge_audit
+    doc, material = edge_audit
     bare_doc = {**doc, "results": {"bootstrap": doc["results"]["bootstrap"]}}
-    bare = dataclasses.replace(results, sharpe=None, overfitting=None, snooping=None)
-    write_report(tmp_path / "edge.md", bare_doc, bare)
+    bare = replace(material, logits=None, in_sample=None, out_of_sample=None, deflation_curve=None)
+    # The sections follow the document: absent blocks draw no figure even when material is at hand.
+    write_report(tmp_path / "edge.md", bare_doc, material)
     write_report(tmp_path / "edge.html", bare_doc, bare)
     md = (tmp_path / "edge.md").read_text()
     html = (tmp_path / "edge.html").read_text()
@@ -231,10 +203,10 @@ def test_absent_method_blocks_are_said_absent_and_have_no_figure(edge_audit, tmp
 
 
 def test_method_blocks_present_are_shown_with_every_figure(edge_audit, tmp_path):
-    doc, results = edge_audit
+    doc, material = edge_audit
     full = {**doc, "results": {**doc["results"], "sharpe": SHARPE_BLOCK, "overfitting": OVERFITTING_BLOCK,
                                "snooping": SNOOPING_BLOCK}}
-    with_cscv = _WithOverfitting(results, _CscvArrays(np.random.default_rng(3)))
+    with_cscv = _cscv_arrays(material, np.random.default_rng(3))
     write_report(tmp_path / "full.html", full, with_cscv)
     write_report(tmp_path / "full.md", full, with_cscv)
     html = (tmp_path / "full.html").read_text()
@@ -297,10 +269,10 @@ def hostile(tmp_path_factory):
     frame.to_csv(csv, index=False)
     result = audit(load_sweep(str(csv), LoadOptions()), settings=AuditSettings(seed=1, resamples=200),
                    command=f"sweepaudit audit '{csv}'")
-    doc, results = result.document, result.evidence
+    doc, material = result.document, result.figures
     assert doc["selected"]["configuration"] == HOSTILE
-    write_report(folder / "r.html", doc, results)
-    write_report(folder / "r.md", doc, results)
+    write_report(folder / "r.html", doc, material)
+    write_report(folder / "r.md", doc, material)
     return folder, doc
 
 
@@ -356,7 +328,7 @@ def test_hostile_names_cannot_break_markdown(hostile):
 
 @pytest.mark.parametrize("name", ["out.html", "out.md"])
 def test_failure_midway_leaves_no_report_and_keeps_the_previous_one(edge_audit, tmp_path, monkeypatch, name):
-    doc, results = edge_audit
+    doc, material = edge_audit
     target = tmp_path / name
     target.write_text("previous report")
     before = sorted(p.name for p in tmp_path.iterdir())
@@ -366,26 +338,26 @@ def test_failure_midway_leaves_no_report_and_keeps_the_previous_one(edge_audit, 
 
     monkeypatch.setattr(plots, "sharpe_surface", broken)  # the second figure: midway through rendering
     with pytest.raises(RuntimeError, match="plotting failed"):
-        write_report(target, doc, results)
+        write_report(target, doc, material)
     assert target.read_text() == "previous report"
     assert sorted(p.name for p in tmp_path.iterdir()) == before  # no figures folder, no temp files
     assert not figures_folder(target).exists()
 
 
 def test_failure_midway_leaves_no_new_report(edge_audit, tmp_path, monkeypatch):
-    doc, results = edge_audit
+    doc, material = edge_audit
     monkeypatch.setattr(plots, "sharpe_surface", lambda *a, **k: 1 / 0)
     with pytest.raises(ZeroDivisionError):
-        write_report(tmp_path / "new.md", doc, results)
+        write_report(tmp_path / "new.md", doc, material)
     assert list(tmp_path.iterdir()) == []
 
 
 def test_rewriting_a_markdown_report_replaces_its_figures(edge_audit, tmp_path):
-    doc, results = edge_audit
+    doc, material = edge_audit
     folder = figures_folder(tmp_path / "again.md")
     folder.mkdir()
     (folder / "stale.svg").write_text("old")
-    write_report(tmp_path / "again.md", doc, results)
+    write_report(tmp_path / "again.md", doc, material)
     assert not (folder / "stale.svg").exists()
     assert (folder / "bootstrap_mean.svg").is_file()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["again.md", "again_figures"]
@@ -424,27 +396,6 @@ def test_cli_writes_the_report(tmp_path):
 # the figures' mathematics and rules
 # ---------------------------------------------------------------------------------------------
 
-PAPER = dict(observations=1250, skewness=-3.0, kurtosis=10.0, trial_sharpe_variance=0.5 / 250)
-
-
-@pytest.mark.parametrize("fn", ["deflated_probability", "formula"])
-def test_deflated_curve_reproduces_the_paper_example(fn):
-    sr = 2.5 / math.sqrt(250)
-    if fn == "formula":
-        p = plots._formula_deflated_probability(sr, 1250, -3.0, 10.0, 0.5 / 250, np.array([100.0]))[0]
-    else:
-        p = plots.deflated_probability(sr, trials=[100], **PAPER)[0]
-    # Bailey and Lopez de Prado (2014), section 4, from memory: DSR = 0.9004
-    assert p == pytest.approx(0.9004, abs=5e-4)
-
-
-def test_deflated_curve_falls_with_trials():
-    sr = 2.5 / math.sqrt(250)
-    curve = plots.deflated_probability(sr, trials=[2, 10, 100, 1000, 10000], **PAPER)
-    assert np.all(np.diff(curve) < 0)
-    assert plots.deflated_probability(sr, trials=[1], **PAPER)[0] > curve[0]
-
-
 def _grid_sweep(means, rng, t=400):
     """A 3 x 3 sweep over (fast, slow) whose column means are ``means[i][j]``."""
     names, cols, rows = [], [], []
@@ -468,14 +419,18 @@ def test_report_names_an_isolated_peak_and_not_a_plateau():
     for res, expected in ((lone, True), (plateau, False)):
         assert res.selected == "fast=2, slow=20"
         assert res.surface.neighbours == 4 and res.surface.isolated is expected
-        text = "\n".join(n for s in build_report(res.document, res.evidence).sections for n in s.notes)
+        text = "\n".join(n for s in build_report(res.document, res.figures).sections for n in s.notes)
         assert ("ISOLATED PEAK" in text) is expected
         assert ("It is not an isolated peak" in text) is not expected
 
 
 def test_no_surface_without_two_parameters(edge_audit):
-    doc, results = edge_audit
-    one = replace(results, sweep=replace(results.sweep, parameters=results.sweep.parameters.iloc[:, :1]))
+    doc, material = edge_audit
+    assert plots.sharpe_surface(doc, material) is not None
+    result = audit(load_sweep(str(EDGE), LoadOptions()), settings=AuditSettings(seed=7, resamples=100))
+    evidence = replace(result.evidence, sweep=replace(result.sweep, parameters=result.sweep.parameters.iloc[:, :1]))
+    one = figure_material(evidence)
+    assert one.sharpe_grid is None
     assert plots.sharpe_surface(doc, one) is None
 
 
@@ -484,7 +439,7 @@ def test_ranking_of_a_thousand_configurations_thins_labels():
     from sweepaudit.sweep import sweep_from_array
 
     res = audit(sweep_from_array(rng.normal(0, 0.01, (60, 1000))), settings=AuditSettings(seed=1, resamples=100))
-    fig = plots.sharpe_ranking(res.document, res.evidence)
+    fig = plots.sharpe_ranking(res.document, res.figures)
     root = ET.fromstring(fig.svg)
     texts = [e.text for e in root.iter() if e.tag.endswith("text") and e.text]
     assert sum(bool(re.fullmatch(r"config \d+", t)) for t in texts) == 1  # only the selected one is named

@@ -1,9 +1,11 @@
 """The report's figures, drawn with matplotlib's object API on the Agg/SVG canvases (no GUI, no pyplot).
 
-Every function takes the audit JSON document and the raw material it plots and returns a
-:class:`~sweepaudit.render.report.Figure` (SVG bytes with ``svg.fonttype: none``, so text stays text
-and files stay small; dense point clouds are rasterised inside the SVG). Functions whose raw material
-is absent return None and the report leaves the figure out.
+Every function takes the audit JSON document and the raw material it plots
+(:class:`~sweepaudit.results.FigureMaterial`) and returns a :class:`~sweepaudit.render.report.model.Figure`
+(SVG bytes with ``svg.fonttype: none``, so text stays text and files stay small; dense point clouds are
+rasterised inside the SVG). Functions whose raw material is absent return None and the report leaves
+the figure out. The numbers come from the document or the material; drawing only transforms them for
+display (percent units, cumulative sums of a return series, histogram bins, annualised axes).
 
 Figures are readable in grey-scale print: series differ by line style, hatching and marker, not only
 by colour. The palette is our own, restrained: ink, rust, steel and sand.
@@ -13,7 +15,7 @@ from __future__ import annotations
 
 import io
 import math
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import matplotlib
 
@@ -23,13 +25,10 @@ import numpy as np
 from matplotlib.colors import LinearSegmentedColormap
 from matplotlib.figure import Figure as MplFigure
 from matplotlib.patches import Patch, Rectangle
-from scipy.special import ndtr, ndtri
 
-from ..methods.surface import parameter_grid
-from .report import Figure, figure
-
-if TYPE_CHECKING:
-    from ..audit import AuditResults
+from ...format import figure, level, pct
+from ...results import DeflatedCurve, FigureMaterial
+from .model import Figure
 
 __all__ = [
     "PALETTE",
@@ -39,7 +38,6 @@ __all__ = [
     "logit_histogram",
     "degradation_scatter",
     "deflated_by_trials",
-    "deflated_probability",
     "cumulative_excess",
 ]
 
@@ -84,9 +82,6 @@ _NAMED_RANKING_LIMIT = 50
 _ANNOTATED_CELLS_LIMIT = 150
 _RASTERISE_POINTS = 1_000
 
-#: Euler-Mascheroni constant of the expected-maximum approximation (Bailey and Lopez de Prado 2014).
-EULER_GAMMA = 0.5772156649
-
 
 def _new(width: float, height: float, *, fitted: bool = False, left: float = 0.1, bottom: float = 0.14) -> MplFigure:
     """A figure; ``fitted`` lays it out around labels of unknown length (slower: measures text)."""
@@ -120,23 +115,22 @@ def _sharpe_label(doc: dict) -> tuple[str, bool]:
 # ---------------------------------------------------------------------------------------------
 
 
-def bootstrap_mean(doc: dict, results: AuditResults) -> Figure:
+def bootstrap_mean(doc: dict, material: FigureMaterial) -> Figure:
     """Histogram of the resampled mean excess return (percent per window) with its interval."""
-    k = results.selected_index
-    dist = np.asarray(results.intervals.mean_distribution[:, k], dtype=float) * 100
+    dist = np.asarray(material.mean_distribution, dtype=float) * 100
     sel = doc["results"]["bootstrap"]["selected"]["mean"]
-    level = f"{100 * doc['settings']['confidence']:g}%"
+    interval_level = level(doc["settings"]["confidence"])
 
     def draw():
         fig = _new(6.4, 3.4)
         ax = fig.add_subplot()
         lo, hi = sel["low"] * 100, sel["high"] * 100
         ax.axvspan(lo, hi, facecolor=PALETTE["sand"], alpha=0.45, hatch="///", edgecolor=PALETTE["ink"],
-                   linewidth=0, label=f"{level} interval [{lo:.3g}%, {hi:.3g}%]")
+                   linewidth=0, label=f"{interval_level} interval [{pct(sel['low'])}, {pct(sel['high'])}]")
         ax.hist(dist, bins=60, color=PALETTE["steel"], edgecolor=PALETTE["paper"], linewidth=0.3,
                 label=f"{len(dist):,} resampled means")
         ax.axvline(sel["estimate"] * 100, color=PALETTE["ink"], linewidth=1.8, linestyle="-",
-                   label=f"observed mean {sel['estimate'] * 100:.3g}%")
+                   label=f"observed mean {pct(sel['estimate'])}")
         for edge in (lo, hi):
             ax.axvline(edge, color=PALETTE["ink"], linewidth=1.0, linestyle="--")
         ax.axvline(0, color=PALETTE["rust"], linewidth=1.4, linestyle=":", label="zero: no edge")
@@ -151,7 +145,7 @@ def bootstrap_mean(doc: dict, results: AuditResults) -> Figure:
         "bootstrap_mean",
         "Bootstrap distribution of the mean excess return",
         f"Each bar counts block-bootstrap resamples of the selected configuration's track record by their "
-        f"mean excess return (percent per window). The hatched band is the {level} interval; the dotted line "
+        f"mean excess return (percent per window). The hatched band is the {interval_level} interval; the dotted line "
         "is zero. A band that crosses zero means the data do not rule out no edge.",
         "Histogram of resampled mean excess returns with the confidence interval shaded and zero marked.",
         draw,
@@ -163,7 +157,7 @@ def bootstrap_mean(doc: dict, results: AuditResults) -> Figure:
 # ---------------------------------------------------------------------------------------------
 
 
-def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
+def sharpe_ranking(doc: dict, material: FigureMaterial) -> Figure:
     """Every configuration's Sharpe ratio (annualised when possible) with its interval, sorted."""
     label, annual = _sharpe_label(doc)
     key = "sharpe_annualized" if annual else "sharpe"
@@ -173,10 +167,10 @@ def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
     high = np.array([c[key]["high"] if c.get(key) and c[key]["high"] is not None else np.nan for c in configs], dtype=float)
     names = [c["configuration"] for c in configs]
     order = np.argsort(np.where(np.isfinite(est), est, -np.inf), kind="stable")
-    k = results.selected_index
+    k = material.selected_index
     pos = int(np.flatnonzero(order == k)[0])
     n = len(configs)
-    level = f"{100 * doc['settings']['confidence']:g}%"
+    interval_level = level(doc["settings"]["confidence"])
 
     def draw():
         if n <= _NAMED_RANKING_LIMIT:
@@ -188,7 +182,7 @@ def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
             fig.subplots_adjust(top=1 - 0.35 / height)
             ax = fig.add_subplot()
             y = np.arange(n)
-            ax.hlines(y, low[order], high[order], color=PALETTE["steel"], linewidth=1.6, label=f"{level} interval")
+            ax.hlines(y, low[order], high[order], color=PALETTE["steel"], linewidth=1.6, label=f"{interval_level} interval")
             ax.plot(est[order], y, linestyle="none", marker="o", markersize=3.5, color=PALETTE["ink"], label="estimate")
             ax.plot(est[k], pos, linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
                     markeredgecolor=PALETTE["ink"], label="selected")
@@ -203,7 +197,7 @@ def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
             x = np.arange(1, n + 1)
             many = n > _RASTERISE_POINTS // 2
             ax.vlines(x, low[order], high[order], color=PALETTE["mist"] if many else PALETTE["steel"],
-                      linewidth=0.8 if many else 1.2, label=f"{level} interval", rasterized=many)
+                      linewidth=0.8 if many else 1.2, label=f"{interval_level} interval", rasterized=many)
             ax.plot(x, est[order], linestyle="-", linewidth=1.2, color=PALETTE["ink"], label="estimate")
             ax.plot(pos + 1, est[k], linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
                     markeredgecolor=PALETTE["ink"], label="selected")
@@ -220,7 +214,7 @@ def sharpe_ranking(doc: dict, results: AuditResults) -> Figure:
     return _figure(
         "sharpe_ranking",
         "Sharpe ratio of every configuration",
-        f"Every configuration's {label} with its {level} block-bootstrap interval, sorted from worst "
+        f"Every configuration's {label} with its {interval_level} block-bootstrap interval, sorted from worst "
         "to best; the diamond marks the selected configuration. When most intervals overlap, the ranking "
         "is mostly noise.",
         "Sorted Sharpe ratios of all configurations with interval bars and the selected one marked.",
@@ -242,16 +236,16 @@ def _tick(v: Any) -> str:
     return figure(v) if isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool) else str(v)
 
 
-def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
+def sharpe_surface(doc: dict, material: FigureMaterial) -> Figure | None:
     """Heat map of the Sharpe ratio over a two-parameter grid, the selected cell outlined; else None."""
-    g = parameter_grid(results.sweep.parameters, results.sharpe_ratios, selected=results.selected_index)
+    g = material.sharpe_grid
     if g is None:
         return None
     xs, ys, grid, (r, c) = list(g.x_values), list(g.y_values), g.sharpe, g.selected_cell
     label, annual = _sharpe_label(doc)
     ppy = doc["input"].get("periods_per_year")
     values = grid * math.sqrt(ppy) if annual else grid
-    a, b = results.sweep.parameters.columns
+    a, b = g.x_parameter, g.y_parameter
 
     def draw():
         width = min(9.0, max(4.8, 1.2 + 0.6 * len(xs)))
@@ -268,7 +262,7 @@ def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
                 for j in range(values.shape[1]):
                     v = values[i, j]
                     if np.isfinite(v):
-                        ax.text(j, i, f"{v:.2f}", ha="center", va="center", fontsize=7,
+                        ax.text(j, i, f"{v:.2f}", ha="center", va="center", fontsize=7,  # cell labels: 2 decimals
                                 color=PALETTE["paper"] if v > mid else PALETTE["ink"])
         ax.add_patch(Rectangle((c - 0.5, r - 0.5), 1, 1, fill=False, edgecolor=PALETTE["rust"], linewidth=3,
                                hatch="////", label="selected"))
@@ -301,18 +295,16 @@ def sharpe_surface(doc: dict, results: AuditResults) -> Figure | None:
 # ---------------------------------------------------------------------------------------------
 
 
-def logit_histogram(doc: dict, overfitting: Any) -> Figure | None:
+def logit_histogram(doc: dict, material: FigureMaterial) -> Figure | None:
     """Histogram of the CSCV split logits, the share at or below zero hatched and shaded."""
-    logits = getattr(overfitting, "logits", None)
-    if logits is None:
+    if material.logits is None:
         return None
-    values = np.asarray(logits, dtype=float)
+    values = np.asarray(material.logits, dtype=float)
     values = values[np.isfinite(values)]
     if values.size == 0:
         return None
     block = doc["results"].get("overfitting") or {}
-    pbo = block.get("probability_of_overfitting")
-    share = float(np.mean(values <= 0)) if pbo is None else pbo
+    share = block.get("probability_of_overfitting")
 
     def draw():
         fig = _new(6.4, 3.4)
@@ -347,23 +339,20 @@ def logit_histogram(doc: dict, overfitting: Any) -> Figure | None:
     )
 
 
-def degradation_scatter(doc: dict, overfitting: Any) -> Figure | None:
+def degradation_scatter(doc: dict, material: FigureMaterial) -> Figure | None:
     """In-sample vs out-of-sample statistic of the in-sample winner per split, with the degradation line."""
-    ins = getattr(overfitting, "in_sample", None)
-    oos = getattr(overfitting, "out_of_sample", None)
-    if ins is None or oos is None:
+    if material.in_sample is None or material.out_of_sample is None:
         return None
-    x = np.asarray(ins, dtype=float)
-    y = np.asarray(oos, dtype=float)
+    x = np.asarray(material.in_sample, dtype=float)
+    y = np.asarray(material.out_of_sample, dtype=float)
     ok = np.isfinite(x) & np.isfinite(y)
     x, y = x[ok], y[ok]
     if x.size == 0:
         return None
     deg = (doc["results"].get("overfitting") or {}).get("degradation") or {}
-    slope = deg.get("slope", getattr(overfitting, "degradation_slope", None))
-    intercept = deg.get("intercept", getattr(overfitting, "degradation_intercept", None))
-    statistic = getattr(overfitting, "statistic", "sharpe")
-    unit = "Sharpe ratio per window" if statistic == "sharpe" else "mean excess return per window"
+    slope = deg.get("slope")
+    intercept = deg.get("intercept")
+    unit = "Sharpe ratio per window" if material.split_statistic == "sharpe" else "mean excess return per window"
 
     def draw():
         fig = _new(5.6, 4.0, left=0.14, bottom=0.12)
@@ -399,104 +388,23 @@ def degradation_scatter(doc: dict, overfitting: Any) -> Figure | None:
 # ---------------------------------------------------------------------------------------------
 
 
-def _formula_deflated_probability(sharpe, observations, skewness, kurtosis, variance, trials) -> np.ndarray:
-    """DSR by Bailey and Lopez de Prado (2014), eqs. (2) and (5), vectorised over ``trials``.
-
-    SR0(N) = sqrt(V) * ((1 - g) * Phi^-1(1 - 1/N) + g * Phi^-1(1 - 1/(N e))), the expected maximum
-    floored at 0 (N = 1 gives no selection premium); DSR = Phi((SR - SR0) sqrt(n - 1) /
-    sqrt(1 - skew SR + (kurt - 1)/4 SR^2)).
-    """
-    n_trials = np.asarray(trials, dtype=float)
-    expected_max = (1 - EULER_GAMMA) * ndtri(1 - 1 / n_trials) + EULER_GAMMA * ndtri(1 - 1 / (n_trials * math.e))
-    benchmark = math.sqrt(variance) * np.maximum(expected_max, 0.0)
-    spread = 1 - skewness * sharpe + (kurtosis - 1) / 4 * sharpe**2
-    if not spread > 0:
-        return np.full(n_trials.shape, np.nan)
-    return ndtr((sharpe - benchmark) * math.sqrt(observations - 1) / math.sqrt(spread))
-
-
-try:  # the methods layer's implementation, when present, is the one the audit's own figure uses
-    from ..methods.sharpe import deflated_sharpe as _deflated_sharpe
-except ImportError:  # pragma: no cover - depends on which methods are installed
-    _deflated_sharpe = None
-
-
-def deflated_probability(sharpe, *, observations, skewness, kurtosis, trial_sharpe_variance, trials) -> np.ndarray:
-    """Deflated Sharpe probability for each number of trials in ``trials``.
-
-    Calls :func:`sweepaudit.methods.sharpe.deflated_sharpe` when that module exists, else the formula
-    of Bailey and Lopez de Prado (2014), eqs. (2) and (5).
-    """
-    counts = np.atleast_1d(np.asarray(trials, dtype=float))
-    if _deflated_sharpe is not None:
-        return np.array([
-            _deflated_sharpe(sharpe, observations=observations, trials=float(t),
-                             trial_sharpe_variance=trial_sharpe_variance, skewness=skewness,
-                             kurtosis=kurtosis).probability
-            for t in counts
-        ])
-    return _formula_deflated_probability(sharpe, observations, skewness, kurtosis, trial_sharpe_variance, counts)
-
-
-def _sharpe_inputs(doc: dict, results: AuditResults | None) -> dict | None:
-    """The DSR inputs from the JSON's sharpe block, else from ``results.sharpe``; None when absent."""
-    block = doc["results"].get("sharpe")
-    if block is not None:
-        d = block.get("deflated") or {}
-        inputs = {
-            "sharpe": block.get("observed"),
-            "observations": block.get("observations"),
-            "skewness": block.get("skewness"),
-            "kurtosis": block.get("kurtosis"),
-            "trial_sharpe_variance": d.get("trial_sharpe_variance"),
-            "trials": d.get("trials"),
-            "effective_trials": d.get("effective_trials"),
-            "probability": d.get("probability"),
-        }
-    else:
-        s = getattr(results, "sharpe", None) if results is not None else None
-        if s is None:
-            return None
-        deflated = getattr(s, "deflated", s)
-        inputs = {
-            "sharpe": getattr(s, "observed", None),
-            "observations": getattr(s, "observations", None),
-            "skewness": getattr(s, "skewness", None),
-            "kurtosis": getattr(s, "kurtosis", None),
-            "trial_sharpe_variance": getattr(deflated, "trial_sharpe_variance", None),
-            "trials": getattr(deflated, "trials", None),
-            "effective_trials": getattr(deflated, "effective_trials", None),
-            "probability": getattr(deflated, "probability", None),
-        }
-    needed = ("sharpe", "observations", "skewness", "kurtosis", "trial_sharpe_variance", "trials")
-    if any(inputs[k] is None for k in needed) or inputs["trial_sharpe_variance"] <= 0:
-        return None
-    return inputs
-
-
-def deflated_by_trials(doc: dict, results: AuditResults | None) -> Figure | None:
+def deflated_by_trials(doc: dict, curve: DeflatedCurve | None) -> Figure | None:
     """Deflated Sharpe probability against the number of trials, the trials counted marked."""
-    p = _sharpe_inputs(doc, results)
-    if p is None:
+    if curve is None:
         return None
-    used = float(p["trials"])
-    top = max(1_000.0, 10 * used)
-    counts = np.unique(np.round(np.geomspace(1, top, 160)))
-    kwargs = {k: float(p[k]) for k in ("observations", "skewness", "kurtosis", "trial_sharpe_variance")}
-    curve = deflated_probability(float(p["sharpe"]), trials=counts, **kwargs)
-    at_used = float(deflated_probability(float(p["sharpe"]), trials=[used], **kwargs)[0])
 
     def draw():
         fig = _new(6.4, 3.6, left=0.15)
         ax = fig.add_subplot()
-        ax.plot(counts, curve, color=PALETTE["ink"], linewidth=1.8, linestyle="-", label="deflated Sharpe probability")
+        used, at_used = curve.trials_counted, curve.at_trials_counted
+        ax.plot(curve.trials, curve.probability, color=PALETTE["ink"], linewidth=1.8, linestyle="-",
+                label="deflated Sharpe probability")
         ax.axhline(0.95, color=PALETTE["steel"], linestyle=":", linewidth=1.2, label="0.95 (conventional level)")
         ax.axvline(used, color=PALETTE["rust"], linestyle="--", linewidth=1.2)
         ax.plot(used, at_used, linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
-                markeredgecolor=PALETTE["ink"], label=f"trials counted: {figure(p['trials'])} -> {figure(at_used)}")
-        eff = p.get("effective_trials")
-        if eff is not None and eff >= 1 and abs(eff - used) > 1e-9:
-            at_eff = float(deflated_probability(float(p["sharpe"]), trials=[float(eff)], **kwargs)[0])
+                markeredgecolor=PALETTE["ink"], label=f"trials counted: {figure(used)} -> {figure(at_used)}")
+        if curve.effective_trials is not None:
+            eff, at_eff = curve.effective_trials, curve.at_effective_trials
             ax.plot(eff, at_eff, linestyle="none", marker="s", markersize=7, markerfacecolor=PALETTE["paper"],
                     markeredgecolor=PALETTE["ink"], label=f"effective trials: {figure(eff)} -> {figure(at_eff)}")
         ax.set_xscale("log")
@@ -523,22 +431,22 @@ def deflated_by_trials(doc: dict, results: AuditResults | None) -> Figure | None
 # ---------------------------------------------------------------------------------------------
 
 
-def cumulative_excess(doc: dict, results: AuditResults) -> Figure:
+def cumulative_excess(doc: dict, material: FigureMaterial) -> Figure:
     """Cumulative sum of the selected configuration's excess returns (percent), dates on the x axis."""
-    sweep = results.sweep
-    k = results.selected_index
-    path = np.cumsum(sweep.returns[:, k]) * 100
-    average = np.cumsum(sweep.returns.mean(axis=1)) * 100
-    dated = sweep.dates is not None
-    x = sweep.dates if dated else np.arange(1, sweep.n_windows + 1)
+    returns = material.returns
+    configurations = returns.shape[1]
+    path = np.cumsum(returns[:, material.selected_index]) * 100
+    average = np.cumsum(returns.mean(axis=1)) * 100
+    dated = material.dates is not None
+    x = material.dates if dated else np.arange(1, returns.shape[0] + 1)
 
     def draw():
         fig = _new(6.8, 3.4)
         ax = fig.add_subplot()
         ax.plot(x, path, color=PALETTE["ink"], linewidth=1.6, linestyle="-", label="selected configuration")
-        if sweep.n_configurations > 1:
+        if configurations > 1:
             ax.plot(x, average, color=PALETTE["steel"], linewidth=1.3, linestyle="--",
-                    label=f"average of all {sweep.n_configurations:,} configurations")
+                    label=f"average of all {configurations:,} configurations")
         ax.axhline(0, color=PALETTE["rust"], linestyle=":", linewidth=1)
         ax.set_xlabel("window end date" if dated else "window")
         ax.set_ylabel("cumulative excess return (%, summed)")

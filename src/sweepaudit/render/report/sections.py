@@ -1,82 +1,30 @@
-"""The audit report a researcher attaches to a research memo: one section model, two formats.
+"""The report's sections, one small function per block of the audit JSON document.
 
-:func:`build_report` turns the audit JSON document (the contract) plus the :class:`AuditResults`
-(for the raw material of the figures: bootstrap distributions, CSCV splits, the return series) into
-a list of :class:`Section`. The Markdown and HTML renderers only lay that list out, so both formats
-show the same sections, the same figures and the same numbers, each number formatted by
-:func:`figure`.
+:func:`build_report` turns the document (the contract) plus the :class:`~sweepaudit.results.FigureMaterial`
+(the raw material of the figures: bootstrap distributions, CSCV splits, the return series, the
+deflated-Sharpe curve) into a :class:`~sweepaudit.render.report.model.Report`. The Markdown and HTML
+renderers only lay it out, so both formats show the same sections, figures and numbers, each number
+formatted by :func:`sweepaudit.format.figure`.
 
-Each method block of the JSON has one small section function. A block the audit did not produce
-(``results.sharpe``, ``results.overfitting``, ``results.snooping`` before those methods ran) gives
-a section that says plainly that it is absent; a figure whose raw material is absent is left out.
-
-:func:`write_report` picks the format from the file suffix and writes atomically: everything is
-rendered in memory first, so an error midway leaves no partial report and no figures folder.
+A block the audit did not produce gives a section that says plainly that it is absent; a figure
+whose raw material is absent is left out.
 """
 
 from __future__ import annotations
 
-import math
-import os
-import shutil
-import tempfile
 from collections.abc import Callable
-from dataclasses import dataclass, field
-from pathlib import Path
-from typing import TYPE_CHECKING, Any, Literal
 
-import numpy as np
+from ...format import figure, pct
+from ...results import FigureMaterial
+from . import plots
+from .model import Figure, Report, Section, Table
 
-from ..errors import InputError
-
-if TYPE_CHECKING:
-    from ..audit import AuditResults
-
-__all__ = [
-    "REPORT_FORMATS",
-    "Figure",
-    "Table",
-    "Section",
-    "Report",
-    "figure",
-    "report_format",
-    "check_report_path",
-    "figures_folder",
-    "build_report",
-    "write_report",
-]
-
-ReportFormat = Literal["markdown", "html"]
-REPORT_FORMATS: dict[str, ReportFormat] = {".md": "markdown", ".html": "html"}
+__all__ = ["SECTIONS", "build_report"]
 
 
-# ---------------------------------------------------------------------------------------------
-# formatting: the one helper every figure in the report goes through (the tests use it too)
-# ---------------------------------------------------------------------------------------------
-
-
-def figure(value: Any, digits: int = 4) -> str:
-    """A number for the report: 4 significant digits; whole numbers with thousands separators.
-
-    ``None`` (a figure the audit could not compute) becomes "n/a"; booleans become "yes" / "no".
-    """
-    if value is None:
-        return "n/a"
-    if isinstance(value, (bool, np.bool_)):
-        return "yes" if value else "no"
-    if isinstance(value, (int, np.integer)):
-        return f"{int(value):,}"
-    x = float(value)
-    if not math.isfinite(x):
-        return "n/a"
-    if x == 0:
-        return "0"
-    return f"{x:.{digits}g}"
-
-
-def _pct(value: Any) -> str:
+def _pct(value) -> str:
     """A fraction as a percentage, for prose only (tables carry the fraction through :func:`figure`)."""
-    return "n/a" if value is None else f"{100 * float(value):.3g}%"
+    return pct(value, missing="n/a")
 
 
 def _interval(block: dict | None) -> str:
@@ -86,79 +34,17 @@ def _interval(block: dict | None) -> str:
 
 
 # ---------------------------------------------------------------------------------------------
-# the section model
-# ---------------------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class Figure:
-    """A rendered plot: SVG bytes plus the words a reader needs."""
-
-    name: str  # file stem, e.g. "bootstrap_mean"
-    title: str
-    caption: str  # what the figure shows and how to read it
-    alt: str
-    svg: bytes
-
-
-@dataclass(frozen=True)
-class Table:
-    columns: tuple[str, ...]
-    rows: tuple[tuple[str, ...], ...]
-    caption: str = ""
-    collapsed: bool = False  # long tables: folded in HTML (a <details> element), shown in Markdown
-    highlight: int | None = None  # row to emphasise (the selected configuration)
-
-
-@dataclass(frozen=True)
-class Section:
-    """One section: plain-language paragraphs, facts, tables, figures, and the method's reference."""
-
-    id: str
-    title: str
-    meaning: tuple[str, ...] = ()  # what it means, in plain words
-    facts: tuple[tuple[str, str], ...] = ()  # label, value
-    tables: tuple[Table, ...] = ()
-    figures: tuple[Figure, ...] = ()
-    notes: tuple[str, ...] = ()  # bullets: findings, absent blocks
-    code: str | None = None  # a command to copy
-    references: tuple[str, ...] = ()
-    absent: bool = False  # the audit did not produce this block
-
-
-@dataclass(frozen=True)
-class Report:
-    title: str
-    verdict: str  # "go" | "no-go"
-    verdict_words: str
-    selected: str
-    rule: str
-    reasons: tuple[str, ...]
-    caution: str
-    headline: tuple[tuple[str, str], ...]
-    input_path: str
-    sections: tuple[Section, ...]
-    tool: str
-
-    @property
-    def figures(self) -> tuple[Figure, ...]:
-        return tuple(f for s in self.sections for f in s.figures)
-
-
-
-
-# ---------------------------------------------------------------------------------------------
 # sections: one small function per block
 # ---------------------------------------------------------------------------------------------
 
-SectionFunction = Callable[[dict, "AuditResults | None"], Section]
+SectionFunction = Callable[[dict, "FigureMaterial | None"], Section]
 
 
 def _annual(doc: dict) -> bool:
     return doc["input"].get("periods_per_year") is not None
 
 
-def _data_section(doc: dict, results: AuditResults | None) -> Section:
+def _data_section(doc: dict, material: FigureMaterial | None) -> Section:
     inp, st = doc["input"], doc["settings"]
     ppy = inp.get("periods_per_year")
     facts = [
@@ -205,39 +91,19 @@ def _data_section(doc: dict, results: AuditResults | None) -> Section:
     )
 
 
-def _selection_section(doc: dict, results: AuditResults | None) -> Section:
-    from . import plots
-
+def _selection_section(doc: dict, material: FigureMaterial | None) -> Section:
     sel = doc["selected"]
     figs: list[Figure] = []
     notes: list[str] = []
-    if results is not None:
-        figs.append(plots.sharpe_ranking(doc, results))
-        surface = plots.sharpe_surface(doc, results)
+    if material is not None:
+        figs.append(plots.sharpe_ranking(doc, material))
+        surface = plots.sharpe_surface(doc, material)
         if surface is not None:
             figs.append(surface)
-        peak = results.surface
-        if peak is not None:
-            words = (
-                f"The selected cell's Sharpe ratio ({figure(peak.sharpe)} per window) compares with a mean of "
-                f"{figure(peak.neighbour_mean)} over its {peak.neighbours} grid neighbours (one step along one "
-                f"parameter), a gap of {figure(peak.gap_in_standard_errors)} bootstrap standard errors "
-                f"(standard error {figure(peak.standard_error)}). The rule: an isolated peak is one whose "
-                "neighbours reach less than half its Sharpe ratio and stay within one standard error of zero."
-            )
-            if peak.isolated:
-                words += (
-                    " It is an ISOLATED PEAK among weak neighbours: a setting that works alone while its "
-                    "neighbours do not is what selection luck looks like; treat the edge with suspicion."
-                )
-            else:
-                words += (
-                    " It is not an isolated peak: nearby settings "
-                    + ("reach at least half its Sharpe ratio." if peak.neighbours_reach_half
-                       else "show an edge of their own, more than one standard error above zero.")
-                )
-            notes.append(words)
-        figs.append(plots.cumulative_excess(doc, results))
+        block = doc["results"].get("surface")
+        if block is not None and material.surface is not None:
+            notes.append(_surface_words(block, material.surface.neighbours_reach_half))
+        figs.append(plots.cumulative_excess(doc, material))
     n = doc["input"]["configurations"]
     return Section(
         "selection",
@@ -259,9 +125,27 @@ def _selection_section(doc: dict, results: AuditResults | None) -> Section:
     )
 
 
-def _intervals_section(doc: dict, results: AuditResults | None) -> Section:
-    from . import plots
+def _surface_words(block: dict, reach_half: bool) -> str:
+    """The parameter-surface note; ``reach_half`` says which part of the rule a non-isolated cell fails."""
+    words = (
+        f"The selected cell's Sharpe ratio ({figure(block['selected_sharpe'])} per window) compares with a mean of "
+        f"{figure(block['neighbour_mean_sharpe'])} over its {block['neighbours']} grid neighbours (one step along one "
+        f"parameter), a gap of {figure(block['gap_in_standard_errors'])} bootstrap standard errors "
+        f"(standard error {figure(block['standard_error'])}). The rule: an isolated peak is one whose "
+        "neighbours reach less than half its Sharpe ratio and stay within one standard error of zero."
+    )
+    if block["isolated_peak"]:
+        return words + (
+            " It is an ISOLATED PEAK among weak neighbours: a setting that works alone while its "
+            "neighbours do not is what selection luck looks like; treat the edge with suspicion."
+        )
+    return words + " It is not an isolated peak: nearby settings " + (
+        "reach at least half its Sharpe ratio." if reach_half
+        else "show an edge of their own, more than one standard error above zero."
+    )
 
+
+def _intervals_section(doc: dict, material: FigureMaterial | None) -> Section:
     st = doc["settings"]
     boot = doc["results"]["bootstrap"]
     sel = boot["selected"]
@@ -295,7 +179,7 @@ def _intervals_section(doc: dict, results: AuditResults | None) -> Section:
         highlight=next((i for i, c in enumerate(boot["configurations"])
                         if c["configuration"] == doc["selected"]["configuration"]), None),
     )
-    figs = [plots.bootstrap_mean(doc, results)] if results is not None else []
+    figs = [plots.bootstrap_mean(doc, material)] if material is not None else []
     m = sel["mean"]
     words = (
         f"The selected configuration earned {_pct(m['estimate'])} per window over the benchmark; "
@@ -344,9 +228,7 @@ _SHARPE_REFS = (
 )
 
 
-def _sharpe_section(doc: dict, results: AuditResults | None) -> Section:
-    from . import plots
-
+def _sharpe_section(doc: dict, material: FigureMaterial | None) -> Section:
     title = "The Sharpe ratio after allowing for the search"
     meaning = (
         "The deflated Sharpe ratio asks how likely the selected configuration's true Sharpe ratio is above "
@@ -387,7 +269,7 @@ def _sharpe_section(doc: dict, results: AuditResults | None) -> Section:
             + ("strong evidence of skill beyond the search." if dsr["probability"] >= 0.95
                else "not enough to tell skill from the luck of the search.")
         )
-    curve = plots.deflated_by_trials(doc, results)
+    curve = plots.deflated_by_trials(doc, material.deflation_curve) if material is not None else None
     return Section(
         "sharpe",
         title,
@@ -404,9 +286,7 @@ _CSCV_REFS = (
 )
 
 
-def _overfitting_section(doc: dict, results: AuditResults | None) -> Section:
-    from . import plots
-
+def _overfitting_section(doc: dict, material: FigureMaterial | None) -> Section:
     title = "Backtest overfitting: does the in-sample winner keep winning? (CSCV)"
     meaning = (
         "The track record is cut into blocks and split every possible way into two halves. In each split "
@@ -446,10 +326,9 @@ def _overfitting_section(doc: dict, results: AuditResults | None) -> Section:
         "above zero (the intercept and the probability of loss), not the sign of the slope."
     )
     figs: list[Figure] = []
-    ov = getattr(results, "overfitting", None) if results is not None else None
-    if ov is not None:
+    if material is not None:
         for maker in (plots.logit_histogram, plots.degradation_scatter):
-            f = maker(doc, ov)
+            f = maker(doc, material)
             if f is not None:
                 figs.append(f)
     return Section("overfitting", title, meaning=tuple(words), facts=tuple(facts), tables=tables,
@@ -465,7 +344,7 @@ _SNOOP_REFS = (
 )
 
 
-def _snooping_section(doc: dict, results: AuditResults | None) -> Section:
+def _snooping_section(doc: dict, material: FigureMaterial | None) -> Section:
     title = "Could the best result be luck? Data-snooping tests"
     meaning = (
         "These tests ask whether the best configuration beats the benchmark by more than the best of this "
@@ -520,7 +399,7 @@ def _extra_facts(block: dict, known: set, prefix: str = "") -> list[tuple[str, s
     return out
 
 
-def _checks_section(doc: dict, results: AuditResults | None) -> Section:
+def _checks_section(doc: dict, material: FigureMaterial | None) -> Section:
     rows = tuple(
         (
             c["id"],
@@ -551,7 +430,7 @@ def _checks_section(doc: dict, results: AuditResults | None) -> Section:
     )
 
 
-def _warnings_section(doc: dict, results: AuditResults | None) -> Section:
+def _warnings_section(doc: dict, material: FigureMaterial | None) -> Section:
     notes = tuple(doc["warnings"]) or ("No warnings.",)
     return Section(
         "warnings",
@@ -561,7 +440,7 @@ def _warnings_section(doc: dict, results: AuditResults | None) -> Section:
     )
 
 
-def _reproduce_section(doc: dict, results: AuditResults | None) -> Section:
+def _reproduce_section(doc: dict, material: FigureMaterial | None) -> Section:
     rep = doc.get("reproduce") or {}
     tool = doc.get("tool") or {}
     facts = (
@@ -597,7 +476,7 @@ SECTIONS: tuple[SectionFunction, ...] = (
 )
 
 
-def _headline(doc: dict, results: AuditResults | None = None) -> tuple[tuple[str, str], ...]:
+def _headline(doc: dict) -> tuple[tuple[str, str], ...]:
     sel = doc["results"]["bootstrap"]["selected"]
     annual = _annual(doc)
     out = [
@@ -613,17 +492,17 @@ def _headline(doc: dict, results: AuditResults | None = None) -> tuple[tuple[str
     ov = doc["results"].get("overfitting")
     if ov and ov.get("probability_of_overfitting") is not None:
         out.append(("probability of overfitting", figure(ov["probability_of_overfitting"])))
-    peak = results.surface if results is not None else None
-    if peak is not None:
+    surface = doc["results"].get("surface")
+    if surface is not None:
         out.append((
             "parameter surface",
-            "ISOLATED PEAK among weak neighbours" if peak.isolated else "not an isolated peak",
+            "ISOLATED PEAK among weak neighbours" if surface["isolated_peak"] else "not an isolated peak",
         ))
     return tuple(out)
 
 
-def build_report(doc: dict, results: AuditResults | None = None) -> Report:
-    """The report's sections from the audit JSON document and (for figures) the audit results."""
+def build_report(doc: dict, material: FigureMaterial | None = None) -> Report:
+    """The report's sections from the audit JSON document and (for figures) their raw material."""
     go = doc["verdict"] == "go"
     words = (
         "The evidence supports the selected configuration's edge under the policy applied."
@@ -639,108 +518,10 @@ def build_report(doc: dict, results: AuditResults | None = None) -> Report:
         rule=doc["selected"]["rule"],
         reasons=tuple(doc["reasons"]),
         caution=doc["caution"],
-        headline=_headline(doc, results),
+        headline=_headline(doc),
         input_path=doc["input"]["path"],
-        sections=tuple(fn(doc, results) for fn in SECTIONS),
+        sections=tuple(fn(doc, material) for fn in SECTIONS),
         tool=f"{tool.get('name', 'sweepaudit')} {tool.get('version', '')}".strip(),
     )
 
 
-# ---------------------------------------------------------------------------------------------
-# writing
-# ---------------------------------------------------------------------------------------------
-
-
-def report_format(path: str | os.PathLike) -> ReportFormat:
-    """The report format from the file suffix (.md or .html); InputError for any other."""
-    suffix = Path(path).suffix.lower()
-    if suffix not in REPORT_FORMATS:
-        raise InputError(
-            f"--report: cannot tell the format of {str(path)!r} from its suffix {suffix or '(none)'!r}; "
-            "use a file name ending in .md (Markdown) or .html (HTML)"
-        )
-    return REPORT_FORMATS[suffix]
-
-
-def check_report_path(path: str | os.PathLike) -> None:
-    """Validate a report path before the audit runs: known suffix, existing folder."""
-    report_format(path)
-    target = Path(path)
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"--report: cannot write {target}: folder {folder} does not exist")
-    if target.is_dir():
-        raise InputError(f"--report: {target} is a folder; give a file name ending in .md or .html")
-
-
-def figures_folder(path: str | os.PathLike) -> Path:
-    """Where a Markdown report's figures go: ``<stem>_figures/`` beside the .md file."""
-    target = Path(path)
-    return target.with_name(f"{target.stem}_figures")
-
-
-def write_report(path: str | os.PathLike, doc: dict, results: AuditResults | None = None) -> None:
-    """Render the report fully in memory, then write it atomically (figures first for Markdown).
-
-    An error while rendering leaves the disk untouched: no partial report, no figures folder, and a
-    previous report at ``path`` stays as it was.
-    """
-    from .files import write_atomic
-
-    fmt = report_format(path)
-    check_report_path(path)
-    report = build_report(doc, results)
-    target = Path(path)
-    if fmt == "html":
-        from .html import render_html
-
-        write_atomic(target, render_html(report))
-        _share(target)
-        return
-    from .markdown import render_markdown
-
-    folder = figures_folder(target)
-    text = render_markdown(report, figures_dir=folder.name)
-    try:
-        _write_markdown(target, text, {f"{f.name}.svg": f.svg for f in report.figures}, folder)
-    except OSError as exc:
-        raise InputError(f"--report: cannot write {target} and its figures in {folder}: {exc.strerror or exc}") from None
-
-
-def _share(path: Path, *, folder: bool = False) -> None:
-    """Give a finished report the permissions of any file the user creates (temporary files are private)."""
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(path, (0o777 if folder else 0o666) & ~mask)
-
-
-def _write_markdown(target: Path, text: str, files: dict[str, bytes], folder: Path) -> None:
-    """Figures into a temporary folder, swapped in by rename; the .md written last, atomically."""
-    from .files import write_atomic
-
-    parent = target.parent if str(target.parent) else Path(".")
-    staging = Path(tempfile.mkdtemp(prefix=f".{folder.name}.", suffix=".tmp", dir=parent))
-    old: Path | None = None
-    try:
-        for name, data in files.items():
-            (staging / name).write_bytes(data)
-            _share(staging / name)
-        _share(staging, folder=True)
-        if folder.exists():
-            old = Path(tempfile.mkdtemp(prefix=f".{folder.name}.", suffix=".old", dir=parent))
-            os.rmdir(old)
-            os.replace(folder, old)
-        os.replace(staging, folder)
-        try:
-            write_atomic(target, text)
-            _share(target)
-        except BaseException:
-            shutil.rmtree(folder, ignore_errors=True)
-            if old is not None:
-                os.replace(old, folder)
-                old = None
-            raise
-    finally:
-        shutil.rmtree(staging, ignore_errors=True)
-        if old is not None:
-            shutil.rmtree(old, ignore_errors=True)

@@ -12,7 +12,7 @@ import re
 
 from jinja2 import Environment, PackageLoader, StrictUndefined
 
-from .report import Figure, Report
+from .model import Figure, Report
 
 __all__ = ["render_html"]
 
@@ -26,7 +26,7 @@ def _data_uri(fig: Figure) -> str:
 
 def _environment() -> Environment:
     env = Environment(
-        loader=PackageLoader("sweepaudit.render", "templates"),
+        loader=PackageLoader("sweepaudit.render.report", "templates"),
         autoescape=True,  # every template, whatever its name: user strings are never markup
         undefined=StrictUndefined,
         trim_blocks=True,

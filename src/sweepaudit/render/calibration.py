@@ -1,0 +1,62 @@
+"""Terminal output of ``sweepaudit calibrate``: formats the calibration JSON document only."""
+
+from __future__ import annotations
+
+from rich.console import Console
+from rich.table import Table
+
+from ..format import level, pct_fixed, rate, sig
+
+__all__ = ["render_calibration"]
+
+
+def _rate(block: dict | None) -> str:
+    return "n/a" if block is None else rate(block["rate"], block["standard_error"])
+
+
+def _check_table(document: dict) -> Table:
+    power = document["power"]
+    table = Table(title="Failure rate of each check", show_lines=False)
+    table.add_column("check")
+    table.add_column("required")
+    table.add_column("null sweeps", justify="right")
+    if power is not None:
+        table.add_column("with the edge", justify="right")
+    edged = {c["id"]: c for c in power["checks"]} if power is not None else {}
+    for c in document["null"]["checks"]:
+        row = [c["id"], "yes" if c["required"] else "advisory", _rate(c["failure"])]
+        if power is not None:
+            row.append(_rate(edged[c["id"]]["failure"]) if c["id"] in edged else "n/a")
+        table.add_row(*row)
+    return table
+
+
+def render_calibration(document: dict, console: Console | None = None) -> None:
+    """Print the calibration: the false-go rate, the power, each check's failure rate."""
+    console = console or Console()
+    significance = document["policy"]["significance"]
+    false_go = document["false_go"]
+    console.print(
+        f"Calibration of {document['input']['path']} ({document['input']['windows']} windows x "
+        f"{document['input']['configurations']} configurations), selected {document['selected']['configuration']!r}; "
+        f"its own verdict: {document['observed_verdict']}."
+    )
+    console.print(
+        f"False-go rate on {false_go['sweeps']} null sweeps shaped like this one: {_rate(false_go)} "
+        f"(Monte Carlo standard error; 95% upper bound {pct_fixed(false_go['upper_95'])}), "
+        f"against the policy's significance level of {level(significance)}."
+    )
+    power = document["power"]
+    if power is not None:
+        console.print(
+            f"Power against an edge of annualised Sharpe {sig(power['edge_annualized_sharpe'], 6)} planted in the selected "
+            f"configuration: {_rate(power['go'])}; the audit judged the edged configuration in "
+            f"{_rate(power['planted_selected'])} of those sweeps."
+        )
+    console.print(_check_table(document))
+    if false_go["rate"] is not None and false_go["lower_95"] > significance:
+        console.print(
+            f"The false-go rate is above {level(significance)} beyond Monte Carlo error: under this policy the verdict "
+            "says go too often on sweeps like this one."
+        )
+    console.print(f"Reproduce: {document['command']}")
