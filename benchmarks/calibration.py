@@ -32,7 +32,8 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT / "src"))
 
 from sweepaudit import __version__  # noqa: E402
-from sweepaudit.calibration import FAMILIES, calibrate_verdict, calibration_to_dict  # noqa: E402
+from sweepaudit.calibration import FAMILIES, calibrate_verdict  # noqa: E402
+from sweepaudit.document import calibration_block  # noqa: E402
 from sweepaudit.policy import DEFAULT_POLICY  # noqa: E402
 
 PERIODS_PER_YEAR = 52.0
@@ -111,7 +112,7 @@ def run_scenario(job: tuple[int, str, int, int, int, int, int]) -> dict:
         "years": t / PERIODS_PER_YEAR,
         "seed": scenario_seed,
         "seconds": round(seconds, 1),
-        **calibration_to_dict(cal),
+        **calibration_block(cal),
     }
 
 

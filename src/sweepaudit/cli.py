@@ -23,6 +23,8 @@ from rich.console import Console
 from ._version import __version__
 from .api import audit
 from .baseline import read_baseline
+from .calibration import calibrate_sweep
+from .document import calibration_document
 from .errors import InputError, SweepAuditError
 from .read import LoadOptions, load_sweep
 from .results import AuditSettings, Evidence
@@ -439,7 +441,6 @@ def calibrate_command(
 
       sweepaudit calibrate sweep.parquet --sweeps 500 --edge 0.5 --json calibration.json
     """
-    from .calibration import calibrate_sweep, sweep_calibration_to_dict
 
     stderr = Console(stderr=True)
     try:
@@ -479,8 +480,9 @@ def calibrate_command(
         if trials is not None:
             words += ["--trials", str(trials)]
         words += ["--sweeps", str(sweeps), "--edge", f"{edge:g}", "--resamples", str(resamples), "--seed", str(seed)]
-        document = sweep_calibration_to_dict(result, command=" ".join(shlex.quote(w) for w in words))
-        document["policy"]["source"] = loaded.source
+        document = calibration_document(
+            result, command=" ".join(shlex.quote(w) for w in words), policy_source=loaded.source
+        )
         if json_path is not None:
             write_atomic(json_path, dumps(document))
     except SweepAuditError as exc:

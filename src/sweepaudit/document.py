@@ -18,9 +18,20 @@ from typing import Any
 
 import numpy as np
 
-from ._version import AUDIT_SCHEMA, __version__
+from ._version import AUDIT_SCHEMA, CALIBRATION_SCHEMA, __version__
 from .methods.surface import parameter_grid
-from .results import BaselineComparison, Evidence, FigureMaterial, GatedMove, Interval, LedgerTally, Verdict
+from .results import (
+    BaselineComparison,
+    Evidence,
+    FigureMaterial,
+    GatedMove,
+    Interval,
+    LedgerTally,
+    Rate,
+    SweepCalibration,
+    Verdict,
+    VerdictCalibration,
+)
 
 __all__ = [
     "CAUTION",
@@ -30,6 +41,8 @@ __all__ = [
     "ledger_block",
     "audit_document",
     "figure_material",
+    "calibration_block",
+    "calibration_document",
 ]
 
 CAUTION = (
@@ -441,3 +454,81 @@ def figure_material(evidence: Evidence) -> FigureMaterial:
         deflation_curve=evidence.deflation_curve,
         surface=evidence.surface,
     )
+
+
+# ---------------------------------------------------------------------------------------------
+# the calibration document (schema sweepaudit.calibration/1)
+
+
+def _rate(r: Rate) -> dict:
+    def num(v: float):
+        return None if not math.isfinite(v) else float(v)
+
+    return {
+        "rate": num(r.rate),
+        "standard_error": num(r.standard_error),
+        "upper_95": num(r.upper_95),
+        "lower_95": num(r.lower_95),
+        "events": r.events,
+        "sweeps": r.trials,
+    }
+
+
+def calibration_block(calibration: VerdictCalibration) -> dict:
+    """The JSON form of a :class:`VerdictCalibration` (rates, their errors and the check table)."""
+    return {
+        "sweeps": calibration.sweeps,
+        "resamples": calibration.resamples,
+        "go": _rate(calibration.go),
+        "checks": [
+            {"id": c.id, "required": c.required, "failure": _rate(c.failures)} for c in calibration.checks
+        ],
+        "planted_selected": None if calibration.planted_selected is None else _rate(calibration.planted_selected),
+    }
+
+
+def calibration_document(
+    result: SweepCalibration, *, command: str | None = None, policy_source: str | None = None
+) -> dict:
+    """The ``sweepaudit calibrate --json`` document (schema ``sweepaudit.calibration/1``).
+
+    Every figure the terminal shows is a field here; rates are probabilities in [0, 1].
+    ``policy_source`` (a policy file's path or ``"defaults"``) is added to the policy block.
+    """
+    null = calibration_block(result.null)
+    power = None
+    if result.power is not None:
+        power = calibration_block(result.power)
+        power["edge_annualized_sharpe"] = result.edge_annual_sharpe
+        power["edge_per_window"] = result.edge_per_window
+    policy: dict[str, Any] = {"significance": result.null.policy.significance,
+                              "required": list(result.null.policy.required)}
+    if policy_source is not None:
+        policy["source"] = policy_source
+    return {
+        "schema": CALIBRATION_SCHEMA,
+        "tool": {"name": "sweepaudit", "version": __version__},
+        "input": {
+            "path": result.sweep.path,
+            "sha256": result.sweep.sha256,
+            "configurations": result.sweep.n_configurations,
+            "windows": result.sweep.n_windows,
+            "periods_per_year": result.sweep.periods_per_year,
+        },
+        "settings": {
+            "seed": result.seed,
+            "sweeps": result.sweeps,
+            "resamples": result.resamples,
+            "edge_annualized_sharpe": result.edge_annual_sharpe,
+            "null_bootstrap": "stationary",
+            "null_block_length": result.null_block_length,
+            "null_block_series": result.block_series,
+        },
+        "policy": policy,
+        "selected": {"configuration": result.configuration, "index": result.selected_index},
+        "observed_verdict": result.observed,
+        "false_go": null["go"],
+        "power": power,
+        "null": null,
+        "command": command,
+    }
