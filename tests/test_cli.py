@@ -325,3 +325,20 @@ def test_console_script_demo():
     assert proc.returncode == 0, proc.stderr
     assert "Verdict: GO" in proc.stdout
     assert proc.stderr == ""
+
+
+def test_audit_and_calibrate_declare_the_input_options_once():
+    import typer
+
+    from sweepaudit import cli
+
+    commands = typer.main.get_command(app).commands
+    shared = [p.name for p in cli._INPUT_OPTIONS]
+    assert len(shared) == 11
+    for name in ("audit", "calibrate"):
+        params = commands[name].params
+        assert [p.name for p in params[:11]] == shared  # first, in one order
+        assert "inputs" not in [p.name for p in params]
+    audit_help = {p.name: (p.opts, getattr(p, "help", None)) for p in commands["audit"].params[:11]}
+    calibrate_help = {p.name: (p.opts, getattr(p, "help", None)) for p in commands["calibrate"].params[:11]}
+    assert audit_help == calibrate_help

@@ -10,16 +10,21 @@ override the policy's values for this run; the JSON ``settings`` block shows the
 
 from __future__ import annotations
 
+import functools
+import inspect
 import shlex
 import sys
 import time
+from collections.abc import Callable
+from dataclasses import dataclass
 from enum import Enum
 from pathlib import Path
-from typing import Annotated, Optional
+from typing import Annotated, Any, Optional
 
 import typer
 from rich.console import Console
 
+from . import validate
 from ._version import __version__
 from .api import audit
 from .baseline import read_baseline
@@ -28,6 +33,7 @@ from .document import calibration_document
 from .errors import InputError, SweepAuditError
 from .read import LoadOptions, load_sweep
 from .results import AuditSettings, Evidence
+from .sweep import Sweep
 from .methods.inference import declared_trials
 from .policy import policy_from_mapping, policy_to_toml, resolve_policy
 from .render.files import write_atomic
@@ -131,10 +137,12 @@ def _check_distinct(outputs: dict[str, Optional[Path]], inputs: dict[str, object
         seen[key] = what
 
 
-def _progress_bar(console: Console, label: str):
-    """A progress bar on stderr for long runs; none when stderr is not a terminal."""
-    if not console.is_terminal:
-        return None, None
+def _with_progress(quiet: bool, label: str, run: Callable[..., Any], *args, **kwargs) -> Any:
+    """``run(*args, progress=..., **kwargs)`` under a progress bar on stderr for long runs; no bar
+    when quiet or when stderr is not a terminal."""
+    console = Console(stderr=True)
+    if quiet or not console.is_terminal:
+        return run(*args, **kwargs)
     from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
 
     bar = Progress(TextColumn(label), BarColumn(), TextColumn("{task.completed:,}/{task.total:,}"),
@@ -146,47 +154,116 @@ def _progress_bar(console: Console, label: str):
             task["id"] = bar.add_task(label, total=total)
         bar.update(task["id"], completed=done)
 
-    return bar, update
+    with bar:
+        return run(*args, progress=update, **kwargs)
 
 
-# Input options shared by `audit` and `calibrate` (one definition, one help text).
-SweepArg = Annotated[str, typer.Argument(metavar="SWEEP", help="CSV, TSV or Parquet file; - reads CSV from standard input.")]
-LayoutOpt = Annotated[LayoutChoice, typer.Option(help="Input layout; auto detects it.")]
-WindowColumnOpt = Annotated[Optional[str], typer.Option(help="Column holding the window (date or label).")]
-ValueColumnOpt = Annotated[Optional[str], typer.Option(help="Long layout: column holding the excess return.")]
-ParameterColumnsOpt = Annotated[
-    Optional[str], typer.Option(help="Long layout: comma-separated columns naming a configuration.")
-]
-BenchmarkOpt = Annotated[
-    Optional[str],
-    typer.Option(help="Inputs are raw strategy returns: subtract this benchmark column (wide) or configuration (long)."),
-]
-BenchmarkFileOpt = Annotated[
-    Optional[str], typer.Option(help="Inputs are raw strategy returns: subtract the benchmark series in this file.")
-]
-UnitsOpt = Annotated[UnitsChoice, typer.Option(help="Units of the returns in the file.")]
-PeriodsOpt = Annotated[
-    Optional[float], typer.Option(help="Windows per year (e.g. 52 for weekly); inferred from dated windows otherwise.")
-]
-CommonWindowsOpt = Annotated[bool, typer.Option("--common-windows", help="Keep only the windows every configuration covers.")]
-SelectOpt = Annotated[
-    Optional[str], typer.Option(help="Judge this configuration instead of the highest full-sample Sharpe ratio.")
-]
+# ---------------------------------------------------------------------------------------------
+# the eleven input options, declared once and shared by `audit` and `calibrate`
+
+
+@dataclass(frozen=True)
+class SweepInput:
+    """The sweep a command reads and how: the shared input options, parsed.
+
+    Attributes
+    ----------
+    path : str
+        The SWEEP argument (``-`` for standard input).
+    options : LoadOptions
+        How to read it.
+    select : str or None
+        The configuration to judge instead of the highest full-sample Sharpe ratio.
+    """
+
+    path: str
+    options: LoadOptions
+    select: str | None
+
+    def load(self) -> Sweep:
+        return load_sweep(self.path, self.options)
+
+    def words(self, path: str) -> list[str]:
+        """``path`` and the input options that differ from the defaults, as command words."""
+        words = [path if path != "<stdin>" else "-"]
+        defaults = LoadOptions()
+        for name in ("layout", "window_column", "value_column", "benchmark", "benchmark_file", "units",
+                     "periods_per_year"):
+            value = getattr(self.options, name)
+            if value != getattr(defaults, name):
+                words += [f"--{name.replace('_', '-')}", str(value)]
+        if self.options.parameter_columns:
+            words += ["--parameter-columns", ",".join(self.options.parameter_columns)]
+        if self.options.common_windows:
+            words.append("--common-windows")
+        return words
+
+
+def _option(name: str, annotation, default=inspect.Parameter.empty) -> inspect.Parameter:
+    return inspect.Parameter(name, inspect.Parameter.POSITIONAL_OR_KEYWORD, default=default, annotation=annotation)
+
+
+_INPUT_OPTIONS = (
+    _option("sweep_path", Annotated[str, typer.Argument(
+        metavar="SWEEP", help="CSV, TSV or Parquet file; - reads CSV from standard input.")]),
+    _option("layout", Annotated[LayoutChoice, typer.Option(help="Input layout; auto detects it.")], LayoutChoice.auto),
+    _option("window_column", Annotated[Optional[str], typer.Option(
+        help="Column holding the window (date or label).")], None),
+    _option("value_column", Annotated[Optional[str], typer.Option(
+        help="Long layout: column holding the excess return.")], None),
+    _option("parameter_columns", Annotated[Optional[str], typer.Option(
+        help="Long layout: comma-separated columns naming a configuration.")], None),
+    _option("benchmark", Annotated[Optional[str], typer.Option(
+        help="Inputs are raw strategy returns: subtract this benchmark column (wide) or configuration (long).")], None),
+    _option("benchmark_file", Annotated[Optional[str], typer.Option(
+        help="Inputs are raw strategy returns: subtract the benchmark series in this file.")], None),
+    _option("units", Annotated[UnitsChoice, typer.Option(help="Units of the returns in the file.")], UnitsChoice.fraction),
+    _option("periods_per_year", Annotated[Optional[float], typer.Option(
+        help="Windows per year (e.g. 52 for weekly); inferred from dated windows otherwise.")], None),
+    _option("common_windows", Annotated[bool, typer.Option(
+        "--common-windows", help="Keep only the windows every configuration covers.")], False),
+    _option("select", Annotated[Optional[str], typer.Option(
+        help="Judge this configuration instead of the highest full-sample Sharpe ratio.")], None),
+)
+
+
+def _sweep_input(sweep_path, layout, window_column, value_column, parameter_columns, benchmark, benchmark_file,
+                 units, periods_per_year, common_windows, select) -> SweepInput:
+    options = LoadOptions(
+        layout=layout.value,
+        window_column=window_column,
+        value_column=value_column,
+        parameter_columns=tuple(c.strip() for c in parameter_columns.split(",")) if parameter_columns else None,
+        benchmark=benchmark,
+        benchmark_file=benchmark_file,
+        units=units.value,
+        periods_per_year=periods_per_year,
+        common_windows=common_windows,
+    )
+    return SweepInput(sweep_path, options, select)
+
+
+def sweep_input(command: Callable[..., None]) -> Callable[..., None]:
+    """Give a command the eleven input options; it receives them parsed as ``inputs: SweepInput``.
+
+    The options are added in front of the command's own in its ``__signature__``, which is what
+    typer reads, so both commands declare them once, with one help text.
+    """
+    own = [p for p in inspect.signature(command, eval_str=True).parameters.values() if p.name != "inputs"]
+
+    @functools.wraps(command)
+    def with_inputs(**values):
+        shared = {p.name: values.pop(p.name) for p in _INPUT_OPTIONS}
+        return command(inputs=_sweep_input(**shared), **values)
+
+    with_inputs.__signature__ = inspect.Signature([*_INPUT_OPTIONS, *own])  # type: ignore[attr-defined]
+    return with_inputs
 
 
 @app.command("audit", no_args_is_help=True)
+@sweep_input
 def audit_command(
-    sweep_path: SweepArg,
-    layout: LayoutOpt = LayoutChoice.auto,
-    window_column: WindowColumnOpt = None,
-    value_column: ValueColumnOpt = None,
-    parameter_columns: ParameterColumnsOpt = None,
-    benchmark: BenchmarkOpt = None,
-    benchmark_file: BenchmarkFileOpt = None,
-    units: UnitsOpt = UnitsChoice.fraction,
-    periods_per_year: PeriodsOpt = None,
-    common_windows: CommonWindowsOpt = False,
-    select: SelectOpt = None,
+    inputs: SweepInput,
     seed: Annotated[int, typer.Option(help="Seed of the resamples: same input and seed, same JSON.")] = 0,
     resamples: Annotated[
         Optional[int], typer.Option(help="Bootstrap resamples (default 10,000, the policy's).")
@@ -237,19 +314,10 @@ def audit_command(
 
       sweepaudit audit sweep.csv --policy policy.toml --junit checks.xml --baseline last.json --ledger trials.jsonl
     """
-    stderr = Console(stderr=True)
     started = time.perf_counter()
+    outputs = {"JSON file": json_path, "JUnit file": junit_path, "report": report_path}
     try:
-        _check_output(json_path, "JSON file")
-        _check_output(junit_path, "JUnit file")
-        if report_path is not None:
-            _for_report(check_report_path, report_path)
-            _check_output(report_path, "report")
-        _check_distinct(
-            {"JSON file": json_path, "JUnit file": junit_path, "report": report_path},
-            {"input sweep": sweep_path, "benchmark file": benchmark_file, "trial ledger": ledger_path,
-             "baseline": baseline_path, "policy file": policy_path},
-        )
+        _check_audit_outputs(inputs, outputs, trial_ledger=ledger_path, baseline=baseline_path, policy_file=policy_path)
         if resamples is not None and quick:
             raise SweepAuditError("give either --resamples or --quick, not both")
         loaded = resolve_policy(policy_path)
@@ -259,62 +327,56 @@ def audit_command(
         if overrides:
             policy_from_mapping(overrides, source="command-line option")
         baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
-        options = _load_options(
-            layout=layout, window_column=window_column, value_column=value_column,
-            parameter_columns=parameter_columns, benchmark=benchmark, benchmark_file=benchmark_file,
-            units=units, periods_per_year=periods_per_year, common_windows=common_windows,
-        )
-        sweep = load_sweep(sweep_path, options)
-        settings = AuditSettings(
-            seed=seed,
-            resamples=1_000 if quick else resamples,
-            confidence=confidence,
-            bootstrap=bootstrap.value,
-            block_length=block_length,
-            interval_method=interval_method.value,
-            selected=select,
-        )
+        sweep = inputs.load()
         if trials is not None:
             declared_trials(trials, sweep.n_configurations, name="--trials")
-        run = dict(
-            settings=settings,
-            policy=loaded.policy,
-            policy_source=loaded.source,
-            baseline=baseline_document,
-            baseline_path=str(baseline_path) if baseline_path is not None else None,
-            ledger=ledger_path,
-            trials=trials,
-            command=lambda evidence: reproduce_command(evidence, options, policy_source=loaded.source),
+        settings = AuditSettings(
+            seed=seed, resamples=1_000 if quick else resamples, confidence=confidence, bootstrap=bootstrap.value,
+            block_length=block_length, interval_method=interval_method.value, selected=inputs.select,
         )
-        bar, update = _progress_bar(stderr, "resampling") if not quiet else (None, None)
-        if bar is not None:
-            with bar:
-                result = audit(sweep, progress=update, **run)
-        else:
-            result = audit(sweep, **run)
-        document = result.document
-        # Render everything in memory first; the report (figures and all) is written first, so a
-        # failure there leaves no JSON or JUnit file behind either.
-        json_text = dumps(document) if json_path is not None else None
-        junit_text = (
-            audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path is not None else None
+        result = _with_progress(
+            quiet, "resampling", audit, sweep, settings=settings, policy=loaded.policy, policy_source=loaded.source,
+            baseline=baseline_document, baseline_path=str(baseline_path) if baseline_path is not None else None,
+            ledger=ledger_path, trials=trials,
+            command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source),
         )
-        if report_path is not None:
-            _for_report(write_report, report_path, document, result.figures)
-        if json_text is not None:
-            write_atomic(json_path, json_text)
-        if junit_text is not None:
-            write_atomic(junit_path, junit_text)
+        _write_audit_outputs(result, outputs, started)
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
     if not quiet:
-        render_terminal(document)
-    raise typer.Exit(EXIT_GO if document["verdict"] == "go" else EXIT_NO_GO)
+        render_terminal(result.document)
+    raise typer.Exit(EXIT_GO if result.verdict.decision == "go" else EXIT_NO_GO)
+
+
+def _check_audit_outputs(inputs: SweepInput, outputs: dict[str, Optional[Path]], **files: Optional[Path]) -> None:
+    """Every output writable, and none overwriting an input or another output."""
+    _check_output(outputs["JSON file"], "JSON file")
+    _check_output(outputs["JUnit file"], "JUnit file")
+    if outputs["report"] is not None:
+        _for_report(check_report_path, outputs["report"])
+        _check_output(outputs["report"], "report")
+    _check_distinct(outputs, {"input sweep": inputs.path, "benchmark file": inputs.options.benchmark_file,
+                              **{name.replace("_", " "): path for name, path in files.items()}})
+
+
+def _write_audit_outputs(result, outputs: dict[str, Optional[Path]], started: float) -> None:
+    """Render everything in memory first; the report (figures and all) is written first, so a
+    failure there leaves no JSON or JUnit file behind either."""
+    document = result.document
+    json_path, junit_path, report_path = outputs["JSON file"], outputs["JUnit file"], outputs["report"]
+    json_text = dumps(document) if json_path is not None else None
+    junit_text = audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path is not None else None
+    if report_path is not None:
+        _for_report(write_report, report_path, document, result.figures)
+    if json_text is not None:
+        write_atomic(json_path, json_text)
+    if junit_text is not None:
+        write_atomic(junit_path, junit_text)
 
 
 def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults") -> str:
     """The canonical command that reproduces every figure of this audit (output options left out)."""
-    words = ["sweepaudit", "audit", *_input_words(evidence.sweep.path, options)]
+    words = ["sweepaudit", "audit", *SweepInput(evidence.sweep.path, options, None).words(evidence.sweep.path)]
     if policy_source != "defaults":
         # A policy found in a pyproject.toml applies only from that folder: name it.
         words += ["--policy", policy_source]
@@ -363,52 +425,10 @@ def policy_command(
 # calibrate: how often would this verdict say go on null sweeps shaped like this one?
 
 
-def _input_words(path: str, options: LoadOptions) -> list[str]:
-    """The sweep path and the input options that differ from the defaults, as command words."""
-    words = [path if path != "<stdin>" else "-"]
-    defaults = LoadOptions()
-    for name in ("layout", "window_column", "value_column", "benchmark", "benchmark_file", "units", "periods_per_year"):
-        value = getattr(options, name)
-        if value != getattr(defaults, name):
-            words += [f"--{name.replace('_', '-')}", str(value)]
-    if options.parameter_columns:
-        words += ["--parameter-columns", ",".join(options.parameter_columns)]
-    if options.common_windows:
-        words.append("--common-windows")
-    return words
-
-
-def _load_options(
-    *, layout, window_column, value_column, parameter_columns, benchmark, benchmark_file, units,
-    periods_per_year, common_windows,
-) -> LoadOptions:
-    """LoadOptions from the shared input options (the same spellings as ``audit``)."""
-    return LoadOptions(
-        layout=layout.value,
-        window_column=window_column,
-        value_column=value_column,
-        parameter_columns=tuple(c.strip() for c in parameter_columns.split(",")) if parameter_columns else None,
-        benchmark=benchmark,
-        benchmark_file=benchmark_file,
-        units=units.value,
-        periods_per_year=periods_per_year,
-        common_windows=common_windows,
-    )
-
-
 @app.command("calibrate", no_args_is_help=True)
+@sweep_input
 def calibrate_command(
-    sweep_path: SweepArg,
-    layout: LayoutOpt = LayoutChoice.auto,
-    window_column: WindowColumnOpt = None,
-    value_column: ValueColumnOpt = None,
-    parameter_columns: ParameterColumnsOpt = None,
-    benchmark: BenchmarkOpt = None,
-    benchmark_file: BenchmarkFileOpt = None,
-    units: UnitsOpt = UnitsChoice.fraction,
-    periods_per_year: PeriodsOpt = None,
-    common_windows: CommonWindowsOpt = False,
-    select: SelectOpt = None,
+    inputs: SweepInput,
     sweeps: Annotated[int, typer.Option(help="Null sweeps to audit (standard error of a 5% rate: 1.5% at 200).")] = 200,
     edge: Annotated[
         float, typer.Option(help="Annualised Sharpe ratio of the edge planted for the power estimate; 0 skips power.")
@@ -441,40 +461,25 @@ def calibrate_command(
 
       sweepaudit calibrate sweep.parquet --sweeps 500 --edge 0.5 --json calibration.json
     """
-
-    stderr = Console(stderr=True)
     try:
         _check_output(json_path, "JSON file")
-        _check_distinct({"JSON file": json_path}, {"input sweep": sweep_path, "benchmark file": benchmark_file,
+        _check_distinct({"JSON file": json_path}, {"input sweep": inputs.path,
+                                                    "benchmark file": inputs.options.benchmark_file,
                                                     "policy file": policy_path})
-        if sweeps < 1:
-            raise SweepAuditError(f"--sweeps must be at least 1; got {sweeps}")
-        if resamples < 1:
-            raise SweepAuditError(f"--resamples must be at least 1; got {resamples}")
-        if not edge >= 0:
-            raise SweepAuditError(f"--edge must be an annualised Sharpe ratio of 0 or more; got {edge}")
-        if seed < 0:
-            raise SweepAuditError(f"--seed must be a non-negative integer; got {seed}")
-        options = _load_options(
-            layout=layout, window_column=window_column, value_column=value_column,
-            parameter_columns=parameter_columns, benchmark=benchmark, benchmark_file=benchmark_file,
-            units=units, periods_per_year=periods_per_year, common_windows=common_windows,
-        )
+        validate.at_least(sweeps, "--sweeps", 1)
+        validate.at_least(resamples, "--resamples", 1)
+        validate.at_least(edge, "--edge", 0, what="0 (an annualised Sharpe ratio)")
+        validate.whole_number(seed, "--seed", minimum=0)
         loaded = resolve_policy(policy_path)
-        sweep = load_sweep(sweep_path, options)
+        sweep = inputs.load()
         if trials is not None:
             declared_trials(trials, sweep.n_configurations, name="--trials")  # the audit's own rule
-        settings = AuditSettings(seed=seed, resamples=resamples, selected=select, trials=trials)
-        bar, update = _progress_bar(stderr, "auditing simulated sweeps") if not quiet else (None, None)
-        run = dict(sweeps=sweeps, edge=edge, settings=settings, resamples=resamples, policy=loaded.policy, seed=seed)
-        if bar is not None:
-            with bar:
-                result = calibrate_sweep(sweep, progress=update, **run)
-        else:
-            result = calibrate_sweep(sweep, **run)
-        words = ["sweepaudit", "calibrate", *_input_words(sweep.path, options)]
-        if select is not None:
-            words += ["--select", select]
+        settings = AuditSettings(seed=seed, resamples=resamples, selected=inputs.select, trials=trials)
+        result = _with_progress(quiet, "auditing simulated sweeps", calibrate_sweep, sweep, sweeps=sweeps,
+                                edge=edge, settings=settings, resamples=resamples, policy=loaded.policy, seed=seed)
+        words = ["sweepaudit", "calibrate", *inputs.words(sweep.path)]
+        if inputs.select is not None:
+            words += ["--select", inputs.select]
         if policy_path is not None:
             words += ["--policy", str(policy_path)]
         if trials is not None:
