@@ -28,25 +28,13 @@ from typer.testing import CliRunner
 
 from sweepaudit import AuditSettings, audit
 from sweepaudit.calibration import (
-    FAMILIES,
     binomial_rate,
     calibrate_sweep,
     calibrate_verdict,
-    neighbour_correlation,
     null_like,
-    per_window_edge,
-    plant_edge,
-    plateau_columns,
-    simulate_autoregressive,
-    simulate_edge_plateau,
     simulate_neighbour_grid,
     simulate_normal,
     simulate_one_edge,
-    simulate_several_edges,
-    simulate_short_record,
-    simulate_student_t,
-    simulate_volatility_clustering,
-    spread_columns,
 )
 from sweepaudit.cli import app
 from sweepaudit.errors import InputError

@@ -316,10 +316,10 @@ def _deflated(d, periods_per_year) -> dict:
     }
 
 
-def _sharpe_block(evidence: Evidence) -> dict:
+def _deflated_head(evidence: Evidence) -> dict:
+    """The headline deflated Sharpe ratio and the choices behind it."""
     inf = evidence.sharpe
-    ppy = evidence.sweep.periods_per_year
-    head = _deflated(inf.deflated, ppy)
+    head = _deflated(inf.deflated, evidence.sweep.periods_per_year)
     head.update(
         {
             # Li and Ji count whole tests; an eigenvalue sum lands a rounding error off the integer.
@@ -332,8 +332,31 @@ def _sharpe_block(evidence: Evidence) -> dict:
             "trial_sharpe_variance_empirical": inf.trial_sharpe_variance_empirical,
         }
     )
-    detail = inf.effective_trials_detail
+    return head
+
+
+def _haircut_block(evidence: Evidence) -> dict:
     hc = evidence.haircut
+    return {
+        "tests": hc.tests,
+        "t_statistic": hc.t_statistic,
+        "pvalue": hc.pvalue,
+        **{
+            a.method: {
+                "pvalue": a.pvalue,
+                "sharpe": a.sharpe,
+                "sharpe_annualized": a.sharpe_annualized,
+                "haircut": a.haircut,
+            }
+            for a in (hc.bonferroni, hc.holm, hc.bhy)
+        },
+    }
+
+
+def _sharpe_block(evidence: Evidence) -> dict:
+    inf = evidence.sharpe
+    ppy = evidence.sweep.periods_per_year
+    detail = inf.effective_trials_detail
     block = {
         "observed": inf.observed,
         "observed_annualized": inf.observed_annualized,
@@ -349,7 +372,7 @@ def _sharpe_block(evidence: Evidence) -> dict:
             "statistic": inf.probabilistic.statistic,
             "probability": inf.probabilistic.probability,
         },
-        "deflated": head,
+        "deflated": _deflated_head(evidence),
         "deflated_variants": [
             {
                 "variance_mode": v.variance_mode,
@@ -371,21 +394,8 @@ def _sharpe_block(evidence: Evidence) -> dict:
             "confidence": inf.confidence,
         },
     }
-    if hc is not None:
-        block["haircut"] = {
-            "tests": hc.tests,
-            "t_statistic": hc.t_statistic,
-            "pvalue": hc.pvalue,
-            **{
-                a.method: {
-                    "pvalue": a.pvalue,
-                    "sharpe": a.sharpe,
-                    "sharpe_annualized": a.sharpe_annualized,
-                    "haircut": a.haircut,
-                }
-                for a in (hc.bonferroni, hc.holm, hc.bhy)
-            },
-        }
+    if evidence.haircut is not None:
+        block["haircut"] = _haircut_block(evidence)
     return block
 
 

@@ -9,7 +9,7 @@ module for a type. A result holds fields and trivial accessors only: computation
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Literal
 
 import numpy as np

@@ -22,7 +22,6 @@ read off a CSCV result is tested in test_overfitting.py.
 
 from __future__ import annotations
 
-import dataclasses
 import itertools
 import math
 import warnings

@@ -18,7 +18,6 @@ from __future__ import annotations
 
 import base64
 
-import math
 import os
 import re
 import shutil

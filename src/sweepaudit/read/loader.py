@@ -5,7 +5,6 @@ from __future__ import annotations
 import numpy as np
 
 from .. import validate
-from ..errors import InputError
 from ..sweep import UNIT_SCALE, Sweep
 from .build import long_matrix, subtract_benchmark_file, wide_matrix
 from .checks import check_matrix, refuse_whole_number_columns

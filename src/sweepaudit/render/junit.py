@@ -26,6 +26,31 @@ from ..format import xml_number
 __all__ = ["audit_to_junit"]
 
 
+def _properties(document: dict) -> dict:
+    """The suite's properties: what was audited, how, and the verdict."""
+    inp = document.get("input", {})
+    settings = document.get("settings", {})
+    ledger = document.get("ledger")
+    values = {
+        "verdict": document["verdict"],
+        "selected_configuration": document["selected"]["configuration"],
+        "selection_rule": document["selected"]["rule"],
+        "input": inp.get("path"),
+        "input_sha256": inp.get("sha256"),
+        "configurations": inp.get("configurations"),
+        "windows": inp.get("windows"),
+        "policy_source": document.get("policy_source", "defaults"),
+        "seed": settings.get("seed"),
+        "resamples": settings.get("resamples"),
+        "tool_version": document.get("tool", {}).get("version"),
+    }
+    if ledger:
+        values["trials_used"] = ledger.get("trials_used")
+    if document.get("baseline"):
+        values["baseline"] = document["baseline"]["path"]
+    return values
+
+
 def audit_to_junit(document: dict, *, elapsed: float = 0.0, timestamp: datetime | None = None) -> str:
     """The audit document as a JUnit XML string.
 
@@ -54,27 +79,7 @@ def audit_to_junit(document: dict, *, elapsed: float = 0.0, timestamp: datetime 
         root, "testsuite", {"name": "sweepaudit", **counts, "timestamp": when.isoformat(timespec="seconds")}
     )
     props = ET.SubElement(suite, "properties")
-    inp = document.get("input", {})
-    settings = document.get("settings", {})
-    ledger = document.get("ledger")
-    values = {
-        "verdict": document["verdict"],
-        "selected_configuration": document["selected"]["configuration"],
-        "selection_rule": document["selected"]["rule"],
-        "input": inp.get("path"),
-        "input_sha256": inp.get("sha256"),
-        "configurations": inp.get("configurations"),
-        "windows": inp.get("windows"),
-        "policy_source": document.get("policy_source", "defaults"),
-        "seed": settings.get("seed"),
-        "resamples": settings.get("resamples"),
-        "tool_version": document.get("tool", {}).get("version"),
-    }
-    if ledger:
-        values["trials_used"] = ledger.get("trials_used")
-    if document.get("baseline"):
-        values["baseline"] = document["baseline"]["path"]
-    for name, value in values.items():
+    for name, value in _properties(document).items():
         if value is not None:
             ET.SubElement(props, "property", {"name": name, "value": str(value)})
     for c in checks:

@@ -26,8 +26,8 @@ def _iv(block, scale=1.0, as_pct=False) -> str:
     return f"{f(block['estimate'])}  [{f(block['low'])}, {f(block['high'])}]"
 
 
-def _sections(doc: dict) -> list:
-    parts: list = []
+def _verdict(doc: dict) -> list:
+    """The verdict panel and its reasons: the first screen."""
     go = doc["verdict"] == "go"
     title = Text("GO" if go else "NO-GO", style="bold green" if go else "bold red")
     sel = doc["selected"]
@@ -38,14 +38,14 @@ def _sections(doc: dict) -> list:
         (sel["configuration"], ""),
     )
     lines = [head, Text(f"Chosen as: {sel['rule']}", style="dim")]
-    parts.append(Panel(Group(*lines), title="sweepaudit", expand=False))
-
     reasons = Text("Reasons\n", style="bold")
     for r in doc["reasons"]:
         reasons.append(f"  - {r}\n")
-    parts.append(reasons)
+    return [Panel(Group(*lines), title="sweepaudit", expand=False), reasons]
 
-    inp = doc["input"]
+
+def _data_table(doc: dict) -> Table:
+    inp, st = doc["input"], doc["settings"]
     data = Table(title="The data", show_header=False, box=None, title_justify="left")
     data.add_row("file", f"{inp['path']} ({inp['layout']} layout)")
     plural = "s" if inp["configurations"] != 1 else ""
@@ -54,41 +54,49 @@ def _sections(doc: dict) -> list:
     ppy = inp["periods_per_year"]
     data.add_row("periods per year", f"{fmt(ppy)} ({inp['periods_per_year_source']}"
                  + (f", {inp['frequency']})" if inp.get("frequency") else ")") if ppy else "unknown: figures per window")
-    st = doc["settings"]
     data.add_row("resampling", f"{st['resamples']:,} {st['bootstrap']} bootstrap resamples, block length "
                  f"{fmt(st['block_length'], 3)}, seed {st['seed']}")
-    parts.append(data)
+    return data
 
+
+def _selected_table(doc: dict) -> Table:
+    st = doc["settings"]
     boot = doc["results"]["bootstrap"]["selected"]
-    level = pct(st["confidence"])
-    figures = Table(title=f"Selected configuration: estimate [{level} {st['interval_method']} interval]",
+    figures = Table(title=f"Selected configuration: estimate [{pct(st['confidence'])} {st['interval_method']} interval]",
                     title_justify="left")
     figures.add_column("figure")
     figures.add_column("per window")
     figures.add_column("annualized")
     figures.add_row("mean excess return", _iv(boot["mean"], as_pct=True), _iv(boot["mean_annualized"], as_pct=True))
     figures.add_row("Sharpe ratio", _iv(boot["sharpe"]), _iv(boot["sharpe_annualized"]))
-    parts.append(figures)
+    return figures
 
-    surface = doc["results"].get("surface")
-    if surface:
-        verdict = ("an ISOLATED PEAK among weak neighbours: what selection luck looks like"
-                   if surface["isolated_peak"] else "not an isolated peak")
-        parts.append(Text(
-            f"Parameter surface ({', '.join(surface['parameters'])}): the selected cell's Sharpe ratio "
-            f"{fmt(surface['selected_sharpe'])} against {fmt(surface['neighbour_mean_sharpe'])} on average over "
-            f"its {surface['neighbours']} grid neighbours ({fmt(surface['gap_in_standard_errors'], 3)} standard "
-            f"errors apart): {verdict}.\n"))
-    sh = doc["results"].get("sharpe")
-    if sh:
-        parts.append(_sharpe_table(sh, ppy))
-    sn = doc["results"].get("snooping")
-    if sn:
-        parts.append(_snooping_table(sn, doc["selected"]["configuration"]))
-    ov = doc["results"].get("overfitting")
-    if ov:
-        parts.append(_overfitting_table(ov))
 
+def _surface_text(surface: dict) -> Text:
+    verdict = ("an ISOLATED PEAK among weak neighbours: what selection luck looks like"
+               if surface["isolated_peak"] else "not an isolated peak")
+    return Text(
+        f"Parameter surface ({', '.join(surface['parameters'])}): the selected cell's Sharpe ratio "
+        f"{fmt(surface['selected_sharpe'])} against {fmt(surface['neighbour_mean_sharpe'])} on average over "
+        f"its {surface['neighbours']} grid neighbours ({fmt(surface['gap_in_standard_errors'], 3)} standard "
+        f"errors apart): {verdict}.\n")
+
+
+def _method_parts(doc: dict) -> list:
+    """One part per method block the audit produced, in the document's order of reading."""
+    results, parts = doc["results"], []
+    if results.get("surface"):
+        parts.append(_surface_text(results["surface"]))
+    if results.get("sharpe"):
+        parts.append(_sharpe_table(results["sharpe"], doc["input"]["periods_per_year"]))
+    if results.get("snooping"):
+        parts.append(_snooping_table(results["snooping"], doc["selected"]["configuration"]))
+    if results.get("overfitting"):
+        parts.append(_overfitting_table(results["overfitting"]))
+    return parts
+
+
+def _checks_table(doc: dict) -> Table:
     checks = Table(title="Checks", title_justify="left")
     checks.add_column("check")
     checks.add_column("result")
@@ -99,9 +107,12 @@ def _sections(doc: dict) -> list:
         if not c["required"]:
             state += " (advisory)"
         checks.add_row(c["id"], state, fmt(c["value"]), fmt(c["threshold"]))
-    parts.append(checks)
-    parts += _gate_sections(doc)
+    return checks
 
+
+def _sections(doc: dict) -> list:
+    parts = [*_verdict(doc), _data_table(doc), _selected_table(doc), *_method_parts(doc), _checks_table(doc)]
+    parts += _gate_sections(doc)
     if doc["warnings"]:
         w = Text("Warnings\n", style="bold yellow")
         for line in doc["warnings"]:

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import io
 import math
+from dataclasses import dataclass
 from typing import Any
 
 import matplotlib
@@ -157,64 +158,95 @@ def bootstrap_mean(doc: dict, material: FigureMaterial) -> Figure:
 # ---------------------------------------------------------------------------------------------
 
 
-def sharpe_ranking(doc: dict, material: FigureMaterial) -> Figure:
-    """Every configuration's Sharpe ratio (annualised when possible) with its interval, sorted."""
+@dataclass(frozen=True)
+class _Ranked:
+    """Every configuration's Sharpe ratio and interval, in the order of the ranking figure."""
+
+    est: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+    names: list
+    order: np.ndarray
+    selected: int
+    position: int
+    level: str
+    label: str
+
+    @property
+    def n(self) -> int:
+        return len(self.names)
+
+
+def _ranked(doc: dict, material: FigureMaterial) -> _Ranked:
     label, annual = _sharpe_label(doc)
     key = "sharpe_annualized" if annual else "sharpe"
     configs = doc["results"]["bootstrap"]["configurations"]
     est = np.array([c[key]["estimate"] if c.get(key) else np.nan for c in configs], dtype=float)
     low = np.array([c[key]["low"] if c.get(key) and c[key]["low"] is not None else np.nan for c in configs], dtype=float)
     high = np.array([c[key]["high"] if c.get(key) and c[key]["high"] is not None else np.nan for c in configs], dtype=float)
-    names = [c["configuration"] for c in configs]
     order = np.argsort(np.where(np.isfinite(est), est, -np.inf), kind="stable")
     k = material.selected_index
-    pos = int(np.flatnonzero(order == k)[0])
-    n = len(configs)
-    interval_level = level(doc["settings"]["confidence"])
+    return _Ranked(est, low, high, [c["configuration"] for c in configs], order, k,
+                   int(np.flatnonzero(order == k)[0]), level(doc["settings"]["confidence"]), label)
+
+
+def _named_ranking(r: _Ranked):
+    """Few configurations: one named row each."""
+    shown = [_short(r.names[i]) for i in r.order]
+    # margin for the longest label (about 0.0085 of the width per character at 7-8 pt)
+    left = min(0.6, 0.05 + 0.0085 * max(len(t) for t in shown))
+    height = min(1.4 + 0.2 * r.n, 11.0)
+    fig = _new(6.8, height, left=left, bottom=0.5 / height)
+    fig.subplots_adjust(top=1 - 0.35 / height)
+    ax = fig.add_subplot()
+    y = np.arange(r.n)
+    ax.hlines(y, r.low[r.order], r.high[r.order], color=PALETTE["steel"], linewidth=1.6, label=f"{r.level} interval")
+    ax.plot(r.est[r.order], y, linestyle="none", marker="o", markersize=3.5, color=PALETTE["ink"], label="estimate")
+    ax.plot(r.est[r.selected], r.position, linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
+            markeredgecolor=PALETTE["ink"], label="selected")
+    ax.set_yticks(y, shown, fontsize=7 if r.n > 25 else 8)
+    ax.get_yticklabels()[r.position].set_fontweight("bold")
+    ax.axvline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
+    ax.set_xlabel(r.label)
+    ax.set_ylim(-0.7, r.n - 0.3)
+    return fig, ax
+
+
+def _dense_ranking(r: _Ranked):
+    """Many configurations: a ranked curve, only the selected one named."""
+    fig = _new(7.2, 3.8, left=0.1)
+    ax = fig.add_subplot()
+    x = np.arange(1, r.n + 1)
+    many = r.n > _RASTERISE_POINTS // 2
+    ax.vlines(x, r.low[r.order], r.high[r.order], color=PALETTE["mist"] if many else PALETTE["steel"],
+              linewidth=0.8 if many else 1.2, label=f"{r.level} interval", rasterized=many)
+    ax.plot(x, r.est[r.order], linestyle="-", linewidth=1.2, color=PALETTE["ink"], label="estimate")
+    ax.plot(r.position + 1, r.est[r.selected], linestyle="none", marker="D", markersize=8,
+            markerfacecolor=PALETTE["rust"], markeredgecolor=PALETTE["ink"], label="selected")
+    ax.annotate(_short(r.names[r.selected]), (r.position + 1, r.est[r.selected]), xytext=(-8, 12),
+                textcoords="offset points", ha="right", fontsize=8,
+                arrowprops={"arrowstyle": "-", "color": PALETTE["ink"]})
+    ax.axhline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
+    ax.set_xlabel(f"rank of {r.n:,} configurations (worst to best)")
+    ax.set_ylabel(r.label)
+    ax.set_xlim(0, r.n + 1)
+    return fig, ax
+
+
+def sharpe_ranking(doc: dict, material: FigureMaterial) -> Figure:
+    """Every configuration's Sharpe ratio (annualised when possible) with its interval, sorted."""
+    r = _ranked(doc, material)
 
     def draw():
-        if n <= _NAMED_RANKING_LIMIT:
-            shown = [_short(names[i]) for i in order]
-            # margin for the longest label (about 0.0085 of the width per character at 7-8 pt)
-            left = min(0.6, 0.05 + 0.0085 * max(len(t) for t in shown))
-            height = min(1.4 + 0.2 * n, 11.0)
-            fig = _new(6.8, height, left=left, bottom=0.5 / height)
-            fig.subplots_adjust(top=1 - 0.35 / height)
-            ax = fig.add_subplot()
-            y = np.arange(n)
-            ax.hlines(y, low[order], high[order], color=PALETTE["steel"], linewidth=1.6, label=f"{interval_level} interval")
-            ax.plot(est[order], y, linestyle="none", marker="o", markersize=3.5, color=PALETTE["ink"], label="estimate")
-            ax.plot(est[k], pos, linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
-                    markeredgecolor=PALETTE["ink"], label="selected")
-            ax.set_yticks(y, shown, fontsize=7 if n > 25 else 8)
-            ax.get_yticklabels()[pos].set_fontweight("bold")
-            ax.axvline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
-            ax.set_xlabel(label)
-            ax.set_ylim(-0.7, n - 0.3)
-        else:
-            fig = _new(7.2, 3.8, left=0.1)
-            ax = fig.add_subplot()
-            x = np.arange(1, n + 1)
-            many = n > _RASTERISE_POINTS // 2
-            ax.vlines(x, low[order], high[order], color=PALETTE["mist"] if many else PALETTE["steel"],
-                      linewidth=0.8 if many else 1.2, label=f"{interval_level} interval", rasterized=many)
-            ax.plot(x, est[order], linestyle="-", linewidth=1.2, color=PALETTE["ink"], label="estimate")
-            ax.plot(pos + 1, est[k], linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
-                    markeredgecolor=PALETTE["ink"], label="selected")
-            ax.annotate(_short(names[k]), (pos + 1, est[k]), xytext=(-8, 12), textcoords="offset points",
-                        ha="right", fontsize=8, arrowprops={"arrowstyle": "-", "color": PALETTE["ink"]})
-            ax.axhline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
-            ax.set_xlabel(f"rank of {n:,} configurations (worst to best)")
-            ax.set_ylabel(label)
-            ax.set_xlim(0, n + 1)
-        ax.set_title(f"{label[0].upper() + label[1:]} of every configuration, sorted")
+        fig, ax = _named_ranking(r) if r.n <= _NAMED_RANKING_LIMIT else _dense_ranking(r)
+        ax.set_title(f"{r.label[0].upper() + r.label[1:]} of every configuration, sorted")
         ax.legend(loc="lower right")
         return fig
 
     return _figure(
         "sharpe_ranking",
         "Sharpe ratio of every configuration",
-        f"Every configuration's {label} with its {interval_level} block-bootstrap interval, sorted from worst "
+        f"Every configuration's {r.label} with its {r.level} block-bootstrap interval, sorted from worst "
         "to best; the diamond marks the selected configuration. When most intervals overlap, the ranking "
         "is mostly noise.",
         "Sorted Sharpe ratios of all configurations with interval bars and the selected one marked.",

@@ -145,6 +145,31 @@ def _surface_words(block: dict, reach_half: bool) -> str:
     )
 
 
+def _every_configuration(doc: dict, level: str) -> Table:
+    """Every configuration's intervals, per window (and annualized when the periods are known)."""
+    boot = doc["results"]["bootstrap"]
+    annual = _annual(doc)
+    columns = ["configuration", "mean", "mean low", "mean high", "Sharpe", "Sharpe low", "Sharpe high"]
+    if annual:
+        columns += ["annualized Sharpe", "annualized low", "annualized high"]
+    all_rows = []
+    for c in boot["configurations"]:
+        row = [c["configuration"]] + [figure(c["mean"][k]) for k in ("estimate", "low", "high")]
+        row += [figure(c["sharpe"][k]) for k in ("estimate", "low", "high")]
+        if annual:
+            sa = c.get("sharpe_annualized") or {}
+            row += [figure(sa.get(k)) for k in ("estimate", "low", "high")]
+        all_rows.append(tuple(row))
+    return Table(
+        tuple(columns),
+        tuple(all_rows),
+        caption=f"Every configuration, per window ({level} intervals)",
+        collapsed=len(all_rows) > 60,
+        highlight=next((i for i, c in enumerate(boot["configurations"])
+                        if c["configuration"] == doc["selected"]["configuration"]), None),
+    )
+
+
 def _intervals_section(doc: dict, material: FigureMaterial | None) -> Section:
     st = doc["settings"]
     boot = doc["results"]["bootstrap"]
@@ -159,26 +184,7 @@ def _intervals_section(doc: dict, material: FigureMaterial | None) -> Section:
         tuple(rows),
         caption=f"Selected configuration, {level} {st['interval_method']} block-bootstrap intervals",
     )
-    annual = _annual(doc)
-    columns = ["configuration", "mean", "mean low", "mean high", "Sharpe", "Sharpe low", "Sharpe high"]
-    if annual:
-        columns += ["annualized Sharpe", "annualized low", "annualized high"]
-    all_rows = []
-    for c in boot["configurations"]:
-        row = [c["configuration"]] + [figure(c["mean"][k]) for k in ("estimate", "low", "high")]
-        row += [figure(c["sharpe"][k]) for k in ("estimate", "low", "high")]
-        if annual:
-            sa = c.get("sharpe_annualized") or {}
-            row += [figure(sa.get(k)) for k in ("estimate", "low", "high")]
-        all_rows.append(tuple(row))
-    every_table = Table(
-        tuple(columns),
-        tuple(all_rows),
-        caption=f"Every configuration, per window ({level} intervals)",
-        collapsed=len(all_rows) > 60,
-        highlight=next((i for i, c in enumerate(boot["configurations"])
-                        if c["configuration"] == doc["selected"]["configuration"]), None),
-    )
+    every_table = _every_configuration(doc, level)
     figs = [plots.bootstrap_mean(doc, material)] if material is not None else []
     m = sel["mean"]
     words = (
