@@ -6,7 +6,7 @@ import pytest
 
 from sweepaudit import AuditSettings, audit, sweep_from_array
 
-from .gate_sweeps import synthetic_returns
+from .helpers import synthetic_returns
 
 
 @pytest.fixture(scope="module")

@@ -16,7 +16,7 @@ from sweepaudit.baseline import GATED_FIGURES, compare_with_baseline, numeric_le
 from sweepaudit.errors import InputError
 from sweepaudit.policy import DEFAULT_POLICY, policy_from_mapping
 
-from .gate_sweeps import run, synthetic_returns, write_wide
+from .helpers import run, synthetic_returns, write_wide
 
 
 def _doc(mean_low, mean_high, deflated, pbo, spa=None, checks=()):

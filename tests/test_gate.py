@@ -23,7 +23,7 @@ from sweepaudit.ledger import LedgerEntry, read_ledger, tally_trials
 from sweepaudit.policy import DEFAULT_POLICY
 from sweepaudit.sweep import sweep_from_array
 
-from .gate_sweeps import run, synthetic_returns, write_wide
+from .helpers import run, synthetic_returns, write_wide
 
 ROOT = Path(__file__).resolve().parents[1]
 

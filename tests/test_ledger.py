@@ -32,7 +32,7 @@ from sweepaudit.ledger import (
 )
 from sweepaudit.read import load_sweep
 
-from .gate_sweeps import run, synthetic_returns, write_wide
+from .helpers import run, synthetic_returns, write_wide
 
 
 def _literal_fingerprint(matrix, names):

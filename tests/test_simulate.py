@@ -39,15 +39,7 @@ from sweepaudit.simulate import (
     spread_columns,
 )
 
-
-def rng(seed: int = 0) -> np.random.Generator:
-    return np.random.default_rng(seed)
-
-
-def lag_correlation(x: np.ndarray, lag: int) -> float:
-    """Pooled lag-k autocorrelation of the columns of x (each column demeaned)."""
-    y = x - x.mean(axis=0)
-    return float((y[lag:] * y[:-lag]).sum() / (y * y).sum())
+from .helpers import lag_correlation, rng
 
 
 def test_normal_scale_and_shape():

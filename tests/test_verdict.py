@@ -13,7 +13,7 @@ from sweepaudit.policy import policy_from_mapping
 from sweepaudit.results import Check
 from sweepaudit.sweep import sweep_from_array
 
-from .gate_sweeps import synthetic_returns
+from .helpers import synthetic_returns
 
 
 CHECK_IDS = list(verdict.CHECKS)

@@ -31,6 +31,7 @@ from .errors import InputError
 __all__ = [
     "DEFAULT_VOLATILITY",
     "DEFAULT_PERIODS_PER_YEAR",
+    "GRID_EDGE_OPTIONS",
     "Family",
     "FAMILIES",
     "neighbour_correlation",
@@ -277,19 +278,28 @@ def _centre(n: int) -> int:
     return (n - 1) // 2
 
 
+#: The options every alternative shares (the neighbour grid and the edge), with their defaults.
+GRID_EDGE_OPTIONS = ("annual_sharpe", "periods_per_year", "volatility", "length_scale", "common_share")
+
+
 def _edged_grid(
     rng: np.random.Generator,
     n_configurations: int,
     n_windows: int,
     columns: Callable[[int], list[int]],
     *,
-    annual_sharpe: float,
-    periods_per_year: float,
-    volatility: float,
-    length_scale: float,
-    common_share: float,
+    annual_sharpe: float = 1.0,
+    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
+    volatility: float = DEFAULT_VOLATILITY,
+    length_scale: float = 3.0,
+    common_share: float = 0.3,
 ) -> np.ndarray:
-    """The body every alternative shares: the neighbour-grid null, an edge planted in ``columns(N)``."""
+    """The body every alternative shares: the neighbour-grid null, an edge planted in ``columns(N)``.
+
+    ``annual_sharpe`` is the planted edge (annualised Sharpe ratio, with ``periods_per_year``);
+    ``volatility``, ``length_scale`` and ``common_share`` shape the grid as in
+    :func:`simulate_neighbour_grid`.
+    """
     x = simulate_neighbour_grid(
         rng, n_configurations, n_windows, length_scale=length_scale, common_share=common_share, volatility=volatility
     )
@@ -299,22 +309,13 @@ def _edged_grid(
     )
 
 
-def simulate_one_edge(
-    rng: np.random.Generator,
-    n_configurations: int,
-    n_windows: int,
-    *,
-    annual_sharpe: float = 1.0,
-    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
-    volatility: float = DEFAULT_VOLATILITY,
-    length_scale: float = 3.0,
-    common_share: float = 0.3,
-) -> np.ndarray:
-    """Alternative: the neighbour-grid null with one configuration (the grid centre) given an edge."""
-    return _edged_grid(
-        rng, n_configurations, n_windows, lambda n: [_centre(n)], annual_sharpe=annual_sharpe,
-        periods_per_year=periods_per_year, volatility=volatility, length_scale=length_scale, common_share=common_share,
-    )
+def simulate_one_edge(rng: np.random.Generator, n_configurations: int, n_windows: int, **grid: float) -> np.ndarray:
+    """Alternative: the neighbour-grid null with one configuration (the grid centre) given an edge.
+
+    Keyword options (:data:`GRID_EDGE_OPTIONS`): ``annual_sharpe`` (1.0), ``periods_per_year`` (52),
+    ``volatility`` (0.01), ``length_scale`` (3.0), ``common_share`` (0.3).
+    """
+    return _edged_grid(rng, n_configurations, n_windows, lambda n: [_centre(n)], **grid)
 
 
 def plateau_columns(n_configurations: int, width: int) -> list[int]:
@@ -332,44 +333,24 @@ def spread_columns(n_configurations: int, count: int) -> list[int]:
 
 
 def simulate_edge_plateau(
-    rng: np.random.Generator,
-    n_configurations: int,
-    n_windows: int,
-    *,
-    width: int = 5,
-    annual_sharpe: float = 1.0,
-    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
-    volatility: float = DEFAULT_VOLATILITY,
-    length_scale: float = 3.0,
-    common_share: float = 0.3,
+    rng: np.random.Generator, n_configurations: int, n_windows: int, *, width: int = 5, **grid: float
 ) -> np.ndarray:
-    """Alternative: a plateau of ``width`` neighbouring configurations sharing the same edge."""
-    return _edged_grid(
-        rng, n_configurations, n_windows, lambda n: plateau_columns(n, width), annual_sharpe=annual_sharpe,
-        periods_per_year=periods_per_year, volatility=volatility, length_scale=length_scale, common_share=common_share,
-    )
+    """Alternative: a plateau of ``width`` neighbouring configurations sharing the same edge.
+
+    Keyword options as for :func:`simulate_one_edge`.
+    """
+    return _edged_grid(rng, n_configurations, n_windows, lambda n: plateau_columns(n, width), **grid)
 
 
 def simulate_several_edges(
-    rng: np.random.Generator,
-    n_configurations: int,
-    n_windows: int,
-    *,
-    count: int = 3,
-    annual_sharpe: float = 1.0,
-    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
-    volatility: float = DEFAULT_VOLATILITY,
-    length_scale: float = 3.0,
-    common_share: float = 0.3,
+    rng: np.random.Generator, n_configurations: int, n_windows: int, *, count: int = 3, **grid: float
 ) -> np.ndarray:
     """Alternative: ``count`` interchangeable profitable configurations, spread over the grid.
 
     They share the same edge, so which one a researcher picks is luck; any of them is a right pick.
+    Keyword options as for :func:`simulate_one_edge`.
     """
-    return _edged_grid(
-        rng, n_configurations, n_windows, lambda n: spread_columns(n, count), annual_sharpe=annual_sharpe,
-        periods_per_year=periods_per_year, volatility=volatility, length_scale=length_scale, common_share=common_share,
-    )
+    return _edged_grid(rng, n_configurations, n_windows, lambda n: spread_columns(n, count), **grid)
 
 
 def simulate_short_record(
@@ -379,14 +360,13 @@ def simulate_short_record(
     *,
     annual_sharpe: float = 2.0,
     periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
-    volatility: float = DEFAULT_VOLATILITY,
-    length_scale: float = 3.0,
-    common_share: float = 0.3,
+    **grid: float,
 ) -> np.ndarray:
     """Alternative: a short track record (at most two years of windows) with a strong edge.
 
     One configuration of the neighbour grid earns ``annual_sharpe`` (default 2.0: over one year of
-    weekly windows its t-statistic is about 2). The verdict should be cautious here.
+    weekly windows its t-statistic is about 2). The verdict should be cautious here. Other keyword
+    options as for :func:`simulate_one_edge`.
     """
     _, t = _shape(n_configurations, n_windows)
     ppy = validate.positive_number(periods_per_year, "periods_per_year")
@@ -394,10 +374,7 @@ def simulate_short_record(
         raise InputError(
             f"n_windows must be at most two years ({2 * ppy:g} windows) for a short record; got {t}"
         )
-    return simulate_one_edge(
-        rng, n_configurations, n_windows, annual_sharpe=annual_sharpe, periods_per_year=ppy,
-        volatility=volatility, length_scale=length_scale, common_share=common_share,
-    )
+    return simulate_one_edge(rng, n_configurations, n_windows, annual_sharpe=annual_sharpe, periods_per_year=ppy, **grid)
 
 
 @dataclass(frozen=True)

@@ -45,24 +45,28 @@ def _is_bool(value: Any) -> bool:
     return isinstance(value, (bool, np.bool_))
 
 
+def _float(value: Any) -> float:
+    """``value`` as a float; NaN for anything that is not a number (booleans included)."""
+    if _is_bool(value):
+        return math.nan
+    try:
+        return float(value)
+    except (TypeError, ValueError):
+        return math.nan
+
+
 def finite_number(value: Any, name: str) -> float:
     """A real, finite number as ``float`` (booleans refused)."""
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{name} must be a finite number; got {value!r}") from None
-    if _is_bool(value) or not math.isfinite(number):
+    number = _float(value)
+    if not math.isfinite(number):
         raise InputError(f"{name} must be a finite number; got {value!r}")
     return number
 
 
 def positive_number(value: Any, name: str) -> float:
     """A number ``> 0`` and finite."""
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        number = math.nan
-    if _is_bool(value) or not (math.isfinite(number) and number > 0):
+    number = _float(value)
+    if not (math.isfinite(number) and number > 0):
         raise InputError(f"{name} must be positive and finite; got {value!r}")
     return number
 
@@ -85,11 +89,8 @@ def at_least(value: Any, name: str, minimum: float, *, what: str | None = None) 
 
 def probability(value: Any, name: str) -> float:
     """A level or probability strictly between 0 and 1."""
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        number = math.nan
-    if _is_bool(value) or not 0.0 < number < 1.0:
+    number = _float(value)
+    if not 0.0 < number < 1.0:
         raise InputError(f"{name} must lie strictly between 0 and 1; got {value!r}")
     return number
 

@@ -19,14 +19,7 @@ from sweepaudit.errors import InputError
 from sweepaudit.methods.deflation import deflated_sharpe
 from sweepaudit.methods.inference import sharpe_inference
 
-def neighbour_sweep(rng, windows, configurations, neighbourhood, means=None):
-    """Synthetic sweep: configuration j averages noise columns j .. j + L - 1 (correlation 1 - d/L)."""
-    noise = rng.standard_normal((windows, configurations + neighbourhood - 1))
-    columns = np.stack(
-        [noise[:, j : j + neighbourhood].sum(axis=1) / math.sqrt(neighbourhood) for j in range(configurations)],
-        axis=1,
-    )
-    return columns if means is None else columns + means
+from .sweeps import neighbour_sweep
 
 
 def test_sharpe_inference_headline_matches_direct_call():

@@ -40,17 +40,7 @@ from sweepaudit.methods.sharpe import (
     sharpe_standard_error,
 )
 
-# Bailey and Lopez de Prado (2014) numerical example, values from memory (METHODS.md):
-# 100 trials, V = 1/2 for annualised Sharpe ratios, 5 years of daily data at 250 days a year,
-# skewness -3, raw kurtosis 10, annualised SR 2.5.
-PAPER = dict(
-    sharpe=2.5 / math.sqrt(250),
-    observations=1250,
-    trials=100,
-    trial_sharpe_variance=0.5 / 250,
-    skewness=-3.0,
-    kurtosis=10.0,
-)
+from .sweeps import PAPER
 
 
 # --------------------------------------------------------------------------------------------

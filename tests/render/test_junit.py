@@ -15,7 +15,7 @@ import pytest
 
 from sweepaudit.render.junit import audit_to_junit
 
-from ..gate_sweeps import run, synthetic_returns, write_wide
+from ..helpers import run, synthetic_returns, write_wide
 
 
 def _junit_doc(small_results):

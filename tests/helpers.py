@@ -1,4 +1,5 @@
-"""SYNTHETIC sweeps for the gate tests (verdict, baseline, ledger, JUnit): Gaussian noise plus edges."""
+"""Helpers several test modules share: SYNTHETIC sweeps (Gaussian noise plus edges), a random generator,
+a pooled autocorrelation and the command-line runner."""
 
 from __future__ import annotations
 
@@ -26,3 +27,13 @@ def write_wide(path, returns, names=None):
 def run(args):
     result = runner.invoke(app, args)
     return result
+
+
+def rng(seed: int = 0) -> np.random.Generator:
+    return np.random.default_rng(seed)
+
+
+def lag_correlation(x: np.ndarray, lag: int) -> float:
+    """Pooled lag-k autocorrelation of the columns of x (each column demeaned)."""
+    y = x - x.mean(axis=0)
+    return float((y[lag:] * y[:-lag]).sum() / (y * y).sum())
