@@ -107,8 +107,8 @@ def test_corrupted_ledger_line_is_reported_and_nothing_is_lost(tmp_path):
         (b"[1]", "not a JSON object"),
         (b"\xff\xfe", "not UTF-8"),
         (b'{"fingerprint": "' + b"A" * 64 + b'", "configurations": 2}', "64 lowercase hex"),
-        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": 0}', "positive whole number"),
-        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": true}', "positive whole number"),
+        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": 0}', "whole number of at least 1"),
+        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": true}', "whole number of at least 1"),
     ],
 )
 def test_ledger_line_messages(line, fragment):

@@ -3,7 +3,8 @@
 Public API (stable names):
 
 - :func:`load_sweep`, :class:`LoadOptions`, :class:`Sweep`, :func:`sweep_from_array`
-- :func:`audit`, :class:`AuditSettings`, :class:`Policy`
+- :func:`audit` (-> :class:`AuditResult`: the :class:`Evidence`, the :class:`Verdict` and the JSON
+  document), :class:`AuditSettings`, :class:`Policy`
 - :func:`draw_resamples`, :func:`resampled_moments` (the shared resampling engine)
 - :func:`probabilistic_sharpe`, :func:`deflated_sharpe`, :func:`expected_max_sharpe`,
   :func:`minimum_track_record`, :func:`sharpe_inference`, :func:`effective_trials`,
@@ -21,20 +22,16 @@ from .errors import (
     SweepAuditError,
     SweepAuditWarning,
 )
-from .read import LoadOptions, load_sweep
 from .methods.bootstrap_ci import bootstrap_intervals
 from .methods.cscv import cscv
-from .methods.overfitting import overfitting_diagnosis
-from .methods.snooping import (
-    reality_check,
-    stepwise_superior,
-    superior_predictive_ability,
-)
-from .methods.haircut import haircut_sharpe
 from .methods.deflation import deflated_sharpe, effective_trials, expected_max_sharpe
+from .methods.haircut import haircut_sharpe
 from .methods.inference import sharpe_inference
+from .methods.overfitting import overfitting_diagnosis
 from .methods.sharpe import minimum_track_record, probabilistic_sharpe
+from .methods.snooping import reality_check, stepwise_superior, superior_predictive_ability
 from .policy import DEFAULT_POLICY, Policy
+from .read import LoadOptions, load_sweep
 from .resample import Resamples, draw_resamples, resampled_moments
 from .results import AuditResult, AuditSettings, Evidence, Verdict
 from .sweep import Sweep, sweep_from_array

@@ -31,17 +31,17 @@ from .baseline import read_baseline
 from .calibration import calibrate_sweep
 from .document import calibration_document
 from .errors import InputError, SweepAuditError
-from .read import LoadOptions, load_sweep
-from .results import AuditSettings, Evidence
-from .sweep import Sweep
-from .methods.inference import declared_trials
+from .gate import trials_to_count
 from .policy import policy_from_mapping, policy_to_toml, resolve_policy
+from .read import LoadOptions, load_sweep
+from .render.calibration import render_calibration
 from .render.files import write_atomic
 from .render.json import dumps
 from .render.junit import audit_to_junit
-from .render.calibration import render_calibration
 from .render.report import check_report_path, write_report
 from .render.terminal import render_terminal
+from .results import AuditSettings, Evidence
+from .sweep import Sweep
 
 EXIT_GO, EXIT_NO_GO, EXIT_BAD_INPUT = 0, 1, 2
 
@@ -331,7 +331,7 @@ def audit_command(
         baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
         sweep = inputs.load()
         if trials is not None:
-            declared_trials(trials, sweep.n_configurations, name="--trials")
+            trials_to_count(sweep.n_configurations, declared=trials, name="--trials")
         settings = AuditSettings(
             seed=seed, resamples=1_000 if quick else resamples, confidence=confidence, bootstrap=bootstrap.value,
             block_length=block_length, interval_method=interval_method.value, selected=inputs.select,
@@ -477,7 +477,7 @@ def calibrate_command(
         loaded = resolve_policy(policy_path)
         sweep = inputs.load()
         if trials is not None:
-            declared_trials(trials, sweep.n_configurations, name="--trials")  # the audit's own rule
+            trials_to_count(sweep.n_configurations, declared=trials, name="--trials")  # the audit's own rule
         settings = AuditSettings(seed=seed, resamples=resamples, selected=inputs.select, trials=trials)
         result = _with_progress(quiet, "auditing simulated sweeps", calibrate_sweep, sweep, sweeps=sweeps,
                                 edge=edge, settings=settings, resamples=resamples, policy=loaded.policy, seed=seed)

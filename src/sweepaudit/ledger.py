@@ -27,6 +27,7 @@ from typing import Any
 
 import numpy as np
 
+from . import validate
 from ._version import LEDGER_SCHEMA, __version__
 from .errors import InputError
 from .results import LedgerEntry, LedgerTally
@@ -105,9 +106,10 @@ def parse_ledger(data: bytes, *, path: str = "<ledger>") -> tuple[LedgerEntry, .
         if not (isinstance(fingerprint, str) and len(fingerprint) == 64
                 and all(c in "0123456789abcdef" for c in fingerprint)):
             raise _bad_line(path, number, f"fingerprint must be 64 lowercase hex digits; got {fingerprint!r}")
-        count = record.get("configurations")
-        if isinstance(count, bool) or not isinstance(count, int) or count < 1:
-            raise _bad_line(path, number, f"configurations must be a positive whole number; got {count!r}")
+        try:
+            count = validate.whole_number(record.get("configurations"), "configurations", minimum=1)
+        except InputError as exc:
+            raise _bad_line(path, number, str(exc)) from None
         entries.append(LedgerEntry(number, fingerprint, count, record))
     return tuple(entries)
 

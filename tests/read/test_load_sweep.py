@@ -444,7 +444,7 @@ def test_different_windows_are_refused_with_a_count_and_a_hint(tmp_path):
     msg = str(err.value)
     assert "2 of 3 configurations" in msg
     assert f"only {len(WEEKS) - 3} windows are common" in msg
-    assert "--common-windows" in msg
+    assert "common_windows=True" in msg and "--common-windows" in msg  # the argument, and the option
     assert str(path) in msg
 
 
@@ -711,8 +711,8 @@ def test_a_bad_date_among_dates_names_the_row_long(tmp_path):
 def test_no_numeric_value_column(tmp_path):
     rows = [(w, c, "up") for w in WEEKS for c in ("a", "b")]
     path = _write_csv(tmp_path / "s.csv", ["date", "config", "label"], rows)
-    with pytest.raises(InputError, match=r"no numeric value column found; name it with --value-column "
-                                         r"\(columns are date, config, label\)"):
+    with pytest.raises(InputError, match=r"no numeric value column found; name it with value_column "
+                                         r"\(command line: --value-column\); columns are date, config, label"):
         load_sweep(str(path))
 
 

@@ -53,8 +53,8 @@ def _long_columns(frame: pd.DataFrame, label: str, window_col: str | None, opt: 
     columns = list(frame.columns)
     if window_col is None:
         raise InputError(
-            "long layout needs a window column; name it with --window-column "
-            f"(columns are {', '.join(columns)})",
+            "long layout needs a window column; name it with window_column (command line: --window-column); "
+            f"columns are {', '.join(columns)}",
             path=label,
         )
     value_col = opt.value_column
@@ -66,8 +66,8 @@ def _long_columns(frame: pd.DataFrame, label: str, window_col: str | None, opt: 
             floats = [c for c in columns if c != window_col and pd.api.types.is_float_dtype(frame[c])]
             if not floats:
                 raise InputError(
-                    "no numeric value column found; name it with --value-column "
-                    f"(columns are {', '.join(columns)})",
+                    "no numeric value column found; name it with value_column (command line: --value-column); "
+                    f"columns are {', '.join(columns)}",
                     path=label,
                 )
             value_col = floats[-1]

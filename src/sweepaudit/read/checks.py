@@ -55,8 +55,9 @@ def refuse_whole_number_columns(
         if v.size and np.all(v == np.round(v)) and np.any(v != 0):
             raise InputError(
                 "holds only whole numbers: it looks like a window, index or parameter column, not "
-                "excess returns as fractions; name the window column with --window-column, give "
-                "--units percent or bps, or pass --layout wide to audit it as a configuration",
+                "excess returns as fractions; name the window column with window_column, give units "
+                "percent or bps, or layout wide to audit it as a configuration (command line: "
+                "--window-column, --units, --layout wide)",
                 path=label,
                 column=c,
             )
@@ -76,7 +77,7 @@ def coverage(matrix: np.ndarray, names, window_labels, dates, opt: LoadOptions, 
             f"configurations cover different windows: {affected} of {matrix.shape[1]} configurations "
             f"miss at least one of the {matrix.shape[0]} windows (first: {names[k]!r} has no value "
             f"for window {window_labels[t]!r}); only {int(full.sum())} windows are common to all. "
-            "Pass --common-windows to audit those",
+            "Pass common_windows=True (command line: --common-windows) to audit those",
             path=label,
         )
     notes.append(

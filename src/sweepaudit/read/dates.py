@@ -38,6 +38,7 @@ def cell_label(value) -> str:
 
 
 def looks_like_dates(series: pd.Series) -> pd.DatetimeIndex | None:
+    """The column as dates when every cell is one (ISO or day/month/year), else None."""
     if pd.api.types.is_datetime64_any_dtype(series):
         return pd.DatetimeIndex(series)
     if pd.api.types.is_numeric_dtype(series):

@@ -16,6 +16,7 @@ ID_NAMES = ("configuration", "config", "config_id", "configuration_id", "strateg
 
 
 def find_column(columns, names, *, exclude=()) -> str | None:
+    """The first column named like one of ``names`` (case-insensitive), skipping ``exclude``."""
     lowered = {c.lower(): c for c in columns if c not in exclude}
     for n in names:
         if n in lowered:
@@ -24,6 +25,7 @@ def find_column(columns, names, *, exclude=()) -> str | None:
 
 
 def require_column(frame: pd.DataFrame, column: str, label: str, what: str) -> None:
+    """Refuse a column the options name that the file does not have."""
     if column not in frame.columns:
         raise InputError(
             f"{what} column {column!r} not found; columns are {', '.join(frame.columns)}", path=label

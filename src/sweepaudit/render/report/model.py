@@ -23,6 +23,8 @@ class Figure:
 
 @dataclass(frozen=True)
 class Table:
+    """A table of formatted cells, with its caption."""
+
     columns: tuple[str, ...]
     rows: tuple[tuple[str, ...], ...]
     caption: str = ""
@@ -48,6 +50,8 @@ class Section:
 
 @dataclass(frozen=True)
 class Report:
+    """The whole report: the first screen (verdict, reasons, headline figures) and the sections."""
+
     title: str
     verdict: str  # "go" | "no-go"
     verdict_words: str
