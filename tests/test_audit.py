@@ -48,13 +48,16 @@ def test_streamed_audit_equals_in_memory_audit(sweep, monkeypatch):
     np.testing.assert_allclose(streamed.intervals.sharpe_distribution, whole.intervals.sharpe_distribution, rtol=1e-6)
     # Snooping on the same float64 means, reduced block by block: the same figures to rounding; a
     # p-value counts null draws, so a draw within rounding of the statistic could move it by one.
-    for name in ("reality_check", "spa", "spa_unstudentized"):
+    for name in ("reality_check", "spa_long_run", "spa_bootstrap", "spa_unstudentized"):
         a, b = getattr(whole.snooping, name), getattr(streamed.snooping, name)
         assert a.pvalue == pytest.approx(b.pvalue, abs=1.01 / 1000)
         assert a.statistic == pytest.approx(b.statistic, rel=1e-12)
-    np.testing.assert_allclose(whole.snooping.spa.null_consistent, streamed.snooping.spa.null_consistent, rtol=1e-12)
+    np.testing.assert_allclose(
+        whole.snooping.gating_spa.null_consistent, streamed.snooping.gating_spa.null_consistent, rtol=1e-12
+    )
     assert 0.002 < whole.snooping.spa_unstudentized.pvalue < 0.9
-    assert whole.snooping.stepm.significant == streamed.snooping.stepm.significant
+    for scale in ("long-run", "bootstrap", "none"):
+        assert whole.snooping.stepm(scale).significant == streamed.snooping.stepm(scale).significant
     assert [c.passed for c in whole.verdict.checks] == [c.passed for c in streamed.verdict.checks]
 
 

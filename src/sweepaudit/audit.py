@@ -22,29 +22,29 @@ from .methods.cscv import cscv
 from .methods.deflation import deflated_by_trials
 from .methods.haircut import haircut_sharpe
 from .methods.inference import sharpe_inference
+from .methods.longrun import family_block_length, long_run_variance
 from .methods.overfitting import overfitting_diagnosis
 from .methods.snooping import reality_check, stepwise_superior, superior_predictive_ability
 from .methods.surface import isolated_peak
+from .methods.tails import family_stress, tail_test
 from .policy import DEFAULT_POLICY, Policy
-from .resample import ResampledMoments, Resamples, automatic_block_length, draw_resamples
+from .resample import ResampledMoments, Resamples, draw_resamples
 from .results import (
     AuditSettings,
+    BlockLengthChoice,
     BootstrapIntervals,
     CscvResult,
     DeflatedCurve,
     Evidence,
+    LongRunVariance,
     OverfittingDiagnosis,
     SharpeInference,
     Snooping,
+    TailTest,
 )
 from .sweep import Sweep
 
 __all__ = ["gather_evidence"]
-
-_AUTOMATIC_BLOCK = (
-    "automatic: Politis and White (2004) with the Patton, Politis and White (2009) "
-    "correction, computed on the selected configuration's series"
-)
 
 
 def gather_evidence(
@@ -85,26 +85,32 @@ def gather_evidence(
     selected, rule = _select(sweep, settings, sharpe)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", SweepAuditWarning)
-        resamples, block_source = _resamples(sweep, settings, count, selected)
+        long_run = long_run_variance(x)
+        resamples, block_source, choice = _resamples(sweep, settings, count, selected)
         moments, intervals = moments_and_intervals(
             x, resamples, memory_budget=memory_budget, progress=progress,
             intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method),
         )
-        inference = _inference(sweep, settings, policy, selected)
+        inference = _inference(sweep, settings, policy, selected, long_run)
         haircut = haircut_sharpe(
             inference.configuration_sharpes, observations=sweep.n_windows, selected=selected,
             tests=inference.trials, periods_per_year=sweep.periods_per_year,
         )
-        snooping, overfit, diagnosis = _selection_tests(x, moments, policy) if sweep.n_configurations >= 2 else (None,) * 3
+        snooping = overfit = diagnosis = tails = None
+        if sweep.n_configurations >= 2:
+            snooping, overfit, diagnosis = _selection_tests(x, moments, policy, long_run)
+            tails = _tails(x, selected, snooping, policy)
     caught_notes = tuple(str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning))
+    share, share_low = _bootstrap_share(intervals, long_run)
     return Evidence(
         sweep=sweep, settings=settings, policy=policy, selected_index=selected, selection_rule=rule,
         resamples=resamples, block_length_source=block_source, intervals=intervals, sharpe_ratios=sharpe,
-        warnings=_notes(sweep, selected, inference, caught_notes, snooping, intervals, policy),
+        warnings=_notes(sweep, selected, inference, caught_notes, snooping, intervals, policy, share_low),
         sharpe=inference, haircut=haircut, overfitting=overfit, overfitting_diagnosis=diagnosis, snooping=snooping,
         surface=isolated_peak(sweep.parameters, sharpe, selected=selected,
                               sharpe_distribution=intervals.sharpe_distribution[:, selected]),
-        deflation_curve=_curve(inference),
+        deflation_curve=_curve(inference), long_run=long_run, block_choice=choice,
+        bootstrap_share=share, bootstrap_share_low=share_low, tails=tails,
     )
 
 
@@ -114,20 +120,25 @@ def _select(sweep: Sweep, settings: AuditSettings, sharpe: np.ndarray) -> tuple[
     return int(np.argmax(sharpe)), "highest full-sample Sharpe ratio (the configuration a researcher would pick)"
 
 
-def _resamples(sweep: Sweep, settings: AuditSettings, count: int, selected: int) -> tuple[Resamples, str]:
-    """The audit's one set of resamples and where its block length came from."""
+def _resamples(
+    sweep: Sweep, settings: AuditSettings, count: int, selected: int
+) -> tuple[Resamples, str, BlockLengthChoice | None]:
+    """The audit's one set of resamples, where its block length came from, and how it was chosen."""
+    choice = None
     if settings.block_length is None:
-        block = automatic_block_length(sweep.returns[:, selected], settings.bootstrap)
-        source = _AUTOMATIC_BLOCK
+        choice = family_block_length(sweep.returns, selected=selected, kind=settings.bootstrap)
+        block, source = choice.length, "automatic: " + choice.rule
     else:
         block, source = float(settings.block_length), "given"
     resamples = draw_resamples(
         sweep.n_windows, count=count, kind=settings.bootstrap, block_length=block, seed=settings.seed
     )
-    return resamples, source
+    return resamples, source, choice
 
 
-def _inference(sweep: Sweep, settings: AuditSettings, policy: Policy, selected: int) -> SharpeInference:
+def _inference(
+    sweep: Sweep, settings: AuditSettings, policy: Policy, selected: int, long_run: LongRunVariance
+) -> SharpeInference:
     return sharpe_inference(
         sweep.returns,
         selected=selected,
@@ -136,22 +147,35 @@ def _inference(sweep: Sweep, settings: AuditSettings, policy: Policy, selected: 
         confidence=policy.track_record_confidence,
         variance_mode=policy.deflation_variance,
         trials_for_deflation=policy.deflation_trials,
+        sharpe_variance=policy.sharpe_variance,
+        long_run=long_run,
+        significance=policy.significance,
     )
 
 
+def _bootstrap_share(intervals: BootstrapIntervals, long_run: LongRunVariance) -> tuple[float, float]:
+    """How much of each configuration's long-run variance the resamples reproduce: median, 10th percentile."""
+    t = long_run.windows
+    share = t * np.var(intervals.mean_distribution, axis=0) / long_run.variance
+    return float(np.median(share)), float(np.quantile(share, 0.1))
+
+
 def _selection_tests(
-    x: np.ndarray, moments: ResampledMoments, policy: Policy
+    x: np.ndarray, moments: ResampledMoments, policy: Policy, long_run: LongRunVariance
 ) -> tuple[Snooping, CscvResult, OverfittingDiagnosis]:
-    """The data-snooping tests on the shared moments, and CSCV with its diagnosis."""
+    """The data-snooping tests on the shared moments under each scale, and CSCV with its diagnosis."""
     level = policy.significance
+    shared = dict(moments=moments, long_run=long_run)
+    spa = {scale: superior_predictive_ability(x, scale=scale, **shared) for scale in ("long-run", "bootstrap", "none")}
+    stepm = {
+        scale: stepwise_superior(x, level=level, scale=scale, recentring="consistent", **shared)
+        for scale in ("long-run", "bootstrap", "none")
+    }
     snooping = Snooping(
         reality_check=reality_check(x, moments=moments),
-        spa=superior_predictive_ability(x, moments=moments, studentize=True),
-        spa_unstudentized=superior_predictive_ability(x, moments=moments, studentize=False),
-        stepm=stepwise_superior(x, level=level, moments=moments, studentize=True),
-        stepm_unstudentized=stepwise_superior(x, level=level, moments=moments, studentize=False),
-        gating=policy.snooping_test,
-        studentized=policy.snooping_studentize,
+        spa_long_run=spa["long-run"], spa_bootstrap=spa["bootstrap"], spa_unstudentized=spa["none"],
+        stepm_long_run=stepm["long-run"], stepm_bootstrap=stepm["bootstrap"], stepm_unstudentized=stepm["none"],
+        gating=policy.snooping_test, scale=policy.snooping_scale,
     )
     overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
     diagnosis = overfitting_diagnosis(
@@ -163,6 +187,12 @@ def _selection_tests(
     return snooping, overfit, diagnosis
 
 
+def _tails(x: np.ndarray, selected: int, snooping: Snooping, policy: Policy) -> TailTest:
+    """The family-stress test, held to the critical value the gating StepM held the selected one to."""
+    stress = family_stress(x, selected=selected, threshold=policy.stress_threshold, share=policy.stress_share)
+    return tail_test(stress, critical_value=snooping.gating_stepm.critical_value_for(selected))
+
+
 def _notes(
     sweep: Sweep,
     selected: int,
@@ -171,6 +201,7 @@ def _notes(
     snooping: Snooping | None,
     intervals: BootstrapIntervals,
     policy: Policy,
+    share_low: float,
 ) -> tuple[str, ...]:
     """The audit's warnings, in the order the reader meets them."""
     # The audit says once, at the end, that periods per year are unknown.
@@ -188,6 +219,12 @@ def _notes(
             f"{intervals.degenerate_resamples} resamples had a configuration with zero variance; "
             "their Sharpe ratios were left out of the intervals"
         )
+    if share_low < 0.8:
+        notes.append(
+            f"the resamples reproduce only {share_low:.0%} of the long-run variance for a tenth of the "
+            "configurations: their bootstrap intervals may be too narrow (the studentized tests and the Sharpe "
+            "inference use the long-run variance and are not affected); consider a longer --block-length"
+        )
     if sweep.periods_per_year is None and sweep.dates is None:
         notes.append("periods per year unknown (no --periods-per-year and no dated windows): figures are per window")
     return tuple(notes)
@@ -200,4 +237,5 @@ def _curve(inference: SharpeInference) -> DeflatedCurve | None:
         d.sharpe, observations=d.observations, skewness=d.skewness, kurtosis=d.kurtosis,
         trial_sharpe_variance=d.trial_sharpe_variance, trials=d.trials,
         effective_trials=inference.effective_trials, expected_maximum=d.expected_maximum,
+        long_run_ratio=d.long_run_ratio,
     )

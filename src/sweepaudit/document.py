@@ -105,6 +105,23 @@ def _settings_block(evidence: Evidence) -> dict:
         "confidence": evidence.intervals.confidence,
         "interval_method": evidence.intervals.method,
         "trials": evidence.settings.trials,
+        "block_length_choice": _block_choice(evidence),
+    }
+
+
+def _block_choice(evidence: Evidence) -> dict | None:
+    c = evidence.block_choice
+    if c is None:
+        return None
+    return {
+        "selected": c.selected,
+        "family_quantile": c.family_quantile,
+        "average_series": c.average_series,
+        "configurations_examined": c.configurations_examined,
+        "ar_coefficient": c.ar_coefficient,
+        "predicted_share": c.predicted_share,
+        "lengthened": c.lengthened,
+        "rule": c.rule,
     }
 
 
@@ -137,6 +154,7 @@ def _bootstrap_block(evidence: Evidence) -> dict:
             "sharpe": _interval(iv.sharpe[k]),
             "sharpe_annualized": _interval(iv.sharpe[k], sharpe_factor),
         },
+        "long_run_share": {"median": evidence.bootstrap_share, "lowest_decile": evidence.bootstrap_share_low},
         "configurations": [
             {
                 "configuration": name,
@@ -174,6 +192,8 @@ def results_document(evidence: Evidence) -> dict:
         out["surface"] = _surface_block(evidence)
     if evidence.overfitting is not None:
         out["overfitting"] = _overfitting_block(evidence)
+    if evidence.tails is not None and evidence.tails.stress.applicable:
+        out["tails"] = _tails_block(evidence)
     return _clean(out)
 
 
@@ -231,27 +251,33 @@ def _spa(spa) -> dict:
         "pvalue_lower": spa.pvalue_lower,
         "pvalue_upper": spa.pvalue_upper,
         "studentized": spa.studentized,
+        "scale": spa.scale,
     }
 
 
-def _stepm(step, names) -> dict:
+def _stepm(step, names, selected: int) -> dict:
     return {
         "significant": [names[i] for i in step.significant],
         "level": step.level,
         "studentized": step.studentized,
+        "scale": step.scale,
         "recentring": step.recentring,
         "steps": step.steps,
         "critical_values": list(step.critical_values),
+        "selected_statistic": step.statistics[selected],
+        "selected_critical_value": step.critical_value_for(selected),
     }
 
 
 def _snooping_block(evidence: Evidence) -> dict:
     sn = evidence.snooping
     names = evidence.sweep.configurations
-    gating_stepm = sn.gating_stepm
+    k = evidence.selected_index
+    long_run = evidence.long_run
     return {
         "gating": sn.gating,
         "gating_pvalue": sn.pvalue,
+        "scale": sn.scale,
         "counting": sn.reality_check.counting,
         "reality_check": {
             "statistic": sn.reality_check.statistic,
@@ -259,12 +285,36 @@ def _snooping_block(evidence: Evidence) -> dict:
             "best": names[sn.reality_check.best],
         },
         "spa": _spa(sn.gating_spa),
-        "spa_studentized": _spa(sn.spa),
+        "spa_long_run": _spa(sn.spa_long_run),
+        "spa_studentized": _spa(sn.spa_bootstrap),
         "spa_unstudentized": _spa(sn.spa_unstudentized),
-        "stepm": _stepm(gating_stepm, names),
-        "stepm_studentized": _stepm(sn.stepm, names),
-        "stepm_unstudentized": _stepm(sn.stepm_unstudentized, names),
-        "selected_survives_stepm": evidence.selected_index in gating_stepm.significant,
+        "stepm": _stepm(sn.gating_stepm, names, k),
+        "stepm_long_run": _stepm(sn.stepm_long_run, names, k),
+        "stepm_studentized": _stepm(sn.stepm_bootstrap, names, k),
+        "stepm_unstudentized": _stepm(sn.stepm_unstudentized, names, k),
+        "selected_survives_stepm": k in sn.gating_stepm.significant,
+        "selected_long_run": None if long_run is None else {
+            "variance_ratio": long_run.ratio[k],
+            "ar_coefficient": long_run.ar_coefficient[k],
+            "degrees_of_freedom": long_run.degrees_of_freedom[k],
+        },
+    }
+
+
+def _tails_block(evidence: Evidence) -> dict:
+    test = evidence.tails
+    stress = test.stress
+    windows = evidence.sweep.windows
+    return {
+        "threshold": stress.threshold,
+        "share": stress.share,
+        "stress_windows": [windows[int(i)] for i in stress.windows],
+        "escaped": stress.escaped,
+        "mean_observed": stress.mean_observed,
+        "mean_adjusted": stress.mean_adjusted,
+        "statistic": test.statistic,
+        "critical_value": test.critical_value,
+        "passed": test.passed,
     }
 
 
@@ -313,6 +363,7 @@ def _deflated(d, periods_per_year) -> dict:
         "benchmark_sharpe_annualized": d.benchmark_sharpe * root if root else None,
         "statistic": d.statistic,
         "probability": d.probability,
+        "long_run_ratio": d.long_run_ratio,
     }
 
 
@@ -330,9 +381,25 @@ def _deflated_head(evidence: Evidence) -> dict:
             "variance_mode": inf.variance_mode,
             "trial_sharpe_variance_null": inf.trial_sharpe_variance_null,
             "trial_sharpe_variance_empirical": inf.trial_sharpe_variance_empirical,
+            "calibrated_level": inf.deflated_level,
+            "significance": inf.significance,
         }
     )
     return head
+
+
+def _iid_block(evidence: Evidence) -> dict:
+    """The same figures under the published iid formulas, beside the headline ones."""
+    inf = evidence.sharpe
+    ppy = evidence.sweep.periods_per_year
+    return {
+        "standard_error": inf.standard_error_iid,
+        "probabilistic": {"statistic": inf.probabilistic_iid.statistic, "probability": inf.probabilistic_iid.probability},
+        "deflated": _deflated(inf.deflated_iid, ppy),
+        "min_track_record": {
+            "observations": inf.min_track_record_iid_observations, "years": inf.min_track_record_iid_years,
+        },
+    }
 
 
 def _haircut_block(evidence: Evidence) -> dict:
@@ -367,12 +434,16 @@ def _sharpe_block(evidence: Evidence) -> dict:
         "kurtosis": inf.kurtosis,
         "standard_error": inf.standard_error,
         "standard_error_serial_correlation": inf.standard_error_serial_correlation,
+        "sharpe_variance": inf.sharpe_variance,
+        "long_run_ratio": inf.long_run_ratio,
+        "long_run_ratio_trial": inf.long_run_ratio_trial,
         "probabilistic": {
             "benchmark": inf.probabilistic.benchmark,
             "statistic": inf.probabilistic.statistic,
             "probability": inf.probabilistic.probability,
         },
         "deflated": _deflated_head(evidence),
+        "iid": _iid_block(evidence),
         "deflated_variants": [
             {
                 "variance_mode": v.variance_mode,

@@ -49,8 +49,17 @@ CHECK_IDS: tuple[str, ...] = (
     "baseline_drift",
     "overfitting",
     "data_snooping",
+    "family_tails",
     "parameter_surface",
 )
+
+#: Keys of earlier policies that were replaced: the message says what to write instead.
+_REPLACED_KEYS = {
+    "snooping_studentize": (
+        "snooping_studentize was replaced by snooping_scale (\"long-run\", \"bootstrap\" or \"none\"; "
+        "true meant \"bootstrap\", false \"none\"); the default is now \"long-run\" (README: data-snooping tests)"
+    ),
+}
 
 
 def _f(
@@ -122,7 +131,17 @@ class Policy:
         0.95,
         "lowest deflated Sharpe probability for a go",
         low=0.0, high=1.0, low_open=True, high_open=True,
-        source="Bailey and Lopez de Prado (2014), the deflated Sharpe ratio paper's 0.95",
+        source="Bailey and Lopez de Prado (2014), the deflated Sharpe ratio paper's 0.95; used when "
+        "deflation_threshold is \"fixed\"",
+    )
+    deflation_threshold: str = _f(
+        "calibrated",
+        "the deflated Sharpe check's bar: calibrated (the probability that makes it a test of size "
+        "significance for the trials counted: 0.95 for one trial, about 0.77 for 100) or fixed "
+        "(min_deflated_probability)",
+        choices=("calibrated", "fixed"),
+        source="sweepaudit's choice on simulation evidence: 0.95 against the expected maximum acts as a "
+        "0.1-0.2% test for 100 trials (docs/validation.md)",
     )
     deflation_variance: str = _f(
         "null",
@@ -136,6 +155,14 @@ class Policy:
         "trial count of the deflation: declared (configurations, --trials or the ledger) or effective",
         choices=("declared", "effective"),
         source="sweepaudit's choice: the declared count is conservative whatever the correlation",
+    )
+    sharpe_variance: str = _f(
+        "long-run",
+        "standard error of the probabilistic and deflated Sharpe ratios and the minimum track record: "
+        "long-run (serial dependence counted, the iid figures shown beside) or iid (the published formula)",
+        choices=("long-run", "iid"),
+        source="sweepaudit's choice: under AR(1) windows the iid variance understates the truth by "
+        "(1 + phi) / (1 - phi) (Lo 2002)",
     )
     track_record_confidence: float = _f(
         0.95,
@@ -180,15 +207,31 @@ class Policy:
         choices=("spa", "reality_check"),
         source="Hansen (2005): the consistent SPA p-value is more powerful than the reality check",
     )
-    snooping_studentize: bool = _f(
-        False,
-        "gate on the studentized SPA and StepM (divided by each configuration's bootstrap standard "
-        "deviation) instead of the unstudentized ones; both are always reported",
-        source="sweepaudit's choice on simulation evidence: the studentized tests over-rejected "
-        "(8-10% at the 5% level) under AR(1) windows, the unstudentized held 5% (README)",
+    snooping_scale: str = _f(
+        "long-run",
+        "how SPA and StepM put configurations on one scale: long-run (each one's t-ratio against its "
+        "long-run standard deviation, read against Student's t), bootstrap (divided by the bootstrap "
+        "standard deviation) or none; all three are always reported",
+        choices=("long-run", "bootstrap", "none"),
+        source="sweepaudit's choice on simulation evidence: long-run held its level under AR(1) windows "
+        "where bootstrap rejected 19-30% and none 9-12% of true nulls at 5%, and it sees a quiet edge "
+        "among loud noise (docs/validation.md)",
+    )
+    stress_threshold: float = _f(
+        4.0,
+        "family_tails check: a loss beyond this many robust standard deviations is a large loss",
+        low=1.0, high=50.0,
+        source="sweepaudit's choice: 4 robust standard deviations has probability 3e-5 for normal windows",
+    )
+    stress_share: float = _f(
+        0.2,
+        "family_tails check: a window is a stress window when at least this share of the configurations "
+        "take a large loss in it",
+        low=0.0, high=1.0, low_open=True,
+        source="sweepaudit's choice (README: the family's tails)",
     )
     required: tuple[str, ...] = _f(
-        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "overfitting", "data_snooping",
+        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "data_snooping", "family_tails",
          "baseline_drift"),
         "checks that must pass for a go; the others are advisory",
         check_ids=True,
@@ -235,6 +278,8 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
     """Build a validated Policy from a mapping (e.g. a parsed TOML table)."""
     known = {f.name: f for f in fields(Policy)}
     for key in values:
+        if key in _REPLACED_KEYS:
+            raise PolicyError(f"{source}: {_REPLACED_KEYS[key]}")
         if key not in known:
             raise PolicyError(f"{source}: unknown key {key!r}; known keys are {', '.join(known)}")
     clean: dict[str, Any] = {}

@@ -27,6 +27,8 @@ EffectiveTrialsMethod = Literal["average_correlation", "nyholt", "li_ji"]
 VarianceMode = Literal["null", "empirical"]
 TrialCount = Literal["declared", "effective"]
 Annualization = Literal["square_root", "serial_correlation"]
+SharpeVariance = Literal["long-run", "iid"]
+SnoopingScale = Literal["long-run", "bootstrap", "none"]
 AdjustmentMethod = Literal["bonferroni", "holm", "bhy"]
 SplitStatistic = Literal["sharpe", "mean"]
 OverfittingCase = Literal["robust", "shared_edge", "no_edge", "overfit"]
@@ -124,11 +126,13 @@ class ProbabilisticSharpe:
     skewness, kurtosis : float
         Moments used (kurtosis raw).
     standard_error : float
-        ``sqrt([1 - g3 SR + (g4 - 1)/4 SR^2] / (n - 1))`` at the observed SR.
+        ``sqrt([q - g3 SR + (g4 - 1)/4 SR^2] / (n - 1))`` at the observed SR.
     statistic : float
         ``z = (SR - SR*) / standard_error``.
     probability : float
         ``PSR = Phi(z)``: the probability that the true Sharpe ratio exceeds the benchmark.
+    long_run_ratio : float
+        ``q = omega^2 / sigma^2`` used in the standard error (1: the published iid formula).
     """
 
     sharpe: float
@@ -139,6 +143,7 @@ class ProbabilisticSharpe:
     standard_error: float
     statistic: float
     probability: float
+    long_run_ratio: float = 1.0
 
 
 @dataclass(frozen=True)
@@ -167,6 +172,8 @@ class DeflatedSharpe:
         ``z = (SR - SR0) / standard_error``.
     probability : float
         ``DSR = PSR(SR0) = Phi(z)``.
+    long_run_ratio : float
+        ``q = omega^2 / sigma^2`` used in the standard error (1: the published iid formula).
     """
 
     sharpe: float
@@ -180,6 +187,7 @@ class DeflatedSharpe:
     standard_error: float
     statistic: float
     probability: float
+    long_run_ratio: float = 1.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -293,7 +301,8 @@ class SharpeInference:
     kurtosis : float
         Its RAW kurtosis (3 for normal), plain moment estimator.
     standard_error : float
-        iid standard error of ``observed`` (Mertens 2002, PSR's ``n - 1``), the one PSR/DSR use.
+        Standard error of ``observed`` the PSR and DSR use (Mertens 2002, PSR's ``n - 1``; with the
+        long-run variance ratio when ``sharpe_variance`` is ``"long-run"``).
     standard_error_serial_correlation : float
         Serial-correlation-robust standard error (Lo 2002 with Newey-West, default lags), shown
         beside it so a reader sees when autocorrelation makes the iid figures optimistic.
@@ -330,6 +339,19 @@ class SharpeInference:
         Per-window Sharpe ratio of every configuration (raw material of the empirical V).
     warnings : tuple of str
         Why a value is None, in words the report can show.
+    sharpe_variance : {"long-run", "iid"}
+        Which standard error ``standard_error``, ``probabilistic``, ``deflated``, ``variants`` and
+        the minimum track record use.
+    long_run_ratio : float
+        ``q = omega^2 / sigma^2`` of the selected configuration (1 under ``"iid"``).
+    long_run_ratio_trial : float
+        The family's median ``q``, the scale of the null trial Sharpe variance (1 under ``"iid"``).
+    standard_error_iid, probabilistic_iid, deflated_iid, min_track_record_iid_observations, min_track_record_iid_years
+        The same figures under the published iid formulas, reported beside the headline ones.
+    deflated_level : float
+        The calibrated deflated probability of :func:`sweepaudit.methods.deflation.calibrated_level`
+        for the trials the headline counts, at ``significance``.
+    significance : float
     """
 
     selected: int
@@ -364,6 +386,16 @@ class SharpeInference:
     confidence: float
     configuration_sharpes: np.ndarray
     warnings: tuple[str, ...]
+    sharpe_variance: SharpeVariance = "iid"
+    long_run_ratio: float = 1.0
+    long_run_ratio_trial: float = 1.0
+    standard_error_iid: float | None = None
+    probabilistic_iid: ProbabilisticSharpe | None = None
+    deflated_iid: DeflatedSharpe | None = None
+    min_track_record_iid_observations: float | None = None
+    min_track_record_iid_years: float | None = None
+    deflated_level: float | None = None
+    significance: float = 0.05
 
     def variant(
         self, variance_mode: VarianceMode, expected_maximum: ExpectedMaximum, trial_count: TrialCount
@@ -635,13 +667,16 @@ class SuperiorPredictiveAbility:
     relevant : ndarray of bool, shape (N,)
         Configurations whose sample mean is above the consistent threshold, so the consistent null
         recentres them at their sample mean (the others at zero).
-    studentized : bool
-        Whether the statistic divides by ``omega``.
+    scale : {"long-run", "bootstrap", "none"}
+        How the statistics and the null draws are scaled (see :mod:`sweepaudit.methods.snooping`).
     null_lower, null_consistent, null_upper : ndarray, shape (B,)
         Bootstrap null distributions, one value per resample:
         ``max(max_k sqrt(n) * (mean*_{k,b} - g(mean_k)) / omega_k, 0)``.
     counting : {"include-observed", "strict-share"}
         How the p-values count.
+    statistics : ndarray, shape (N,)
+        Each configuration's observed statistic on the test's scale (``statistic`` is their
+        maximum floored at zero).
     """
 
     statistic: float
@@ -650,11 +685,17 @@ class SuperiorPredictiveAbility:
     pvalue_upper: float
     omega: np.ndarray
     relevant: np.ndarray
-    studentized: bool
+    scale: SnoopingScale
     null_lower: np.ndarray
     null_consistent: np.ndarray
     null_upper: np.ndarray
     counting: Counting
+    statistics: np.ndarray
+
+    @property
+    def studentized(self) -> bool:
+        """Whether the configurations were put on one scale (``scale`` is not ``"none"``)."""
+        return self.scale != "none"
 
 
 @dataclass(frozen=True)
@@ -668,8 +709,8 @@ class StepwiseResult:
         benchmark", with the familywise error rate controlled at ``level``.
     level : float
         The familywise error rate alpha.
-    studentized : bool
-        Whether statistics divide by ``omega``.
+    scale : {"long-run", "bootstrap", "none"}
+        How the statistics and the null draws are scaled (see :mod:`sweepaudit.methods.snooping`).
     steps : int
         Number of steps run (= ``len(critical_values)``); the last step rejects nothing new unless
         every configuration was rejected.
@@ -677,7 +718,8 @@ class StepwiseResult:
         Critical value of each step: the ``1 - level`` quantile of the bootstrap maximum over the
         configurations not yet rejected. ``inf`` when B is too small to reject at ``level``.
     statistics : ndarray, shape (N,)
-        ``sqrt(n) * mean_k`` (divided by ``omega_k`` when studentized).
+        Each configuration's observed statistic on the test's scale: ``sqrt(n) * mean_k``, divided
+        by ``omega_k`` (``"bootstrap"``), or the long-run t-ratio on the normal scale (``"long-run"``).
     omega : ndarray, shape (N,)
         Bootstrap standard deviation of ``sqrt(n) * mean*_k``.
     rejected_at_step : ndarray of int, shape (N,)
@@ -692,7 +734,7 @@ class StepwiseResult:
 
     significant: tuple[int, ...]
     level: float
-    studentized: bool
+    scale: SnoopingScale
     steps: int
     critical_values: tuple[float, ...]
     statistics: np.ndarray
@@ -701,6 +743,17 @@ class StepwiseResult:
     null_maxima: tuple[np.ndarray, ...]
     recentring: StepRecentring
     counting: Counting
+
+    @property
+    def studentized(self) -> bool:
+        """Whether the configurations were put on one scale (``scale`` is not ``"none"``)."""
+        return self.scale != "none"
+
+    def critical_value_for(self, column: int) -> float:
+        """The critical value a configuration was held to: that of the step that rejected it, or
+        the last step's when it was never rejected."""
+        step = int(self.rejected_at_step[column])
+        return self.critical_values[step - 1] if step else self.critical_values[-1]
 
 
 @dataclass(frozen=True, eq=False)
@@ -766,6 +819,141 @@ class PeakShape:
 
 
 @dataclass(frozen=True)
+class LongRunVariance:
+    """Long-run variance of each column's mean (``omega^2``, the variance of ``sqrt(T) * mean``).
+
+    Attributes
+    ----------
+    variance : ndarray, shape (N,)
+        ``omega^2`` per column, in squared return units.
+    short_run_variance : ndarray, shape (N,)
+        The plain variance (divisor T) of each column.
+    ar_coefficient : ndarray, shape (N,)
+        Bias-corrected AR(1) coefficient used to prewhiten (0 when prewhitening is off).
+    bandwidth : ndarray, shape (N,)
+        Bartlett bandwidth ``S`` used on the prewhitened residuals (weights ``1 - j / S``, j < S).
+    degrees_of_freedom : ndarray, shape (N,)
+        Equivalent degrees of freedom of each estimate.
+    windows : int
+        T.
+    """
+
+    variance: np.ndarray
+    short_run_variance: np.ndarray
+    ar_coefficient: np.ndarray
+    bandwidth: np.ndarray
+    degrees_of_freedom: np.ndarray
+    windows: int
+
+    @property
+    def ratio(self) -> np.ndarray:
+        """``omega^2 / sigma^2``: 1 for serially uncorrelated windows, (1 + phi) / (1 - phi) for AR(1)."""
+        return self.variance / self.short_run_variance
+
+
+@dataclass(frozen=True)
+class BlockLengthChoice:
+    """How the audit's block length was chosen for the whole family of configurations.
+
+    Attributes
+    ----------
+    length : float
+        The block length used (mean length for the stationary bootstrap).
+    selected : float
+        Politis-White automatic length of the selected configuration.
+    family_quantile : float
+        The 75th percentile of the automatic lengths over the configurations examined.
+    average_series : float
+        The automatic length of the cross-sectional average series (the shared dependence).
+    configurations_examined : int
+    ar_coefficient : float
+        Median bias-corrected AR(1) coefficient over the configurations examined.
+    predicted_share : float
+        Share of the long-run variance an AR(1) with that coefficient keeps under the chosen length.
+    lengthened : bool
+        Whether the long-run-variance check lengthened the blocks beyond the automatic lengths.
+    rule : str
+        The rule in words.
+    """
+
+    length: float
+    selected: float
+    family_quantile: float
+    average_series: float
+    configurations_examined: int
+    ar_coefficient: float
+    predicted_share: float
+    lengthened: bool
+    rule: str
+
+
+@dataclass(frozen=True)
+class FamilyStress:
+    """The selected configuration's record with the family's stress losses charged to it.
+
+    Attributes
+    ----------
+    windows : ndarray of int
+        0-based positions of the stress windows (empty when none).
+    family_loss : ndarray
+        The family's average standardised return in each stress window (robust standard deviations).
+    selected_return : ndarray
+        The selected configuration's return in each stress window, as observed.
+    charged_return : ndarray
+        What it is charged there: the smaller of its own return and the family's average loss in
+        its own scale.
+    escaped : int
+        Stress windows in which the selected configuration lost less than the family's average.
+    adjusted : ndarray, shape (T,)
+        The selected configuration's record with the charges applied (equal to the observed record
+        when no window is a stress window).
+    mean_observed, mean_adjusted : float
+        Mean return per window before and after.
+    threshold, share : float
+        The rule's two parameters.
+    applicable : bool
+        False for a family of fewer than :data:`MIN_FAMILY` configurations.
+    """
+
+    windows: np.ndarray
+    family_loss: np.ndarray
+    selected_return: np.ndarray
+    charged_return: np.ndarray
+    escaped: int
+    adjusted: np.ndarray
+    mean_observed: float
+    mean_adjusted: float
+    threshold: float
+    share: float
+    applicable: bool
+
+
+@dataclass(frozen=True)
+class TailTest:
+    """Does the selected configuration's edge survive the losses its family took?
+
+    Attributes
+    ----------
+    stress : FamilyStress
+        The stress windows and the selected configuration's record charged with their losses.
+    statistic : float or None
+        The charged record's t-ratio of its mean against the long-run variance, on the standard
+        normal scale (:func:`sweepaudit.methods.longrun.normal_scores`), the scale of the
+        data-snooping test's statistics; None when no window is a stress window.
+    critical_value : float
+        The data-snooping test's selection-adjusted critical value the statistic must exceed.
+    passed : bool
+        True when no window is a stress window, the rule does not apply, or ``statistic`` exceeds
+        ``critical_value``.
+    """
+
+    stress: FamilyStress
+    statistic: float | None
+    critical_value: float
+    passed: bool
+
+
+@dataclass(frozen=True)
 class AuditSettings:
     """Every knob that changes a figure.
 
@@ -800,23 +988,41 @@ class AuditSettings:
 
 @dataclass(frozen=True, eq=False)
 class Snooping:
-    """The data-snooping tests of one audit, all on the audit's shared resamples."""
+    """The data-snooping tests of one audit, all on the audit's shared resamples.
+
+    SPA and StepM are run under each of the three scales (see :mod:`sweepaudit.methods.snooping`);
+    ``scale`` names the one the verdict gates on, ``gating`` whether it reads the SPA's consistent
+    p-value or White's reality check. StepM recentres with Hansen's consistent rule (the stepwise
+    SPA of Hsu, Hsu and Kuan 2010), matching the SPA it accompanies.
+    """
 
     reality_check: RealityCheck
-    spa: SuperiorPredictiveAbility
+    spa_long_run: SuperiorPredictiveAbility
+    spa_bootstrap: SuperiorPredictiveAbility
     spa_unstudentized: SuperiorPredictiveAbility
-    stepm: StepwiseResult
+    stepm_long_run: StepwiseResult
+    stepm_bootstrap: StepwiseResult
     stepm_unstudentized: StepwiseResult
     gating: str
-    studentized: bool
+    scale: SnoopingScale
+
+    def spa(self, scale: SnoopingScale | None = None) -> SuperiorPredictiveAbility:
+        """The SPA under one scale (default: the gating one)."""
+        return {"long-run": self.spa_long_run, "bootstrap": self.spa_bootstrap,
+                "none": self.spa_unstudentized}[scale or self.scale]
+
+    def stepm(self, scale: SnoopingScale | None = None) -> StepwiseResult:
+        """StepM under one scale (default: the gating one)."""
+        return {"long-run": self.stepm_long_run, "bootstrap": self.stepm_bootstrap,
+                "none": self.stepm_unstudentized}[scale or self.scale]
 
     @property
     def gating_spa(self) -> SuperiorPredictiveAbility:
-        return self.spa if self.studentized else self.spa_unstudentized
+        return self.spa()
 
     @property
     def gating_stepm(self) -> StepwiseResult:
-        return self.stepm if self.studentized else self.stepm_unstudentized
+        return self.stepm()
 
     @property
     def pvalue(self) -> float:
@@ -854,6 +1060,18 @@ class Evidence:
         None unless the sweep is a two-parameter grid whose selected cell has neighbours.
     deflation_curve : DeflatedCurve or None
         The deflated probability against the number of trials (the report's figure).
+    long_run : LongRunVariance or None
+        Every configuration's long-run variance (the scale of the studentized tests and the Sharpe
+        inference).
+    block_choice : BlockLengthChoice or None
+        How the block length was chosen (None when it was given).
+    bootstrap_share : float or None
+        Median over the configurations of the bootstrap variance of the mean divided by the
+        long-run variance (1: the resamples reproduce all the dependence the long-run estimate sees).
+    bootstrap_share_low : float or None
+        Its 10th percentile over the configurations.
+    tails : TailTest or None
+        The family-stress test of the selected configuration (None for a single configuration).
     """
 
     sweep: Sweep
@@ -873,6 +1091,11 @@ class Evidence:
     snooping: Snooping | None = None
     surface: PeakShape | None = None
     deflation_curve: DeflatedCurve | None = None
+    long_run: LongRunVariance | None = None
+    block_choice: BlockLengthChoice | None = None
+    bootstrap_share: float | None = None
+    bootstrap_share_low: float | None = None
+    tails: TailTest | None = None
 
     @property
     def selected(self) -> str:

@@ -75,7 +75,13 @@ def _deflated_sharpe(evidence: Evidence, policy: Policy, baseline: BaselineCompa
     if inf is None:
         return None
     d = inf.deflated
-    need = policy.min_deflated_probability
+    if policy.deflation_threshold == "calibrated":
+        need = inf.deflated_level
+        bar = (f"the calibrated level {sig(need, 3)} (the probability that makes this check a "
+               f"{pct(policy.significance)} test for {sig(d.trials, 6)} trials)")
+    else:
+        need = policy.min_deflated_probability
+        bar = f"the policy's fixed {sig(need, 3)}"
     ok = d.probability >= need
     luck = (
         f"the best of {sig(d.trials, 6)} trials with no edge would reach a Sharpe ratio of about "
@@ -83,14 +89,13 @@ def _deflated_sharpe(evidence: Evidence, policy: Policy, baseline: BaselineCompa
     )
     if ok:
         reason = (
-            f"Deflated Sharpe probability {sig(d.probability, 3)} reaches the policy's {sig(need, 3)}: "
-            f"{luck}, and the selected Sharpe ratio of {sig(d.sharpe)} clears it with confidence."
+            f"Deflated Sharpe probability {sig(d.probability, 3)} reaches {bar}: {luck}, and the selected "
+            f"Sharpe ratio of {sig(d.sharpe)} clears it by enough."
         )
     else:
         reason = (
-            f"Deflated Sharpe probability {sig(d.probability, 3)} is below the policy's {sig(need, 3)}: "
-            f"{luck}, so the selected Sharpe ratio of {sig(d.sharpe)} is not clearly more than "
-            "selection luck."
+            f"Deflated Sharpe probability {sig(d.probability, 3)} is below {bar}: {luck}, so the selected "
+            f"Sharpe ratio of {sig(d.sharpe)} is not clearly more than selection luck."
         )
     return Check("deflated_sharpe", ok, d.probability, need, reason)
 
@@ -194,6 +199,13 @@ def _overfitting(evidence: Evidence, policy: Policy, baseline: BaselineCompariso
     return Check("overfitting", d.passed, d.probability_of_loss, d.max_probability_of_loss, reason)
 
 
+_SCALE_WORDS = {
+    "long-run": "each configuration's t-ratio against its long-run standard deviation",
+    "bootstrap": "each configuration scaled by its bootstrap standard deviation",
+    "none": "unscaled means",
+}
+
+
 @check("data_snooping")
 def _data_snooping(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
     sn = evidence.snooping
@@ -202,33 +214,67 @@ def _data_snooping(evidence: Evidence, policy: Policy, baseline: BaselineCompari
     p = sn.pvalue
     level = policy.significance
     n = evidence.sweep.n_configurations
-    name = (
-        "White's reality check" if sn.gating == "reality_check"
-        else f"Hansen's SPA test ({'studentized, ' if sn.studentized else ''}consistent p-value)"
-    )
-    ok = p <= level
+    name = "White's reality check" if sn.gating == "reality_check" else "Hansen's SPA test (consistent p-value)"
     stepm = sn.gating_stepm
     k = evidence.selected_index
     selected = evidence.sweep.configurations[k]
-    survivors = len(stepm.significant)
-    if k in stepm.significant:
-        step_note = f"StepM keeps {selected!r} among the {survivors} configuration(s) that beat the benchmark."
+    statistic = float(stepm.statistics[k])
+    critical = stepm.critical_value_for(k)
+    kept = k in stepm.significant
+    ok = p <= level and kept
+    family = (
+        f"{name} on {_SCALE_WORDS[sn.scale]}: p = {prob(p)}, "
+        + ("at or below" if p <= level else "above")
+        + f" the policy's {sig(level, 6)}"
+    )
+    if kept:
+        step = (f"StepM at {sig(level, 6)} keeps {selected!r} among the {len(stepm.significant)} configuration(s) "
+                f"that beat the benchmark (its statistic {sig(statistic, 3)} exceeds the critical value "
+                f"{sig(critical, 3)} for the best of {n})")
     else:
-        step_note = (
-            f"StepM does not find {selected!r} itself beating the benchmark "
-            f"({survivors} configuration(s) survive)."
-        )
+        step = (f"StepM at {sig(level, 6)} does not find {selected!r} itself beating the benchmark (its statistic "
+                f"{sig(statistic, 3)} against the critical value {sig(critical, 3)} for the best of {n}; "
+                f"{len(stepm.significant)} configuration(s) survive)")
     if ok:
-        reason = (
-            f"{name}: p = {prob(p)} at or below the policy's {sig(level, 6)}: the best of the {n} configurations "
-            f"beats the benchmark by more than the best of {n} could by luck. {step_note}"
-        )
+        reason = f"{family}, and {step}: its edge is more than the best of {n} configurations could show by luck."
     else:
-        reason = (
-            f"{name}: p = {prob(p)} above the policy's {sig(level, 6)}: the best of the {n} configurations does "
-            f"not beat the benchmark by more than the best of {n} could by luck. {step_note}"
-        )
+        reason = f"{family}; {step}: the selected edge is not clearly more than the luck of picking the best of {n}."
     return Check("data_snooping", ok, p, level, reason)
+
+
+@check("family_tails")
+def _family_tails(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    test = evidence.tails
+    if test is None or not test.stress.applicable:
+        return None
+    stress = test.stress
+    selected = evidence.selected
+    if stress.windows.size == 0:
+        reason = (
+            f"No window is a stress window (one in which at least {pct(stress.share)} of the configurations lose "
+            f"more than {sig(stress.threshold, 3)} robust standard deviations): the family shows no shared "
+            f"crash that {selected!r} could have escaped by luck."
+        )
+        return Check("family_tails", True, None, test.critical_value, reason)
+    windows = stress.windows.size
+    if not stress.escaped:
+        reason = (
+            f"{selected!r} lost at least its family's average in each of the {windows} stress window(s) (windows in "
+            f"which at least {pct(stress.share)} of the configurations lost more than {sig(stress.threshold, 3)} "
+            "robust standard deviations): it escaped no shared loss by luck."
+        )
+        return Check("family_tails", True, test.statistic, test.critical_value, reason)
+    escaped = f"escaped {stress.escaped} of the {windows} stress window(s) in which its family took large losses"
+    charged = (f"charged the family's average loss there, its mean excess return goes from "
+               f"{sig(stress.mean_observed)} to {sig(stress.mean_adjusted)} per window")
+    if test.passed:
+        reason = (f"{selected!r} {escaped}; {charged}, and its edge still clears the selection-adjusted bar "
+                  f"({sig(test.statistic, 3)} against {sig(test.critical_value, 3)}).")
+    else:
+        reason = (f"{selected!r} {escaped}; {charged}, and its edge no longer clears the selection-adjusted bar "
+                  f"({sig(test.statistic, 3)} against {sig(test.critical_value, 3)}): its record may owe its "
+                  "edge to missing crashes its siblings took (the peso problem).")
+    return Check("family_tails", test.passed, test.statistic, test.critical_value, reason)
 
 
 @check("parameter_surface")

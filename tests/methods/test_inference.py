@@ -26,7 +26,7 @@ def test_sharpe_inference_headline_matches_direct_call():
     rng = np.random.default_rng(9)
     x = neighbour_sweep(rng, 300, 15, 4, means=np.linspace(0, 0.12, 15)) * 0.01
     best = int(np.argmax(x.mean(axis=0) / x.std(axis=0, ddof=1)))
-    result = sharpe_inference(x, selected=best, trials=40, periods_per_year=52)
+    result = sharpe_inference(x, selected=best, trials=40, periods_per_year=52, sharpe_variance="iid")
     column = x[:, best]
     sharpe = column.mean() / column.std(ddof=1)
     centred = column - column.mean()
@@ -53,6 +53,31 @@ def test_sharpe_inference_headline_matches_direct_call():
     assert result.probabilistic.benchmark == 0.0
     assert result.standard_error == pytest.approx(direct.standard_error, rel=1e-12)
     assert result.standard_error_serial_correlation > 0
+    assert result.deflated_iid.probability == pytest.approx(direct.probability, rel=1e-12)
+
+
+def test_long_run_inference_scales_the_leading_term():
+    # Internal: with sharpe_variance="long-run" the selected q replaces Mertens' leading 1 and the
+    # family's median q scales the null trial variance; the iid figures are kept beside.
+    from sweepaudit.methods.longrun import long_run_variance
+    from sweepaudit.methods.sharpe import probabilistic_sharpe
+
+    rng = np.random.default_rng(19)
+    x = neighbour_sweep(rng, 260, 12, 4, means=np.linspace(0, 0.15, 12)) * 0.01
+    best = int(np.argmax(x.mean(axis=0) / x.std(axis=0, ddof=1)))
+    estimate = long_run_variance(x)
+    robust = sharpe_inference(x, selected=best, periods_per_year=52, long_run=estimate)
+    iid = sharpe_inference(x, selected=best, periods_per_year=52, sharpe_variance="iid")
+    q = float(estimate.ratio[best])
+    assert robust.long_run_ratio == pytest.approx(q)
+    assert robust.long_run_ratio_trial == pytest.approx(float(np.median(estimate.ratio)))
+    assert robust.trial_sharpe_variance_null == pytest.approx(robust.long_run_ratio_trial / 259)
+    direct = probabilistic_sharpe(robust.observed, benchmark=0.0, observations=260, skewness=robust.skewness,
+                                  kurtosis=robust.kurtosis, long_run_ratio=q)
+    assert robust.probabilistic.probability == pytest.approx(direct.probability, rel=1e-12)
+    assert robust.probabilistic_iid.probability == pytest.approx(iid.probabilistic.probability, rel=1e-12)
+    assert robust.deflated_iid.probability == pytest.approx(iid.deflated.probability, rel=1e-12)
+    assert robust.min_track_record_iid_observations == pytest.approx(iid.min_track_record_observations, rel=1e-12)
 
 
 def test_sharpe_inference_none_fields_carry_warnings():

@@ -148,7 +148,9 @@ def _cscv_arrays(material, rng, splits=3432):  # C(14, 7): 14 blocks
 # every section and every figure
 # ---------------------------------------------------------------------------------------------
 
-SECTION_IDS = ("data", "selection", "intervals", "sharpe", "overfitting", "snooping", "checks", "warnings", "reproduce")
+SECTION_IDS = (
+    "data", "selection", "intervals", "sharpe", "overfitting", "snooping", "tails", "checks", "warnings", "reproduce",
+)
 
 
 def test_both_formats_hold_every_section_and_figure_of_the_json(edge_audit, written):

@@ -40,6 +40,7 @@ __all__ = [
     "expected_max_standard_normal",
     "expected_max_sharpe",
     "deflated_sharpe",
+    "calibrated_level",
     "max_trials_for_deflated_sharpe",
     "deflated_by_trials",
     "effective_trials",
@@ -181,6 +182,7 @@ def deflated_sharpe(
     skewness: float,
     kurtosis: float,
     expected_maximum: ExpectedMaximum = "approximate",
+    long_run_ratio: float = 1.0,
 ) -> DeflatedSharpe:
     """Deflated Sharpe ratio: the PSR against the Sharpe ratio expected from the best of N trials.
 
@@ -203,6 +205,10 @@ def deflated_sharpe(
     expected_maximum : {"approximate", "exact"}
         "approximate" (default) is the paper's Euler-Mascheroni formula; "exact" integrates the
         expectation numerically.
+    long_run_ratio : float
+        ``q = omega^2 / sigma^2`` of the selected trial, for its standard error under serial
+        dependence (:func:`sweepaudit.methods.sharpe.variance_numerator`); 1 (default) is the
+        paper's iid formula. The null trial variance ``V`` is the caller's to scale the same way.
 
     Returns
     -------
@@ -220,12 +226,53 @@ def deflated_sharpe(
     g3, g4 = validate.raw_moments(skewness, kurtosis)
     mode = validate.choice(expected_maximum, "expected_maximum", _EXPECTED_MAXIMA)
     sr0 = expected_max_sharpe(n_trials, trial_sharpe_variance=variance, exact=mode == "exact")
-    psr = probabilistic_sharpe(sr, benchmark=sr0, observations=n, skewness=g3, kurtosis=g4)
+    psr = probabilistic_sharpe(sr, benchmark=sr0, observations=n, skewness=g3, kurtosis=g4,
+                               long_run_ratio=long_run_ratio)
     return DeflatedSharpe(
         sharpe=sr, observations=n, trials=n_trials, trial_sharpe_variance=variance, skewness=g3, kurtosis=g4,
         expected_maximum=mode, benchmark_sharpe=sr0, standard_error=psr.standard_error, statistic=psr.statistic,
-        probability=psr.probability,
+        probability=psr.probability, long_run_ratio=psr.long_run_ratio,
     )
+
+
+def calibrated_level(trials: float, *, significance: float = 0.05, expected_maximum: ExpectedMaximum = "approximate") -> float:
+    """The deflated Sharpe probability that makes "DSR >= level" a test of size ``significance``.
+
+    Under "no trial has an edge", with N independent trials each of Sharpe variance V, the best
+    z-ratio ``max_k SR_k / sqrt(V)`` exceeds ``Phi^-1((1 - alpha)^(1/N))`` with probability alpha
+    (Sidak 1967), and ``DSR = Phi(z - E[max_N])`` when the selected trial's standard error is
+    ``sqrt(V)``. So ``DSR >= Phi(Phi^-1((1 - alpha)^(1/N)) - E[max_N])`` is a familywise test of
+    level alpha. For one trial the level is ``1 - alpha`` (0.95: the PSR at 95%); it falls with N
+    (about 0.84 for 10 trials, 0.77 for 100, 0.74 for 1,000 at alpha = 0.05), because the DSR
+    measures distance from the expected maximum, not from its upper quantile.
+
+    The 0.95 the deflated Sharpe paper uses is far stricter than a 5% test for N > 1: it needs the
+    selected z-ratio near ``z_0.95 + E[max_N]`` (about 4.2 for 100 trials against Sidak's 3.28).
+
+    Parameters
+    ----------
+    trials : float
+        N, at least 1 (declared trials; fractional effective counts are allowed).
+    significance : float
+        alpha, strictly between 0 and 1.
+    expected_maximum : {"approximate", "exact"}
+        The expected maximum the DSR itself uses.
+
+    Returns
+    -------
+    float
+
+    References
+    ----------
+    Sidak, Z. (1967). Rectangular confidence regions for the means of multivariate normal
+    distributions. JASA 62(318), 626-633.
+    """
+    n_trials = _trials(trials)
+    alpha = validate.probability(significance, "significance")
+    mode = validate.choice(expected_maximum, "expected_maximum", _EXPECTED_MAXIMA)
+    # (1 - alpha)^(1/N) as 1 - expm1(log1p(-alpha) / N): accurate for large N.
+    quantile = float(stats.norm.isf(-math.expm1(math.log1p(-alpha) / n_trials)))
+    return float(stats.norm.cdf(quantile - expected_max_standard_normal(n_trials, exact=mode == "exact")))
 
 
 def max_trials_for_deflated_sharpe(
@@ -317,6 +364,7 @@ def deflated_by_trials(
     effective_trials: float | None = None,
     expected_maximum: ExpectedMaximum = "approximate",
     points: int = 160,
+    long_run_ratio: float = 1.0,
 ) -> DeflatedCurve | None:
     """The deflated Sharpe probability against the number of trials assumed, for the report's figure.
 
@@ -324,6 +372,8 @@ def deflated_by_trials(
     evenly on a log scale from 1 to ``max(1000, 10 * trials)``, and at the trials counted and the
     effective trials. It falls as the count grows because the expected maximum of N luck-only
     trials grows with N (Bailey and Lopez de Prado 2014, eq. 2).
+
+    ``long_run_ratio`` is passed to :func:`deflated_sharpe` (the headline's serial-dependence scale).
 
     Returns
     -------
@@ -333,7 +383,7 @@ def deflated_by_trials(
     if not trial_sharpe_variance > 0:
         return None
     inputs = dict(observations=observations, trial_sharpe_variance=trial_sharpe_variance, skewness=skewness,
-                  kurtosis=kurtosis, expected_maximum=expected_maximum)
+                  kurtosis=kurtosis, expected_maximum=expected_maximum, long_run_ratio=long_run_ratio)
     at_counted = deflated_sharpe(sharpe, trials=float(trials), **inputs)
     counts = np.unique(np.round(np.geomspace(1, max(1_000.0, 10 * float(trials)), points)))
     # DSR(N) = Phi((SR - sqrt(V) E[max_N]) / SE): only the expected maximum depends on N, so the
@@ -470,7 +520,7 @@ def effective_trials(returns: object) -> EffectiveTrials:
 # ---------------------------------------------------------------------------------------------
 
 
-def trial_sharpe_variance(returns: object, *, mode: VarianceMode = "null") -> float:
+def trial_sharpe_variance(returns: object, *, mode: VarianceMode = "null", long_run_ratio: float = 1.0) -> float:
     """Variance ``V`` of the trials' per-window Sharpe ratios, the DSR's scale.
 
     Parameters
@@ -482,7 +532,11 @@ def trial_sharpe_variance(returns: object, *, mode: VarianceMode = "null") -> fl
         "null": the sampling variance one Sharpe estimate has when there is no edge, from the
         Mertens (2002) formula at SR = 0 with the PSR's ``n - 1``: ``[1 - g3*0 + (g4-1)/4*0] / (T-1)
         = 1 / (T - 1)``. Skewness and kurtosis drop out at SR = 0, so this is exactly
-        ``1 / (T - 1)`` for every sweep of T windows.
+        ``1 / (T - 1)`` for every sweep of T windows of serially uncorrelated returns.
+    long_run_ratio : float
+        Null mode only: under serial dependence a Sharpe estimate's null variance is
+        ``q / (T - 1)`` with ``q = omega^2 / sigma^2`` (the long-run variance ratio of a typical
+        configuration; :func:`sweepaudit.methods.sharpe.variance_numerator`). Default 1.
 
     Returns
     -------
@@ -499,8 +553,9 @@ def trial_sharpe_variance(returns: object, *, mode: VarianceMode = "null") -> fl
     chosen = validate.choice(mode, "mode", ("null", "empirical"))
     windows, n = array.shape
     if chosen == "null":
+        q = validate.positive_number(long_run_ratio, "long_run_ratio")
         _standardised(array)  # constant columns are an error in both modes
-        return 1.0 / (windows - 1)
+        return q / (windows - 1)
     if n < 2:
         raise InputError(
             f"mode='empirical' needs at least 2 configurations to estimate a variance; got {n}"

@@ -55,12 +55,15 @@ from ..results import (
     EffectiveTrials,
     EffectiveTrialsMethod,
     ExpectedMaximum,
+    LongRunVariance,
     ProbabilisticSharpe,
     SharpeInference,
+    SharpeVariance,
     TrialCount,
     VarianceMode,
 )
-from .deflation import deflated_sharpe, effective_trials, trial_sharpe_variance
+from .deflation import calibrated_level, deflated_sharpe, effective_trials, trial_sharpe_variance
+from .longrun import long_run_variance
 from .sharpe import (
     annualization_factor,
     autocorrelations,
@@ -82,6 +85,15 @@ class _Choices:
     trials_for_deflation: TrialCount
     effective_trials_method: EffectiveTrialsMethod
     annualization: Annualization
+    sharpe_variance: SharpeVariance
+
+
+@dataclass(frozen=True)
+class _Scale:
+    """The serial-dependence scale of the inference: the selected series' and a typical trial's."""
+
+    selected: float  # q of the selected configuration
+    trial: float  # q of a typical configuration (the family median): the null trial variance's scale
 
 
 def declared_trials(trials: object, configurations: int, *, name: str = "trials") -> int:
@@ -100,7 +112,9 @@ def declared_trials(trials: object, configurations: int, *, name: str = "trials"
     return int(trials)
 
 
-def _choices(variance_mode, expected_maximum, trials_for_deflation, effective_trials_method, annualization) -> _Choices:
+def _choices(
+    variance_mode, expected_maximum, trials_for_deflation, effective_trials_method, annualization, sharpe_variance
+) -> _Choices:
     return _Choices(
         validate.choice(variance_mode, "variance_mode", ("null", "empirical")),  # type: ignore[arg-type]
         validate.choice(expected_maximum, "expected_maximum", ("approximate", "exact")),  # type: ignore[arg-type]
@@ -109,6 +123,7 @@ def _choices(variance_mode, expected_maximum, trials_for_deflation, effective_tr
             effective_trials_method, "effective_trials_method", ("average_correlation", "nyholt", "li_ji")
         ),
         validate.choice(annualization, "annualization", ("square_root", "serial_correlation")),  # type: ignore[arg-type]
+        validate.choice(sharpe_variance, "sharpe_variance", ("long-run", "iid")),  # type: ignore[arg-type]
     )
 
 
@@ -134,7 +149,7 @@ def _serial_factor(series: np.ndarray, periods: float | None, notes: list[str]) 
 
 def _variants(
     observed: float, windows: int, skewness: float, kurtosis: float,
-    variances: dict[str, float], counts: dict[str, float],
+    variances: dict[str, float], counts: dict[str, float], long_run_ratio: float,
 ) -> tuple[DeflatedVariant, ...]:
     """The DSR under every combination of variance mode, expected maximum and trial count."""
     variants = []
@@ -144,6 +159,7 @@ def _variants(
                 result = deflated_sharpe(
                     observed, observations=windows, trials=count, trial_sharpe_variance=variance,
                     skewness=skewness, kurtosis=kurtosis, expected_maximum=maximum_name,  # type: ignore[arg-type]
+                    long_run_ratio=long_run_ratio,
                 )
                 variants.append(DeflatedVariant(mode_name, maximum_name, count_name, result))  # type: ignore[arg-type]
     return tuple(variants)
@@ -154,7 +170,8 @@ def _track_record(
 ) -> tuple[float | None, float | None]:
     """Minimum track record in windows and years; None (with a note) when no length suffices."""
     track = minimum_track_record(
-        psr.sharpe, benchmark=psr.benchmark, skewness=psr.skewness, kurtosis=psr.kurtosis, confidence=confidence
+        psr.sharpe, benchmark=psr.benchmark, skewness=psr.skewness, kurtosis=psr.kurtosis, confidence=confidence,
+        long_run_ratio=psr.long_run_ratio,
     )
     if math.isinf(track):
         notes.append(
@@ -165,12 +182,12 @@ def _track_record(
     return track, None if periods is None else track / periods
 
 
-def _deflation(array: np.ndarray, sharpes: np.ndarray, declared: int, method: EffectiveTrialsMethod):
+def _deflation(array: np.ndarray, sharpes: np.ndarray, declared: int, method: EffectiveTrialsMethod, trial_ratio: float):
     """Effective trials, the trial Sharpe variance of each mode and the trial count of each choice."""
     n = array.shape[1]
     detail: EffectiveTrials = effective_trials(array)
     effective = detail.value(method) + (declared - n)
-    variances: dict[str, float] = {"null": trial_sharpe_variance(array, mode="null")}
+    variances: dict[str, float] = {"null": trial_sharpe_variance(array, mode="null", long_run_ratio=trial_ratio)}
     if n >= 2:
         variances["empirical"] = float(np.var(sharpes, ddof=1))
     return detail, effective, variances, {"declared": float(declared), "effective": effective}
@@ -189,6 +206,9 @@ def sharpe_inference(
     trials_for_deflation: TrialCount = "declared",
     effective_trials_method: EffectiveTrialsMethod = "li_ji",
     annualization: Annualization = "square_root",
+    sharpe_variance: SharpeVariance = "long-run",
+    long_run: LongRunVariance | None = None,
+    significance: float = 0.05,
 ) -> SharpeInference:
     """Probabilistic and deflated Sharpe ratios of the selected configuration of a sweep.
 
@@ -214,6 +234,18 @@ def sharpe_inference(
         Estimator behind ``effective_trials`` (default "li_ji").
     annualization : {"square_root", "serial_correlation"}
         Factor for ``observed_annualized``: ``sqrt(q)`` (default) or Lo's ``eta(q)``.
+    sharpe_variance : {"long-run", "iid"}
+        The standard error behind the PSR, the DSR and the minimum track record: ``"long-run"``
+        (default) replaces the leading 1 of Mertens' variance by the selected configuration's
+        long-run variance ratio ``omega^2 / sigma^2``, and scales the null trial variance by the
+        family's median ratio; ``"iid"`` is the published formula. The iid figures are always
+        reported beside the headline ones.
+    long_run : LongRunVariance, optional
+        Precomputed :func:`~sweepaudit.methods.longrun.long_run_variance` of ``returns`` (the audit
+        shares one); computed here when absent.
+    significance : float
+        alpha of :func:`~sweepaudit.methods.deflation.calibrated_level`, the deflated probability
+        that makes "DSR >= level" a familywise test of size alpha for the trials counted.
 
     Returns
     -------
@@ -224,13 +256,30 @@ def sharpe_inference(
     index = validate.column_index(selected, "selected", n)
     declared = declared_trials(trials, n)
     periods = validate.periods_per_year(periods_per_year)
-    chosen = _choices(variance_mode, expected_maximum, trials_for_deflation, effective_trials_method, annualization)
+    chosen = _choices(
+        variance_mode, expected_maximum, trials_for_deflation, effective_trials_method, annualization, sharpe_variance
+    )
     if chosen.variance_mode == "empirical" and n < 2:
         raise InputError("variance_mode='empirical' needs at least 2 configurations; got 1")
-    return _infer(array, index, declared, periods, chosen, benchmark=benchmark, confidence=confidence)
+    alpha = validate.probability(significance, "significance")
+    scale = _scale(array, long_run, chosen.sharpe_variance, index)
+    return _infer(array, index, declared, periods, chosen, scale, benchmark=benchmark, confidence=confidence, alpha=alpha)
 
 
-def _infer(array, index, declared, periods, chosen: _Choices, *, benchmark, confidence) -> SharpeInference:
+def _scale(array: np.ndarray, long_run: LongRunVariance | None, mode: SharpeVariance, index: int) -> _Scale:
+    """The long-run variance ratios the inference uses: the selected series' and the family median."""
+    if long_run is None:
+        long_run = long_run_variance(array)
+    elif long_run.variance.shape != (array.shape[1],) or long_run.windows != array.shape[0]:
+        raise InputError(
+            f"long_run must come from the same {array.shape[0]} x {array.shape[1]} returns; "
+            f"got one of {long_run.windows} windows and {long_run.variance.shape[0]} configurations"
+        )
+    ratio = long_run.ratio
+    return _Scale(float(ratio[index]), float(np.median(ratio))) if mode == "long-run" else _Scale(1.0, 1.0)
+
+
+def _infer(array, index, declared, periods, chosen: _Choices, scale: _Scale, *, benchmark, confidence, alpha) -> SharpeInference:
     """The inference on validated inputs (see :func:`sharpe_inference`)."""
     windows = array.shape[0]
     moments = return_moments(array)
@@ -247,12 +296,22 @@ def _infer(array, index, declared, periods, chosen: _Choices, *, benchmark, conf
             f"periods per year; got periods_per_year={periods:g} with {windows} windows"
         )
     factor = square_root_factor if chosen.annualization == "square_root" else serial_factor
-    detail, effective, variances, counts = _deflation(array, sharpes, declared, chosen.effective_trials_method)
-    variants = _variants(observed, windows, skewness, kurtosis, variances, counts)
+    detail, effective, variances, counts = _deflation(
+        array, sharpes, declared, chosen.effective_trials_method, scale.trial
+    )
+    variants = _variants(observed, windows, skewness, kurtosis, variances, counts, scale.selected)
     headline = next(v.result for v in variants if (v.variance_mode, v.expected_maximum, v.trial_count)
                     == (chosen.variance_mode, chosen.expected_maximum, chosen.trials_for_deflation))
-    psr = probabilistic_sharpe(observed, benchmark=benchmark, observations=windows, skewness=skewness, kurtosis=kurtosis)
+    moments = dict(observations=windows, skewness=skewness, kurtosis=kurtosis)
+    psr = probabilistic_sharpe(observed, benchmark=benchmark, long_run_ratio=scale.selected, **moments)
     track_observations, track_years = _track_record(psr, confidence, periods, notes)
+    psr_iid = probabilistic_sharpe(observed, benchmark=benchmark, **moments)
+    track_iid, track_iid_years = _track_record(psr_iid, confidence, periods, [])
+    iid_variance = variances["null"] / scale.trial if chosen.variance_mode == "null" else variances["empirical"]
+    deflated_iid = deflated_sharpe(
+        observed, trials=headline.trials, trial_sharpe_variance=iid_variance,
+        expected_maximum=chosen.expected_maximum, **moments,
+    )
     return SharpeInference(
         selected=index, observed=observed, observed_annualized=None if factor is None else observed * factor,
         annualization=chosen.annualization, annualization_factor=factor, square_root_factor=square_root_factor,
@@ -266,4 +325,9 @@ def _infer(array, index, declared, periods, chosen: _Choices, *, benchmark, conf
         trials_for_deflation=chosen.trials_for_deflation, effective_trials_method=chosen.effective_trials_method,
         variants=variants, min_track_record_observations=track_observations, min_track_record_years=track_years,
         benchmark=psr.benchmark, confidence=float(confidence), configuration_sharpes=sharpes, warnings=tuple(notes),
+        sharpe_variance=chosen.sharpe_variance, long_run_ratio=scale.selected, long_run_ratio_trial=scale.trial,
+        standard_error_iid=psr_iid.standard_error, probabilistic_iid=psr_iid, deflated_iid=deflated_iid,
+        min_track_record_iid_observations=track_iid, min_track_record_iid_years=track_iid_years,
+        deflated_level=calibrated_level(headline.trials, significance=alpha, expected_maximum=chosen.expected_maximum),
+        significance=alpha,
     )

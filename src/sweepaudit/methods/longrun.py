@@ -39,12 +39,12 @@ Politis, D. N. and White, H. (2004). Automatic block-length selection for the de
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 import numpy as np
 from scipy import special
 
 from ..errors import DegenerateDataError, InputError
+from ..results import BlockLengthChoice, LongRunVariance
 
 __all__ = [
     "LongRunVariance",
@@ -62,39 +62,6 @@ MAX_AR_COEFFICIENT = 0.97
 #: Lowest share of the long-run variance a block bootstrap may reproduce before the family rule
 #: lengthens its blocks (our choice: a 10% shortfall widens a 95% interval's miss rate to about 6.5%).
 MIN_BOOTSTRAP_SHARE = 0.9
-
-
-@dataclass(frozen=True)
-class LongRunVariance:
-    """Long-run variance of each column's mean (``omega^2``, the variance of ``sqrt(T) * mean``).
-
-    Attributes
-    ----------
-    variance : ndarray, shape (N,)
-        ``omega^2`` per column, in squared return units.
-    short_run_variance : ndarray, shape (N,)
-        The plain variance (divisor T) of each column.
-    ar_coefficient : ndarray, shape (N,)
-        Bias-corrected AR(1) coefficient used to prewhiten (0 when prewhitening is off).
-    bandwidth : ndarray, shape (N,)
-        Bartlett bandwidth ``S`` used on the prewhitened residuals (weights ``1 - j / S``, j < S).
-    degrees_of_freedom : ndarray, shape (N,)
-        Equivalent degrees of freedom of each estimate.
-    windows : int
-        T.
-    """
-
-    variance: np.ndarray
-    short_run_variance: np.ndarray
-    ar_coefficient: np.ndarray
-    bandwidth: np.ndarray
-    degrees_of_freedom: np.ndarray
-    windows: int
-
-    @property
-    def ratio(self) -> np.ndarray:
-        """``omega^2 / sigma^2``: 1 for serially uncorrelated windows, (1 + phi) / (1 - phi) for AR(1)."""
-        return self.variance / self.short_run_variance
 
 
 def _matrix(returns) -> np.ndarray:
@@ -241,42 +208,6 @@ def bootstrap_variance_ratio(ar_coefficient: float, block_length: float, kind: s
     length = int(math.ceil(block_length))
     j = np.arange(1, length)
     return (1.0 + 2.0 * float(np.sum((1.0 - j / length) * phi**j))) / truth
-
-
-@dataclass(frozen=True)
-class BlockLengthChoice:
-    """How the audit's block length was chosen for the whole family of configurations.
-
-    Attributes
-    ----------
-    length : float
-        The block length used (mean length for the stationary bootstrap).
-    selected : float
-        Politis-White automatic length of the selected configuration.
-    family_quantile : float
-        The 75th percentile of the automatic lengths over the configurations examined.
-    average_series : float
-        The automatic length of the cross-sectional average series (the shared dependence).
-    configurations_examined : int
-    ar_coefficient : float
-        Median bias-corrected AR(1) coefficient over the configurations examined.
-    predicted_share : float
-        Share of the long-run variance an AR(1) with that coefficient keeps under the chosen length.
-    lengthened : bool
-        Whether the long-run-variance check lengthened the blocks beyond the automatic lengths.
-    rule : str
-        The rule in words.
-    """
-
-    length: float
-    selected: float
-    family_quantile: float
-    average_series: float
-    configurations_examined: int
-    ar_coefficient: float
-    predicted_share: float
-    lengthened: bool
-    rule: str
 
 
 def _automatic_lengths(x: np.ndarray, kind: str) -> np.ndarray:

@@ -251,12 +251,17 @@ def annualized_sharpe(
 # ---------------------------------------------------------------------------------------------
 
 
-def variance_numerator(sharpe: float, skewness: float, kurtosis: float) -> float:
-    """``n Var(SR)`` of a per-window Sharpe ratio: ``1 - g3 SR + (g4 - 1) / 4 SR^2`` (Mertens 2002).
+def variance_numerator(sharpe: float, skewness: float, kurtosis: float, long_run_ratio: float = 1.0) -> float:
+    """``n Var(SR)`` of a per-window Sharpe ratio: ``q - g3 SR + (g4 - 1) / 4 SR^2`` (Mertens 2002).
 
-    ``g4`` is raw kurtosis; the probabilistic Sharpe ratio divides it by ``n - 1``.
+    ``g4`` is raw kurtosis; the probabilistic Sharpe ratio divides it by ``n - 1``. ``q`` is the
+    long-run variance ratio ``omega^2 / sigma^2`` (1 for serially uncorrelated windows, Mertens'
+    case). Under serial dependence the leading term, the variance of the mean in units of
+    ``sigma^2 / n``, becomes ``q`` (Lo 2002, section on non-iid returns; the long-run variance of a
+    mean is a textbook fact); the skewness and kurtosis terms keep their iid form, which is second
+    order for the small per-window Sharpe ratios of a sweep (SR^2 of 0.01 to 0.1).
     """
-    return 1.0 - skewness * sharpe + (kurtosis - 1.0) / 4.0 * sharpe * sharpe
+    return long_run_ratio - skewness * sharpe + (kurtosis - 1.0) / 4.0 * sharpe * sharpe
 
 
 def sharpe_standard_error(
@@ -266,8 +271,9 @@ def sharpe_standard_error(
     skewness: float = 0.0,
     kurtosis: float = 3.0,
     divisor: Divisor = "n-1",
+    long_run_ratio: float = 1.0,
 ) -> float:
-    """Standard error of a per-window Sharpe ratio estimate for iid non-normal returns.
+    """Standard error of a per-window Sharpe ratio estimate for non-normal returns.
 
     ``SE = sqrt( [1 - g3*SR + (g4 - 1)/4 * SR^2] / (n - 1) )``
 
@@ -289,6 +295,9 @@ def sharpe_standard_error(
         ``g4 >= 1 + g3**2``, which every distribution does.
     divisor : {"n-1", "n"}
         ``n - 1`` (PSR convention, default) or ``n`` (Mertens' asymptotic formula).
+    long_run_ratio : float
+        ``q = omega^2 / sigma^2`` of the series (:func:`sweepaudit.methods.longrun.long_run_variance`);
+        1 (default) is the iid formula.
 
     Returns
     -------
@@ -298,9 +307,11 @@ def sharpe_standard_error(
     n = _observations(observations)
     g3, g4 = validate.raw_moments(skewness, kurtosis)
     validate.choice(divisor, "divisor", ("n-1", "n"))
+    q = validate.positive_number(long_run_ratio, "long_run_ratio")
     denominator = n - 1.0 if divisor == "n-1" else n
-    # The numerator is >= 0 whenever g4 >= 1 + g3^2 (its discriminant is g3^2 - (g4 - 1) <= 0).
-    return math.sqrt(max(variance_numerator(sr, g3, g4), 0.0) / denominator)
+    # With q = 1 the numerator is >= 0 whenever g4 >= 1 + g3^2 (its discriminant is
+    # g3^2 - (g4 - 1) <= 0); a q below 1 can push it under zero for large |SR|, hence the floor.
+    return math.sqrt(max(variance_numerator(sr, g3, g4, q), 0.0) / denominator)
 
 
 def serial_correlation_standard_error(returns: object, *, lags: int | None = None) -> float:
@@ -352,6 +363,7 @@ def probabilistic_sharpe(
     observations: float,
     skewness: float,
     kurtosis: float,
+    long_run_ratio: float = 1.0,
 ) -> ProbabilisticSharpe:
     """Probabilistic Sharpe ratio (PSR) against a benchmark Sharpe ratio.
 
@@ -369,6 +381,9 @@ def probabilistic_sharpe(
         Skewness of the returns.
     kurtosis : float
         RAW kurtosis (3 for normal).
+    long_run_ratio : float
+        ``q = omega^2 / sigma^2``: the leading 1 of the numerator becomes ``q`` under serial
+        dependence (see :func:`variance_numerator`); 1 (default) is the published iid formula.
 
     Returns
     -------
@@ -384,14 +399,14 @@ def probabilistic_sharpe(
     sr_star = validate.finite_number(benchmark, "benchmark")
     n = _observations(observations)
     g3, g4 = validate.raw_moments(skewness, kurtosis)
-    se = sharpe_standard_error(sr, observations=n, skewness=g3, kurtosis=g4)
+    se = sharpe_standard_error(sr, observations=n, skewness=g3, kurtosis=g4, long_run_ratio=long_run_ratio)
     if se == 0.0:
         raise DegenerateDataError(
             "the Sharpe ratio's standard error is 0 (kurtosis = 1 + skewness**2 at this Sharpe ratio); "
             "PSR is undefined"
         )
     z = (sr - sr_star) / se
-    return ProbabilisticSharpe(sr, sr_star, n, g3, g4, se, z, float(stats.norm.cdf(z)))
+    return ProbabilisticSharpe(sr, sr_star, n, g3, g4, se, z, float(stats.norm.cdf(z)), float(long_run_ratio))
 
 
 def minimum_track_record(
@@ -401,6 +416,7 @@ def minimum_track_record(
     skewness: float,
     kurtosis: float,
     confidence: float = 0.95,
+    long_run_ratio: float = 1.0,
 ) -> float:
     """Minimum track record length: windows needed for PSR(benchmark) to reach ``confidence``.
 
@@ -417,6 +433,8 @@ def minimum_track_record(
         Moments of the returns; kurtosis raw.
     confidence : float
         Target PSR, strictly between 0 and 1 (default 0.95).
+    long_run_ratio : float
+        ``q = omega^2 / sigma^2`` (see :func:`probabilistic_sharpe`); 1 (default) is the iid formula.
 
     Returns
     -------
@@ -433,7 +451,8 @@ def minimum_track_record(
     sr_star = validate.finite_number(benchmark, "benchmark")
     g3, g4 = validate.raw_moments(skewness, kurtosis)
     level = validate.probability(confidence, "confidence")
+    q = validate.positive_number(long_run_ratio, "long_run_ratio")
     if sr <= sr_star:
         return math.inf
     z = float(stats.norm.ppf(level))
-    return 1.0 + variance_numerator(sr, g3, g4) * (z / (sr - sr_star)) ** 2
+    return 1.0 + max(variance_numerator(sr, g3, g4, q), 0.0) * (z / (sr - sr_star)) ** 2

@@ -13,9 +13,22 @@ Equation, section and algorithm numbers cited below are from memory of the paper
 
 Conventions
 -----------
-Scale
-    Statistics are in units of ``sqrt(n) * mean`` (White 2000, eq. 2.3 and the bootstrap statistic
-    in section 2.3), ``n = T`` windows; studentized statistics divide by ``omega_k``.
+Scale (``scale=``)
+    ``"none"``: statistics in units of ``sqrt(n) * mean`` (White 2000, eq. 2.3 and the bootstrap
+    statistic in section 2.3), ``n = T`` windows. ``"bootstrap"``: divided by ``omega_k``, the
+    bootstrap standard deviation below, in the statistic and in every null draw (Hansen 2005,
+    eq. 6). ``"long-run"`` (the audit's default): each null draw is standardised by ``omega_k`` as
+    for ``"bootstrap"``, so the bootstrap contributes only the dependence between configurations
+    and the shape of their joint distribution, while the observed statistic of configuration k is
+    its t-ratio ``sqrt(n) mean_k / omega_LR,k`` against a long-run standard deviation estimated
+    from the data (:func:`~sweepaudit.methods.longrun.long_run_variance`: consistent under serial
+    dependence, Andrews and Monahan 1992), read against Student's t with the estimate's equivalent
+    degrees of freedom and put on the standard normal scale
+    (:func:`~sweepaudit.methods.longrun.normal_scores`). Hansen (2005, section 2) asks for a
+    consistent estimate of each configuration's long-run standard deviation; reading the ratio
+    against t instead of the normal keeps the maximum over configurations from favouring the ones
+    whose estimate came out small (the fault of a studentizer held fixed), and the scale of the
+    statistic no longer depends on whether the block length captured all the dependence.
 omega (the standard deviation of ``sqrt(n) * mean_k``)
     The bootstrap estimate from the same resampled means: ``omega_k**2`` is the variance over the
     B resamples of ``sqrt(n) * mean*_{k,b}`` (divisor B, centred at the average resampled mean).
@@ -36,24 +49,26 @@ p-values
 Differences from ``arch.bootstrap.SPA`` / ``StepM`` (the reference in the tests)
     * arch's statistic is ``max_k mean_k`` with neither studentization nor the floor at zero; its
       ``studentize`` option only changes the variance used in the consistent threshold. Our SPA is
-      studentized by default, as in Hansen (2005, eq. 6); with ``studentize=False`` it is arch's
+      studentized by default, as in Hansen (2005, eq. 6); unscaled it is arch's
       statistic floored at zero, so all three p-values coincide with arch's whenever some
       configuration has a positive sample mean (and arch's ``nested=True`` variance is used).
+      (``scale="none"`` is that case.)
     * Our reality check p-value equals arch's "upper" SPA p-value (``counting="strict-share"``).
     * arch's StepM recentres with the consistent rule; Romano and Wolf (2005) recentre every
       configuration at its sample mean. ``stepwise_superior`` follows the paper by default and
       offers ``recentring="consistent"`` (the stepwise SPA of Hsu, Hsu and Kuan 2010), which with
-      ``studentize=False`` reproduces arch's StepM.
+      ``scale="none"`` reproduces arch's StepM.
     * Studentized StepM divides by ``omega_k`` held fixed across resamples (as Hansen's SPA does)
       instead of re-estimating a standard error inside every resample (Romano and Wolf 2005,
       section 4.2), which under block resampling would need a bootstrap inside each resample.
 
-Known limitation (measured, see the slow size tests)
-    Under AR(1) windows (phi = 0.3) with 30 correlated configurations the studentized SPA and
-    StepM rejected 8 to 10% of true nulls at the 5% level (T = 500 to 1,000, mean blocks 10 to
-    20), while the reality check and the unstudentized tests held 5%. omega is estimated once and
-    held fixed in the bootstrap, so the maximum favours configurations whose omega came out small,
-    and the null does not reproduce that selection. On iid windows the studentized tests hold 5%.
+Size under serial dependence (measured, see docs/validation.md and the slow size tests)
+    With ``scale="bootstrap"`` the studentizer is the bootstrap standard deviation, held fixed in
+    the bootstrap: under AR(1) windows the maximum favours configurations whose omega came out
+    small and the null does not reproduce that selection; with a block length too short for the
+    dependence omega is also biased low. Both over-reject (19-30% at the 5% level under AR(1)
+    with phi = 0.5 to 0.7 in the validation study), and ``scale="none"`` 9-12%.
+    ``scale="long-run"`` held 4-6% there and on iid, fat-tailed and heteroskedastic windows.
 
 Memory
     Every reduction is a maximum over configurations per resample (``B x N -> B``), computed one
@@ -90,7 +105,16 @@ import numpy as np
 from .. import validate
 from ..errors import DegenerateDataError, InputError
 from ..resample import ResampledMoments, Resamples, moment_chunk, resampled_moments
-from ..results import Counting, RealityCheck, StepRecentring, StepwiseResult, SuperiorPredictiveAbility
+from ..results import (
+    Counting,
+    LongRunVariance,
+    RealityCheck,
+    SnoopingScale,
+    StepRecentring,
+    StepwiseResult,
+    SuperiorPredictiveAbility,
+)
+from .longrun import long_run_variance, normal_scores
 
 __all__ = [
     "Counting",
@@ -98,12 +122,14 @@ __all__ = [
     "StepRecentring",
     "StepwiseResult",
     "SuperiorPredictiveAbility",
+    "observed_statistics",
     "reality_check",
     "stepwise_superior",
     "superior_predictive_ability",
 ]
 
 COUNTINGS: tuple[str, ...] = get_args(Counting)
+SCALES: tuple[str, ...] = get_args(SnoopingScale)
 STEP_RECENTRINGS: tuple[str, ...] = get_args(StepRecentring)
 
 # Columns per block in the maxima: B x 256 float64 temporaries (20 MB at B = 10,000).
@@ -197,8 +223,34 @@ def _check_constant(x: np.ndarray) -> None:
         raise DegenerateDataError(
             "a studentized test cannot scale configurations whose excess return is constant over "
             f"all windows; got constant columns {constant[:10].tolist()} (0-based); drop them or "
-            "use studentize=False"
+            "use scale='none'"
         )
+
+
+def _long_run(x: np.ndarray, long_run: LongRunVariance | None) -> LongRunVariance:
+    if long_run is None:
+        return long_run_variance(x)
+    if not isinstance(long_run, LongRunVariance):
+        raise InputError(f"long_run must be a LongRunVariance; got {type(long_run).__name__}")
+    if long_run.variance.shape != (x.shape[1],) or long_run.windows != x.shape[0]:
+        raise InputError(
+            f"long_run must come from the same {x.shape[0]} x {x.shape[1]} returns; got one of "
+            f"{long_run.windows} windows and {long_run.variance.shape[0]} configurations"
+        )
+    return long_run
+
+
+def observed_statistics(
+    mean: np.ndarray, windows: int, scale: SnoopingScale, omega: np.ndarray, long_run: LongRunVariance | None
+) -> np.ndarray:
+    """Each configuration's observed statistic on the test's scale (see the module notes)."""
+    root_n = math.sqrt(windows)
+    if scale == "none":
+        return root_n * mean
+    if scale == "bootstrap":
+        return root_n * mean / omega
+    ratio = root_n * mean / np.sqrt(long_run.variance)
+    return normal_scores(ratio, long_run.degrees_of_freedom)
 
 
 def _check_omega(omega: np.ndarray, first_column: int = 0) -> None:
@@ -325,7 +377,8 @@ def superior_predictive_ability(
     *,
     moments: ResampledMoments | None = None,
     resamples: Resamples | None = None,
-    studentize: bool = True,
+    scale: SnoopingScale = "long-run",
+    long_run: LongRunVariance | None = None,
     counting: Counting = "include-observed",
     column_block: int = COLUMN_BLOCK,
 ) -> SuperiorPredictiveAbility:
@@ -339,9 +392,14 @@ def superior_predictive_ability(
         Resampled means of ``returns`` (shared with the rest of the audit).
     resamples : Resamples, optional
         Used to compute the moments when ``moments`` is not given.
-    studentize : bool
-        Divide by ``omega_k`` (Hansen 2005, eq. 6; default). ``False`` gives arch's statistic
-        floored at zero; ``omega`` is still estimated for the consistent threshold.
+    scale : {"long-run", "bootstrap", "none"}
+        How configurations are put on one scale (module notes): the long-run t-ratio against
+        standardised bootstrap draws (default), the bootstrap-studentized statistic of Hansen
+        (2005, eq. 6), or none (arch's statistic floored at zero; ``omega`` is still estimated for
+        the consistent threshold).
+    long_run : LongRunVariance, optional
+        Precomputed :func:`~sweepaudit.methods.longrun.long_run_variance` of ``returns`` for
+        ``scale="long-run"`` (computed when absent).
     counting : {"include-observed", "strict-share"}
         p-value rule: ``(count(>=) + 1) / (B + 1)`` (default) or arch's ``count(>) / B``.
     column_block : int
@@ -354,7 +412,7 @@ def superior_predictive_ability(
     Raises
     ------
     DegenerateDataError
-        When studentized and some configuration is constant (``omega_k = 0``).
+        When scaled and some configuration is constant (``omega_k = 0``).
 
     Notes
     -----
@@ -365,22 +423,25 @@ def superior_predictive_ability(
     ordered the same way and ``pvalue_lower <= pvalue <= pvalue_upper`` holds exactly.
     For ``T < 3`` (``ln ln n < 0``) the threshold is taken as 0.
     """
+    validate.choice(scale, "scale", SCALES)
     x, block, m = _prepare(returns, counting, column_block, moments, resamples)
     t, n = x.shape
     mean = x.mean(axis=0)
-    if studentize:
+    scaled = scale != "none"
+    if scaled:
         _check_constant(x)
-    omega, relevant, nulls = _spa_nulls(_stored_blocks(np.asarray(m.mean), block), mean, t, m.mean.shape[0], studentize)
-    scale_all = math.sqrt(t) / omega if studentize else np.full(n, math.sqrt(t))
-    statistic = max(float((mean * scale_all).max()), 0.0)
+    estimate = _long_run(x, long_run) if scale == "long-run" else None
+    omega, relevant, nulls = _spa_nulls(_stored_blocks(np.asarray(m.mean), block), mean, t, m.mean.shape[0], scaled)
+    statistics = observed_statistics(mean, t, scale, omega, estimate)
+    statistic = max(float(statistics.max()), 0.0)
     return SuperiorPredictiveAbility(
         statistic=statistic,
         pvalue=_pvalue(nulls["consistent"], statistic, counting),
         pvalue_lower=_pvalue(nulls["lower"], statistic, counting),
         pvalue_upper=_pvalue(nulls["upper"], statistic, counting),
-        omega=omega, relevant=relevant, studentized=bool(studentize),
+        omega=omega, relevant=relevant, scale=scale,
         null_lower=nulls["lower"], null_consistent=nulls["consistent"], null_upper=nulls["upper"],
-        counting=counting,
+        counting=counting, statistics=statistics,
     )
 
 
@@ -458,7 +519,8 @@ def stepwise_superior(
     level: float = 0.05,
     moments: ResampledMoments | None = None,
     resamples: Resamples | None = None,
-    studentize: bool = True,
+    scale: SnoopingScale = "long-run",
+    long_run: LongRunVariance | None = None,
     recentring: StepRecentring = "upper",
     counting: Counting = "include-observed",
     column_block: int = COLUMN_BLOCK,
@@ -475,8 +537,10 @@ def stepwise_superior(
         Resampled means of ``returns`` (shared with the rest of the audit).
     resamples : Resamples, optional
         Used to compute the moments when ``moments`` is not given.
-    studentize : bool
-        Divide statistics and null draws by ``omega_k`` (default) or not.
+    scale : {"long-run", "bootstrap", "none"}
+        As for :func:`superior_predictive_ability` (default ``"long-run"``).
+    long_run : LongRunVariance, optional
+        Precomputed long-run variance for ``scale="long-run"``.
     recentring : {"upper", "consistent"}
         ``"upper"`` recentres every configuration at its sample mean (Romano and Wolf 2005,
         Algorithm 3.1); ``"consistent"`` uses Hansen's (2005) threshold, as arch's StepM does
@@ -501,28 +565,31 @@ def stepwise_superior(
     """
     level = validate.probability(level, "level")
     validate.choice(recentring, "recentring", STEP_RECENTRINGS)
+    validate.choice(scale, "scale", SCALES)
     x, block, m = _prepare(returns, counting, column_block, moments, resamples)
     t, n = x.shape
     mean = x.mean(axis=0)
     root_n = math.sqrt(t)
     source = _stored_blocks(np.asarray(m.mean), block)
-    if studentize:
+    scaled = scale != "none"
+    if scaled:
         _check_constant(x)
+    estimate = _long_run(x, long_run) if scale == "long-run" else None
     variance_of_mean = _variance_of_means(source, n)
     omega = np.sqrt(t * variance_of_mean)
-    if studentize:
+    if scaled:
         _check_omega(omega)
-    scale = root_n / omega if studentize else np.full(n, root_n)
+    draw_scale = root_n / omega if scaled else np.full(n, root_n)
     # "consistent": the same threshold expression as superior_predictive_ability (Hansen 2005)
     threshold = -np.sqrt(variance_of_mean * _consistent_factor(t))
     centre = mean if recentring == "upper" else np.where(mean >= threshold, mean, 0.0)
-    statistics = mean * scale
+    statistics = observed_statistics(mean, t, scale, omega, estimate)
     rejected_at, critical_values, null_maxima = _step_down(
-        source, centre, scale, statistics, level, counting, m.mean.shape[0]
+        source, centre, draw_scale, statistics, level, counting, m.mean.shape[0]
     )
     return StepwiseResult(
         significant=tuple(int(k) for k in np.flatnonzero(rejected_at)), level=level,
-        studentized=bool(studentize), steps=len(critical_values), critical_values=tuple(critical_values),
+        scale=scale, steps=len(critical_values), critical_values=tuple(critical_values),
         statistics=statistics, omega=omega, rejected_at_step=rejected_at, null_maxima=tuple(null_maxima),
         recentring=recentring, counting=counting,
     )

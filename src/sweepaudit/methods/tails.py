@@ -33,13 +33,14 @@ Krasker, W. S. (1980). The 'peso problem' in testing the efficiency of forward e
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 import numpy as np
 
 from ..errors import InputError
+from ..results import FamilyStress, TailTest
+from .longrun import long_run_variance, normal_scores
 
-__all__ = ["FamilyStress", "family_stress", "STRESS_THRESHOLD", "STRESS_SHARE", "MIN_FAMILY"]
+__all__ = ["family_stress", "tail_test", "STRESS_THRESHOLD", "STRESS_SHARE", "MIN_FAMILY"]
 
 #: A loss beyond this many robust standard deviations counts as a large loss.
 STRESS_THRESHOLD = 4.0
@@ -49,47 +50,6 @@ STRESS_SHARE = 0.2
 MIN_FAMILY = 5
 
 _MAD_TO_SD = 1.4826
-
-
-@dataclass(frozen=True)
-class FamilyStress:
-    """The selected configuration's record with the family's stress losses charged to it.
-
-    Attributes
-    ----------
-    windows : ndarray of int
-        0-based positions of the stress windows (empty when none).
-    family_loss : ndarray
-        The family's average standardised return in each stress window (robust standard deviations).
-    selected_return : ndarray
-        The selected configuration's return in each stress window, as observed.
-    charged_return : ndarray
-        What it is charged there: the smaller of its own return and the family's average loss in
-        its own scale.
-    escaped : int
-        Stress windows in which the selected configuration lost less than the family's average.
-    adjusted : ndarray, shape (T,)
-        The selected configuration's record with the charges applied (equal to the observed record
-        when no window is a stress window).
-    mean_observed, mean_adjusted : float
-        Mean return per window before and after.
-    threshold, share : float
-        The rule's two parameters.
-    applicable : bool
-        False for a family of fewer than :data:`MIN_FAMILY` configurations.
-    """
-
-    windows: np.ndarray
-    family_loss: np.ndarray
-    selected_return: np.ndarray
-    charged_return: np.ndarray
-    escaped: int
-    adjusted: np.ndarray
-    mean_observed: float
-    mean_adjusted: float
-    threshold: float
-    share: float
-    applicable: bool
 
 
 def family_stress(
@@ -157,3 +117,33 @@ def family_stress(
         share=float(share),
         applicable=True,
     )
+
+
+def tail_test(stress: FamilyStress, *, critical_value: float) -> TailTest:
+    """Whether the selected configuration's charged record still clears the selection-adjusted bar.
+
+    The charged record's mean is divided by its own long-run standard error
+    (:func:`~sweepaudit.methods.longrun.long_run_variance`: the charged losses widen it too) and the
+    t-ratio is read against Student's t with the estimate's equivalent degrees of freedom, then put
+    on the standard normal scale (:func:`~sweepaudit.methods.longrun.normal_scores`) - the scale on
+    which the data-snooping test compares its statistics with ``critical_value``.
+
+    Parameters
+    ----------
+    stress : FamilyStress
+        From :func:`family_stress`.
+    critical_value : float
+        The data-snooping test's critical value for the selected configuration (``inf`` when the
+        test could not reject at any level its resamples allow).
+
+    Returns
+    -------
+    TailTest
+    """
+    if not stress.applicable or stress.windows.size == 0:
+        return TailTest(stress, None, float(critical_value), True)
+    charged = stress.adjusted[:, None]
+    estimate = long_run_variance(charged)
+    ratio = math.sqrt(charged.shape[0]) * float(charged.mean()) / math.sqrt(float(estimate.variance[0]))
+    statistic = float(normal_scores(np.array([ratio]), estimate.degrees_of_freedom)[0])
+    return TailTest(stress, statistic, float(critical_value), bool(statistic > critical_value))

@@ -93,6 +93,8 @@ def _method_parts(doc: dict) -> list:
         parts.append(_snooping_table(results["snooping"], doc["selected"]["configuration"]))
     if results.get("overfitting"):
         parts.append(_overfitting_table(results["overfitting"]))
+    if results.get("tails"):
+        parts.append(_tails_text(results["tails"]))
     return parts
 
 
@@ -132,16 +134,35 @@ def _snooping_table(sn: dict, selected: str) -> Table:
     t.add_column("value")
     t.add_row("White's reality check p-value", prob(sn["reality_check"]["pvalue"]))
     spa = sn["spa"]
-    t.add_row(f"Hansen's SPA p-value ({'studentized' if spa['studentized'] else 'not studentized'})",
+    words = {"long-run": "long-run t-ratios", "bootstrap": "bootstrap-scaled", "none": "unscaled"}
+    t.add_row(f"Hansen's SPA p-value ({words.get(spa.get('scale'), spa.get('scale'))})",
               f"consistent {prob(spa['pvalue'])}  (lower {prob(spa['pvalue_lower'])}, upper {prob(spa['pvalue_upper'])})")
+    for key, label in (("spa_studentized", "bootstrap-scaled"), ("spa_unstudentized", "unscaled")):
+        other = sn.get(key)
+        if other and other.get("scale") != spa.get("scale"):
+            t.add_row(f"  the same, {label}", f"consistent {prob(other['pvalue'])}")
     st = sn["stepm"]
     names = st["significant"]
     shown = "; ".join(names[:_STEPM_SHOWN]) + (f", ... ({len(names) - _STEPM_SHOWN} more)" if len(names) > _STEPM_SHOWN else "")
     t.add_row(f"StepM: beat the benchmark at {sig(st['level'], 6)}", f"{len(names)}: {shown}" if names else "none")
     t.add_row("selected configuration survives StepM",
-              "yes" if sn["selected_survives_stepm"] else f"NO: {selected} is not among them")
+              ("yes" if sn["selected_survives_stepm"] else f"NO: {selected} is not among them")
+              + f"  (statistic {sig(st['selected_statistic'], 3)}, critical value {sig(st['selected_critical_value'], 3)})")
     t.add_row("gate", f"{sn['gating']} p-value {prob(sn['gating_pvalue'])}")
     return t
+
+
+def _tails_text(tails: dict) -> Text:
+    windows = len(tails["stress_windows"])
+    if not windows:
+        return Text("The family's tails: no stress window (no window in which a large share of the "
+                    "configurations took a large loss).\n")
+    return Text(
+        f"The family's tails: {windows} stress window(s), {tails['escaped']} escaped by the selected "
+        f"configuration; charged the family's losses, its mean goes from {pct(tails['mean_observed'])} to "
+        f"{pct(tails['mean_adjusted'])} per window, statistic {sig(tails['statistic'], 3)} against the "
+        f"critical value {sig(tails['critical_value'], 3)}.\n"
+    )
 
 
 def _overfitting_table(ov: dict) -> Table:

@@ -74,6 +74,16 @@ def _data_section(doc: dict, material: FigureMaterial | None) -> Section:
         ("block length chosen by", st.get("block_length_source", "n/a")),
         ("seed", figure(st["seed"])),
     ]
+    choice = st.get("block_length_choice")
+    if choice:
+        facts += [
+            ("automatic block length of the selected configuration", figure(choice["selected"])),
+            ("75th percentile of the family's automatic block lengths", figure(choice["family_quantile"])),
+            ("automatic block length of the average series", figure(choice["average_series"])),
+            ("configurations examined for the block length", figure(choice["configurations_examined"])),
+            ("family's median AR(1) coefficient", figure(choice["ar_coefficient"])),
+            ("share of the long-run variance the block length keeps (AR(1) prediction)", figure(choice["predicted_share"])),
+        ]
     return Section(
         "data",
         "The data",
@@ -185,6 +195,11 @@ def _intervals_section(doc: dict, material: FigureMaterial | None) -> Section:
         caption=f"Selected configuration, {level} {st['interval_method']} block-bootstrap intervals",
     )
     every_table = _every_configuration(doc, level)
+    share = boot.get("long_run_share") or {}
+    facts = (
+        ("share of the long-run variance the resamples reproduce (median over configurations)", figure(share.get("median"))),
+        ("the same, lowest tenth of the configurations", figure(share.get("lowest_decile"))),
+    ) if share else ()
     figs = [plots.bootstrap_mean(doc, material)] if material is not None else []
     m = sel["mean"]
     words = (
@@ -204,6 +219,7 @@ def _intervals_section(doc: dict, material: FigureMaterial | None) -> Section:
             "keeping fat tails and serial dependence, and reads the interval off the redrawn means. "
             "These intervals do not allow for the search over configurations: the sections below do.",
         ),
+        facts=facts,
         tables=(selected_table, every_table),
         figures=tuple(figs),
         references=(
@@ -384,6 +400,36 @@ def _snooping_section(doc: dict, material: FigureMaterial | None) -> Section:
                    notes=tuple(notes), references=_SNOOP_REFS)
 
 
+def _tails_section(doc: dict, material: FigureMaterial | None) -> Section:
+    title = "Did the winner escape its family's crashes? The family's tails"
+    meaning = (
+        "A strategy that sells insurance earns a steady premium and loses heavily in rare crashes; over a few "
+        "years some configurations miss the crashes their siblings take, and picking the best record picks "
+        "them. A stress window is one in which a large share of the configurations take a large loss; the "
+        "selected configuration is charged at least the family's average loss in each of them, and its edge "
+        "must still clear the data-snooping test's bar."
+    )
+    refs = ("Krasker, W. S. (1980). The 'peso problem' in testing the efficiency of forward exchange markets. "
+            "Journal of Monetary Economics 6(2), 269-276.",)
+    block = doc["results"].get("tails")
+    if block is None:
+        return _absent("tails", title, "tails", meaning, refs)
+    windows = block.get("stress_windows") or []
+    facts = (
+        ("large loss: more than this many robust standard deviations", figure(block.get("threshold"))),
+        ("stress window: at least this share of the configurations take one", figure(block.get("share"))),
+        ("stress windows", figure(len(windows))),
+        ("stress windows the selected configuration escaped", figure(block.get("escaped"))),
+        ("mean excess return per window, as observed", figure(block.get("mean_observed"))),
+        ("mean excess return per window, charged", figure(block.get("mean_adjusted"))),
+        ("charged record's statistic (normal scale)", figure(block.get("statistic"))),
+        ("selection-adjusted critical value", figure(block.get("critical_value"))),
+        ("passes", figure(block.get("passed"))),
+    )
+    notes = (("Stress windows: " + ", ".join(windows)),) if windows else ("No stress window in this sweep.",)
+    return Section("tails", title, meaning=(meaning,), facts=facts, notes=notes, references=refs)
+
+
 def _extra_facts(block: dict, known: set, prefix: str = "") -> list[tuple[str, str]]:
     """Figures a block holds beyond the ones a section names, so no figure of the JSON goes unshown."""
     out: list[tuple[str, str]] = []
@@ -476,6 +522,7 @@ SECTIONS: tuple[SectionFunction, ...] = (
     _sharpe_section,
     _overfitting_section,
     _snooping_section,
+    _tails_section,
     _checks_section,
     _warnings_section,
     _reproduce_section,
