@@ -39,6 +39,7 @@ from scipy import stats
 from . import simulate, validate
 from .audit import gather_evidence
 from .errors import InputError
+from .methods.snooping import bonferroni_max_t
 from .policy import DEFAULT_POLICY, Policy
 from .resample import GENERATION_GROUP, Resamples, automatic_block_length, draw_resamples
 from .results import AuditSettings, BlockSeries, CheckRate, Rate, SweepCalibration, VerdictCalibration
@@ -107,7 +108,9 @@ def _run_audits(
     seed: int,
     progress: Callable[[int], None] | None,
 ) -> VerdictCalibration:
-    decisions, selected, outcomes, required = _audit_each(sweeps, count, audit_seeds, settings, policy, progress)
+    decisions, selected, outcomes, required, yardstick = _audit_each(
+        sweeps, count, audit_seeds, settings, policy, progress
+    )
     ids = tuple(required)
     failed = np.full((count, len(ids)), np.nan)
     for i, row in enumerate(outcomes):
@@ -125,13 +128,14 @@ def _run_audits(
         sweeps=count, go=binomial_rate(int(decisions.sum()), count), checks=checks, decisions=decisions,
         check_ids=ids, check_failed=failed, selected=selected, planted_selected=planted_rate,
         audit_seeds=audit_seeds, resamples=settings.resamples if settings.resamples is not None else policy.resamples,
-        policy=policy, seed=seed,
+        policy=policy, seed=seed, yardstick=binomial_rate(int(yardstick.sum()), count), yardstick_decisions=yardstick,
     )
 
 
 def _audit_each(sweeps, count, audit_seeds, settings, policy, progress):
     """Audit each sweep (its own seed) and decide its verdict: decisions, selections, check failures."""
     decisions = np.zeros(count, dtype=bool)
+    yardstick = np.zeros(count, dtype=bool)
     selected = np.zeros(count, dtype=np.int64)
     outcomes: list[dict[str, bool]] = []
     required: dict[str, bool] = {}
@@ -146,6 +150,7 @@ def _audit_each(sweeps, count, audit_seeds, settings, policy, progress):
             evidence = gather_evidence(sweep, settings=replace(settings, seed=int(audit_seeds[i])), policy=policy)
             verdict = decide(evidence, policy)
             decisions[i] = verdict.decision == "go"
+            yardstick[i] = bonferroni_max_t(sweep.returns, level=policy.significance).rejected
             selected[i] = evidence.selected_index
             outcomes.append({c.id: not c.passed for c in verdict.checks})
             for c in verdict.checks:
@@ -156,7 +161,7 @@ def _audit_each(sweeps, count, audit_seeds, settings, policy, progress):
         gc.unfreeze()
     if len(outcomes) != count:
         raise InputError(f"the simulation yielded {len(outcomes)} sweeps; {count} were asked for")
-    return decisions, selected, outcomes, required
+    return decisions, selected, outcomes, required, yardstick
 
 
 def _check_settings(settings: AuditSettings | None, resamples: int | None) -> AuditSettings:

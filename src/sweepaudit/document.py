@@ -565,6 +565,7 @@ def calibration_block(calibration: VerdictCalibration) -> dict:
             {"id": c.id, "required": c.required, "failure": _rate(c.failures)} for c in calibration.checks
         ],
         "planted_selected": None if calibration.planted_selected is None else _rate(calibration.planted_selected),
+        "bonferroni_max_t": None if calibration.yardstick is None else _rate(calibration.yardstick),
     }
 
 

@@ -648,6 +648,30 @@ class RealityCheck:
 
 
 @dataclass(frozen=True)
+class MaxTTest:
+    """The plain yardstick: the best iid t-ratio against a one-sided Bonferroni critical value.
+
+    Attributes
+    ----------
+    statistic : float
+        ``max_k sqrt(T) * mean_k / sd_k`` (sample standard deviation, ddof = 1).
+    best : int
+        The configuration attaining it (the highest Sharpe ratio).
+    critical_value : float
+        ``Phi^-1(1 - level / N)``.
+    level : float
+    rejected : bool
+        ``statistic > critical_value``.
+    """
+
+    statistic: float
+    best: int
+    critical_value: float
+    level: float
+    rejected: bool
+
+
+@dataclass(frozen=True)
 class SuperiorPredictiveAbility:
     """Hansen's (2005) test for superior predictive ability.
 
@@ -1372,6 +1396,11 @@ class VerdictCalibration:
         Bootstrap resamples per audit.
     policy : Policy
     seed : int
+    yardstick : Rate or None
+        Go rate of the plain Bonferroni max-t test (:func:`sweepaudit.methods.snooping.bonferroni_max_t`)
+        on the same sweeps: the floor the verdict should beat on power at no worse size.
+    yardstick_decisions : ndarray of bool or None
+        Its decision on each sweep.
     """
 
     sweeps: int
@@ -1386,6 +1415,8 @@ class VerdictCalibration:
     resamples: int
     policy: Policy
     seed: int
+    yardstick: Rate | None = None
+    yardstick_decisions: np.ndarray | None = None
 
     def check(self, check_id: str) -> CheckRate:
         """The failure rate of one check, by id."""

@@ -13,6 +13,10 @@ Hamilton, J. D. (1994). Time Series Analysis. Princeton University Press, sectio
 Lo, A. W. (2002). The statistics of Sharpe ratios. Financial Analysts Journal 58(4), 36-52.
 Rasmussen, C. E. and Williams, C. K. I. (2006). Gaussian Processes for Machine Learning. MIT Press,
     section 4.2.
+Hamilton, J. D. (1989). A new approach to the economic analysis of nonstationary time series and the
+    business cycle. Econometrica 57(2), 357-384 (Markov regime switching).
+Krasker, W. S. (1980). The 'peso problem' in testing the efficiency of forward exchange markets.
+    Journal of Monetary Economics 6(2), 269-276.
 """
 
 from __future__ import annotations
@@ -48,6 +52,16 @@ __all__ = [
     "per_window_edge",
     "plateau_columns",
     "spread_columns",
+    "square_grid",
+    "simulate_dependent_grid",
+    "simulate_leveraged",
+    "simulate_regime",
+    "simulate_crashes",
+    "simulate_grid_plateau",
+    "simulate_hill",
+    "simulate_quiet_edge",
+    "grid_block_columns",
+    "hill_columns",
 ]
 
 # Typical scale of per-window excess returns over a benchmark: 1% a week is about 7% a year of
@@ -377,6 +391,268 @@ def simulate_short_record(
     return simulate_one_edge(rng, n_configurations, n_windows, annual_sharpe=annual_sharpe, periods_per_year=ppy, **grid)
 
 
+# --------------------------------------------------------------------------------------------
+# Two-parameter grids with dependence, leverage, regimes and crashes
+
+
+def square_grid(n_configurations: int) -> tuple[int, int]:
+    """The most nearly square (rows, columns) grid of exactly ``n_configurations`` cells."""
+    n = validate.whole_number(n_configurations, "n_configurations", minimum=1)
+    rows = math.isqrt(n)
+    while n % rows:
+        rows -= 1
+    return rows, n // rows
+
+
+def _ar_filter(rng: np.random.Generator, shocks: np.ndarray, phi: float, burn_in: int = 200) -> np.ndarray:
+    """AR(1) with unit stationary variance driven by ``shocks`` (Hamilton 1994, section 3.4).
+
+    ``burn_in`` windows of fresh shocks come first and are discarded, so the series is stationary
+    from the first window kept whatever the shocks' own distribution.
+    """
+    if not (isinstance(phi, (int, float)) and -1 < phi < 1):
+        raise InputError(f"phi must lie strictly between -1 and 1 for a stationary AR(1); got {phi!r}")
+    if phi == 0:
+        return shocks
+    t, n = shocks.shape
+    e = np.concatenate([rng.standard_normal((burn_in, n)), shocks])
+    out = np.empty_like(e)
+    out[0] = e[0]
+    scale = math.sqrt(1.0 - phi * phi)
+    for s in range(1, len(e)):
+        out[s] = phi * out[s - 1] + scale * e[s]
+    return out[burn_in:]
+
+
+def _garch_scale(rng: np.random.Generator, t: int, *, alpha: float = 0.10, beta: float = 0.85, burn_in: int = 300) -> np.ndarray:
+    """A shared GARCH(1,1) volatility path with unit unconditional variance (Bollerslev 1986), (T, 1)."""
+    omega = 1.0 - alpha - beta
+    eps = rng.standard_normal(t + burn_in)
+    sigma2 = np.empty(t + burn_in)
+    sigma2[0] = 1.0
+    for s in range(1, t + burn_in):
+        sigma2[s] = omega + alpha * sigma2[s - 1] * eps[s - 1] ** 2 + beta * sigma2[s - 1]
+    return np.sqrt(sigma2[burn_in:])[:, None]
+
+
+def simulate_dependent_grid(
+    rng: np.random.Generator,
+    n_configurations: int,
+    n_windows: int,
+    *,
+    phi: float = 0.0,
+    shocks: Literal["normal", "student_t"] = "normal",
+    degrees_of_freedom: float = 4.0,
+    clustering: bool = False,
+    grid: tuple[int, int] | None = None,
+    length_scale: float = 2.0,
+    common_share: float = 0.3,
+    volatility: float = DEFAULT_VOLATILITY,
+) -> np.ndarray:
+    """Null: a two-parameter grid of correlated configurations with serial dependence and fat tails.
+
+    Each window draws grid-correlated shocks (:func:`neighbour_correlation` on ``grid``, by default
+    :func:`square_grid`); with ``shocks="student_t"`` every window's shocks share one chi-square
+    draw (a multivariate t: a stressed window stresses the whole family), scaled to unit variance.
+    ``clustering`` multiplies them by a shared GARCH(1,1) volatility path (alpha 0.10, beta 0.85;
+    heteroskedastic windows), and ``phi`` passes every configuration through an AR(1) with unit
+    stationary variance. The result is scaled to ``volatility``; no configuration has an edge.
+    """
+    rng, n, t, vol = _prologue(rng, n_configurations, n_windows, volatility)
+    validate.choice(shocks, "shocks", ("normal", "student_t"))
+    neighbour_correlation(1, length_scale=length_scale, common_share=common_share)  # validates both
+    key = square_grid(n) if grid is None else (int(grid[0]), int(grid[1]))
+    root = _correlation_root(n, key, float(length_scale), float(common_share))
+    z = rng.standard_normal((t, n)) @ root.T
+    if shocks == "student_t":
+        nu = validate.positive_number(degrees_of_freedom, "degrees_of_freedom")
+        if nu <= 2:
+            raise InputError(f"degrees_of_freedom must exceed 2 for a finite variance; got {degrees_of_freedom}")
+        z *= math.sqrt((nu - 2) / nu) / np.sqrt(rng.chisquare(nu, size=(t, 1)) / nu)
+    if clustering:
+        z *= _garch_scale(rng, t)
+    return vol * _ar_filter(rng, z, float(phi))
+
+
+def simulate_leveraged(
+    rng: np.random.Generator,
+    n_configurations: int,
+    n_windows: int,
+    *,
+    bases: int = 5,
+    leverage: tuple[float, float] = (0.25, 4.0),
+    own_noise: float = 0.3,
+    volatility: float = DEFAULT_VOLATILITY,
+) -> np.ndarray:
+    """Null: a few base strategies, each run at leverages from ``leverage[0]`` to ``leverage[1]``.
+
+    ``n_configurations`` must be a multiple of ``bases``; configuration ``b * per + j`` is base ``b``
+    at the j-th leverage (geometrically spaced), plus its own noise (``own_noise`` of the base's
+    scale). The bases are correlated 0.3 and share a GARCH(1,1) volatility path, so the family
+    mixes loud and quiet, heteroskedastic, highly correlated configurations; none has an edge.
+    """
+    rng, n, t, vol = _prologue(rng, n_configurations, n_windows, volatility)
+    count = validate.whole_number(bases, "bases", minimum=1)
+    if n % count:
+        raise InputError(f"n_configurations must be a multiple of bases = {count}; got {n}")
+    low, high = (validate.positive_number(v, "leverage") for v in leverage)
+    per = n // count
+    base = rng.standard_normal((t, count)) @ np.linalg.cholesky(0.3 + 0.7 * np.eye(count)).T
+    base *= _garch_scale(rng, t)
+    levels = np.geomspace(low, high, per) if per > 1 else np.array([1.0])
+    columns = np.repeat(np.arange(count), per)
+    x = base[:, columns] + validate.non_negative_number(own_noise, "own_noise") * rng.standard_normal((t, n))
+    return vol * x * np.tile(levels, count)
+
+
+def simulate_regime(
+    rng: np.random.Generator,
+    n_configurations: int,
+    n_windows: int,
+    *,
+    duration: float = 104.0,
+    annual_sharpe: float = 1.0,
+    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
+    volatility: float = DEFAULT_VOLATILITY,
+) -> np.ndarray:
+    """Null over the long run: a shared mean that switches sign, zero on average.
+
+    A two-state Markov chain (Hamilton 1989) with symmetric switching probability 1 / ``duration``
+    per window (mean stay of ``duration`` windows; 104 is two years of weeks) sets a mean of
+    +-``annual_sharpe`` (annualised, per unit of ``volatility``) that every configuration of a
+    grid-correlated family carries with its own loading between 0.2 and 1. Over a sample shorter
+    than a few regimes one sign dominates: no test can tell it from an edge within the sample.
+    """
+    rng, n, t, vol = _prologue(rng, n_configurations, n_windows, volatility)
+    stay = validate.positive_number(duration, "duration")
+    switches = rng.random(t) < 1.0 / stay
+    state = np.where(rng.random() < 0.5, 1.0, -1.0) * np.where(np.cumsum(switches) % 2, -1.0, 1.0)
+    load = rng.permutation(np.linspace(0.2, 1.0, n))
+    mean = per_window_edge(annual_sharpe, periods_per_year, vol)
+    return simulate_dependent_grid(rng, n, t, volatility=vol) + mean * state[:, None] * load[None, :]
+
+
+def simulate_crashes(
+    rng: np.random.Generator,
+    n_configurations: int,
+    n_windows: int,
+    *,
+    annual_sharpe: float = 1.5,
+    frequency: float = 1 / 60,
+    participation: float = 0.6,
+    shortfall: float = 0.05,
+    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
+    volatility: float = DEFAULT_VOLATILITY,
+) -> np.ndarray:
+    """Null: short-volatility configurations, a steady premium and rare shared crashes.
+
+    Every configuration earns a premium of ``annual_sharpe`` (per unit of ``volatility``); a crash
+    strikes the family in a window with probability ``frequency``, and each configuration takes it
+    independently with probability ``participation``, losing a size drawn uniformly within 30% of
+    its mean. The mean crash loss is set so that the expected loss per window is
+    ``1 + shortfall`` times the premium: the true mean excess return is slightly negative
+    (``-shortfall`` times the premium), while a configuration that happened to miss the crashes
+    shows the premium alone (the peso problem; Krasker 1980).
+    """
+    rng, n, t, vol = _prologue(rng, n_configurations, n_windows, volatility)
+    p = validate.probability(frequency, "frequency")
+    share = validate.probability(participation, "participation")
+    premium = per_window_edge(annual_sharpe, periods_per_year, vol)
+    loss = premium * (1.0 + validate.non_negative_number(shortfall, "shortfall")) / (p * share)
+    crash = rng.random(t) < p
+    hit = (rng.random((t, n)) < share) & crash[:, None]
+    size = loss * rng.uniform(0.7, 1.3, size=(t, n))
+    return simulate_dependent_grid(rng, n, t, volatility=vol) + premium - hit * size
+
+
+def grid_block_columns(n_configurations: int, width: int, grid: tuple[int, int] | None = None) -> list[int]:
+    """The cells of a ``width`` x ``width`` block at the centre of the grid (row-major indices)."""
+    rows, cols = square_grid(n_configurations) if grid is None else grid
+    w = min(validate.whole_number(width, "width", minimum=1), rows, cols)
+    r0, c0 = (rows - w) // 2, (cols - w) // 2
+    return [r * cols + c for r in range(r0, r0 + w) for c in range(c0, c0 + w)]
+
+
+def _hill(n_configurations: int, spread: float, grid: tuple[int, int] | None) -> np.ndarray:
+    rows, cols = square_grid(n_configurations) if grid is None else grid
+    r, c = np.indices((rows, cols))
+    d2 = (r - (rows - 1) / 2) ** 2 + (c - (cols - 1) / 2) ** 2
+    return np.exp(-d2.ravel() / (2.0 * validate.positive_number(spread, "spread") ** 2))
+
+
+def hill_columns(n_configurations: int, spread: float = 1.5, grid: tuple[int, int] | None = None) -> list[int]:
+    """The cells of a smooth hill that carry at least half its peak edge."""
+    return [int(k) for k in np.flatnonzero(_hill(n_configurations, spread, grid) >= 0.5)]
+
+
+def simulate_grid_plateau(
+    rng: np.random.Generator,
+    n_configurations: int,
+    n_windows: int,
+    *,
+    width: int = 3,
+    annual_sharpe: float = 2.0,
+    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
+    phi: float = 0.0,
+    volatility: float = DEFAULT_VOLATILITY,
+) -> np.ndarray:
+    """Alternative: a ``width`` x ``width`` plateau at the centre of a correlated grid shares an edge.
+
+    The null part is :func:`simulate_dependent_grid` (with ``phi`` for serially dependent windows);
+    each plateau cell earns ``annual_sharpe``.
+    """
+    x = simulate_dependent_grid(rng, n_configurations, n_windows, phi=phi, volatility=volatility)
+    return plant_edge(x, grid_block_columns(x.shape[1], width), annual_sharpe=annual_sharpe,
+                      periods_per_year=periods_per_year, volatility=volatility)
+
+
+def simulate_hill(
+    rng: np.random.Generator,
+    n_configurations: int,
+    n_windows: int,
+    *,
+    annual_sharpe: float = 2.0,
+    spread: float = 1.5,
+    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
+    volatility: float = DEFAULT_VOLATILITY,
+) -> np.ndarray:
+    """Alternative: a smooth hill of edges on a correlated grid, peaking at ``annual_sharpe``.
+
+    Cell k earns ``annual_sharpe * exp(-d_k^2 / (2 spread^2))`` with d_k its distance (in grid
+    steps) from the grid's centre: a good setting surrounded by gradually worse ones.
+    """
+    x = simulate_dependent_grid(rng, n_configurations, n_windows, volatility=volatility)
+    edge = per_window_edge(annual_sharpe, periods_per_year, validate.positive_number(volatility, "volatility"))
+    return x + edge * _hill(x.shape[1], spread, None)[None, :]
+
+
+def simulate_quiet_edge(
+    rng: np.random.Generator,
+    n_configurations: int,
+    n_windows: int,
+    *,
+    annual_sharpe: float = 2.0,
+    quiet: float = 0.01,
+    loud: float = 0.03,
+    common_share: float = 0.3,
+    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
+) -> np.ndarray:
+    """Alternative: one quiet configuration with an edge among loud configurations without one.
+
+    Configuration 0 has standard deviation ``quiet`` and earns ``annual_sharpe``; the others have
+    standard deviation ``loud`` and no edge; all share a common factor (``common_share``). A test
+    that ranks configurations by their raw mean sees only the loud noise.
+    """
+    rng, n, t, _ = _prologue(rng, n_configurations, n_windows, quiet)
+    validate.positive_number(loud, "loud")
+    root = np.linalg.cholesky(common_share + (1.0 - common_share) * np.eye(n))
+    scale = np.full(n, float(loud))
+    scale[0] = quiet
+    x = (rng.standard_normal((t, n)) @ root.T) * scale
+    x[:, 0] += per_window_edge(annual_sharpe, periods_per_year, quiet)
+    return x
+
+
 @dataclass(frozen=True)
 class Family:
     """A family of synthetic sweeps with known truth.
@@ -431,5 +707,64 @@ FAMILIES: tuple[Family, ...] = (
         "short_record", "alternative", simulate_short_record,
         "neighbour grid, at most two years of windows; one configuration earns annualised Sharpe 2.0",
         planted=lambda n: [_centre(n)],
+    ),
+    Family(
+        "grid", "null", simulate_dependent_grid,
+        "2-D grid of correlated configurations (common factor 0.3, exp(-distance / 2)), independent windows",
+    ),
+    Family(
+        "autoregressive_grid", "null", lambda rng, n, t: simulate_dependent_grid(rng, n, t, phi=0.5),
+        "2-D grid of correlated configurations, AR(1) windows, phi = 0.5",
+    ),
+    Family(
+        "persistent_grid", "null", lambda rng, n, t: simulate_dependent_grid(rng, n, t, phi=0.7),
+        "2-D grid of correlated configurations, AR(1) windows, phi = 0.7",
+    ),
+    Family(
+        "fat_tailed_grid", "null", lambda rng, n, t: simulate_dependent_grid(rng, n, t, shocks="student_t"),
+        "2-D grid, multivariate Student-t windows (4 degrees of freedom, shared stress)",
+    ),
+    Family(
+        "clustered_grid", "null", lambda rng, n, t: simulate_dependent_grid(rng, n, t, clustering=True, phi=0.3),
+        "2-D grid, shared GARCH(1,1) volatility and AR(1) windows, phi = 0.3",
+    ),
+    Family(
+        "leveraged", "null", simulate_leveraged,
+        "5 base strategies, each at leverages from 0.25x to 4x, shared GARCH(1,1) volatility",
+    ),
+    Family(
+        "regime", "null", simulate_regime,
+        "2-D grid with a shared mean that switches sign, two-year mean duration, zero on average",
+    ),
+    Family(
+        "crashes", "null", simulate_crashes,
+        "short-volatility grid: premium of annualised Sharpe 1.5, rare shared crashes, slightly negative mean",
+    ),
+    Family(
+        "grid_plateau", "alternative", simulate_grid_plateau,
+        "2-D grid; a 3 x 3 plateau at the centre shares annualised Sharpe 2.0",
+        planted=lambda n: grid_block_columns(n, 3),
+    ),
+    Family(
+        "grid_plateau_weaker", "alternative",
+        lambda rng, n, t: simulate_grid_plateau(rng, n, t, annual_sharpe=1.5),
+        "2-D grid; a 3 x 3 plateau at the centre shares annualised Sharpe 1.5",
+        planted=lambda n: grid_block_columns(n, 3),
+    ),
+    Family(
+        "grid_plateau_dependent", "alternative",
+        lambda rng, n, t: simulate_grid_plateau(rng, n, t, phi=0.3),
+        "2-D grid, AR(1) windows (phi = 0.3); a 3 x 3 plateau shares annualised Sharpe 2.0",
+        planted=lambda n: grid_block_columns(n, 3),
+    ),
+    Family(
+        "hill", "alternative", simulate_hill,
+        "2-D grid; a smooth hill of edges peaking at annualised Sharpe 2.0 (spread 1.5 grid steps)",
+        planted=lambda n: hill_columns(n, 1.5),
+    ),
+    Family(
+        "quiet_edge", "alternative", simulate_quiet_edge,
+        "one configuration at 1% volatility earns annualised Sharpe 2.0 among configurations at 3% with none",
+        planted=lambda n: [0],
     ),
 )

@@ -101,6 +101,7 @@ from collections.abc import Callable, Iterator
 from typing import get_args
 
 import numpy as np
+from scipy import stats
 
 from .. import validate
 from ..errors import DegenerateDataError, InputError
@@ -108,6 +109,7 @@ from ..resample import ResampledMoments, Resamples, moment_chunk, resampled_mome
 from ..results import (
     Counting,
     LongRunVariance,
+    MaxTTest,
     RealityCheck,
     SnoopingScale,
     StepRecentring,
@@ -122,6 +124,7 @@ __all__ = [
     "StepRecentring",
     "StepwiseResult",
     "SuperiorPredictiveAbility",
+    "bonferroni_max_t",
     "observed_statistics",
     "reality_check",
     "stepwise_superior",
@@ -614,3 +617,32 @@ def _step_down(source, centre, scale, statistics, level, counting, count):
             break
         rejected_at[new] = len(critical_values)
     return rejected_at, critical_values, null_maxima
+
+
+def bonferroni_max_t(returns: np.ndarray, *, level: float = 0.05) -> MaxTTest:
+    """The yardstick every selection-aware test is measured against: a Bonferroni max-t test.
+
+    Rejects "no configuration beats the benchmark" when the best iid t-ratio
+    ``sqrt(T) mean_k / sd_k`` exceeds ``Phi^-1(1 - level / N)`` (one-sided). By Bonferroni's
+    inequality it controls the familywise error rate at ``level`` for any correlation between the
+    configurations when the windows are independent and the t-ratios near normal; it ignores serial
+    dependence, so under autocorrelated windows it over-rejects. A test that exploits the
+    correlation between configurations should be at least as powerful at the same level.
+
+    Parameters
+    ----------
+    returns : ndarray, shape (T, N)
+    level : float
+
+    Returns
+    -------
+    MaxTTest
+    """
+    x = validate.returns_matrix(returns)
+    alpha = validate.probability(level, "level")
+    t, n = x.shape
+    _check_constant(x)
+    ratios = math.sqrt(t) * x.mean(axis=0) / x.std(axis=0, ddof=1)
+    best = int(np.argmax(ratios))
+    critical = float(stats.norm.isf(alpha / n))
+    return MaxTTest(float(ratios[best]), best, critical, alpha, bool(ratios[best] > critical))
