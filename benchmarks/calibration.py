@@ -78,6 +78,7 @@ SCENARIOS: tuple[tuple[str, int, int], ...] = (
     ("hill", 100, 208),
     ("quiet_edge", 50, 208),
     ("grid_plateau_dependent", 100, 208),
+    ("grid_plateau_fat_tailed", 100, 208),
     ("one_edge", 50, 1000),
     ("edge_plateau", 50, 260),
     ("several_edges", 50, 260),

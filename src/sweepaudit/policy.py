@@ -231,8 +231,8 @@ class Policy:
         source="sweepaudit's choice (README: the family's tails)",
     )
     required: tuple[str, ...] = _f(
-        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "data_snooping", "family_tails",
-         "baseline_drift"),
+        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "overfitting", "data_snooping",
+         "family_tails", "baseline_drift"),
         "checks that must pass for a go; the others are advisory",
         check_ids=True,
     )

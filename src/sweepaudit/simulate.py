@@ -594,14 +594,15 @@ def simulate_grid_plateau(
     annual_sharpe: float = 2.0,
     periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
     phi: float = 0.0,
+    shocks: Literal["normal", "student_t"] = "normal",
     volatility: float = DEFAULT_VOLATILITY,
 ) -> np.ndarray:
     """Alternative: a ``width`` x ``width`` plateau at the centre of a correlated grid shares an edge.
 
-    The null part is :func:`simulate_dependent_grid` (with ``phi`` for serially dependent windows);
-    each plateau cell earns ``annual_sharpe``.
+    The null part is :func:`simulate_dependent_grid` (with ``phi`` for serially dependent windows and
+    ``shocks`` for fat tails); each plateau cell earns ``annual_sharpe``.
     """
-    x = simulate_dependent_grid(rng, n_configurations, n_windows, phi=phi, volatility=volatility)
+    x = simulate_dependent_grid(rng, n_configurations, n_windows, phi=phi, shocks=shocks, volatility=volatility)
     return plant_edge(x, grid_block_columns(x.shape[1], width), annual_sharpe=annual_sharpe,
                       periods_per_year=periods_per_year, volatility=volatility)
 
@@ -755,6 +756,12 @@ FAMILIES: tuple[Family, ...] = (
         "grid_plateau_dependent", "alternative",
         lambda rng, n, t: simulate_grid_plateau(rng, n, t, phi=0.3),
         "2-D grid, AR(1) windows (phi = 0.3); a 3 x 3 plateau shares annualised Sharpe 2.0",
+        planted=lambda n: grid_block_columns(n, 3),
+    ),
+    Family(
+        "grid_plateau_fat_tailed", "alternative",
+        lambda rng, n, t: simulate_grid_plateau(rng, n, t, shocks="student_t"),
+        "2-D grid, multivariate Student-t windows; a 3 x 3 plateau shares annualised Sharpe 2.0",
         planted=lambda n: grid_block_columns(n, 3),
     ),
     Family(
