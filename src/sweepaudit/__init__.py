@@ -31,10 +31,10 @@ from .methods.overfitting import overfitting_diagnosis
 from .methods.sharpe import minimum_track_record, probabilistic_sharpe
 from .methods.snooping import reality_check, stepwise_superior, superior_predictive_ability
 from .policy import DEFAULT_POLICY, Policy
-from .read import LoadOptions, load_sweep
+from .read import LoadOptions, load_sweep, sweep_from_array
 from .resample import Resamples, draw_resamples, resampled_moments
 from .results import AuditResult, AuditSettings, Evidence, Verdict
-from .sweep import Sweep, sweep_from_array
+from .sweep import Sweep
 
 # The result type's name before the verdict left the evidence; kept so existing imports work.
 AuditResults = AuditResult
