@@ -107,6 +107,7 @@ def aggregate_windows(built, rule: str, label: str, notes: list[str]) -> dict:
     built.benchmark = bench[keep] if bench is not None else None
     built.dates = pd.DatetimeIndex(built.dates[ends[keep]])
     built.windows = [cell_label(d) for d in built.dates]
+    built.written = list(built.windows)
     if bench is None:
         notes.append(
             f"compounded the excess returns as given into {rule} windows: prod(1 + excess) - 1 only "

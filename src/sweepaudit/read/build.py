@@ -9,7 +9,7 @@ kept apart (the loader scales, aggregates and subtracts); missing values are nev
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -47,7 +47,7 @@ class Built:
     value_column: str | None = None
     parameter_columns: tuple[str, ...] = ()
     parameter_note: str | None = None
-    extra: dict = field(default_factory=dict)
+    written: list[str] | None = None
 
 
 def parse_named_parameters(names: list[str]) -> tuple[pd.DataFrame | None, str | None]:
@@ -186,14 +186,14 @@ def _benchmark_configuration(built: Built, opt: LoadOptions, label: str, first_r
 
 
 def _windows_in_order(order: np.ndarray, uniques: list[str], reading: WindowDates | None):
-    """Window labels and dates in time order (dates shown as ISO dates, period labels as written)."""
-    labels = [uniques[i] for i in order]
+    """Window labels and dates in time order (dates shown as ISO dates, period labels as written),
+    and the labels as written."""
+    written = [uniques[i] for i in order]
     if reading is None:
-        return labels, None
+        return written, None, written
     dates = pd.DatetimeIndex(reading.dates[order])
-    if not reading.keep_labels:
-        labels = [cell_label(d) for d in dates]
-    return labels, dates
+    labels = written if reading.keep_labels else [cell_label(d) for d in dates]
+    return labels, dates, written
 
 
 def long_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions) -> Built:
@@ -218,7 +218,7 @@ def long_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: Lo
     rank[order] = np.arange(len(order))
     matrix = np.full((len(window_uniques), len(names)), np.nan)
     matrix[rank[window_codes], config_codes] = values
-    window_labels, dates = _windows_in_order(order, window_uniques, reading)
+    window_labels, dates, written = _windows_in_order(order, window_uniques, reading)
     first_rows = pd.Series(np.arange(len(frame))).groupby(config_codes).first().to_numpy()
     if single_id:
         table = pd.DataFrame(index=pd.Index(names, name="configuration"))
@@ -226,7 +226,7 @@ def long_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: Lo
         table = frame[params].iloc[first_rows].reset_index(drop=True)
         table.index = pd.Index(names, name="configuration")
     built = Built(matrix, names, table, window_labels, dates, reading, [value_col] * len(names), first_rows.copy(),
-                  value_column=value_col, parameter_columns=tuple(params))
+                  value_column=value_col, parameter_columns=tuple(params), written=written)
     if opt.benchmark is not None:
         _benchmark_configuration(built, opt, label, first_rows)
         built.columns = [value_col] * len(built.names)
@@ -241,7 +241,8 @@ def _wide_windows(frame: pd.DataFrame, label: str, window_col: str | None, opt: 
     """The row order (time order), the window labels and dates, and the configuration columns."""
     if window_col is None:
         order = np.arange(len(frame))
-        return order, [str(i + 1) for i in order], None, None, list(frame.columns)
+        labels = [str(i + 1) for i in order]
+        return order, labels, None, None, labels, list(frame.columns)
     labels = frame[window_col]
     dup = labels.duplicated().to_numpy()
     if dup.any():
@@ -250,8 +251,8 @@ def _wide_windows(frame: pd.DataFrame, label: str, window_col: str | None, opt: 
     order_key, reading = order_windows(labels, label, window_col, date_order=opt.date_order,
                                        date_format=opt.date_format)
     order = np.argsort(order_key.to_numpy(), kind="stable")
-    window_labels, dates = _windows_in_order(order, [cell_label(v) for v in labels], reading)
-    return order, window_labels, dates, reading, [c for c in frame.columns if c != window_col]
+    window_labels, dates, written = _windows_in_order(order, [cell_label(v) for v in labels], reading)
+    return order, window_labels, dates, reading, written, [c for c in frame.columns if c != window_col]
 
 
 def _wide_values(frame: pd.DataFrame, label: str, config_cols: list[str], order: np.ndarray) -> np.ndarray:
@@ -270,7 +271,7 @@ def _wide_values(frame: pd.DataFrame, label: str, config_cols: list[str], order:
 
 def wide_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions) -> Built:
     """The matrix of a wide table (one row per window, one column per configuration)."""
-    order, window_labels, dates, reading, config_cols = _wide_windows(frame, label, window_col, opt)
+    order, window_labels, dates, reading, written, config_cols = _wide_windows(frame, label, window_col, opt)
     if opt.benchmark is not None:
         require_column(frame, opt.benchmark, label, "benchmark")
         if opt.benchmark not in config_cols:
@@ -280,7 +281,7 @@ def wide_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: Lo
     matrix = _wide_values(frame, label, config_cols, order)
     names = list(config_cols)
     built = Built(matrix, names, pd.DataFrame(), window_labels, dates, reading, names,
-                  np.full(len(names), int(order[0]) if len(order) else 0))
+                  np.full(len(names), int(order[0]) if len(order) else 0), written=written)
     if opt.benchmark is not None:
         b = names.index(opt.benchmark)
         bench = matrix[:, b]

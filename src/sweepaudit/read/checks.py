@@ -91,6 +91,8 @@ def coverage(built, opt: LoadOptions, label: str, notes: list[str]) -> None:
     )
     built.matrix = matrix[full]
     built.windows = [w for w, keep in zip(window_labels, full) if keep]
+    if built.written is not None:
+        built.written = [w for w, keep in zip(built.written, full) if keep]
     if built.dates is not None:
         built.dates = built.dates[full]
     if built.benchmark is not None:

@@ -202,6 +202,8 @@ def _reading(frame, built: Built, layout, window_col, opt: LoadOptions, aggregat
         "window_form": built.reading.form if built.reading is not None else (
             "numbers, in numeric order" if window_col is not None and pd.api.types.is_numeric_dtype(frame[window_col])
             else "plain labels, in file order" if window_col is not None else "row order (no window column)"),
+        "first_window_written": built.written[0] if built.written else None,
+        "last_window_written": built.written[-1] if built.written else None,
         "date_order": opt.date_order,
         "date_format": opt.date_format,
         "value_column": built.value_column,
