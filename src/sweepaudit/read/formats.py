@@ -154,7 +154,7 @@ def refuse_grouped_numbers(frame: pd.DataFrame, label: str, reading: dict) -> No
     pattern = _grouped_pattern(reading.get("decimal", "."))
     for column in frame.columns:
         values = frame[column]
-        if values.dtype != object:
+        if pd.api.types.is_numeric_dtype(values) or pd.api.types.is_datetime64_any_dtype(values):
             continue
         text = values.dropna().astype(str).str.strip()
         hits = text.str.fullmatch(pattern.pattern)

@@ -15,6 +15,7 @@
 from __future__ import annotations
 
 import os
+import shlex
 from typing import Any
 
 import numpy as np
@@ -172,7 +173,7 @@ def _hints(built: Built, opt: LoadOptions) -> list[str]:
                 f"configuration {named[0]!r} is named like a benchmark, index or buy-and-hold series, yet it "
                 "is audited as one more configuration and every column is read as excess returns: if these "
                 f"are raw strategy returns, subtract it with benchmark={named[0]!r} (command line: "
-                f"--benchmark {named[0]!r})"
+                f"--benchmark {shlex.quote(named[0])})"
             )
     if built.parameter_note:
         hints.append(built.parameter_note)
