@@ -156,7 +156,9 @@ def refuse_grouped_numbers(frame: pd.DataFrame, label: str, reading: dict) -> No
         values = frame[column]
         if pd.api.types.is_numeric_dtype(values) or pd.api.types.is_datetime64_any_dtype(values):
             continue
-        text = values.dropna().astype(str).str.strip()
+        # Unique cells only (a long file repeats each window and configuration label many times);
+        # drop_duplicates keeps each cell's first row.
+        text = values.dropna().drop_duplicates().astype(str).str.strip()
         hits = text.str.fullmatch(pattern.pattern)
         if hits.any():
             p = int(np.flatnonzero(hits.to_numpy())[0])
