@@ -328,9 +328,10 @@ def test_daily_returns_compound_into_windows(tmp_path, rule, pandas_rule, ppy):
     # Windows are dated by their last input date.
     last = strat.index.to_series().resample(pandas_rule).max()[keep]
     assert s.windows == tuple(d.date().isoformat() for d in last)
-    # Compounded excess is not excess compounded: the gap is real on these data.
+    # Compounded excess is not excess compounded: the gap is real on these data (the README quotes
+    # it for monthly windows over the whole sample).
     naive = (1 + strat.sub(bench, axis=0)).resample(pandas_rule).prod() - 1
-    assert np.abs(naive.to_numpy()[keep] - s.returns).max() > 1e-4
+    assert np.abs(naive.to_numpy()[keep] - s.returns).max() > 1e-3
 
 
 def test_aggregating_excess_returns_without_a_benchmark_says_it_approximates(tmp_path):
