@@ -13,7 +13,7 @@ holds for :func:`figure_material`, which picks the arrays the figures draw.
 from __future__ import annotations
 
 import math
-from dataclasses import fields
+from dataclasses import asdict, fields
 from typing import Any
 
 import numpy as np
@@ -102,15 +102,8 @@ def _input_block(evidence: Evidence) -> dict:
 
 
 def plausibility_block(sweep: Sweep) -> dict:
-    """The figures the ``plausible_returns`` check judges (:attr:`Sweep.plausibility`)."""
-    p = sweep.plausibility
-    return {
-        "largest_window_return": p.largest_window_return,
-        "largest_window_configuration": p.largest_window_configuration,
-        "largest_window": p.largest_window,
-        "largest_volatility_annualized": p.largest_volatility_annualized,
-        "largest_volatility_configuration": p.largest_volatility_configuration,
-    }
+    """The figures the ``plausible_returns`` check judges (:attr:`Sweep.plausibility`), by field name."""
+    return asdict(sweep.plausibility)
 
 
 #: Rows of the parameter table and configuration names an inspection shows.

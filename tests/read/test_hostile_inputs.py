@@ -418,7 +418,10 @@ def test_wide_dataframe_with_a_datetime_index_and_parameter_multiindex():
     bh = ((1 + bench).resample("W-FRI").prod() - 1).iloc[1:300]
     cols = pd.MultiIndex.from_tuples([(int(c.split("=")[1]), 1) for c in weekly.columns], names=["lookback", "lag"])
     frame = pd.DataFrame(weekly.to_numpy(), index=weekly.index, columns=cols)
+    before = frame.copy()
     s = load_sweep(frame)
+    pd.testing.assert_frame_equal(frame, before)  # the caller's DataFrame is left as it was
+    assert frame.index.name == "Date" and isinstance(frame.columns, pd.MultiIndex)
     assert s.configurations[0] == "lookback=10, lag=1" and s.periods_per_year == 52
     assert list(s.parameters.columns) == ["lookback", "lag"]
     assert pd.api.types.is_integer_dtype(s.parameters["lookback"])

@@ -78,8 +78,7 @@ def frame_table(data: pd.DataFrame) -> InMemory:
         window = str(index.name) if index.name is not None else ("date" if isinstance(index, pd.DatetimeIndex) else "window")
         if window in frame.columns:
             raise InputError(f"the index is named {window!r} like a column; rename one", path=FRAME_LABEL, column=window)
-        frame.index.name = window
-        frame = frame.reset_index()
+        frame = frame.rename_axis(window).reset_index()  # rename_axis: the caller's index keeps its name
     else:
         frame = frame.reset_index(drop=True)
     dupes = frame.columns[frame.columns.duplicated()].tolist()
