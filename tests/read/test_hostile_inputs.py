@@ -438,6 +438,7 @@ def test_long_dataframe_and_array_with_dates():
     long = weekly.rename_axis("week").reset_index().melt(id_vars="week", var_name="config", value_name="excess_return")
     a = load_sweep(long)
     assert a.layout == "long" and a.periods_per_year == 52
+    assert list(a.parameters.columns) == ["lookback"]  # parsed from the id column's names
     np.testing.assert_array_equal(a.returns, weekly[list(a.configurations)].to_numpy())
     b = load_sweep(weekly.to_numpy(), dates=weekly.index.strftime("%d/%m/%Y"), configurations=list(weekly.columns))
     assert b.windows == a.windows and list(b.parameters.columns) == ["lookback"]

@@ -220,13 +220,17 @@ def long_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: Lo
     matrix[rank[window_codes], config_codes] = values
     window_labels, dates, written = _windows_in_order(order, window_uniques, reading)
     first_rows = pd.Series(np.arange(len(frame))).groupby(config_codes).first().to_numpy()
+    note = None
     if single_id:
-        table = pd.DataFrame(index=pd.Index(names, name="configuration"))
+        # An id column of names like "lookback=20, band=1.5" still gives a parameter table.
+        table, note = parse_named_parameters(names)
+        if table is None:
+            table = pd.DataFrame(index=pd.Index(names, name="configuration"))
     else:
         table = frame[params].iloc[first_rows].reset_index(drop=True)
         table.index = pd.Index(names, name="configuration")
     built = Built(matrix, names, table, window_labels, dates, reading, [value_col] * len(names), first_rows.copy(),
-                  value_column=value_col, parameter_columns=tuple(params), written=written)
+                  value_column=value_col, parameter_columns=tuple(params), written=written, parameter_note=note)
     if opt.benchmark is not None:
         _benchmark_configuration(built, opt, label, first_rows)
         built.columns = [value_col] * len(built.names)

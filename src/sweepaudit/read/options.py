@@ -75,8 +75,10 @@ class LoadOptions:
             validate.periods_per_year(self.periods_per_year, "periods per year")
         for name, allowed in (("windows", tuple(WINDOW_RULES)), ("separator", SEPARATORS), ("decimal", DECIMALS),
                               ("thousands", THOUSANDS)):
-            if getattr(self, name) is not None:
-                validate.choice(getattr(self, name), name, allowed)
+            value = getattr(self, name)
+            if value is not None and value not in allowed:
+                # repr: a tab or a space must be visible in the message.
+                raise InputError(f"{name} must be one of {', '.join(map(repr, allowed))}; got {value!r}")
         if self.decimal is not None and self.decimal == self.thousands:
             raise InputError(f"decimal and thousands must differ; both are {self.decimal!r}")
         if self.decimal == "," and self.separator == ",":
