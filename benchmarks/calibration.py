@@ -49,7 +49,7 @@ from sweepaudit.methods.snooping import bonferroni_max_t  # noqa: E402
 from sweepaudit.policy import DEFAULT_POLICY  # noqa: E402
 from sweepaudit.results import AuditSettings  # noqa: E402
 from sweepaudit.simulate import FAMILIES  # noqa: E402
-from sweepaudit.sweep import sweep_from_array  # noqa: E402
+from sweepaudit.read import sweep_from_array  # noqa: E402
 from sweepaudit.verdict import decide  # noqa: E402
 
 PERIODS_PER_YEAR = 52.0

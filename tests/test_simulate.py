@@ -23,7 +23,15 @@ from sweepaudit import calibration
 from sweepaudit.errors import InputError
 from sweepaudit.simulate import (
     FAMILIES,
+    grid_block_columns,
+    hill_columns,
     neighbour_correlation,
+    simulate_crashes,
+    simulate_dependent_grid,
+    simulate_leveraged,
+    simulate_quiet_edge,
+    simulate_regime,
+    square_grid,
     per_window_edge,
     plant_edge,
     plateau_columns,
@@ -133,8 +141,52 @@ def test_short_record_family_and_registry():
     kinds = {f.kind for f in FAMILIES}
     assert kinds == {"null", "alternative"}
     for f in FAMILIES:
-        assert f.simulate(rng(0), 12, 60).shape == (60, 12)
+        assert f.simulate(rng(0), 20, 60).shape == (60, 20)
         assert (f.planted is None) == (f.kind == "null")
+
+
+def test_dependent_grid_has_the_asked_dependence():
+    # Theory: lag-1 autocorrelation phi (Hamilton 1994, section 3.4), unit-variance innovations scaled
+    # to the volatility; the grid correlation of neighbour_correlation between configurations.
+    x = simulate_dependent_grid(rng(21), 36, 4000, phi=0.6)
+    e = x - x.mean(axis=0)
+    rho = np.sum(e[1:] * e[:-1], axis=0) / np.sum(e * e, axis=0)
+    assert np.mean(rho) == pytest.approx(0.6, abs=0.03)
+    assert x.std() == pytest.approx(0.01, rel=0.05)
+    corr = np.corrcoef(simulate_dependent_grid(rng(22), 36, 4000).T)
+    target = neighbour_correlation(36, grid=square_grid(36), length_scale=2.0, common_share=0.3)
+    assert np.abs(corr - target).max() < 0.1
+    t = simulate_dependent_grid(rng(23), 16, 20000, shocks="student_t")
+    assert t.std() == pytest.approx(0.01, rel=0.05)
+    assert ((t - t.mean()) ** 4).mean() / t.var() ** 2 > 4.5  # fat tails (raw kurtosis above 3)
+
+
+def test_crash_family_has_a_slightly_negative_mean_and_lucky_members():
+    # Constructed so that the expected crash loss is 1.05 times the premium: the mean is
+    # -0.05 times the premium, while a member that missed every crash shows the premium alone.
+    x = simulate_crashes(rng(24), 40, 60_000)
+    premium = per_window_edge(1.5, 52, 0.01)
+    assert x.mean() == pytest.approx(-0.05 * premium, abs=0.05 * premium)
+    short = simulate_crashes(rng(25), 100, 260)
+    worst = short.min(axis=0)
+    assert (worst > -0.05).any() and (worst < -0.1).any()  # some escaped, some were hit
+
+
+def test_regime_leverage_quiet_edge_and_planted_cells():
+    x = simulate_regime(rng(26), 20, 200_000, duration=50)
+    assert abs(x.mean()) < 0.1 * per_window_edge(1.0, 52, 0.01)  # zero on average over many regimes
+    lev = simulate_leveraged(rng(27), 20, 5000, bases=4)
+    sd = lev.std(axis=0).reshape(4, 5)
+    assert np.all(np.diff(sd, axis=1) > 0)  # leverage rises along each base strategy
+    with pytest.raises(InputError, match="multiple of bases"):
+        simulate_leveraged(rng(), 21, 10)
+    q = simulate_quiet_edge(rng(28), 10, 20000)
+    assert q[:, 0].std() == pytest.approx(0.01, rel=0.05) and q[:, 1].std() == pytest.approx(0.03, rel=0.05)
+    assert q[:, 0].mean() == pytest.approx(per_window_edge(2.0, 52, 0.01), rel=0.15)
+    assert grid_block_columns(100, 3) == [44 - 11 + k for k in (0, 1, 2)] + [44 - 1 + k for k in (0, 1, 2)] + [
+        44 + 9 + k for k in (0, 1, 2)]
+    assert {44, 45, 54, 55} <= set(hill_columns(100)) and 0 not in hill_columns(100)
+    assert square_grid(100) == (10, 10) and square_grid(20) == (4, 5) and square_grid(7) == (1, 7)
 
 
 def test_simulator_errors_name_the_argument():

@@ -38,6 +38,10 @@ def _verdict(doc: dict) -> list:
         (sel["configuration"], ""),
     )
     lines = [head, Text(f"Chosen as: {sel['rule']}", style="dim")]
+    # Returns that do not look like returns stand on the first screen, passed or not.
+    for c in doc["checks"]:
+        if c["id"] == "plausible_returns" and (not c["passed"] or c["reason"].startswith("Implausible")):
+            lines.append(Text(f"! {c['reason']}", style="bold yellow"))
     reasons = Text("Reasons\n", style="bold")
     for r in doc["reasons"]:
         reasons.append(f"  - {r}\n")
