@@ -583,6 +583,45 @@ class CscvResult:
     warnings: tuple[str, ...]
 
 
+@dataclass(frozen=True, eq=False)
+class CscvBlockWinners:
+    """Each CSCV split's best configuration within a column block, or over the sweep once combined
+    (:func:`sweepaudit.methods.cscv.cscv_block_winners`). Arrays have one entry per split.
+
+    Attributes
+    ----------
+    in_sample, column, out_of_sample, t_statistic : ndarray
+        The best in-sample statistic, its (sweep-wide) column, that column's out-of-sample
+        statistic and its in-sample t-statistic.
+    constant : int
+        Configurations with zero-variance half-samples (for the warning).
+    """
+
+    in_sample: np.ndarray
+    column: np.ndarray
+    out_of_sample: np.ndarray
+    t_statistic: np.ndarray
+    constant: int
+
+
+@dataclass(frozen=True, eq=False)
+class CscvBlockRanks:
+    """One column block's second CSCV pass (:func:`sweepaudit.methods.cscv.cscv_block_ranks`).
+
+    Attributes
+    ----------
+    below, equal : ndarray, shape (C,)
+        The block's out-of-sample values below and equal to each split winner's.
+    pooled : dict
+        Counts and sums of the block's out-of-sample values between the winners' values (the
+        stochastic-dominance figures), their total and how many are not finite.
+    """
+
+    below: np.ndarray
+    equal: np.ndarray
+    pooled: dict
+
+
 @dataclass(frozen=True)
 class OverfittingDiagnosis:
     """Result of :func:`overfitting_diagnosis`.
@@ -778,6 +817,52 @@ class StepwiseResult:
         the last step's when it was never rejected."""
         step = int(self.rejected_at_step[column])
         return self.critical_values[step - 1] if step else self.critical_values[-1]
+
+
+@dataclass(frozen=True, eq=False)
+class NullDraws:
+    """One column block's per-resample maxima of the recentred null draws under one draw scale.
+
+    Attributes
+    ----------
+    lower, consistent, upper : ndarray, shape (B,)
+        ``max_k (mean*_{k,b} - g(mean_k)) * scale_k`` over the block's columns for Hansen's (2005,
+        eq. 9) three recentrings, not yet floored at zero.
+    top_values, top_columns : ndarray, shape (B, K)
+        The K largest consistent draws of each resample and their (0-based, sweep-wide) columns,
+        for StepM's later steps; a column of -1 pads a block of fewer than K columns.
+    """
+
+    lower: np.ndarray
+    consistent: np.ndarray
+    upper: np.ndarray
+    top_values: np.ndarray
+    top_columns: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class SnoopingBlock:
+    """What one column block contributes to the data-snooping tests (see
+    :func:`sweepaudit.methods.snooping.snooping_block`).
+
+    Attributes
+    ----------
+    start : int
+        The block's first column.
+    variance_of_mean : ndarray, shape (n,)
+        Bootstrap variance (divisor B) of each column's resampled mean.
+    relevant : ndarray of bool, shape (n,)
+        Hansen's consistent rule: the columns kept at their mean in the consistent recentring.
+    studentized, unscaled : NullDraws
+        The null draws divided by ``omega_k / sqrt(n)`` (the "long-run" and "bootstrap" scales) and
+        multiplied by ``sqrt(n)`` only (the "none" scale).
+    """
+
+    start: int
+    variance_of_mean: np.ndarray
+    relevant: np.ndarray
+    studentized: NullDraws
+    unscaled: NullDraws
 
 
 @dataclass(frozen=True, eq=False)
