@@ -20,7 +20,7 @@ Politis, D. N. and White, H. (2004). Automatic block-length selection for the de
 from __future__ import annotations
 
 import math
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from typing import Literal, get_args
 
@@ -35,6 +35,7 @@ __all__ = [
     "ResampledMoments",
     "automatic_block_length",
     "draw_resamples",
+    "indices_to_counts",
     "moment_chunk",
     "resampled_moments",
 ]
@@ -100,6 +101,22 @@ class Resamples:
             for start in range(0, self.count, chunk):
                 yield self._indices[start : start + chunk]
             return
+        yield from self._generated(chunk, _draw_indices)
+
+    def count_chunks(self, chunk: int = GENERATION_GROUP) -> Iterator[np.ndarray]:
+        """Yield ``b x T`` counts as float64: how often each window is drawn in each resample.
+
+        The counts come straight from the blocks (a difference array per resample), without
+        listing every drawn index, from the same random numbers as :meth:`index_chunks`.
+        """
+        if self._indices is not None:
+            for idx in self.index_chunks(chunk):
+                yield indices_to_weights(idx, self.windows)
+            return
+        yield from self._generated(chunk, _draw_counts)
+
+    def _generated(self, chunk: int, draw) -> Iterator[np.ndarray]:
+        """Rows of ``draw(rng, size, T, kind, block_length)`` over the generation groups, in chunks."""
         groups = math.ceil(self.count / GENERATION_GROUP)
         children = np.random.SeedSequence(self.seed).spawn(groups)
         buffer: list[np.ndarray] = []
@@ -107,7 +124,7 @@ class Resamples:
         for g, child in enumerate(children):
             size = min(GENERATION_GROUP, self.count - g * GENERATION_GROUP)
             rng = np.random.default_rng(child)
-            buffer.append(_draw_indices(rng, size, self.windows, self.kind, self.block_length))
+            buffer.append(draw(rng, size, self.windows, self.kind, self.block_length))
             buffered += size
             while buffered >= chunk:
                 block = np.concatenate(buffer) if len(buffer) > 1 else buffer[0]
@@ -123,8 +140,7 @@ class Resamples:
 
         Each row sums to T, so ``weights @ x / T`` is the resampled mean of ``x``.
         """
-        for idx in self.index_chunks(chunk):
-            yield indices_to_weights(idx, self.windows)
+        yield from self.count_chunks(chunk)
 
     def indices(self) -> np.ndarray:
         """All ``B x T`` indices at once (for tests and small problems)."""
@@ -132,11 +148,15 @@ class Resamples:
 
 
 def indices_to_weights(indices: np.ndarray, windows: int) -> np.ndarray:
-    """Count how often each window appears in each row of a ``b x T`` index array."""
+    """Count how often each window appears in each row of a ``b x T`` index array (as float64)."""
+    return indices_to_counts(indices, windows).astype(np.float64)
+
+
+def indices_to_counts(indices: np.ndarray, windows: int) -> np.ndarray:
+    """Count how often each window appears in each row of a ``b x T`` index array (as int64)."""
     b = indices.shape[0]
     flat = indices + windows * np.arange(b, dtype=np.int64)[:, None]
-    counts = np.bincount(flat.ravel(), minlength=b * windows)
-    return counts.reshape(b, windows).astype(np.float64)
+    return np.bincount(flat.ravel(), minlength=b * windows).reshape(b, windows)
 
 
 def _draw_indices(
@@ -152,9 +172,17 @@ def _draw_indices(
         new_block = rng.random((size, windows)) < p
         new_block[:, 0] = True
         starts = rng.integers(0, windows, size=(size, windows))
-        last_start = np.maximum.accumulate(np.where(new_block, t, 0), axis=1)
-        start_value = np.take_along_axis(starts, last_start, axis=1)
-        return (start_value + (t - last_start)) % windows
+        # The position of the block each window belongs to (int32 halves the memory traffic), then
+        # its start read through flat indices (faster than take_along_axis); a block wraps around
+        # the end at most once, since start and offset are both below T.
+        position = np.where(new_block, t.astype(np.int32), np.int32(0))
+        np.maximum.accumulate(position, axis=1, out=position)
+        offset = t.astype(np.int32) - position
+        position += (np.arange(size, dtype=np.int32) * np.int32(windows))[:, None]
+        index = np.take(starts.ravel(), position.astype(np.int64, copy=False))
+        index += offset
+        index[index >= windows] -= windows
+        return index
     length = int(block_length)
     blocks = math.ceil(windows / length)
     offsets = np.arange(length, dtype=np.int64)
@@ -165,6 +193,48 @@ def _draw_indices(
         starts = rng.integers(0, windows - length + 1, size=(size, blocks))
         idx = starts[:, :, None] + offsets
     return idx.reshape(size, blocks * length)[:, :windows]
+
+
+def _draw_counts(
+    rng: np.random.Generator, size: int, windows: int, kind: str, block_length: float
+) -> np.ndarray:
+    """:func:`_draw_indices` as counts per window, from the blocks: each block of start s and length
+    m adds one to windows s .. s + m - 1 (wrapping for the stationary and circular bootstraps),
+    written as +1 at s and -1 at s + m in a difference array, then summed along the row."""
+    if kind == "stationary":
+        new_block = rng.random((size, windows)) < 1.0 / block_length
+        new_block[:, 0] = True
+        starts = rng.integers(0, windows, size=(size, windows))
+        rows, columns = np.nonzero(new_block)
+        first = starts[rows, columns]
+        following = np.empty_like(columns)
+        following[:-1] = columns[1:]
+        following[np.append(rows[1:] != rows[:-1], True)] = windows
+        return _counts_from_blocks(size, windows, rows, first, following - columns)
+    length = int(block_length)
+    blocks = math.ceil(windows / length)
+    if kind == "circular":
+        first = rng.integers(0, windows, size=(size, blocks))
+    else:  # moving-block: blocks inside the sample
+        first = rng.integers(0, windows - length + 1, size=(size, blocks))
+    lengths = np.full((size, blocks), length, dtype=np.int64)
+    lengths[:, -1] = windows - (blocks - 1) * length  # the last block is cut at T
+    rows = np.repeat(np.arange(size), blocks)
+    return _counts_from_blocks(size, windows, rows, first.ravel(), lengths.ravel())
+
+
+def _counts_from_blocks(size: int, windows: int, rows, first, lengths) -> np.ndarray:
+    """Counts per window of blocks (row, first window, length), wrapping past the end once."""
+    width = windows + 1
+    end = first + lengths
+    wraps = end > windows
+    base = rows * width
+    plus = np.concatenate([base + first, base[wraps]])
+    minus = np.concatenate([base + np.minimum(end, windows), base[wraps] + end[wraps] - windows])
+    # One bincount of +1 and -1 weights; its float64 sums of small integers are exact.
+    signs = np.concatenate([np.ones(plus.size), np.full(minus.size, -1.0)])
+    diff = np.bincount(np.concatenate([plus, minus]), weights=signs, minlength=size * width)
+    return np.cumsum(diff.reshape(size, width), axis=1)[:, :windows]
 
 
 def automatic_block_length(series: np.ndarray, kind: BootstrapKind = "stationary") -> float:
@@ -219,7 +289,8 @@ def draw_resamples(
         Mean block length for the stationary bootstrap; the fixed block length otherwise (a whole
         number). Must lie in ``[1, T]``.
     seed : int or None
-        Seed of the random generator; ``None`` draws fresh entropy (not reproducible).
+        Seed of the random generator; ``None`` draws fresh entropy once (not reproducible from the
+        call, but the returned definition regenerates the same resamples every time).
     """
     validate.choice(kind, "kind", BOOTSTRAP_KINDS)
     windows = validate.whole_number(windows, "windows")
@@ -232,6 +303,10 @@ def draw_resamples(
         raise InputError(f"the {kind} bootstrap needs a whole block length; got {block_length}")
     if seed is not None:
         seed = validate.whole_number(seed, "seed", minimum=0)
+    else:
+        # Fresh entropy, drawn once: every consumer (each block of configurations, each worker)
+        # must regenerate the same resamples.
+        seed = int(np.random.SeedSequence().entropy)
     return Resamples(windows=windows, count=count, kind=kind, block_length=float(block_length), seed=seed)
 
 
@@ -274,6 +349,7 @@ def resampled_moments(
     *,
     chunk: int = GENERATION_GROUP,
     progress=None,
+    weights: Iterable[np.ndarray] | None = None,
 ) -> ResampledMoments:
     """Resampled means and second moments of every column: ``weights @ returns / T`` in chunks.
 
@@ -287,6 +363,9 @@ def resampled_moments(
         Resamples per matrix product (memory knob only; never changes a figure).
     progress : callable, optional
         Called with the number of resamples finished after each chunk.
+    weights : iterable of ndarray, optional
+        The resamples' weights in chunks of ``chunk`` rows, when the caller keeps them drawn
+        (default: ``resamples.weight_chunks(chunk)``).
     """
     x = np.ascontiguousarray(returns, dtype=np.float64)
     if x.ndim != 2 or x.shape[0] != resamples.windows:
@@ -298,10 +377,10 @@ def resampled_moments(
     second = np.empty((resamples.count, n))
     x2 = x * x
     done = 0
-    for weights in resamples.weight_chunks(chunk):
-        b = weights.shape[0]
-        np.matmul(weights, x, out=mean[done : done + b])
-        np.matmul(weights, x2, out=second[done : done + b])
+    for w in resamples.weight_chunks(chunk) if weights is None else weights:
+        b = w.shape[0]
+        np.matmul(w, x, out=mean[done : done + b])
+        np.matmul(w, x2, out=second[done : done + b])
         done += b
         if progress is not None:
             progress(done)
