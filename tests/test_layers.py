@@ -25,7 +25,7 @@ LAYERS: dict[int, tuple[str, ...]] = {
     2: ("read", "simulate", "ledger"),
     3: ("engine",),
     4: ("methods",),
-    5: ("audit",),
+    5: ("audit", "streamed"),
     6: ("baseline",),
     7: ("verdict",),
     8: ("document",),

@@ -11,22 +11,23 @@ from __future__ import annotations
 import functools
 import warnings
 from collections.abc import Callable
+from dataclasses import dataclass
 
 import numpy as np
 
 from . import validate
-from .engine import moments_and_intervals
+from .engine import InProcess, moments_and_intervals, plan_blocks, single_threaded
 from .errors import SweepAuditWarning
 from .methods.bootstrap_ci import bootstrap_intervals
 from .methods.cscv import cscv
 from .methods.deflation import deflated_by_trials
 from .methods.haircut import haircut_sharpe
-from .methods.inference import sharpe_inference
+from .methods.inference import sharpe_inference, sharpe_inference_of_family
 from .methods.longrun import family_block_length, long_run_variance
 from .methods.overfitting import overfitting_diagnosis
-from .methods.snooping import reality_check, stepwise_superior, superior_predictive_ability
+from .methods.snooping import COLUMN_BLOCK, snooping_block, snooping_from_blocks, stored_further_pass
 from .methods.surface import isolated_peak
-from .methods.tails import family_stress, tail_test
+from .methods.tails import MIN_FAMILY, family_stress, tail_test
 from .policy import DEFAULT_POLICY, Policy
 from .resample import ResampledMoments, Resamples, draw_resamples
 from .results import (
@@ -42,6 +43,7 @@ from .results import (
     Snooping,
     TailTest,
 )
+from .streamed import Stream
 from .sweep import Sweep
 
 __all__ = ["gather_evidence"]
@@ -54,6 +56,7 @@ def gather_evidence(
     policy: Policy | None = None,
     progress: Callable[[int, int], None] | None = None,
     memory_budget: int | None = None,
+    executor=None,
 ) -> Evidence:
     """Run every method of the audit once on one sweep and gather what they found.
 
@@ -67,8 +70,12 @@ def gather_evidence(
     progress : callable, optional
         ``progress(done, total)`` as the resamples are worked through.
     memory_budget : int, optional
-        Bytes the ``B x N`` resampled moments may take before the engine streams over blocks of
-        configurations (:mod:`sweepaudit.engine`).
+        Bytes of working memory (default: the policy's ``memory_budget``): when the ``B x N``
+        resampled moments do not fit, the audit streams over blocks of configurations
+        (:mod:`sweepaudit.streamed`).
+    executor : optional
+        Where the blocks run (:func:`sweepaudit.engine.executor_for`); an executor other than the
+        in-process one always streams. Default: in process.
 
     Returns
     -------
@@ -79,38 +86,109 @@ def gather_evidence(
     count = validate.whole_number(
         settings.resamples if settings.resamples is not None else policy.resamples, "resamples", minimum=1
     )
+    budget = policy.memory_budget * 2**20 if memory_budget is None else memory_budget
+    plan = plan_blocks(sweep.n_configurations, sweep.n_windows, count, budget)
+    distributed = executor is not None and not isinstance(executor, InProcess)
+    with single_threaded(), warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", SweepAuditWarning)
+        if (plan.in_memory and not distributed) or sweep.n_configurations < MIN_FAMILY:
+            parts = _in_memory(sweep, settings, policy, count, progress)
+        else:
+            parts = _streamed(sweep, settings, policy, count, plan, executor or InProcess(), progress)
+        haircut = haircut_sharpe(
+            parts.inference.configuration_sharpes, observations=sweep.n_windows, selected=parts.selected,
+            tests=parts.inference.trials, periods_per_year=sweep.periods_per_year,
+        )
+    caught_notes = tuple(str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning))
+    return _evidence(sweep, settings, policy, parts, haircut, caught_notes)
+
+
+@dataclass(frozen=True, eq=False)
+class _Parts:
+    """What the methods found, on either path, before the notes are written."""
+
+    sharpe: np.ndarray
+    selected: int
+    rule: str
+    long_run: LongRunVariance
+    resamples: Resamples
+    block_source: str
+    choice: BlockLengthChoice | None
+    intervals: BootstrapIntervals
+    variance_of_means: np.ndarray
+    inference: SharpeInference
+    snooping: Snooping | None
+    overfit: CscvResult | None
+    diagnosis: OverfittingDiagnosis | None
+    tails: TailTest | None
+
+
+def _in_memory(sweep, settings, policy, count, progress) -> _Parts:
+    """Every method on the whole matrix, the ``B x N`` moments computed at once."""
     confidence = settings.confidence if settings.confidence is not None else policy.confidence
     x = sweep.returns
     sharpe = x.mean(axis=0) / x.std(axis=0, ddof=1)
     selected, rule = _select(sweep, settings, sharpe)
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always", SweepAuditWarning)
-        long_run = long_run_variance(x)
-        resamples, block_source, choice = _resamples(sweep, settings, count, selected)
-        moments, intervals = moments_and_intervals(
-            x, resamples, memory_budget=memory_budget, progress=progress,
-            intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method),
-        )
-        inference = _inference(sweep, settings, policy, selected, long_run)
-        haircut = haircut_sharpe(
-            inference.configuration_sharpes, observations=sweep.n_windows, selected=selected,
-            tests=inference.trials, periods_per_year=sweep.periods_per_year,
-        )
-        snooping = overfit = diagnosis = tails = None
-        if sweep.n_configurations >= 2:
-            snooping, overfit, diagnosis = _selection_tests(x, moments, policy, long_run)
-            tails = _tails(x, selected, snooping, policy)
-    caught_notes = tuple(str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning))
-    share, share_low = _bootstrap_share(intervals, long_run)
+    long_run = long_run_variance(x)
+    resamples, block_source, choice = _resamples(sweep, settings, count, selected)
+    moments, intervals = moments_and_intervals(
+        x, resamples, progress=progress,
+        intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method),
+    )
+    inference = _inference(sweep, settings, policy, selected, long_run)
+    snooping = overfit = diagnosis = tails = None
+    if sweep.n_configurations >= 2:
+        mean = x.mean(axis=0)
+        blocks = [snooping_block(moments.mean[:, a:a + COLUMN_BLOCK], mean[a:a + COLUMN_BLOCK], sweep.n_windows, start=a)
+                  for a in range(0, sweep.n_configurations, COLUMN_BLOCK)]
+        snooping = _snooping(mean, sweep.n_windows, blocks, policy, long_run, stored_further_pass(moments.mean))
+        overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
+        diagnosis = _diagnosis(overfit, policy)
+        stress = family_stress(x, selected=selected, threshold=policy.stress_threshold, share=policy.stress_share)
+        tails = tail_test(stress, critical_value=snooping.gating_stepm.critical_value_for(selected))
+    return _Parts(sharpe, selected, rule, long_run, resamples, block_source, choice, intervals,
+                  np.var(intervals.mean_distribution, axis=0), inference, snooping, overfit, diagnosis, tails)
+
+
+def _streamed(sweep, settings, policy, count, plan, executor, progress) -> _Parts:
+    """Every method from per-block summaries (:mod:`sweepaudit.streamed`); never ``B x N`` at once."""
+    confidence = settings.confidence if settings.confidence is not None else policy.confidence
+    stream = Stream(sweep.returns, plan, executor, partitions=policy.partitions,
+                    statistic=policy.overfitting_statistic, threshold=policy.stress_threshold, progress=progress)
+    first = stream.first_pass()
+    selected, rule = _select(sweep, settings, first.sharpe)
+    choice = None
+    if settings.block_length is None:
+        choice = stream.block_length(first, selected, settings.bootstrap)
+    resamples, block_source, choice = _resamples(sweep, settings, count, selected, choice)
+    second = stream.resampled_pass(resamples, confidence=confidence, method=settings.interval_method, selected=selected)
+    inference = sharpe_inference_of_family(
+        stream.family(first, selected), selected=selected, long_run=first.long_run, trials=settings.trials,
+        periods_per_year=sweep.periods_per_year, confidence=policy.track_record_confidence,
+        variance_mode=policy.deflation_variance, trials_for_deflation=policy.deflation_trials,
+        sharpe_variance=policy.sharpe_variance, significance=policy.significance,
+    )
+    snooping = _snooping(first.mean, sweep.n_windows, second.snooping, policy, first.long_run, stream.further(resamples))
+    overfit = stream.cscv(first)
+    tails = tail_test(stream.stress(first, selected, policy.stress_share),
+                      critical_value=snooping.gating_stepm.critical_value_for(selected))
+    return _Parts(first.sharpe, selected, rule, first.long_run, resamples, block_source, choice, second.intervals,
+                  second.variance, inference, snooping, overfit, _diagnosis(overfit, policy), tails)
+
+
+def _evidence(sweep: Sweep, settings: AuditSettings, policy: Policy, p: _Parts, haircut, caught: tuple[str, ...]) -> Evidence:
+    """The evidence of either path (the surface and curve read off the parts)."""
+    share, share_low = _bootstrap_share(p.variance_of_means, p.long_run)
     return Evidence(
-        sweep=sweep, settings=settings, policy=policy, selected_index=selected, selection_rule=rule,
-        resamples=resamples, block_length_source=block_source, intervals=intervals, sharpe_ratios=sharpe,
-        warnings=_notes(sweep, selected, inference, caught_notes, snooping, intervals, policy, share_low),
-        sharpe=inference, haircut=haircut, overfitting=overfit, overfitting_diagnosis=diagnosis, snooping=snooping,
-        surface=isolated_peak(sweep.parameters, sharpe, selected=selected,
-                              sharpe_distribution=intervals.sharpe_distribution[:, selected]),
-        deflation_curve=_curve(inference), long_run=long_run, block_choice=choice,
-        bootstrap_share=share, bootstrap_share_low=share_low, tails=tails,
+        sweep=sweep, settings=settings, policy=policy, selected_index=p.selected, selection_rule=p.rule,
+        resamples=p.resamples, block_length_source=p.block_source, intervals=p.intervals, sharpe_ratios=p.sharpe,
+        warnings=_notes(sweep, p.selected, p.inference, caught, p.snooping, p.intervals, policy, share_low),
+        sharpe=p.inference, haircut=haircut, overfitting=p.overfit, overfitting_diagnosis=p.diagnosis,
+        snooping=p.snooping,
+        surface=isolated_peak(sweep.parameters, p.sharpe, selected=p.selected,
+                              sharpe_distribution=p.intervals.sharpe_distribution_of(p.selected)),
+        deflation_curve=_curve(p.inference), long_run=p.long_run, block_choice=p.choice,
+        bootstrap_share=share, bootstrap_share_low=share_low, tails=p.tails,
     )
 
 
@@ -121,12 +199,13 @@ def _select(sweep: Sweep, settings: AuditSettings, sharpe: np.ndarray) -> tuple[
 
 
 def _resamples(
-    sweep: Sweep, settings: AuditSettings, count: int, selected: int
+    sweep: Sweep, settings: AuditSettings, count: int, selected: int, choice: BlockLengthChoice | None = None
 ) -> tuple[Resamples, str, BlockLengthChoice | None]:
-    """The audit's one set of resamples, where its block length came from, and how it was chosen."""
-    choice = None
+    """The audit's one set of resamples, where its block length came from, and how it was chosen
+    (``choice``: the family block length already chosen from block summaries)."""
     if settings.block_length is None:
-        choice = family_block_length(sweep.returns, selected=selected, kind=settings.bootstrap)
+        if choice is None:
+            choice = family_block_length(sweep.returns, selected=selected, kind=settings.bootstrap)
         block, source = choice.length, "automatic: " + choice.rule
     else:
         block, source = float(settings.block_length), "given"
@@ -153,44 +232,32 @@ def _inference(
     )
 
 
-def _bootstrap_share(intervals: BootstrapIntervals, long_run: LongRunVariance) -> tuple[float, float]:
+def _bootstrap_share(variance_of_means: np.ndarray, long_run: LongRunVariance) -> tuple[float, float]:
     """How much of each configuration's long-run variance the resamples reproduce: median, 10th percentile."""
     t = long_run.windows
-    share = t * np.var(intervals.mean_distribution, axis=0) / long_run.variance
+    share = t * variance_of_means / long_run.variance
     return float(np.median(share)), float(np.quantile(share, 0.1))
 
 
-def _selection_tests(
-    x: np.ndarray, moments: ResampledMoments, policy: Policy, long_run: LongRunVariance
-) -> tuple[Snooping, CscvResult, OverfittingDiagnosis]:
-    """The data-snooping tests on the shared moments under each scale, and CSCV with its diagnosis."""
-    level = policy.significance
-    shared = dict(moments=moments, long_run=long_run)
-    spa = {scale: superior_predictive_ability(x, scale=scale, **shared) for scale in ("long-run", "bootstrap", "none")}
-    stepm = {
-        scale: stepwise_superior(x, level=level, scale=scale, recentring="consistent", **shared)
-        for scale in ("long-run", "bootstrap", "none")
-    }
-    snooping = Snooping(
-        reality_check=reality_check(x, moments=moments),
+def _snooping(mean, windows, blocks, policy: Policy, long_run: LongRunVariance, further) -> Snooping:
+    """The data-snooping tests under each scale, from the blocks' maxima (one fused pass)."""
+    check, spa, stepm = snooping_from_blocks(mean, windows, blocks, long_run=long_run, level=policy.significance,
+                                             further=further)
+    return Snooping(
+        reality_check=check,
         spa_long_run=spa["long-run"], spa_bootstrap=spa["bootstrap"], spa_unstudentized=spa["none"],
         stepm_long_run=stepm["long-run"], stepm_bootstrap=stepm["bootstrap"], stepm_unstudentized=stepm["none"],
         gating=policy.snooping_test, scale=policy.snooping_scale,
     )
-    overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
-    diagnosis = overfitting_diagnosis(
+
+
+def _diagnosis(overfit: CscvResult, policy: Policy) -> OverfittingDiagnosis:
+    return overfitting_diagnosis(
         overfit,
         max_probability_of_overfitting=policy.max_probability_of_overfitting,
         max_probability_of_loss=policy.max_probability_of_loss,
         min_strength_share=policy.min_strength_share,
     )
-    return snooping, overfit, diagnosis
-
-
-def _tails(x: np.ndarray, selected: int, snooping: Snooping, policy: Policy) -> TailTest:
-    """The family-stress test, held to the critical value the gating StepM held the selected one to."""
-    stress = family_stress(x, selected=selected, threshold=policy.stress_threshold, share=policy.stress_share)
-    return tail_test(stress, critical_value=snooping.gating_stepm.critical_value_for(selected))
 
 
 def _notes(

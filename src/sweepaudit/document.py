@@ -576,7 +576,7 @@ def figure_material(evidence: Evidence) -> FigureMaterial:
     overfit = evidence.overfitting
     return FigureMaterial(
         selected_index=k,
-        mean_distribution=evidence.intervals.mean_distribution[:, k],
+        mean_distribution=evidence.intervals.mean_distribution_of(k),
         returns=sweep.returns,
         dates=sweep.dates,
         sharpe_grid=parameter_grid(sweep.parameters, evidence.sharpe_ratios, selected=k),

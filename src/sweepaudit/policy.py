@@ -116,6 +116,12 @@ class Policy:
         Check ids that must pass for a go; a check (one of :data:`CHECK_IDS`) not listed is advisory.
     disabled : tuple of str
         Check ids left out entirely.
+    memory_budget : int
+        Working memory of an audit in MiB (beyond the sweep): the ``B x N`` resampled moments are
+        kept at once within it, or the audit streams over blocks of configurations.
+    listed_configurations : int
+        Configurations whose intervals the audit JSON lists one by one (beyond it: the selected one,
+        the best and the worst, and a summary of all).
     baseline_interval_margin, baseline_probability_margin, baseline_pvalue_margin : float
         How far a gated figure may worsen against a ``--baseline`` audit before the
         ``baseline_drift`` check fails (see :mod:`sweepaudit.baseline`).
@@ -258,6 +264,20 @@ class Policy:
         "take a large loss in it",
         low=0.0, high=1.0, low_open=True,
         source="sweepaudit's choice (README: the family's tails)",
+    )
+    memory_budget: int = _f(
+        1024,
+        "working memory of an audit in MiB, beyond the sweep itself: above it the audit streams over "
+        "blocks of configurations (the same figures; README: scale and performance)",
+        low=16, high=10**8,
+        source="sweepaudit's choice: 1 GiB keeps 10,000 resamples of 2,000 configurations in memory",
+    )
+    listed_configurations: int = _f(
+        10_000,
+        "the audit JSON lists every configuration's intervals up to this many configurations; beyond it "
+        "the selected one, the best and worst by Sharpe ratio (this many in all) and a summary",
+        low=10, high=10**9,
+        source="sweepaudit's choice: about 5 MB of JSON",
     )
     required: tuple[str, ...] = _f(
         ("enough_windows", "plausible_returns", "mean_interval", "deflated_sharpe", "track_record", "overfitting",

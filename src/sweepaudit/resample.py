@@ -350,6 +350,7 @@ def resampled_moments(
     chunk: int = GENERATION_GROUP,
     progress=None,
     weights: Iterable[np.ndarray] | None = None,
+    threads: int = 1,
 ) -> ResampledMoments:
     """Resampled means and second moments of every column: ``weights @ returns / T`` in chunks.
 
@@ -366,6 +367,14 @@ def resampled_moments(
     weights : iterable of ndarray, optional
         The resamples' weights in chunks of ``chunk`` rows, when the caller keeps them drawn
         (default: ``resamples.weight_chunks(chunk)``).
+    threads : int
+        Chunks multiplied at once, each on its own thread (call with BLAS limited to one thread).
+
+    Notes
+    -----
+    Each chunk's rows are computed by one single-threaded product, and a row of ``weights @ x``
+    does not depend on the other rows in the call, so the figures are the same bits whatever the
+    number of threads (a multi-threaded BLAS call may split a product so that they are not).
     """
     x = np.ascontiguousarray(returns, dtype=np.float64)
     if x.ndim != 2 or x.shape[0] != resamples.windows:
@@ -376,17 +385,46 @@ def resampled_moments(
     mean = np.empty((resamples.count, n))
     second = np.empty((resamples.count, n))
     x2 = x * x
-    done = 0
-    for w in resamples.weight_chunks(chunk) if weights is None else weights:
+
+    def product(done: int, w: np.ndarray) -> int:
         b = w.shape[0]
         np.matmul(w, x, out=mean[done : done + b])
         np.matmul(w, x2, out=second[done : done + b])
-        done += b
-        if progress is not None:
-            progress(done)
+        return done + b
+
+    chunks = resamples.weight_chunks(chunk) if weights is None else weights
+    if threads <= 1:
+        done = 0
+        for w in chunks:
+            done = product(done, w)
+            if progress is not None:
+                progress(done)
+    else:
+        _in_threads(product, chunks, int(threads), progress)
     mean /= t
     second /= t
     return ResampledMoments(mean=mean, second=second, windows=t)
+
+
+def _in_threads(product, chunks: Iterable[np.ndarray], threads: int, progress) -> None:
+    """``product(first row, weights)`` for every chunk, at most ``threads`` chunks at once (numpy
+    releases the GIL inside a product; the next chunk is drawn meanwhile)."""
+    from concurrent.futures import FIRST_COMPLETED, ThreadPoolExecutor, wait
+
+    with ThreadPoolExecutor(max_workers=threads) as pool:
+        running: set = set()
+        done = 0
+        for w in chunks:
+            if len(running) >= threads:
+                finished, running = wait(running, return_when=FIRST_COMPLETED)
+                for f in finished:
+                    f.result()
+            running.add(pool.submit(product, done, w))
+            done += w.shape[0]
+            if progress is not None:
+                progress(done)
+        for f in running:
+            f.result()
 
 
 def moment_chunk(windows: int) -> int:

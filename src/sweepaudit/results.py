@@ -59,11 +59,15 @@ class BootstrapIntervals:
         Per configuration, per window (mean excess return as a fraction; Sharpe ratio per window).
     mean_distribution, sharpe_distribution : ndarray, shape (B, N)
         The resampled statistics (kept so a user can change the level without resampling, with
-        :func:`sweepaudit.methods.bootstrap_ci.at_level`).
+        :func:`sweepaudit.methods.bootstrap_ci.at_level`); after a streamed audit only the columns
+        in ``distribution_columns``.
     confidence : float
     method : {"percentile", "basic"}
     degenerate_resamples : int
         Resamples in which some configuration had zero variance (their Sharpe ratio is dropped).
+    distribution_columns : tuple of int, optional
+        The configurations whose distributions are kept, when not all are (a streamed audit keeps
+        the selected one's: ``B x N`` would not fit its memory budget); None: all.
     """
 
     mean: tuple[Interval, ...]
@@ -73,6 +77,20 @@ class BootstrapIntervals:
     confidence: float
     method: IntervalMethod
     degenerate_resamples: int
+    distribution_columns: tuple[int, ...] | None = None
+
+    def mean_distribution_of(self, column: int) -> np.ndarray:
+        """The resampled means of one configuration (shape (B,))."""
+        return self.mean_distribution[:, self._position(column)]
+
+    def sharpe_distribution_of(self, column: int) -> np.ndarray:
+        """The resampled Sharpe ratios of one configuration (shape (B,))."""
+        return self.sharpe_distribution[:, self._position(column)]
+
+    def _position(self, column: int) -> int:
+        if self.distribution_columns is None:
+            return column
+        return self.distribution_columns.index(column)
 
     @property
     def mean_estimates(self) -> np.ndarray:

@@ -8,7 +8,11 @@ slower at a load of 4 on two cores; see ``docs/performance.md``).
 
 The products get ``free_cores()`` threads: the cores this process may run on
 (``os.sched_getaffinity``) less the load the rest of the machine puts on them (the one-minute load
-average less this process's own running thread, rounded), at least one. ``SWEEPAUDIT_THREADS`` overrides the count.
+average less this process's own running thread, rounded), at least one. ``SWEEPAUDIT_THREADS``
+overrides the count. Each thread multiplies its own chunk of resamples with single-threaded BLAS
+(:func:`sweepaudit.resample.resampled_moments`): a multi-threaded OpenBLAS product may split a
+matrix so that its last bits depend on the thread count, while a row of a product never depends on
+the other rows, so the audit's figures are the same bits whatever the load.
 """
 
 from __future__ import annotations

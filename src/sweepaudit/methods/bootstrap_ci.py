@@ -122,6 +122,11 @@ def at_level(
 
     No resampling: the distributions of ``intervals`` are reused (Efron and Tibshirani 1993, ch. 13).
     """
+    if intervals.distribution_columns is not None:
+        raise InputError(
+            "these intervals kept the bootstrap distributions of the selected configuration only (a streamed "
+            "audit); audit again with a larger memory_budget to re-level every configuration"
+        )
     return _intervals(
         intervals.mean_estimates,
         intervals.sharpe_estimates,
