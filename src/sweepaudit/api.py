@@ -13,7 +13,9 @@ from collections.abc import Callable
 from dataclasses import replace
 from typing import Any
 
+from . import validate
 from .audit import gather_evidence
+from .engine import executor_for
 from .errors import InputError
 from .baseline import compare_checks, compare_results, read_baseline
 from .document import audit_document, checks_block, figure_material, inspection_document, results_document
@@ -43,6 +45,8 @@ def audit(
     policy_source: str = "defaults",
     progress: Callable[[int, int], None] | None = None,
     memory_budget: int | None = None,
+    scheduler: str | None = None,
+    workers: int | None = None,
     **input_options: Any,
 ) -> AuditResult:
     """Audit a sweep: resample once, run every method once, decide the verdict once.
@@ -77,7 +81,13 @@ def audit(
     progress : callable, optional
         ``progress(done, total)`` as the resamples are worked through.
     memory_budget : int, optional
-        Bytes the ``B x N`` resampled moments may take before the engine streams.
+        Bytes of working memory (default: the policy's ``memory_budget`` MiB); beyond it the audit
+        streams over blocks of configurations, with the same figures.
+    scheduler : str, optional
+        Address of a Dask scheduler: the blocks of configurations run on its cluster (default: the
+        ``SWEEPAUDIT_SCHEDULER`` environment variable; none: in process).
+    workers : int, optional
+        Start a local Dask cluster of this many worker processes for the audit.
 
     Returns
     -------
@@ -86,14 +96,22 @@ def audit(
     sweep = _sweep(data, options, input_options)
     settings = settings or AuditSettings()
     policy = policy or DEFAULT_POLICY
+    if memory_budget is not None:
+        memory_budget = validate.whole_number(memory_budget, "memory_budget", minimum=0)
+    if workers is not None:
+        workers = validate.whole_number(workers, "workers", minimum=1)
     if baseline is None and baseline_path is not None:
         baseline = read_baseline(baseline_path)
     declared = trials if trials is not None else settings.trials
     with counted_trials(sweep, ledger=ledger, declared=declared) as count:
-        evidence = gather_evidence(
-            sweep, settings=replace(settings, trials=count.trials), policy=policy, progress=progress,
-            memory_budget=memory_budget,
-        )
+        executor = executor_for(scheduler, workers)
+        try:
+            evidence = gather_evidence(
+                sweep, settings=replace(settings, trials=count.trials), policy=policy, progress=progress,
+                memory_budget=memory_budget, executor=executor,
+            )
+        finally:
+            executor.close()
         verdict, comparison = _judge(evidence, policy, baseline, baseline_path)
         document = audit_document(
             evidence, verdict, command=command(evidence) if callable(command) else command,

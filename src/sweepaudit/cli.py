@@ -345,6 +345,19 @@ def audit_command(
     report_path: Annotated[
         Optional[Path], typer.Option("--report", help="Write the audit report here: .md (Markdown) or .html.")
     ] = None,
+    memory_budget: Annotated[
+        Optional[int],
+        typer.Option(help="Working memory in MiB (default 1024, the policy's): beyond it the audit streams over "
+                          "blocks of configurations, with the same figures."),
+    ] = None,
+    scheduler: Annotated[
+        Optional[str],
+        typer.Option(help="Dask scheduler address: run the blocks of configurations on that cluster "
+                          "(default: $SWEEPAUDIT_SCHEDULER; none: in process)."),
+    ] = None,
+    workers: Annotated[
+        Optional[int], typer.Option(help="Start a local Dask cluster of this many worker processes for the audit.")
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing; use the exit status.")] = False,
 ) -> None:
     """Audit the per-window excess returns of a parameter sweep and print a go / no-go verdict.
@@ -358,6 +371,8 @@ def audit_command(
       cat sweep.csv | sweepaudit audit - --units percent --quick
 
       sweepaudit audit sweep.csv --policy policy.toml --junit checks.xml --baseline last.json --ledger trials.jsonl
+
+      sweepaudit audit large.parquet --workers 2 --memory-budget 2048
     """
     started = time.perf_counter()
     outputs = {"JSON file": json_path, "JUnit file": junit_path, "report": report_path}
@@ -371,6 +386,11 @@ def audit_command(
         overrides = {k: v for k, v in (("confidence", confidence), ("resamples", resamples)) if v is not None}
         if overrides:
             policy_from_mapping(overrides, source="command-line option")
+        policy = loaded.policy
+        if memory_budget is not None:
+            policy = policy.replace(memory_budget=_option_budget(memory_budget))
+        if workers is not None:
+            validate.whole_number(workers, "--workers", minimum=1)
         baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
         sweep = inputs.load()
         if trials is not None:
@@ -380,7 +400,8 @@ def audit_command(
             block_length=block_length, interval_method=interval_method.value, selected=inputs.select,
         )
         result = _with_progress(
-            quiet, "resampling", audit, sweep, settings=settings, policy=loaded.policy, policy_source=loaded.source,
+            quiet, "resampling", audit, sweep, settings=settings, policy=policy, policy_source=loaded.source,
+            scheduler=scheduler, workers=workers,
             baseline=baseline_document, baseline_path=str(baseline_path) if baseline_path is not None else None,
             ledger=ledger_path, trials=trials,
             command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source),
@@ -391,6 +412,15 @@ def audit_command(
     if not quiet:
         render_terminal(result.document)
     raise typer.Exit(EXIT_GO if result.verdict.decision == "go" else EXIT_NO_GO)
+
+
+def _option_budget(mib: int) -> int:
+    """``--memory-budget`` within the policy key's range, the message naming the option."""
+    try:
+        policy_from_mapping({"memory_budget": mib}, source="command-line option")
+    except SweepAuditError as exc:
+        raise SweepAuditError(str(exc).replace("memory_budget", "--memory-budget")) from None
+    return mib
 
 
 def _check_audit_outputs(inputs: SweepInput, outputs: dict[str, Optional[Path]], **files: Optional[Path]) -> None:

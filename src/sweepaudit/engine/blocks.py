@@ -79,11 +79,11 @@ def _chunk_bytes(windows: int, resamples: int) -> int:
 
 
 def budget_for_width(width: int, windows: int, resamples: int) -> int:
-    """The smallest budget whose streamed blocks hold ``width`` configurations, weights kept (for
-    tests and benchmarks that want blocks of a given width)."""
+    """The smallest budget whose streamed blocks hold ``width`` configurations (for tests and
+    benchmarks that want blocks of a given width); the weights are kept when that budget allows."""
     table = WeightTable.bytes_for(resamples, windows)
-    budget = _chunk_bytes(windows, resamples) + table + int(width) * BLOCK_ARRAYS * int(resamples) * 8
-    return max(budget, 4 * table)
+    plain = _chunk_bytes(windows, resamples) + int(width) * BLOCK_ARRAYS * int(resamples) * 8
+    return plain + table if table <= (plain + table) // 4 else plain
 
 
 class WeightTable:

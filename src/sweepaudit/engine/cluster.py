@@ -34,6 +34,8 @@ __all__ = ["SCHEDULER_VARIABLE", "DaskCluster", "scheduler_from_environment"]
 
 #: Environment variable naming a Dask scheduler address (e.g. ``tcp://10.0.0.5:8786``).
 SCHEDULER_VARIABLE = "SWEEPAUDIT_SCHEDULER"
+#: How long to wait for a named scheduler before giving up.
+CONNECT_TIMEOUT = "20s"
 #: Blocks in flight per worker.
 IN_FLIGHT_PER_WORKER = 2
 
@@ -86,7 +88,7 @@ class DaskCluster:
         self._cluster = None
         if scheduler:
             try:
-                self.client = Client(scheduler, timeout="20s")
+                self.client = Client(scheduler, timeout=CONNECT_TIMEOUT)
             except OSError as error:
                 raise InputError(f"cannot reach the Dask scheduler at {scheduler!r}: {error}") from None
         else:
