@@ -34,6 +34,7 @@ __all__ = [
     "Resamples",
     "ResampledMoments",
     "automatic_block_length",
+    "politis_white_lengths",
     "draw_resamples",
     "indices_to_counts",
     "moment_chunk",
@@ -237,14 +238,63 @@ def _counts_from_blocks(size: int, windows: int, rows, first, lengths) -> np.nda
     return np.cumsum(diff.reshape(size, width), axis=1)[:, :windows]
 
 
-def automatic_block_length(series: np.ndarray, kind: BootstrapKind = "stationary") -> float:
-    """Politis and White (2004) automatic block length, with the Patton et al. (2009) correction.
+def politis_white_lengths(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Politis and White (2004) automatic block lengths of each column, with the Patton, Politis and
+    White (2009) correction: ``(stationary, circular)``, unclipped below (NaN for a constant column).
 
-    Uses ``arch.bootstrap.optimal_block_length`` rather than rewriting it. The result is clipped to
-    ``[1, T / 2]``; circular and moving-block lengths are rounded up to a whole number.
+    ``b = (2 g^2 / d)^(1/3) T^(1/3)`` with ``g = sum_k h(k/m) |k| gamma_k``, ``d = c sigma^4``,
+    ``sigma^2 = sum_k h(k/m) gamma_k`` over ``|k| <= m``, the flat-top kernel ``h(x) = min(1, 2(1 - |x|))``,
+    ``c = 2`` (stationary) or ``4/3`` (circular) (Politis and White 2004, eqs. 9-13; the constant of
+    the stationary case as corrected by Patton et al. 2009). The bandwidth ``m`` is twice the first lag
+    after which ``k_n = max(5, log10 T)`` autocorrelations in a row lie within
+    ``2 sqrt(log10 T / T)`` (Politis and White 2004, section 3.2), at most ``sqrt(T) + k_n``; the
+    length is capped at ``min(3 sqrt(T), T / 3)``. These tuning rules and the order of every sum are
+    those of ``arch.bootstrap.optimal_block_length`` (documented there as Patton's), so the lengths
+    agree with it to the last bit (``tests/test_resample.py``) without importing arch, whose import
+    costs more than a second.
     """
-    from arch.bootstrap import optimal_block_length
+    x = np.asarray(x, dtype=np.float64)
+    columns = x[:, None] if x.ndim == 1 else x
+    out = np.array([_politis_white(np.asarray(col)) for col in columns.T])
+    return out[:, 0], out[:, 1]
 
+
+def _politis_white(x: np.ndarray) -> tuple[float, float]:
+    nobs = x.shape[0]
+    eps = x - x.mean(0)
+    b_max = np.ceil(min(3 * np.sqrt(nobs), nobs / 3))
+    kn = max(5, int(np.log10(nobs)))
+    m_max = int(np.ceil(np.sqrt(nobs))) + kn
+    band = 2 * np.sqrt(np.log10(nobs) / nobs)
+    acv = np.zeros(m_max + 1)
+    abs_acorr = np.zeros(m_max + 1)
+    first: int | None = None
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for i in range(m_max + 1):
+            v1 = eps[i + 1 :] @ eps[i + 1 :]
+            v2 = eps[: -(i + 1)] @ eps[: -(i + 1)]
+            cross = eps[i:] @ eps[: nobs - i]
+            acv[i] = cross / nobs
+            abs_acorr[i] = np.abs(cross) / np.sqrt(v1 * v2)
+            if first is None and i >= kn and np.all(abs_acorr[i - kn : i] < band):
+                first = i - kn
+        m = min(2 * max(first, 1) if first is not None else m_max, m_max)
+        g = 0.0
+        long_run = acv[0]
+        for k in range(1, m + 1):
+            weight = 1 if k / m <= 1 / 2 else 2 * (1 - k / m)
+            g += 2 * weight * k * acv[k]
+            long_run += 2 * weight * acv[k]
+        stationary = ((2 * g**2) / (2 * long_run**2)) ** (1 / 3) * nobs ** (1 / 3)
+        circular = ((2 * g**2) / (4 / 3 * long_run**2)) ** (1 / 3) * nobs ** (1 / 3)
+    return min(stationary, b_max), min(circular, b_max)
+
+
+def automatic_block_length(series: np.ndarray, kind: BootstrapKind = "stationary") -> float:
+    """Politis and White (2004) automatic block length, with the Patton et al. (2009) correction
+    (:func:`politis_white_lengths`). The result is clipped to ``[1, T / 2]``; circular and
+    moving-block lengths are rounded up to a whole number.
+    """
     x = np.asarray(series, dtype=np.float64)
     if x.ndim != 1 or len(x) < 8:
         raise DegenerateDataError(
@@ -252,9 +302,8 @@ def automatic_block_length(series: np.ndarray, kind: BootstrapKind = "stationary
         )
     if np.std(x) == 0:
         raise DegenerateDataError("the automatic block length needs a non-constant series")
-    table = optimal_block_length(x)
-    column = "stationary" if kind == "stationary" else "circular"
-    value = float(table[column].iloc[0])
+    stationary, circular = politis_white_lengths(x)
+    value = float((stationary if kind == "stationary" else circular)[0])
     if not np.isfinite(value):
         value = 1.0
     value = min(max(value, 1.0), len(x) / 2)

@@ -44,6 +44,7 @@ import numpy as np
 from scipy import special
 
 from ..errors import DegenerateDataError, InputError
+from ..resample import politis_white_lengths
 from ..results import BlockLengthChoice, LongRunVariance
 
 __all__ = [
@@ -213,11 +214,8 @@ def bootstrap_variance_ratio(ar_coefficient: float, block_length: float, kind: s
 
 
 def _automatic_lengths(x: np.ndarray, kind: str) -> np.ndarray:
-    from arch.bootstrap import optimal_block_length
-
-    table = optimal_block_length(x)
-    column = "stationary" if kind == "stationary" else "circular"
-    values = table[column].to_numpy(dtype=np.float64)
+    stationary, circular = politis_white_lengths(x)
+    values = stationary if kind == "stationary" else circular
     return np.where(np.isfinite(values), values, 1.0)
 
 

@@ -16,10 +16,17 @@ from collections.abc import Callable
 
 from ...format import figure, pct
 from ...results import FigureMaterial
-from . import plots
 from .model import Figure, Report, Section, Table
 
 __all__ = ["SECTIONS", "build_report"]
+
+
+def _plots():
+    """The figure module, imported on first use: matplotlib takes about a second to import, and an
+    audit without a report draws nothing."""
+    from . import plots
+
+    return plots
 
 
 def _pct(value) -> str:
@@ -106,14 +113,14 @@ def _selection_section(doc: dict, material: FigureMaterial | None) -> Section:
     figs: list[Figure] = []
     notes: list[str] = []
     if material is not None:
-        figs.append(plots.sharpe_ranking(doc, material))
-        surface = plots.sharpe_surface(doc, material)
+        figs.append(_plots().sharpe_ranking(doc, material))
+        surface = _plots().sharpe_surface(doc, material)
         if surface is not None:
             figs.append(surface)
         block = doc["results"].get("surface")
         if block is not None and material.surface is not None:
             notes.append(_surface_words(block, material.surface.neighbours_reach_half))
-        figs.append(plots.cumulative_excess(doc, material))
+        figs.append(_plots().cumulative_excess(doc, material))
     n = doc["input"]["configurations"]
     return Section(
         "selection",
@@ -200,7 +207,7 @@ def _intervals_section(doc: dict, material: FigureMaterial | None) -> Section:
         ("share of the long-run variance the resamples reproduce (median over configurations)", figure(share.get("median"))),
         ("the same, lowest tenth of the configurations", figure(share.get("lowest_decile"))),
     ) if share else ()
-    figs = [plots.bootstrap_mean(doc, material)] if material is not None else []
+    figs = [_plots().bootstrap_mean(doc, material)] if material is not None else []
     m = sel["mean"]
     words = (
         f"The selected configuration earned {_pct(m['estimate'])} per window over the benchmark; "
@@ -291,7 +298,7 @@ def _sharpe_section(doc: dict, material: FigureMaterial | None) -> Section:
             + ("strong evidence of skill beyond the search." if dsr["probability"] >= 0.95
                else "not enough to tell skill from the luck of the search.")
         )
-    curve = plots.deflated_by_trials(doc, material.deflation_curve) if material is not None else None
+    curve = _plots().deflated_by_trials(doc, material.deflation_curve) if material is not None else None
     return Section(
         "sharpe",
         title,
@@ -349,7 +356,7 @@ def _overfitting_section(doc: dict, material: FigureMaterial | None) -> Section:
     )
     figs: list[Figure] = []
     if material is not None:
-        for maker in (plots.logit_histogram, plots.degradation_scatter):
+        for maker in (_plots().logit_histogram, _plots().degradation_scatter):
             f = maker(doc, material)
             if f is not None:
                 figs.append(f)
