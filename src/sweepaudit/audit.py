@@ -146,8 +146,10 @@ def _in_memory(sweep, settings, policy, count, progress) -> _Parts:
         diagnosis = _diagnosis(overfit, policy)
         stress = family_stress(x, selected=selected, threshold=policy.stress_threshold, share=policy.stress_share)
         tails = tail_test(stress, critical_value=snooping.gating_stepm.critical_value_for(selected))
+    variance = (np.concatenate([b.variance_of_mean for b in blocks]) if snooping is not None
+                else np.var(intervals.mean_distribution, axis=0))
     return _Parts(sharpe, selected, rule, long_run, resamples, block_source, choice, intervals,
-                  np.var(intervals.mean_distribution, axis=0), inference, snooping, overfit, diagnosis, tails)
+                  variance, inference, snooping, overfit, diagnosis, tails)
 
 
 def _streamed(sweep, settings, policy, count, plan, executor, progress) -> _Parts:

@@ -386,10 +386,24 @@ class ResampledMoments:
         return np.maximum(self.second - self.mean**2, 0.0) * (t / (t - 1))
 
     def sharpe(self) -> np.ndarray:
-        """Resampled Sharpe ratios per window; NaN where a resample has zero variance."""
-        sd = np.sqrt(self.variance())
+        """Resampled Sharpe ratios per window; NaN where a resample has zero variance.
+
+        The same operations as ``mean / sqrt(variance())``, in place in one ``B x N`` buffer.
+        """
+        if self.second is None:
+            raise InputError("these resampled moments kept only the means (a streamed audit)")
+        t = self.windows
+        out = np.multiply(self.mean, self.mean)
+        np.subtract(self.second, out, out=out)
+        np.maximum(out, 0.0, out=out)
+        out *= t / (t - 1)
+        np.sqrt(out, out=out)
+        zero = out == 0
         with np.errstate(divide="ignore", invalid="ignore"):
-            return np.where(sd > 0, self.mean / np.where(sd > 0, sd, 1.0), np.nan)
+            np.divide(self.mean, out, out=out)
+        if zero.any():
+            out[zero] = np.nan
+        return out
 
 
 def resampled_moments(

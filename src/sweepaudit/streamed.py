@@ -109,7 +109,6 @@ def _resampled_task(block, moments, start, *, confidence, method, selected):
     return dict(
         mean=intervals.mean, sharpe=intervals.sharpe,
         degenerate=~np.isfinite(intervals.sharpe_distribution).all(axis=1),
-        variance=np.var(moments.mean, axis=0),
         snooping=snooping_block(moments.mean, block.mean(axis=0), block.shape[0], start=start),
         selected=(intervals.mean_distribution[:, k].copy(), intervals.sharpe_distribution[:, k].copy()) if inside else None,
         confidence=intervals.confidence, method=intervals.method,
@@ -212,7 +211,7 @@ class Stream:
             means += piece["mean"]
             sharpes += piece["sharpe"]
             degenerate |= piece["degenerate"]
-            variance.append(piece["variance"])
+            variance.append(piece["snooping"].variance_of_mean)
             snooping.append(piece["snooping"])
             chosen = piece["selected"] if piece["selected"] is not None else chosen
         intervals = BootstrapIntervals(
