@@ -198,7 +198,8 @@ def _bootstrap_block(evidence: Evidence) -> dict:
     k = evidence.selected_index
     iv = evidence.intervals
     sharpe_factor = math.sqrt(ppy) if ppy else None
-    params = sweep.parameters.reset_index(drop=True).to_dict("records") or [{}] * sweep.n_configurations
+    listed = _listed(evidence)
+    params = _parameter_rows(sweep, listed)
     return {
         "selected": {
             "mean": _interval(iv.mean[k]),
@@ -209,15 +210,60 @@ def _bootstrap_block(evidence: Evidence) -> dict:
         "long_run_share": {"median": evidence.bootstrap_share, "lowest_decile": evidence.bootstrap_share_low},
         "configurations": [
             {
-                "configuration": name,
-                "parameters": params[j],
+                "configuration": sweep.configurations[j],
+                "parameters": row,
                 "mean": _interval(iv.mean[j]),
                 "sharpe": _interval(iv.sharpe[j]),
                 "sharpe_annualized": _interval(iv.sharpe[j], sharpe_factor),
             }
-            for j, name in enumerate(sweep.configurations)
+            for j, row in zip(listed, params)
         ],
+        "listing": _listing(evidence, listed),
     }
+
+
+def _listed(evidence: Evidence) -> np.ndarray:
+    """The configurations the JSON lists, in sweep order: every one up to the policy's
+    ``listed_configurations``; beyond it the selected one and the best and the worst by Sharpe ratio
+    (half each), so a million-configuration audit does not write hundreds of MB."""
+    n = evidence.sweep.n_configurations
+    limit = evidence.policy.listed_configurations
+    if n <= limit:
+        return np.arange(n)
+    order = np.argsort(np.where(np.isfinite(evidence.sharpe_ratios), evidence.sharpe_ratios, -np.inf), kind="stable")
+    bottom, top = order[: limit // 2], order[n - (limit - limit // 2):]
+    keep = np.concatenate([bottom, top])
+    if evidence.selected_index not in keep:  # a named selection: it takes the place of the lowest of the best
+        keep = np.append(keep[keep != top[0]], evidence.selected_index)
+    return np.sort(keep)
+
+
+def _parameter_rows(sweep, listed: np.ndarray) -> list[dict]:
+    table = sweep.parameters.reset_index(drop=True)
+    if table.shape[1] == 0:
+        return [{}] * len(listed)
+    return table.iloc[listed].to_dict("records")
+
+
+def _listing(evidence: Evidence, listed: np.ndarray) -> dict:
+    """Which configurations ``configurations`` lists, and a summary of every configuration's intervals."""
+    iv = evidence.intervals
+    n = evidence.sweep.n_configurations
+    rule = ("every configuration" if len(listed) == n else
+            f"the selected configuration and the best and the worst by Sharpe ratio, {len(listed):,} in all "
+            f"(policy key listed_configurations)")
+    mean_low = np.array([i.low for i in iv.mean], dtype=float)
+    sharpe = np.array([i.estimate for i in iv.sharpe], dtype=float)
+    return {
+        "listed": int(len(listed)),
+        "of": int(n),
+        "rule": rule,
+        "mean_interval_above_zero": int(np.count_nonzero(mean_low > 0)),
+        "sharpe_quantiles": {f"{q:g}": float(v) for q, v in zip(_SUMMARY_LEVELS, np.nanquantile(sharpe, _SUMMARY_LEVELS))},
+    }
+
+
+_SUMMARY_LEVELS = (0.0, 0.05, 0.25, 0.5, 0.75, 0.95, 1.0)
 
 
 def _surface_block(evidence: Evidence) -> dict:

@@ -185,8 +185,10 @@ def _ranked(doc: dict, material: FigureMaterial) -> _Ranked:
     low = np.array([c[key]["low"] if c.get(key) and c[key]["low"] is not None else np.nan for c in configs], dtype=float)
     high = np.array([c[key]["high"] if c.get(key) and c[key]["high"] is not None else np.nan for c in configs], dtype=float)
     order = np.argsort(np.where(np.isfinite(est), est, -np.inf), kind="stable")
-    k = material.selected_index
-    return _Ranked(est, low, high, [c["configuration"] for c in configs], order, k,
+    names = [c["configuration"] for c in configs]
+    # The JSON may list only some configurations (results.bootstrap.listing): find the selected by name.
+    k = names.index(doc["selected"]["configuration"])
+    return _Ranked(est, low, high, names, order, k,
                    int(np.flatnonzero(order == k)[0]), level(doc["settings"]["confidence"]), label)
 
 
