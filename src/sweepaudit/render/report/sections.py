@@ -162,6 +162,18 @@ def _surface_words(block: dict, reach_half: bool) -> str:
     )
 
 
+def _listing_facts(listing: dict | None) -> tuple[tuple[str, str], ...]:
+    """Which configurations the table lists, and a summary of all of them."""
+    if not listing:
+        return ()
+    return (
+        ("configurations in the table", f"{figure(listing['listed'])} of {figure(listing['of'])}: {listing['rule']}"),
+        ("configurations whose mean interval lies above zero", figure(listing["mean_interval_above_zero"])),
+        ("Sharpe ratio per window over the configurations: minimum, 5%, 25%, median, 75%, 95%, maximum",
+         ", ".join(figure(v) for v in listing["sharpe_quantiles"].values())),
+    )
+
+
 def _every_configuration(doc: dict, level: str) -> Table:
     """Every configuration's intervals, per window (and annualized when the periods are known)."""
     boot = doc["results"]["bootstrap"]
@@ -207,6 +219,7 @@ def _intervals_section(doc: dict, material: FigureMaterial | None) -> Section:
         ("share of the long-run variance the resamples reproduce (median over configurations)", figure(share.get("median"))),
         ("the same, lowest tenth of the configurations", figure(share.get("lowest_decile"))),
     ) if share else ()
+    facts += _listing_facts(boot.get("listing"))
     figs = [_plots().bootstrap_mean(doc, material)] if material is not None else []
     m = sel["mean"]
     words = (
