@@ -90,3 +90,16 @@ def test_an_unreachable_scheduler_is_a_clear_error(monkeypatch):
     sweep = sweep_from_array(np.random.default_rng(1).standard_normal((40, 6)) * 0.01)
     with pytest.raises(InputError, match="cannot reach the Dask scheduler at 'tcp://127.0.0.1:9'"):
         audit(sweep, settings=AuditSettings(seed=1, resamples=100), scheduler="tcp://127.0.0.1:9")
+
+
+def test_calibration_on_a_local_dask_cluster_counts_the_same_verdicts():
+    from sweepaudit.calibration import calibrate_sweep
+
+    rng = np.random.default_rng(6)
+    sweep = sweep_from_array(0.01 * rng.standard_normal((120, 12)), periods_per_year=52)
+    here = calibrate_sweep(sweep, sweeps=4, resamples=200, seed=3)
+    there = calibrate_sweep(sweep, sweeps=4, resamples=200, seed=3, workers=2)
+    np.testing.assert_array_equal(here.null.decisions, there.null.decisions)
+    np.testing.assert_array_equal(here.null.check_failed, there.null.check_failed)
+    np.testing.assert_array_equal(here.power.selected, there.power.selected)
+    assert here.null.check_ids == there.null.check_ids

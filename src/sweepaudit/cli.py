@@ -568,6 +568,12 @@ def calibrate_command(
         typer.Option(help="Trials the deflated Sharpe ratio counts (at least the configurations), as for audit."),
     ] = None,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the calibration JSON here.")] = None,
+    scheduler: Annotated[
+        Optional[str], typer.Option(help="Dask scheduler address: run the audits on that cluster (default: $SWEEPAUDIT_SCHEDULER).")
+    ] = None,
+    workers: Annotated[
+        Optional[int], typer.Option(help="Run the audits on a local Dask cluster of this many worker processes.")
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
 ) -> None:
     """Estimate how often the verdict says go on null sweeps shaped like this one, and its power.
@@ -591,13 +597,16 @@ def calibrate_command(
         validate.at_least(resamples, "--resamples", 1)
         validate.at_least(edge, "--edge", 0, what="0 (an annualised Sharpe ratio)")
         validate.whole_number(seed, "--seed", minimum=0)
+        if workers is not None:
+            validate.whole_number(workers, "--workers", minimum=1)
         loaded = resolve_policy(policy_path)
         sweep = inputs.load()
         if trials is not None:
             trials_to_count(sweep.n_configurations, declared=trials, name="--trials")  # the audit's own rule
         settings = AuditSettings(seed=seed, resamples=resamples, selected=inputs.select, trials=trials)
         result = _with_progress(quiet, "auditing simulated sweeps", calibrate_sweep, sweep, sweeps=sweeps,
-                                edge=edge, settings=settings, resamples=resamples, policy=loaded.policy, seed=seed)
+                                edge=edge, settings=settings, resamples=resamples, policy=loaded.policy, seed=seed,
+                                scheduler=scheduler, workers=workers)
         words = ["sweepaudit", "calibrate", *inputs.words(sweep.path)]
         if inputs.select is not None:
             words += ["--select", inputs.select]

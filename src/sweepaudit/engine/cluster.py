@@ -104,6 +104,43 @@ class DaskCluster:
     def workers(self) -> int:
         return max(1, len(self.client.scheduler_info()["workers"]))
 
+    def each(self, function: Callable[[Any], Any], items) -> Iterator[Any]:
+        """``function(item)`` for every item on the workers, in order, a few items per worker in flight."""
+        return self._ordered(((function, item) for item in items), lambda f, item: self.client.submit(f, item, pure=False))
+
+    def _ordered(self, work, submit_one) -> Iterator[Any]:
+        """Results of ``submit_one(*piece)`` for every piece of ``work``, in order, with a bounded
+        number in flight (Dask schedules them)."""
+        from distributed import as_completed
+
+        limit = IN_FLIGHT_PER_WORKER * self.workers
+        pending = iter(work)
+        running = as_completed()
+        index_of: dict[str, int] = {}
+        done: dict[int, Any] = {}
+        submitted = emitted = 0
+
+        def submit() -> bool:
+            nonlocal submitted
+            piece = next(pending, None)
+            if piece is None:
+                return False
+            future = submit_one(*piece)
+            index_of[future.key] = submitted
+            running.add(future)
+            submitted += 1
+            return True
+
+        while submitted - emitted - len(done) < limit and submit():
+            pass
+        for future in running:
+            done[index_of.pop(future.key)] = future.result()  # a task's error is raised here, as in process
+            future.release()
+            submit()
+            while emitted in done:
+                yield done.pop(emitted)
+                emitted += 1
+
     def map(
         self,
         matrix: np.ndarray,
@@ -115,43 +152,15 @@ class DaskCluster:
         progress: Callable[[int], None] | None = None,
     ) -> Iterator[Any]:
         """Each block's summary, in block order, with a bounded number of blocks in flight."""
-        from distributed import as_completed
 
-        limit = IN_FLIGHT_PER_WORKER * self.workers
-        pending = iter(blocks)
-        running = as_completed()
-        futures: dict[int, Any] = {}
-        done: dict[int, Any] = {}
-        submitted = 0
-
-        def submit() -> bool:
-            nonlocal submitted
-            span = next(pending, None)
-            if span is None:
-                return False
-            start, stop = span
+        def submit_one(start: int, stop: int):
             data = self.client.scatter(np.ascontiguousarray(matrix[:, start:stop]))
-            future = self.client.submit(run_block, data, start, task, resamples, keep_weights, pure=False)
-            future.block_index = submitted
-            futures[submitted] = future
-            running.add(future)
-            submitted += 1
-            return True
+            return self.client.submit(run_block, data, start, task, resamples, keep_weights, pure=False)
 
-        while len(futures) < limit and submit():
-            pass
-        emitted = 0
-        for future in running:
-            index = future.block_index
-            done[index] = future.result()  # a task's error is raised here, as in process
-            del futures[index]
-            future.release()
-            submit()
-            while emitted in done:
-                yield done.pop(emitted)
-                if progress is not None:
-                    progress(blocks[emitted][1])
-                emitted += 1
+        for (start, stop), summary in zip(blocks, self._ordered(blocks, submit_one)):
+            yield summary
+            if progress is not None:
+                progress(stop)
 
     def close(self) -> None:
         self.client.close()

@@ -110,5 +110,11 @@ class InProcess:
             if progress is not None:
                 progress(stop)
 
+    def each(self, function: Callable[[Any], Any], items) -> Iterator[Any]:
+        """``function(item)`` for every item, in order (for independent work such as the audits of
+        a calibration)."""
+        for item in items:
+            yield function(item)
+
     def close(self) -> None:
         self._table = None
