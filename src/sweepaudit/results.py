@@ -872,14 +872,14 @@ class SnoopingBlock:
     relevant : ndarray of bool, shape (n,)
         Hansen's consistent rule: the columns kept at their mean in the consistent recentring.
     studentized, unscaled : NullDraws
-        The null draws divided by ``omega_k / sqrt(n)`` (the "long-run" and "bootstrap" scales) and
-        multiplied by ``sqrt(n)`` only (the "none" scale).
+        The null draws divided by ``omega_k / sqrt(n)`` (the "long-run" and "bootstrap" scales; None
+        when not asked for) and multiplied by ``sqrt(n)`` only (the "none" scale).
     """
 
     start: int
     variance_of_mean: np.ndarray
     relevant: np.ndarray
-    studentized: NullDraws
+    studentized: NullDraws | None
     unscaled: NullDraws
 
 

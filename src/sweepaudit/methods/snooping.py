@@ -441,86 +441,13 @@ def superior_predictive_ability(
     if scaled:
         _check_constant(x)
     estimate = _long_run(x, long_run) if scale == "long-run" else None
-    omega, relevant, nulls = _spa_nulls(_stored_blocks(np.asarray(m.mean), block), mean, t, m.mean.shape[0], scaled)
+    blocks = [snooping_block(piece, mean[cols], t, start=cols.start, top=0, studentize=scaled)
+              for cols, piece in _stored_blocks(np.asarray(m.mean), block)()]
+    omega = np.sqrt(t * np.concatenate([b.variance_of_mean for b in blocks]))
+    relevant = np.concatenate([b.relevant for b in blocks])
+    draws = _merged([b.studentized if scaled else b.unscaled for b in blocks], 0)
     statistics = observed_statistics(mean, t, scale, omega, estimate)
-    statistic = max(float(statistics.max()), 0.0)
-    return SuperiorPredictiveAbility(
-        statistic=statistic,
-        pvalue=_pvalue(nulls["consistent"], statistic, counting),
-        pvalue_lower=_pvalue(nulls["lower"], statistic, counting),
-        pvalue_upper=_pvalue(nulls["upper"], statistic, counting),
-        omega=omega, relevant=relevant, scale=scale,
-        null_lower=nulls["lower"], null_consistent=nulls["consistent"], null_upper=nulls["upper"],
-        counting=counting, statistics=statistics,
-    )
-
-
-def _spa_nulls(source: Callable[[], ColumnBlocks], mean: np.ndarray, t: int, count: int, studentize: bool):
-    """omega, the relevant configurations and the three null maxima, in one pass over the column blocks."""
-    n = mean.size
-    omega = np.empty(n)
-    relevant = np.empty(n, dtype=bool)
-    nulls = {name: np.full(count, -np.inf) for name in ("lower", "consistent", "upper")}
-    for cols, piece in source():
-        order, block_omega, keep, maxima = _spa_block(piece, mean[cols], t, studentize, cols.start)
-        omega[cols.start + order] = block_omega
-        relevant[cols.start + order] = keep
-        for name, values in zip(("lower", "consistent", "upper"), maxima):
-            np.maximum(nulls[name], values, out=nulls[name])
-    for name in nulls:
-        np.maximum(nulls[name], 0.0, out=nulls[name])
-    return omega, relevant, nulls
-
-
-def _spa_block(piece: np.ndarray, mu: np.ndarray, t: int, studentize: bool, first_column: int):
-    """One column block of the SPA: its omega, relevant columns and per-resample maxima.
-
-    The block's columns are ordered [mean >= 0 | threshold <= mean < 0 | mean < threshold]: the
-    recentred draws are then A = (mean* - mean) * scale or B = mean* * scale on contiguous column
-    ranges, and the three maxima need two passes instead of three. The Fortran-ordered copy also
-    sums each column's variance the same way whatever the block width, so column blocks never
-    change a figure (not even the last bit).
-    """
-    root_n = math.sqrt(t)
-    order = np.argsort(mu < 0, kind="stable")
-    sorted_piece = np.asfortranarray(piece[:, order])
-    variance_of_mean = np.var(sorted_piece, axis=0)
-    block_omega = np.sqrt(t * variance_of_mean)
-    if studentize:
-        _check_omega(block_omega[np.argsort(order)], first_column)
-        scale = root_n / block_omega
-    else:
-        scale = np.full(piece.shape[1], root_n)
-    mu_sorted = mu[order]
-    keep = mu_sorted >= -np.sqrt(variance_of_mean * _consistent_factor(t))
-    # within the negative part, relevant columns (near zero) first
-    start = piece.shape[1] - int(np.count_nonzero(mu_sorted < 0))
-    tail = np.argsort(~keep[start:], kind="stable")
-    order[start:] = order[start:][tail]
-    sorted_piece[:, start:] = sorted_piece[:, start:][:, tail]
-    for values in (variance_of_mean, block_omega, scale, mu_sorted, keep):
-        values[start:] = values[start:][tail]
-    cut = start + int(np.count_nonzero(keep[start:]))
-    return order, block_omega, keep, _spa_maxima(sorted_piece, mu_sorted, scale, start, cut)
-
-
-def _spa_maxima(sorted_piece, mu_sorted, scale, start: int, cut: int):
-    """Per-resample maxima of the lower, consistent and upper recentred draws of one ordered block."""
-    count, width = sorted_piece.shape
-    a_draws = sorted_piece - mu_sorted
-    a_draws *= scale
-    upper = a_draws.max(axis=1)
-    none = np.full(count, -np.inf)
-    positive_part = a_draws[:, :start].max(axis=1) if start else none
-    near_part = a_draws[:, start:cut].max(axis=1) if cut > start else none
-    del a_draws
-    b_draws = sorted_piece[:, start:] * scale[start:]
-    near_zero = b_draws[:, : cut - start].max(axis=1) if cut > start else none
-    far_zero = b_draws[:, cut - start :].max(axis=1) if width > cut else none
-    # lower: g = max(mean, 0); consistent: g = mean if relevant else 0; upper: g = mean
-    lower = np.maximum(positive_part, np.maximum(near_zero, far_zero))
-    consistent = np.maximum(np.maximum(positive_part, near_part), far_zero)
-    return lower, consistent, upper
+    return _spa_result(statistics, draws, omega, relevant, scale, counting)
 
 
 def stepwise_superior(
@@ -669,7 +596,8 @@ FurtherPass = Callable[[np.ndarray, np.ndarray, np.ndarray], np.ndarray]
 
 
 def snooping_block(
-    resampled_mean: np.ndarray, mean: np.ndarray, windows: int, *, start: int = 0, top: int = STEP_CANDIDATES
+    resampled_mean: np.ndarray, mean: np.ndarray, windows: int, *, start: int = 0, top: int = STEP_CANDIDATES,
+    studentize: bool = True,
 ) -> SnoopingBlock:
     """One column block's share of the reality check, the SPA and StepM under every scale.
 
@@ -684,7 +612,10 @@ def snooping_block(
     start : int
         The block's first column in the sweep (for messages and the kept columns).
     top : int
-        Consistent draws kept per resample for StepM's later steps.
+        Consistent draws kept per resample for StepM's later steps (0: none).
+    studentize : bool
+        Also the draws divided by the bootstrap standard deviation (which must then be positive for
+        every column); without, ``studentized`` is None.
 
     Returns
     -------
@@ -692,10 +623,13 @@ def snooping_block(
 
     Notes
     -----
-    The same arithmetic as :func:`superior_predictive_ability` and :func:`stepwise_superior`
-    (Hansen 2005, eqs. 6 and 9; Romano and Wolf 2005, Algorithm 3.1): the columns are ordered as in
-    ``_spa_block``, so every draw is the same floating-point number, and the per-resample maxima
-    combine over blocks with ``numpy.maximum`` exactly (:func:`snooping_from_blocks`).
+    Hansen (2005), eqs. 6 and 9; Romano and Wolf (2005), Algorithm 3.1. The block's columns are
+    ordered [mean >= 0 | threshold <= mean < 0 | mean < threshold]: the recentred draws are then
+    ``A = (mean* - mean) * scale`` or ``B = mean* * scale`` on contiguous column ranges, and the three
+    maxima need two passes instead of three. The Fortran-ordered copy sums each column's variance the
+    same way whatever the block width, so column blocks never change a figure (not even the last
+    bit), and the per-resample maxima combine over blocks with ``numpy.maximum`` exactly
+    (:func:`snooping_from_blocks`). :func:`superior_predictive_ability` reads the same draws.
     """
     t = int(windows)
     mu = np.asarray(mean, dtype=np.float64)
@@ -713,10 +647,13 @@ def snooping_block(
         values[first_negative:] = values[first_negative:][tail]
     cut = first_negative + int(np.count_nonzero(keep[first_negative:]))
     back = np.argsort(order)
-    _check_omega(omega[back], start)
     root_n = math.sqrt(t)
-    draws = {}
-    for name, scale in (("studentized", root_n / omega), ("unscaled", np.full(mu.size, root_n))):
+    draws = {"studentized": None}
+    scales = [("unscaled", np.full(mu.size, root_n))]
+    if studentize:
+        _check_omega(omega[back], start)
+        scales.insert(0, ("studentized", root_n / omega))
+    for name, scale in scales:
         draws[name] = _null_draws(sorted_piece, mu_sorted, scale, first_negative, cut, order + start, top)
     return SnoopingBlock(start, variance_of_mean[back], keep[back], draws["studentized"], draws["unscaled"])
 
@@ -737,7 +674,9 @@ def _null_draws(sorted_piece, mu_sorted, scale, start: int, cut: int, columns: n
     consistent = np.maximum(np.maximum(positive_part, near_part), far_zero)
     draws[:, cut:] = negative[:, cut - start:]  # now the consistent draws of every column
     del negative
-    if width > top:
+    if top == 0:
+        values, kept = np.empty((count, 0)), np.empty((count, 0), dtype=np.int64)
+    elif width > top:
         position = np.argpartition(draws, width - top, axis=1)[:, width - top:]
         values = np.take_along_axis(draws, position, axis=1)
         kept = columns[position]
