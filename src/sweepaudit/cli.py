@@ -82,6 +82,7 @@ class BootstrapChoice(str, Enum):
 
 
 class IntervalChoice(str, Enum):
+    studentized = "studentized"
     percentile = "percentile"
     basic = "basic"
 
@@ -321,7 +322,10 @@ def audit_command(
     block_length: Annotated[
         Optional[float], typer.Option(help="Fix the (mean) block length in windows; automatic otherwise.")
     ] = None,
-    interval_method: Annotated[IntervalChoice, typer.Option(help="Bootstrap interval.")] = IntervalChoice.percentile,
+    interval_method: Annotated[
+        IntervalChoice,
+        typer.Option(help="Bootstrap interval: studentized (the block bootstrap's shape, the long-run variance's width), percentile or basic."),
+    ] = IntervalChoice.studentized,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the audit JSON here.")] = None,
     policy_path: Annotated[
         Optional[Path],
@@ -430,7 +434,7 @@ def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source
               f"{evidence.confidence:g}", "--bootstrap", evidence.resamples.kind]
     if s.block_length is not None:
         words += ["--block-length", f"{s.block_length:g}"]
-    if s.interval_method != "percentile":
+    if s.interval_method != "studentized":
         words += ["--interval-method", s.interval_method]
     if s.selected is not None:
         words += ["--select", s.selected]
