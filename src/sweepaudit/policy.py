@@ -242,9 +242,8 @@ class Policy:
         "long-run standard deviation, read against Student's t), bootstrap (divided by the bootstrap "
         "standard deviation) or none; all three are always reported",
         choices=("long-run", "bootstrap", "none"),
-        source="sweepaudit's choice on simulation evidence: long-run held its level under AR(1) windows "
-        "where bootstrap rejected 19-30% and none 9-12% of true nulls at 5%, and it sees a quiet edge "
-        "among loud noise (docs/validation.md)",
+        source="sweepaudit's choice on simulation evidence: long-run holds its level under serial "
+        "dependence and sees a quiet edge among loud noise, which unscaled means miss (docs/validation.md)",
     )
     stress_threshold: float = _f(
         4.0,
