@@ -53,6 +53,14 @@ def render_calibration(document: dict, console: Console | None = None) -> None:
             f"configuration: {_rate(power['go'])}; the audit judged the edged configuration in "
             f"{_rate(power['planted_selected'])} of those sweeps."
         )
+    yardstick = document["null"].get("bonferroni_max_t")
+    if yardstick is not None:
+        edged = power.get("bonferroni_max_t") if power is not None else None
+        console.print(
+            f"The plain Bonferroni max-t test on the same sweeps: {_rate(yardstick)} on the null sweeps"
+            + (f", {_rate(edged)} with the edge" if edged is not None else "")
+            + " (it ignores serial dependence; a verdict at least as powerful at no worse size is the aim)."
+        )
     console.print(_check_table(document))
     if false_go["rate"] is not None and false_go["lower_95"] > significance:
         console.print(
