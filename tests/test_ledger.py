@@ -107,8 +107,10 @@ def test_corrupted_ledger_line_is_reported_and_nothing_is_lost(tmp_path):
         (b"[1]", "not a JSON object"),
         (b"\xff\xfe", "not UTF-8"),
         (b'{"fingerprint": "' + b"A" * 64 + b'", "configurations": 2}', "64 lowercase hex"),
-        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": 0}', "whole number of at least 1"),
-        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": true}', "whole number of at least 1"),
+        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": 0}', "whole number from 1 to"),
+        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": true}', "whole number from 1 to"),
+        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": 1' + b"0" * 30 + b"}",
+         "configurations must be a whole number from 1 to 1000000000000000"),
     ],
 )
 def test_ledger_line_messages(line, fragment):

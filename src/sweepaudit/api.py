@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Callable
+from contextlib import AbstractContextManager, nullcontext
 from dataclasses import replace
 from typing import Any
 
@@ -25,6 +26,7 @@ from .verdict import decide
 __all__ = ["audit"]
 
 Command = str | Callable[[Evidence], str] | None
+Publish = Callable[[AuditResult], AbstractContextManager[Any]]
 
 
 def audit(
@@ -40,6 +42,7 @@ def audit(
     policy_source: str = "defaults",
     progress: Callable[[int, int], None] | None = None,
     memory_budget: int | None = None,
+    publish: Publish | None = None,
 ) -> AuditResult:
     """Audit a sweep: resample once, run every method once, decide the verdict once.
 
@@ -69,6 +72,12 @@ def audit(
         ``progress(done, total)`` as the resamples are worked through.
     memory_budget : int, optional
         Bytes the ``B x N`` resampled moments may take before the engine streams.
+    publish : callable, optional
+        ``publish(result)`` returns a context manager that writes the audit's outputs: it is
+        entered once the document exists (the ledger still locked), the ledger record is appended
+        inside it, and it is left with the record's outcome. So the record follows the outputs
+        (an output that fails leaves the ledger unchanged) and a failing append reaches the
+        outputs (which can roll back).
 
     Returns
     -------
@@ -89,8 +98,10 @@ def audit(
             evidence, verdict, command=command(evidence) if callable(command) else command,
             policy_source=policy_source, baseline=comparison, ledger=count.block(),
         )
-        count.record(sweep, selected=evidence.selected, verdict=verdict.decision)
-    return AuditResult(evidence, verdict, document, figure_material(evidence), comparison)
+        result = AuditResult(evidence, verdict, document, figure_material(evidence), comparison)
+        with publish(result) if publish is not None else nullcontext():
+            count.record(sweep, selected=evidence.selected, verdict=verdict.decision)
+    return result
 
 
 def _judge(

@@ -1,13 +1,20 @@
-"""Terminal output of ``sweepaudit calibrate``: formats the calibration JSON document only."""
+"""Terminal output of ``sweepaudit calibrate``: formats the calibration JSON document only.
+
+As for the audit (:mod:`sweepaudit.render.terminal`): every string passes through
+:func:`~sweepaudit.render.safe.visible` and reaches rich only as ``Text``, never as markup.
+"""
 
 from __future__ import annotations
 
 from rich.console import Console
 from rich.table import Table
+from rich.text import Text
 
 from ..format import level, pct_fixed, rate, sig
+from .safe import visible_document
+from .terminal import terminal_console
 
-__all__ = ["render_calibration"]
+__all__ = ["render_calibration", "calibration_text"]
 
 
 def _rate(block: dict | None) -> str:
@@ -16,7 +23,7 @@ def _rate(block: dict | None) -> str:
 
 def _check_table(document: dict) -> Table:
     power = document["power"]
-    table = Table(title="Failure rate of each check", show_lines=False)
+    table = Table(title=Text("Failure rate of each check"), show_lines=False)
     table.add_column("check")
     table.add_column("required")
     table.add_column("null sweeps", justify="right")
@@ -27,36 +34,49 @@ def _check_table(document: dict) -> Table:
         row = [c["id"], "yes" if c["required"] else "advisory", _rate(c["failure"])]
         if power is not None:
             row.append(_rate(edged[c["id"]]["failure"]) if c["id"] in edged else "n/a")
-        table.add_row(*row)
+        table.add_row(*(Text(cell) for cell in row))
     return table
 
 
 def render_calibration(document: dict, console: Console | None = None) -> None:
     """Print the calibration: the false-go rate, the power, each check's failure rate."""
-    console = console or Console()
+    console = console or terminal_console()
+    document = visible_document(document)
     significance = document["policy"]["significance"]
     false_go = document["false_go"]
-    console.print(
+
+    def say(words: str) -> None:
+        console.print(Text(words))  # plain text, never markup
+
+    say(
         f"Calibration of {document['input']['path']} ({document['input']['windows']} windows x "
         f"{document['input']['configurations']} configurations), selected {document['selected']['configuration']!r}; "
         f"its own verdict: {document['observed_verdict']}."
     )
-    console.print(
+    say(
         f"False-go rate on {false_go['sweeps']} null sweeps shaped like this one: {_rate(false_go)} "
         f"(Monte Carlo standard error; 95% upper bound {pct_fixed(false_go['upper_95'])}), "
         f"against the policy's significance level of {level(significance)}."
     )
     power = document["power"]
     if power is not None:
-        console.print(
+        say(
             f"Power against an edge of annualised Sharpe {sig(power['edge_annualized_sharpe'], 6)} planted in the selected "
             f"configuration: {_rate(power['go'])}; the audit judged the edged configuration in "
             f"{_rate(power['planted_selected'])} of those sweeps."
         )
     console.print(_check_table(document))
     if false_go["rate"] is not None and false_go["lower_95"] > significance:
-        console.print(
+        say(
             f"The false-go rate is above {level(significance)} beyond Monte Carlo error: under this policy the verdict "
             "says go too often on sweeps like this one."
         )
-    console.print(f"Reproduce: {document['command']}")
+    say(f"Reproduce: {document['command']}")
+
+
+def calibration_text(document: dict, console: Console | None = None) -> str:
+    """The calibration's terminal output as text, rendered for standard output but not printed."""
+    console = console or terminal_console()
+    with console.capture() as captured:
+        render_calibration(document, console)
+    return captured.get()
