@@ -76,8 +76,9 @@ def audit(
         ``publish(result)`` returns a context manager that writes the audit's outputs: it is
         entered once the document exists (the ledger still locked), the ledger record is appended
         inside it, and it is left with the record's outcome. So the record follows the outputs
-        (an output that fails leaves the ledger unchanged) and a failing append reaches the
-        outputs (which can roll back).
+        (an output that fails leaves the ledger unchanged), a failing append reaches the outputs
+        (which can roll back), and a failure on leaving (the terminal output) takes the record
+        back.
 
     Returns
     -------
@@ -99,8 +100,12 @@ def audit(
             policy_source=policy_source, baseline=comparison, ledger=count.block(),
         )
         result = AuditResult(evidence, verdict, document, figure_material(evidence), comparison)
-        with publish(result) if publish is not None else nullcontext():
-            count.record(sweep, selected=evidence.selected, verdict=verdict.decision)
+        try:
+            with publish(result) if publish is not None else nullcontext():
+                count.record(sweep, selected=evidence.selected, verdict=verdict.decision)
+        except BaseException:
+            count.retract()  # an output failed after the record: take it back, the ledger still locked
+            raise
     return result
 
 

@@ -431,9 +431,10 @@ def _published(result: AuditResult, *, outputs: dict[str, Optional[Path]], start
                before_print: Callable[[], None]) -> Iterator[None]:
     """The audit's outputs as one transaction, around the ledger record (see :func:`sweepaudit.api.audit`).
 
-    Everything is rendered in memory, then every file staged, then all committed, then the
-    terminal text written; the record is appended inside this block. A failure at any point, the
-    append included, rolls every file back: the earlier outputs stay as they were.
+    Everything is rendered in memory, then every file staged, then all committed; the record is
+    appended inside this block; then the terminal text is written. A failure at any point (the
+    append, or standard output) rolls every file back and the record is taken back: the earlier
+    outputs and the ledger stay as they were.
     """
     document = result.document
     json_path, junit_path, report_path = outputs["JSON file"], outputs["JUnit file"], outputs["report"]
@@ -449,10 +450,10 @@ def _published(result: AuditResult, *, outputs: dict[str, Optional[Path]], start
             if path is not None:
                 staged.add(FileStep(path, text, what=what))
         staged.commit()
+        yield
         before_print()
         if terminal is not None:
             write_terminal(terminal)
-        yield
 
 
 def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults") -> str:

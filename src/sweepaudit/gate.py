@@ -93,6 +93,12 @@ class TrialCount:
         ))
 
 
+    def retract(self) -> None:
+        """Take back the record :meth:`record` appended (the ledger is still locked)."""
+        if self._ledger is not None:
+            self._ledger.retract()
+
+
 @contextmanager
 def counted_trials(
     sweep: Sweep, *, ledger: str | os.PathLike | None = None, declared: int | None = None

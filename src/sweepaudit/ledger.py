@@ -205,6 +205,7 @@ class Ledger:
         self._fd = fd
         self.entries = entries
         self._needs_newline = not ends_with_newline
+        self._appended: tuple[int, int] | None = None
 
     def tally(self, *, fingerprint: str, configurations: int) -> LedgerTally:
         return tally_trials(self.entries, fingerprint=fingerprint, configurations=configurations, path=self.path)
@@ -236,9 +237,26 @@ class Ledger:
                 path=self.path,
             ) from None
         self._needs_newline = False
+        self._appended = (end, end + len(data))
         fingerprint = record["fingerprint"]
         line_number = (self.entries[-1].line if self.entries else 0) + 1
         self.entries = (*self.entries, LedgerEntry(line_number, fingerprint, record["configurations"], record))
+
+
+    def retract(self) -> None:
+        """Take back the record this run appended (when an output failed after it), while the lock
+        is still held; nothing if none was appended or the ledger no longer ends with it."""
+        if self._appended is None:
+            return
+        start, end = self._appended
+        try:
+            if os.fstat(self._fd).st_size == end:
+                os.ftruncate(self._fd, start)
+                os.fsync(self._fd)
+        except OSError:
+            pass
+        self._appended = None
+        self.entries = self.entries[:-1]
 
 
 @contextmanager

@@ -17,7 +17,7 @@ __all__ = ["NA_TOKENS", "SWEEP_FILE_LIMIT", "read_table"]
 
 #: The most bytes a sweep (or benchmark) file may hold: the whole file is read into memory and
 #: parsed there, so a larger one could not be audited on a machine of ordinary memory anyway.
-SWEEP_FILE_LIMIT = 8 * GiB
+SWEEP_FILE_LIMIT = 4 * GiB
 
 NA_TOKENS = ["", "NA", "N/A", "NaN", "nan", "null", "NULL", "None"]
 _KINDS = {".csv": "csv", ".txt": "csv", ".tsv": "tsv", ".tab": "tsv", ".parquet": "parquet", ".pq": "parquet"}

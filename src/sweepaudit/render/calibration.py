@@ -7,12 +7,13 @@ As for the audit (:mod:`sweepaudit.render.terminal`): every string passes throug
 from __future__ import annotations
 
 from rich.console import Console
+from rich.padding import Padding
 from rich.table import Table
 from rich.text import Text
 
 from ..format import level, pct_fixed, rate, sig
 from .safe import visible_document
-from .terminal import terminal_console
+from .terminal import offscreen_console, terminal_console
 
 __all__ = ["render_calibration", "calibration_text"]
 
@@ -45,13 +46,14 @@ def render_calibration(document: dict, console: Console | None = None) -> None:
     significance = document["policy"]["significance"]
     false_go = document["false_go"]
 
-    def say(words: str) -> None:
-        console.print(Text(words))  # plain text, never markup
+    def say(words: str, *, indent: int = 0) -> None:
+        console.print(Padding(Text(words), (0, 0, 0, indent), expand=False))  # plain text, never markup
 
+    say("Calibration")  # the user's strings come indented, on lines of their own
     say(
-        f"Calibration of {document['input']['path']} ({document['input']['windows']} windows x "
+        f"{document['input']['path']} ({document['input']['windows']} windows x "
         f"{document['input']['configurations']} configurations), selected {document['selected']['configuration']!r}; "
-        f"its own verdict: {document['observed_verdict']}."
+        f"its own verdict: {document['observed_verdict']}.", indent=2,
     )
     say(
         f"False-go rate on {false_go['sweeps']} null sweeps shaped like this one: {_rate(false_go)} "
@@ -71,12 +73,12 @@ def render_calibration(document: dict, console: Console | None = None) -> None:
             f"The false-go rate is above {level(significance)} beyond Monte Carlo error: under this policy the verdict "
             "says go too often on sweeps like this one."
         )
-    say(f"Reproduce: {document['command']}")
+    say("Reproduce:")
+    say(document["command"], indent=2)
 
 
-def calibration_text(document: dict, console: Console | None = None) -> str:
+def calibration_text(document: dict) -> str:
     """The calibration's terminal output as text, rendered for standard output but not printed."""
-    console = console or terminal_console()
-    with console.capture() as captured:
-        render_calibration(document, console)
-    return captured.get()
+    console = offscreen_console()
+    render_calibration(document, console)
+    return console.file.getvalue()

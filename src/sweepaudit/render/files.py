@@ -45,6 +45,7 @@ __all__ = [
     "Transaction",
     "check_target",
     "folder_of",
+    "hidden_name",
     "new_hidden_file",
     "remove_stale",
     "write_atomic",
@@ -63,7 +64,8 @@ def folder_of(path: Path) -> Path:
     return path.parent if str(path.parent) else Path(".")
 
 
-def _hidden_name(name: str, kind: str) -> str:
+def hidden_name(name: str, kind: str) -> str:
+    """A hidden name of ours for a temporary (``tmp``) or backup (``bak``) file of ``name``."""
     # At most 64 characters of the target's name: the hidden name stays within the 255-byte limit
     # of a file name whatever the target's length.
     return f".{name[:64]}{_MARK}{secrets.token_hex(8)}.{kind}"
@@ -75,7 +77,7 @@ def new_hidden_file(folder: Path, name: str, data: bytes, *, kind: str = "tmp") 
     Created exclusively (never over an existing file) with the usual permissions (umask applies).
     On any failure nothing is left behind and the ``OSError`` propagates.
     """
-    path = folder / _hidden_name(name, kind)
+    path = folder / hidden_name(name, kind)
     fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL | os.O_CLOEXEC, 0o666)
     try:
         view = memoryview(data)
@@ -200,7 +202,10 @@ class FileStep:
             self.identity = _identity(self.temp)
             self.backup = self._keep_previous(folder)
         except OSError as exc:
-            self.rollback()
+            try:
+                self.rollback()
+            except OSError:
+                pass  # what stays is hidden, ours, and removed by a later run
             raise OutputError(f"cannot write the {what} {target}: {describe(exc)}") from None
 
     def _keep_previous(self, folder: Path) -> Path | None:
@@ -210,7 +215,7 @@ class FileStep:
                 return None
         except FileNotFoundError:
             return None
-        backup = folder / _hidden_name(self.target.name, "bak")
+        backup = folder / hidden_name(self.target.name, "bak")
         try:
             os.link(self.target, backup)
             return backup

@@ -16,6 +16,8 @@ Nothing in the user's data can forge or style this output:
 
 from __future__ import annotations
 
+import io
+
 from rich.console import Console, Group, RenderableType
 from rich.padding import Padding
 from rich.table import Table
@@ -24,7 +26,7 @@ from rich.text import Text
 from ..format import fmt, pct, prob, sig
 from .safe import visible_document
 
-__all__ = ["render_terminal", "terminal_console", "terminal_text"]
+__all__ = ["render_terminal", "terminal_console", "offscreen_console", "terminal_text"]
 
 _INDENT = 2
 
@@ -274,9 +276,16 @@ def render_terminal(doc: dict, console: Console | None = None) -> None:
         console.print(part)
 
 
-def terminal_text(doc: dict, console: Console | None = None) -> str:
+def offscreen_console() -> Console:
+    """A console that renders into memory as standard output would show it (width, colours),
+    without touching standard output (which may be full or closed)."""
+    screen = terminal_console()
+    return terminal_console(file=io.StringIO(), width=screen.width, force_terminal=screen.is_terminal,
+                            color_system=screen.color_system)
+
+
+def terminal_text(doc: dict) -> str:
     """The terminal output as text, rendered for standard output (width, colours) but not printed."""
-    console = console or terminal_console()
-    with console.capture() as captured:
-        render_terminal(doc, console)
-    return captured.get()
+    console = offscreen_console()
+    render_terminal(doc, console)
+    return console.file.getvalue()

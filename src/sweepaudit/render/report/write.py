@@ -30,7 +30,7 @@ from typing import Literal
 from ...errors import InputError, OutputError
 from ...readfile import MiB, describe, read_bytes
 from ...results import FigureMaterial
-from ..files import FileStep, Transaction, check_target, new_hidden_file, remove_stale
+from ..files import FileStep, Transaction, check_target, hidden_name, new_hidden_file, remove_stale
 from .html import render_html
 from .markdown import render_markdown
 from .sections import build_report
@@ -131,6 +131,10 @@ def _manifest(folder: Path | None) -> dict[str, str] | None:
     return dict(files)
 
 
+def _hidden_backup(name: str) -> str:
+    return hidden_name(name, "bak")
+
+
 def _write_manifest(folder: Path, report: str, files: dict[str, str]) -> None:
     text = json.dumps({"schema": _MANIFEST_SCHEMA, "report": report, "files": dict(sorted(files.items()))},
                       indent=2, ensure_ascii=True) + "\n"
@@ -187,15 +191,18 @@ class FiguresStep:
         self.lock: int | None = None
         self.previous: dict[str, str] | None = None
         self.wrote_manifest = False
+        self.manifest_backup: Path | None = None
         self.staged: dict[str, Path] = {}
         self.linked: list[tuple[Path, tuple[int, int]]] = []
         try:
             self._stage()
-        except InputError as exc:
-            self.rollback()
-            raise OutputError(str(exc)) from None
-        except OSError as exc:
-            self.rollback()
+        except (InputError, OSError) as exc:
+            try:
+                self.rollback()
+            except OSError:
+                pass  # what stays is hidden, ours, and removed by a later run
+            if isinstance(exc, InputError):
+                raise OutputError(str(exc)) from None
             raise OutputError(f"cannot write the report's figures in {folder}: {describe(exc)}") from None
 
     def _stage(self) -> None:
@@ -215,7 +222,11 @@ class FiguresStep:
             elif listed.get(name) != digest or _sha256_of(self.folder / name) != digest:
                 raise InputError(f"{self.folder / name} exists and was not written by sweepaudit; move it away")
         # The manifest lists the new files before they exist: a kill from here on leaves nothing
-        # unlisted, and a later run removes what the report in place does not use.
+        # unlisted, and a later run removes what the report in place does not use. The previous
+        # manifest is kept as a hard link, so a rollback needs no disk space.
+        if self.previous is not None:
+            self.manifest_backup = self.folder / _hidden_backup(MANIFEST)
+            os.link(self.folder / MANIFEST, self.manifest_backup)
         _write_manifest(self.folder, self.report, {**listed, **{n: d for n, (_, d) in new.items()}})
         self.wrote_manifest = True
         for name, (data, _) in new.items():
@@ -242,11 +253,15 @@ class FiguresStep:
                     os.unlink(path)
             self.staged, self.linked = {}, []
             if self.wrote_manifest:
-                if self.previous is not None:
-                    _write_manifest(self.folder, self.report, self.previous)
+                if self.manifest_backup is not None:
+                    os.replace(self.manifest_backup, self.folder / MANIFEST)
+                    self.manifest_backup = None
                 else:
                     os.unlink(self.folder / MANIFEST)
                 self.wrote_manifest = False
+            if self.manifest_backup is not None:
+                os.unlink(self.manifest_backup)
+                self.manifest_backup = None
             if self.created_folder:
                 os.rmdir(self.folder)
         finally:
@@ -255,6 +270,9 @@ class FiguresStep:
     def finish(self) -> None:
         """Remove the previous version's figures: listed, unchanged since written, not used now."""
         try:
+            if self.manifest_backup is not None:
+                os.unlink(self.manifest_backup)
+                self.manifest_backup = None
             listed = _manifest(self.folder) or {}
             keep = {}
             for name, digest in listed.items():
