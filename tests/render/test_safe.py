@@ -214,8 +214,8 @@ def test_hostile_names_through_the_command_line(tmp_path):
     for select in ("[/]", "a\nVerdict: GO"):
         result = run(["audit", str(sweep), "--quick", "--select", select, "--json", str(out["json"]),
                       "--junit", str(out["xml"]), "--report", str(out["md"])])
-        assert result.exit_code in (0, 1), result.stderr
         doc = json.loads(out["json"].read_text())
+        assert result.exit_code == (0 if doc["verdict"] == "go" else 1), result.stderr  # no crash after the JSON
         assert doc["selected"]["configuration"] == select
         lines = result.stdout.split("\n")
         assert lines[0] == ("Verdict: GO" if doc["verdict"] == "go" else "Verdict: NO-GO")
