@@ -23,7 +23,7 @@ from typing import Any
 
 from ._version import AUDIT_SCHEMA
 from .errors import InputError
-from .readfile import describe, read_bytes
+from .readfile import explained, read_bytes
 from .results import BaselineComparison, CheckChange, FigureMove, GatedFigure, GatedMove
 
 __all__ = [
@@ -87,14 +87,9 @@ def read_baseline(path: str | Path) -> dict[str, Any]:
         and ``checks``.
     """
     where = str(path)
-    try:
-        data = read_bytes(path, limit=BASELINE_FILE_LIMIT)
-    except FileNotFoundError:
-        raise InputError("baseline file does not exist", path=where) from None
-    except IsADirectoryError:
-        raise InputError("baseline is a folder, not an audit JSON file", path=where) from None
-    except OSError as exc:
-        raise InputError(f"cannot read the baseline: {describe(exc)}", path=where) from None
+    data = explained(lambda: read_bytes(path, limit=BASELINE_FILE_LIMIT), lambda m: InputError(m, path=where),
+                     missing="baseline file does not exist", folder="baseline is a folder, not an audit JSON file",
+                     other="cannot read the baseline")
     document = _parse_json(data, where)
     if not isinstance(document, dict):
         raise InputError("the baseline must be an audit JSON object", path=where)

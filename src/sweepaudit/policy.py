@@ -25,7 +25,7 @@ from pathlib import Path
 from typing import Any
 
 from .errors import PolicyError
-from .readfile import describe, read_bytes
+from .readfile import explained, read_bytes
 
 __all__ = [
     "Policy",
@@ -336,14 +336,9 @@ POLICY_FILE_LIMIT = 1 << 20
 
 
 def _read_toml(path: Path) -> dict[str, Any]:
-    try:
-        data = read_bytes(path, limit=POLICY_FILE_LIMIT)
-    except FileNotFoundError:
-        raise PolicyError(f"policy file {path} does not exist") from None
-    except IsADirectoryError:
-        raise PolicyError(f"policy file {path} is a folder, not a TOML file") from None
-    except OSError as exc:
-        raise PolicyError(f"cannot read policy file {path}: {describe(exc)}") from None
+    data = explained(lambda: read_bytes(path, limit=POLICY_FILE_LIMIT), PolicyError,
+                     missing=f"policy file {path} does not exist", folder=f"policy file {path} is a folder, not a TOML file",
+                     other=f"cannot read policy file {path}")
     try:
         text = data.decode("utf-8")
     except UnicodeDecodeError as exc:

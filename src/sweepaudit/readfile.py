@@ -13,7 +13,10 @@ from __future__ import annotations
 import errno
 import os
 import stat
-from typing import BinaryIO
+from collections.abc import Callable
+from typing import BinaryIO, TypeVar
+
+T = TypeVar("T")
 
 __all__ = [
     "KiB",
@@ -26,6 +29,7 @@ __all__ = [
     "read_bytes",
     "read_locked",
     "read_stream",
+    "explained",
     "describe",
 ]
 
@@ -118,13 +122,12 @@ def open_regular(path: str | os.PathLike, flags: int = os.O_RDONLY, mode: int = 
     return fd
 
 
-def _read_fd(fd: int, limit: int, where: str, offset: int | None = None) -> bytes:
-    """Read to the end, never more than ``limit`` bytes (``offset``: positional reads from there)."""
+def _read_chunks(read: Callable[[int, int], bytes], limit: int, where: str) -> bytes:
+    """``read(size, done)`` until it returns nothing, never more than ``limit`` bytes in all."""
     chunks: list[bytes] = []
     total = 0
     while True:
-        want = min(_CHUNK, limit + 1 - total)
-        chunk = os.read(fd, want) if offset is None else os.pread(fd, want, offset + total)
+        chunk = read(min(_CHUNK, limit + 1 - total), total)
         if not chunk:
             return b"".join(chunks)
         chunks.append(chunk)
@@ -144,7 +147,7 @@ def read_bytes(path: str | os.PathLike, *, limit: int) -> bytes:
     try:
         if os.fstat(fd).st_size > limit:
             raise FileTooLarge(where, limit)
-        return _read_fd(fd, limit, where)
+        return _read_chunks(lambda size, done: os.read(fd, size), limit, where)
     finally:
         os.close(fd)
 
@@ -153,21 +156,27 @@ def read_locked(fd: int, *, limit: int, where: str) -> bytes:
     """The whole content of an open regular file, from its start, at most ``limit`` bytes."""
     if os.fstat(fd).st_size > limit:
         raise FileTooLarge(where, limit)
-    return _read_fd(fd, limit, where, offset=0)
+    return _read_chunks(lambda size, done: os.pread(fd, size, done), limit, where)
 
 
 def read_stream(stream: BinaryIO, *, limit: int, where: str) -> bytes:
     """A binary stream (standard input) read to its end, at most ``limit`` bytes."""
-    chunks: list[bytes] = []
-    total = 0
-    while True:
-        chunk = stream.read(min(_CHUNK, limit + 1 - total))
-        if not chunk:
-            return b"".join(chunks)
-        chunks.append(chunk)
-        total += len(chunk)
-        if total > limit:
-            raise FileTooLarge(where, limit)
+    return _read_chunks(lambda size, done: stream.read(size), limit, where)
+
+
+def explained(action: Callable[[], T], fail: Callable[[str], Exception], *, missing: str, folder: str,
+              other: str) -> T:
+    """``action()``, its ``OSError`` raised as ``fail(message)`` (one line for the caller's file):
+    ``missing`` for a missing file, ``folder`` for a directory, else ``"<other>: <reason>"`` with
+    the reason from :func:`describe`."""
+    try:
+        return action()
+    except FileNotFoundError:
+        raise fail(missing) from None
+    except IsADirectoryError:
+        raise fail(folder) from None
+    except OSError as exc:
+        raise fail(f"{other}: {describe(exc)}") from None
 
 
 def describe(exc: OSError) -> str:

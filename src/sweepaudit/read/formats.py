@@ -11,7 +11,7 @@ from pathlib import Path
 import pandas as pd
 
 from ..errors import InputError
-from ..readfile import GiB, check_regular, describe, read_bytes, read_stream
+from ..readfile import GiB, check_regular, explained, read_bytes, read_stream
 
 __all__ = ["NA_TOKENS", "SWEEP_FILE_LIMIT", "read_table"]
 
@@ -57,24 +57,17 @@ def read_table(path: str) -> tuple[pd.DataFrame, str, str]:
 
 def _check_regular(path: str, label: str) -> None:
     """A missing file, a folder, a device or a FIFO is refused before its suffix is looked at."""
-    try:
-        check_regular(path)
-    except FileNotFoundError:
-        raise InputError("no such file", path=label) from None
-    except IsADirectoryError:
-        raise InputError("is a directory, not a sweep file", path=label) from None
-    except OSError as exc:
-        raise InputError(f"cannot read it: {describe(exc)}", path=label) from None
+    _explained(lambda: check_regular(path), label)
 
 
 def _input_bytes(label: str, read: Callable[[], bytes]) -> bytes:
     """The bytes ``read`` returns; its OSError (device, FIFO, permission, loop, size) as one line."""
-    try:
-        return read()
-    except FileNotFoundError:
-        raise InputError("no such file", path=label) from None
-    except OSError as exc:
-        raise InputError(f"cannot read it: {describe(exc)}", path=label) from None
+    return _explained(read, label)
+
+
+def _explained(action: Callable, label: str):
+    return explained(action, lambda message: InputError(message, path=label), missing="no such file",
+                     folder="is a directory, not a sweep file", other="cannot read it")
 
 
 def _parse(data: bytes, kind: str, label: str) -> pd.DataFrame:
