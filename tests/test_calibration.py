@@ -39,7 +39,7 @@ from sweepaudit.calibration import (
 from sweepaudit.cli import app
 from sweepaudit.errors import InputError
 from sweepaudit.policy import Policy
-from sweepaudit.sweep import sweep_from_array
+from sweepaudit import sweep_from_array
 
 from .helpers import lag_correlation, rng
 

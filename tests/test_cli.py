@@ -334,11 +334,12 @@ def test_audit_and_calibrate_declare_the_input_options_once():
 
     commands = typer.main.get_command(app).commands
     shared = [p.name for p in cli._INPUT_OPTIONS]
-    assert len(shared) == 11
-    for name in ("audit", "calibrate"):
+    n = len(shared)
+    assert n == 18
+    for name in ("audit", "calibrate", "inspect"):
         params = commands[name].params
-        assert [p.name for p in params[:11]] == shared  # first, in one order
+        assert [p.name for p in params[:n]] == shared  # first, in one order
         assert "inputs" not in [p.name for p in params]
-    audit_help = {p.name: (p.opts, getattr(p, "help", None)) for p in commands["audit"].params[:11]}
-    calibrate_help = {p.name: (p.opts, getattr(p, "help", None)) for p in commands["calibrate"].params[:11]}
-    assert audit_help == calibrate_help
+    helps = [{p.name: (p.opts, getattr(p, "help", None)) for p in commands[name].params[:n]}
+             for name in ("audit", "calibrate", "inspect")]
+    assert helps[0] == helps[1] == helps[2]

@@ -21,7 +21,7 @@ from sweepaudit.errors import InputError
 from sweepaudit.gate import trials_to_count
 from sweepaudit.ledger import LedgerEntry, read_ledger, tally_trials
 from sweepaudit.policy import DEFAULT_POLICY
-from sweepaudit.sweep import sweep_from_array
+from sweepaudit import sweep_from_array
 
 from .helpers import run, synthetic_returns, write_wide
 

@@ -11,7 +11,7 @@ import pytest
 from sweepaudit import AuditSettings, audit, verdict
 from sweepaudit.policy import policy_from_mapping
 from sweepaudit.results import Check
-from sweepaudit.sweep import sweep_from_array
+from sweepaudit import sweep_from_array
 
 from .helpers import synthetic_returns
 

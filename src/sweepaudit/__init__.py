@@ -3,6 +3,7 @@
 Public API (stable names):
 
 - :func:`load_sweep`, :class:`LoadOptions`, :class:`Sweep`, :func:`sweep_from_array`
+- :func:`inspect` (-> :class:`Inspection`: how an input is read, without an audit)
 - :func:`audit` (-> :class:`AuditResult`: the :class:`Evidence`, the :class:`Verdict` and the JSON
   document), :class:`AuditSettings`, :class:`Policy`
 - :func:`draw_resamples`, :func:`resampled_moments` (the shared resampling engine)
@@ -14,7 +15,7 @@ Public API (stable names):
 """
 
 from ._version import __version__
-from .api import audit
+from .api import audit, inspect
 from .errors import (
     DegenerateDataError,
     InputError,
@@ -31,10 +32,10 @@ from .methods.overfitting import overfitting_diagnosis
 from .methods.sharpe import minimum_track_record, probabilistic_sharpe
 from .methods.snooping import reality_check, stepwise_superior, superior_predictive_ability
 from .policy import DEFAULT_POLICY, Policy
-from .read import LoadOptions, load_sweep
+from .read import LoadOptions, load_sweep, sweep_from_array
 from .resample import Resamples, draw_resamples, resampled_moments
-from .results import AuditResult, AuditSettings, Evidence, Verdict
-from .sweep import Sweep, sweep_from_array
+from .results import AuditResult, AuditSettings, Evidence, Inspection, Verdict
+from .sweep import Sweep
 
 # The result type's name before the verdict left the evidence; kept so existing imports work.
 AuditResults = AuditResult
@@ -47,6 +48,8 @@ __all__ = [
     "Verdict",
     "AuditSettings",
     "audit",
+    "inspect",
+    "Inspection",
     "DegenerateDataError",
     "InputError",
     "PolicyError",

@@ -15,23 +15,26 @@ from dataclasses import replace
 from typing import Any
 
 from .audit import gather_evidence
+from .errors import InputError
 from .baseline import compare_checks, compare_results, read_baseline
-from .document import audit_document, checks_block, figure_material, results_document
+from .document import audit_document, checks_block, figure_material, inspection_document, results_document
 from .gate import counted_trials
 from .policy import DEFAULT_POLICY, Policy
-from .results import AuditResult, AuditSettings, BaselineComparison, Evidence, Verdict
+from .read import LoadOptions, load_sweep
+from .results import AuditResult, AuditSettings, BaselineComparison, Evidence, Inspection, Verdict
 from .sweep import Sweep
 from .verdict import decide
 
-__all__ = ["audit"]
+__all__ = ["audit", "inspect"]
 
 Command = str | Callable[[Evidence], str] | None
 Publish = Callable[[AuditResult], AbstractContextManager[Any]]
 
 
 def audit(
-    sweep: Sweep,
+    data: Any,
     *,
+    options: LoadOptions | None = None,
     settings: AuditSettings | None = None,
     policy: Policy | None = None,
     baseline: dict[str, Any] | None = None,
@@ -43,13 +46,19 @@ def audit(
     progress: Callable[[int, int], None] | None = None,
     memory_budget: int | None = None,
     publish: Publish | None = None,
+    **input_options: Any,
 ) -> AuditResult:
     """Audit a sweep: resample once, run every method once, decide the verdict once.
 
     Parameters
     ----------
-    sweep : Sweep
-        From :func:`sweepaudit.load_sweep` or :func:`sweepaudit.sweep_from_array`.
+    data : Sweep, path, DataFrame or array
+        A :class:`Sweep` (from :func:`sweepaudit.load_sweep`), or anything :func:`load_sweep` reads:
+        a file path, a wide or long DataFrame, a numpy array; read with ``options`` and the input
+        options given by keyword (``periods_per_year=52``, ``benchmark="buy_and_hold"``,
+        ``windows="monthly"``, ``dates=...``, ``configurations=...``; see :class:`LoadOptions`).
+    options : LoadOptions, optional
+        How to read ``data`` (not with a Sweep).
     settings : AuditSettings, optional
         Every knob that changes a figure.
     policy : Policy, optional
@@ -84,6 +93,7 @@ def audit(
     -------
     AuditResult
     """
+    sweep = _sweep(data, options, input_options)
     settings = settings or AuditSettings()
     policy = policy or DEFAULT_POLICY
     if baseline is None and baseline_path is not None:
@@ -107,6 +117,39 @@ def audit(
             count.retract()  # an output failed after the record: take it back, the ledger still locked
             raise
     return result
+
+
+def inspect(data: Any, *, options: LoadOptions | None = None, policy: Policy | None = None,
+            **input_options: Any) -> Inspection:
+    """Read ``data`` exactly as :func:`audit` would and say how, without auditing.
+
+    Parameters
+    ----------
+    data : path, DataFrame or array (or a Sweep)
+        As for :func:`audit`.
+    options : LoadOptions, optional
+    policy : Policy, optional
+        Its ``plausible_returns`` bounds are compared with the data (default policy).
+    **input_options
+        Any :class:`LoadOptions` field, ``dates`` and ``configurations``, by keyword.
+
+    Returns
+    -------
+    Inspection
+        The sweep and the ``sweepaudit.inspect/1`` document.
+    """
+    sweep = _sweep(data, options, input_options)
+    return Inspection(sweep, inspection_document(sweep, policy or DEFAULT_POLICY))
+
+
+def _sweep(data: Any, options: LoadOptions | None, input_options: dict[str, Any]) -> Sweep:
+    """A Sweep as given, or read from a path, a DataFrame or an array."""
+    if isinstance(data, Sweep):
+        if options is not None or input_options:
+            given = ", ".join(input_options) or "options"
+            raise InputError(f"input options ({given}) go with a file, a DataFrame or an array, not with a Sweep")
+        return data
+    return load_sweep(data, options, **input_options)
 
 
 def _judge(

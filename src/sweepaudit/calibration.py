@@ -44,7 +44,8 @@ from .resample import GENERATION_GROUP, Resamples, automatic_block_length, draw_
 from .results import AuditSettings, BlockSeries, CheckRate, Rate, SweepCalibration, VerdictCalibration
 from .simulate import *  # noqa: F403  (re-exported: the calibration study's families and simulators)
 from .simulate import DEFAULT_PERIODS_PER_YEAR, per_window_edge
-from .sweep import Sweep, sweep_from_array
+from .read import sweep_from_array
+from .sweep import Sweep
 from .verdict import decide
 
 __all__ = [

@@ -35,7 +35,7 @@ from rich.console import Console
 
 from . import validate
 from ._version import __version__
-from .api import audit
+from .api import audit, inspect as inspect_input
 from .baseline import read_baseline
 from .calibration import calibrate_sweep
 from .document import calibration_document
@@ -46,6 +46,7 @@ from .policy import policy_from_mapping, policy_to_toml, resolve_policy
 from .read import LoadOptions, load_sweep
 from .render.calibration import calibration_text
 from .render.files import FileStep, Transaction, check_target, write_terminal
+from .render.inspect import inspection_text
 from .render.json import dumps
 from .render.junit import audit_to_junit
 from .render.report import check_report_path, render_report, stage_report
@@ -120,6 +121,12 @@ class UnitsChoice(str, Enum):
     fraction = "fraction"
     percent = "percent"
     bps = "bps"
+
+
+class WindowsChoice(str, Enum):
+    weekly = "weekly"
+    monthly = "monthly"
+    quarterly = "quarterly"
 
 
 class BootstrapChoice(str, Enum):
@@ -223,7 +230,7 @@ def _count(text: Optional[str], option: str) -> Optional[int]:
 
 
 # ---------------------------------------------------------------------------------------------
-# the eleven input options, declared once and shared by `audit` and `calibrate`
+# the input options, declared once and shared by `audit`, `calibrate` and `inspect`
 
 
 @dataclass(frozen=True)
@@ -252,15 +259,22 @@ class SweepInput:
         words = [path if path != "<stdin>" else "-"]
         defaults = LoadOptions()
         for name in ("layout", "window_column", "value_column", "benchmark", "benchmark_file", "units",
-                     "periods_per_year"):
+                     "periods_per_year", "date_format", "windows", "separator", "decimal", "thousands"):
             value = getattr(self.options, name)
             if value != getattr(defaults, name):
-                words += [f"--{name.replace('_', '-')}", str(value)]
+                words += [f"--{name.replace('_', '-')}", _SEPARATOR_WORDS.get(str(value), str(value))
+                          if name == "separator" else str(value)]
         if self.options.parameter_columns:
             words += ["--parameter-columns", ",".join(self.options.parameter_columns)]
         if self.options.common_windows:
             words.append("--common-windows")
+        if self.options.date_order != "auto":
+            words.append(f"--{self.options.date_order}")
         return words
+
+
+#: --separator accepts these words for characters awkward to type in a shell.
+_SEPARATOR_WORDS = {"\t": "tab", ";": "semicolon", ",": "comma", "|": "pipe"}
 
 
 def _option(name: str, annotation, default=inspect.Parameter.empty) -> inspect.Parameter:
@@ -269,7 +283,7 @@ def _option(name: str, annotation, default=inspect.Parameter.empty) -> inspect.P
 
 _INPUT_OPTIONS = (
     _option("sweep_path", Annotated[str, typer.Argument(
-        metavar="SWEEP", help="CSV, TSV or Parquet file; - reads CSV from standard input.")]),
+        metavar="SWEEP", help="CSV, TSV or Parquet file; - reads CSV or TSV from standard input.")]),
     _option("layout", Annotated[LayoutChoice, typer.Option(help="Input layout; auto detects it.")], LayoutChoice.auto),
     _option("window_column", Annotated[Optional[str], typer.Option(
         help="Column holding the window (date or label).")], None),
@@ -286,13 +300,32 @@ _INPUT_OPTIONS = (
         help="Windows per year (e.g. 52 for weekly); inferred from dated windows otherwise.")], None),
     _option("common_windows", Annotated[bool, typer.Option(
         "--common-windows", help="Keep only the windows every configuration covers.")], False),
+    _option("day_first", Annotated[bool, typer.Option(
+        "--day-first", help="Window dates like 05/01/2024 are DD/MM/YYYY.")], False),
+    _option("month_first", Annotated[bool, typer.Option(
+        "--month-first", help="Window dates like 05/01/2024 are MM/DD/YYYY.")], False),
+    _option("date_format", Annotated[Optional[str], typer.Option(
+        help="strptime format of the window dates, e.g. %d.%m.%Y.")], None),
+    _option("windows", Annotated[Optional[WindowsChoice], typer.Option(
+        help="Compound finer (e.g. daily) returns into these windows; strategy and benchmark separately.")], None),
+    _option("separator", Annotated[Optional[str], typer.Option(
+        help="Field separator of a text file: comma, semicolon, tab, pipe (or the character); detected otherwise.")],
+        None),
+    _option("decimal", Annotated[Optional[str], typer.Option(
+        help="Decimal mark of a text file: . or , (detected otherwise).")], None),
+    _option("thousands", Annotated[Optional[str], typer.Option(
+        help="Thousands separator in the numbers (e.g. . for 1.234,56); refused unless given.")], None),
     _option("select", Annotated[Optional[str], typer.Option(
         help="Judge this configuration instead of the highest full-sample Sharpe ratio.")], None),
 )
 
 
 def _sweep_input(sweep_path, layout, window_column, value_column, parameter_columns, benchmark, benchmark_file,
-                 units, periods_per_year, common_windows, select) -> SweepInput:
+                 units, periods_per_year, common_windows, day_first, month_first, date_format, windows, separator,
+                 decimal, thousands, select) -> SweepInput:
+    if day_first and month_first:
+        raise SweepAuditError("give either --day-first or --month-first, not both")
+    separator_names = {word: char for char, word in _SEPARATOR_WORDS.items()}
     options = LoadOptions(
         layout=layout.value,
         window_column=window_column,
@@ -303,12 +336,18 @@ def _sweep_input(sweep_path, layout, window_column, value_column, parameter_colu
         units=units.value,
         periods_per_year=periods_per_year,
         common_windows=common_windows,
+        date_order="day-first" if day_first else "month-first" if month_first else "auto",
+        date_format=date_format,
+        windows=windows.value if windows is not None else None,
+        separator=separator_names.get(separator, separator),
+        decimal=decimal,
+        thousands=thousands,
     )
     return SweepInput(sweep_path, options, select)
 
 
 def sweep_input(command: Callable[..., None]) -> Callable[..., None]:
-    """Give a command the eleven input options; it receives them parsed as ``inputs: SweepInput``.
+    """Give a command the input options; it receives them parsed as ``inputs: SweepInput``.
 
     The options are added in front of the command's own in its ``__signature__``, which is what
     typer reads, so both commands declare them once, with one help text.
@@ -318,7 +357,11 @@ def sweep_input(command: Callable[..., None]) -> Callable[..., None]:
     @functools.wraps(command)
     def with_inputs(**values):
         shared = {p.name: values.pop(p.name) for p in _INPUT_OPTIONS}
-        return command(inputs=_sweep_input(**shared), **values)
+        try:
+            inputs = _sweep_input(**shared)
+        except SweepAuditError as exc:
+            raise _fail(str(exc)) from None
+        return command(inputs=inputs, **values)
 
     with_inputs.__signature__ = inspect.Signature([*_INPUT_OPTIONS, *own])  # type: ignore[attr-defined]
     return with_inputs
@@ -476,6 +519,59 @@ def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source
     return " ".join(shlex.quote(w) for w in words)
 
 
+@app.command("inspect", no_args_is_help=True)
+@sweep_input
+def inspect_command(
+    inputs: SweepInput,
+    json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the inspection JSON here.")] = None,
+    policy_path: Annotated[
+        Optional[Path],
+        typer.Option("--policy", help="Policy TOML file whose plausibility bounds to compare with; default as audit."),
+    ] = None,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing; use the exit status.")] = False,
+) -> None:
+    """Read a sweep exactly as audit would and show how, without auditing it.
+
+    Shows the layout, the window column with the first and last windows as written and as read,
+    the periods per year and how they were found, the units, the value column, the configurations
+    and their parameter table, the benchmark handling, the plausibility figures and every warning.
+    Exit status: 0 readable, 2 not.
+
+    Examples:
+
+      sweepaudit inspect sweep.csv
+
+      sweepaudit inspect export.csv --day-first --json reading.json
+
+      cat sweep.tsv | sweepaudit inspect -
+    """
+    try:
+        if json_path is not None:
+            check_target(json_path, "JSON file")
+        _check_distinct({"JSON file": json_path}, {"input sweep": inputs.path,
+                                                    "benchmark file": inputs.options.benchmark_file,
+                                                    "policy file": policy_path})
+        loaded = resolve_policy(policy_path)
+        result = inspect_input(inputs.path, options=inputs.options, policy=loaded.policy)
+        if inputs.select is not None:
+            result.sweep.index_of(inputs.select)
+        _json_and_terminal(json_path, result.document, None if quiet else inspection_text(result.document))
+    except SweepAuditError as exc:
+        raise _fail(str(exc)) from None
+    raise typer.Exit(EXIT_GO)
+
+
+def _json_and_terminal(json_path: Optional[Path], document: dict, terminal: Optional[str]) -> None:
+    """A command's JSON file and terminal text as one transaction: the text is written once the
+    file is in place, and a failure writing it puts the previous file back."""
+    with Transaction() as staged:
+        if json_path is not None:
+            staged.add(FileStep(json_path, dumps(document), what="JSON file"))
+        staged.commit()
+        if terminal is not None:
+            write_terminal(terminal)
+
+
 @app.command("policy")
 def policy_command(
     effective: Annotated[
@@ -575,13 +671,7 @@ def calibrate_command(
         document = calibration_document(
             result, command=" ".join(shlex.quote(w) for w in words), policy_source=loaded.source
         )
-        terminal = None if quiet else calibration_text(document)
-        with Transaction() as staged:
-            if json_path is not None:
-                staged.add(FileStep(json_path, dumps(document), what="JSON file"))
-            staged.commit()
-            if terminal is not None:
-                write_terminal(terminal)
+        _json_and_terminal(json_path, document, None if quiet else calibration_text(document))
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
     raise typer.Exit(EXIT_GO)

@@ -13,13 +13,14 @@ holds for :func:`figure_material`, which picks the arrays the figures draw.
 from __future__ import annotations
 
 import math
-from dataclasses import fields
+from dataclasses import asdict, fields
 from typing import Any
 
 import numpy as np
 
-from ._version import AUDIT_SCHEMA, CALIBRATION_SCHEMA, __version__
+from ._version import AUDIT_SCHEMA, CALIBRATION_SCHEMA, INSPECT_SCHEMA, __version__
 from .methods.surface import parameter_grid
+from .policy import Policy
 from .results import (
     BaselineComparison,
     Evidence,
@@ -32,6 +33,7 @@ from .results import (
     Verdict,
     VerdictCalibration,
 )
+from .sweep import Sweep
 
 __all__ = [
     "CAUTION",
@@ -43,6 +45,8 @@ __all__ = [
     "figure_material",
     "calibration_block",
     "calibration_document",
+    "plausibility_block",
+    "inspection_document",
 ]
 
 CAUTION = (
@@ -92,7 +96,55 @@ def _input_block(evidence: Evidence) -> dict:
         "first_window": sweep.windows[0],
         "last_window": sweep.windows[-1],
         "parameters": list(sweep.parameters.columns),
+        "plausibility": plausibility_block(sweep),
+        "reading": dict(sweep.reading),
     }
+
+
+def plausibility_block(sweep: Sweep) -> dict:
+    """The figures the ``plausible_returns`` check judges (:attr:`Sweep.plausibility`), by field name."""
+    return asdict(sweep.plausibility)
+
+
+#: Rows of the parameter table and configuration names an inspection shows.
+INSPECT_HEAD = 10
+
+
+def inspection_document(sweep: Sweep, policy: Policy) -> dict:
+    """The ``sweepaudit.inspect/1`` document: how the input was read, without auditing it.
+
+    ``reading`` is :attr:`Sweep.reading` (layout, window column and form, units, value column,
+    benchmark, aggregation, periods per year and how they were found); ``plausibility`` adds the
+    policy's bounds and whether the ``plausible_returns`` check would pass.
+    """
+    p = sweep.plausibility
+    over = p.largest_window_return >= policy.max_window_return or (
+        p.largest_volatility_annualized is not None
+        and p.largest_volatility_annualized > policy.max_annualized_volatility
+    )
+    table = sweep.parameters.head(INSPECT_HEAD).reset_index()
+    return _clean({
+        "schema": INSPECT_SCHEMA,
+        "tool": {"name": "sweepaudit", "version": __version__},
+        "input": {"path": sweep.path, "sha256": sweep.sha256},
+        "reading": dict(sweep.reading),
+        "windows": {"count": sweep.n_windows, "first": sweep.windows[0], "last": sweep.windows[-1]},
+        "configurations": {
+            "count": sweep.n_configurations,
+            "first": list(sweep.configurations[:INSPECT_HEAD]),
+            "parameters": list(sweep.parameters.columns),
+            "parameter_table_head": table.to_dict("records") if len(sweep.parameters.columns) else [],
+        },
+        "plausibility": {
+            **plausibility_block(sweep),
+            "max_window_return": policy.max_window_return,
+            "max_annualized_volatility": policy.max_annualized_volatility,
+            "beyond_bounds": bool(over),
+            "allowed_by_policy": bool(over and policy.allow_implausible_returns),
+        },
+        "warnings": list(sweep.notes),
+        "caution": CAUTION,
+    })
 
 
 def _settings_block(evidence: Evidence) -> dict:

@@ -29,6 +29,8 @@ class InputError(SweepAuditError, ValueError):
     path, column, row : optional
         Where the problem is. ``row`` is 1-based and counts data rows after the header, the way a
         spreadsheet user would count them.
+    index : optional
+        In-memory data: the row's index label (a date, say), shown beside the row.
     """
 
     def __init__(
@@ -38,10 +40,12 @@ class InputError(SweepAuditError, ValueError):
         path: str | None = None,
         column: str | None = None,
         row: int | None = None,
+        index: str | None = None,
     ) -> None:
         self.path = path
         self.column = column
         self.row = row
+        self.index = index
         self.detail = message
         where = []
         if path is not None:
@@ -49,7 +53,7 @@ class InputError(SweepAuditError, ValueError):
         if column is not None:
             where.append(f"column {column!r}")
         if row is not None:
-            where.append(f"row {row}")
+            where.append(f"row {row}" + (f" (index {index})" if index is not None else ""))
         prefix = ", ".join(where)
         super().__init__(f"{prefix}: {message}" if prefix else message)
 

@@ -44,6 +44,7 @@ __all__ = [
 #: policy never needs the verdict or the audit.
 CHECK_IDS: tuple[str, ...] = (
     "enough_windows",
+    "plausible_returns",
     "mean_interval",
     "deflated_sharpe",
     "track_record",
@@ -101,6 +102,11 @@ class Policy:
     min_windows : int
         Minimum number of windows for any verdict (36: three years of monthly data, common practice
         for a manager's minimum track record).
+    max_window_return, max_annualized_volatility : float
+        Bounds of the ``plausible_returns`` check: the largest absolute excess return in one window
+        (1.0, i.e. 100%) and the largest annualised volatility of excess returns (1.0, i.e. 100% a year).
+    allow_implausible_returns : bool
+        Let returns beyond those bounds pass the check (reported all the same).
     required : tuple of str
         Check ids that must pass for a go; a check (one of :data:`CHECK_IDS`) not listed is advisory.
     disabled : tuple of str
@@ -121,6 +127,29 @@ class Policy:
     )
     min_windows: int = _f(
         36, "fewest windows that can support a verdict (common practice: three years of monthly data)", low=8, high=10**9
+    )
+    max_window_return: float = _f(
+        1.0,
+        "plausible_returns: the largest absolute excess return of any configuration in one window, as a "
+        "fraction (1.0 = 100%)",
+        low=0.0, high=1e6, low_open=True,
+        source="sweepaudit's choice: a move of 100% or more in one window is a price level, a wrong unit "
+        "or a strategy that lost everything, not an edge to judge",
+    )
+    max_annualized_volatility: float = _f(
+        1.0,
+        "plausible_returns: the largest annualised volatility of any configuration's excess returns "
+        "(1.0 = 100% a year; judged when the periods per year are known)",
+        low=0.0, high=1e6, low_open=True,
+        source="sweepaudit's choice: broad equity indices run near 15-20% a year (from memory) and few "
+        "strategies' excess returns exceed 60%; returns in percent read as fractions land near 100 times "
+        "their real figure",
+    )
+    allow_implausible_returns: bool = _f(
+        False,
+        "plausible_returns: let returns beyond max_window_return or max_annualized_volatility pass (a "
+        "leveraged or very volatile book); the check still reports them",
+        source="sweepaudit's choice: off, so a wrong unit or a level read as returns cannot say go",
     )
     min_deflated_probability: float = _f(
         0.95,
@@ -192,8 +221,8 @@ class Policy:
         "(8-10% at the 5% level) under AR(1) windows, the unstudentized held 5% (README)",
     )
     required: tuple[str, ...] = _f(
-        ("enough_windows", "mean_interval", "deflated_sharpe", "track_record", "overfitting", "data_snooping",
-         "baseline_drift"),
+        ("enough_windows", "plausible_returns", "mean_interval", "deflated_sharpe", "track_record", "overfitting",
+         "data_snooping", "baseline_drift"),
         "checks that must pass for a go; the others are advisory",
         check_ids=True,
     )

@@ -1305,3 +1305,45 @@ class AuditResult:
     surface = _evidence("surface", "The parameter surface around the selected cell.")
     warnings = _evidence("warnings", "What the reader should weigh.")
     confidence = _evidence("confidence", "The interval level.")
+
+
+@dataclass(frozen=True, eq=False)
+class Inspection:
+    """How an input was read, without an audit: returned by :func:`sweepaudit.inspect`.
+
+    Attributes
+    ----------
+    sweep : Sweep
+        The sweep exactly as an audit would read it.
+    document : dict
+        The inspection JSON (schema ``sweepaudit.inspect/1``), the source of every figure shown.
+    """
+
+    sweep: Sweep
+    document: dict
+
+    @property
+    def reading(self) -> dict:
+        """Layout, window column and date form, units, value column, benchmark, aggregation and the
+        periods per year with how they were found."""
+        return self.document["reading"]
+
+    @property
+    def warnings(self) -> list[str]:
+        return self.document["warnings"]
+
+    @property
+    def layout(self) -> str:
+        return self.document["reading"]["layout"]
+
+    @property
+    def window_column(self) -> str | None:
+        return self.document["reading"]["window_column"]
+
+    @property
+    def periods_per_year(self) -> float | None:
+        return self.document["reading"]["periods_per_year"]
+
+    @property
+    def plausibility(self) -> dict:
+        return self.document["plausibility"]

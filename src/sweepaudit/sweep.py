@@ -3,14 +3,15 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Literal
+from functools import cached_property
+from typing import Any, Literal, Mapping
 
 import numpy as np
 import pandas as pd
 
-from .errors import DegenerateDataError, InputError
+from .errors import InputError
 
-__all__ = ["Sweep", "Units", "UNIT_SCALE", "MIN_WINDOWS", "sweep_from_array"]
+__all__ = ["Sweep", "Units", "UNIT_SCALE", "MIN_WINDOWS", "Plausibility"]
 
 Units = Literal["fraction", "percent", "bps"]
 # Divide the input by this to get fractions (0.01 = one percent).
@@ -19,6 +20,30 @@ UNIT_SCALE: dict[str, float] = {"fraction": 1.0, "percent": 100.0, "bps": 10_000
 # The floor below which no part of the audit means anything: the automatic block length and the
 # moment estimates need a handful of windows. Methods with larger needs say so themselves.
 MIN_WINDOWS = 8
+
+
+@dataclass(frozen=True)
+class Plausibility:
+    """The figures that tell returns from something else: the largest move in one window and the
+    largest annualised volatility (what the ``plausible_returns`` check of the verdict judges).
+
+    Attributes
+    ----------
+    largest_window_return : float
+        The largest absolute excess return (fraction) of any configuration in any window.
+    largest_window_configuration, largest_window : str
+        Where it is.
+    largest_volatility_annualized : float or None
+        The largest standard deviation of excess returns of any configuration, times the square
+        root of the periods per year; None when the periods per year are unknown.
+    largest_volatility_configuration : str
+    """
+
+    largest_window_return: float
+    largest_window_configuration: str
+    largest_window: str
+    largest_volatility_annualized: float | None
+    largest_volatility_configuration: str
 
 
 @dataclass(frozen=True, eq=False)
@@ -54,6 +79,9 @@ class Sweep:
         Fingerprint of the input bytes.
     notes : tuple of str
         What the loader did that the user should know (windows dropped, excess computed...).
+    reading : mapping
+        How the input was read (source kind, separator and decimal mark, window column and date
+        form, value and parameter columns, benchmark, aggregation): what ``sweepaudit inspect`` shows.
     """
 
     returns: np.ndarray
@@ -69,6 +97,7 @@ class Sweep:
     path: str = "<array>"
     sha256: str | None = None
     notes: tuple[str, ...] = field(default=())
+    reading: Mapping[str, Any] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
         r = self.returns
@@ -79,6 +108,7 @@ class Sweep:
         if not np.isfinite(r).all():
             raise InputError("returns must be finite")
         r.setflags(write=False)
+        object.__setattr__(self, "reading", dict(self.reading))
 
     @property
     def n_windows(self) -> int:
@@ -97,41 +127,17 @@ class Sweep:
             hint = f"; did you mean {', '.join(map(repr, close))}?" if close else ""
             raise InputError(f"no configuration named {configuration!r} in the sweep{hint}") from None
 
+    @cached_property
+    def plausibility(self) -> Plausibility:
+        """The largest move in one window and the largest annualised volatility (computed once)."""
+        r = self.returns
+        size = np.abs(r)
+        t, k = np.unravel_index(int(np.argmax(size)), size.shape)
+        sd = r.std(axis=0, ddof=1) if self.n_windows > 1 else np.zeros(self.n_configurations)
+        v = int(np.argmax(sd))
+        vol = float(sd[v] * np.sqrt(self.periods_per_year)) if self.periods_per_year else None
+        return Plausibility(float(size[t, k]), self.configurations[k], self.windows[t], vol, self.configurations[v])
+
     def frame(self) -> pd.DataFrame:
         """The returns as a DataFrame (windows x configurations)."""
         return pd.DataFrame(self.returns, index=list(self.windows), columns=list(self.configurations))
-
-
-def sweep_from_array(
-    returns,
-    *,
-    periods_per_year: float | None = None,
-    configurations: list[str] | None = None,
-) -> Sweep:
-    """Build a Sweep from an in-memory T x N array or DataFrame of fractional excess returns."""
-    if isinstance(returns, pd.DataFrame):
-        names = [str(c) for c in returns.columns]
-        windows = [str(i) for i in returns.index]
-        values = returns.to_numpy(dtype=np.float64)
-    else:
-        values = np.asarray(returns, dtype=np.float64)
-        if values.ndim == 1:
-            values = values[:, None]
-        names = [f"config {k + 1}" for k in range(values.shape[1])]
-        windows = [str(t + 1) for t in range(values.shape[0])]
-    if configurations is not None:
-        names = list(configurations)
-    if values.ndim != 2 or values.size == 0:
-        raise InputError("returns must be a non-empty T x N matrix")
-    if values.shape[0] < MIN_WINDOWS:
-        raise DegenerateDataError(
-            f"the audit needs at least {MIN_WINDOWS} windows; got {values.shape[0]}"
-        )
-    return Sweep(
-        returns=values.copy(),
-        configurations=tuple(names),
-        parameters=pd.DataFrame(index=pd.Index(names, name="configuration")),
-        windows=tuple(windows),
-        periods_per_year=periods_per_year,
-        periods_source="given" if periods_per_year else "unknown",
-    )

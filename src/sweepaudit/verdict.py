@@ -48,6 +48,42 @@ def _enough_windows(evidence: Evidence, policy: Policy, baseline: BaselineCompar
     return Check("enough_windows", ok, float(t), float(need), reason)
 
 
+@check("plausible_returns")
+def _plausible_returns(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check:
+    # The reader already refuses levels, counters and dates whatever the units; this check judges
+    # the size of what is left, which units or a leveraged book can blow up (Sweep.plausibility).
+    p = evidence.sweep.plausibility
+    bound, vol_bound = policy.max_window_return, policy.max_annualized_volatility
+    found = []
+    if p.largest_window_return >= bound:
+        found.append(
+            f"{p.largest_window_configuration!r} moves {pct(p.largest_window_return)} in window {p.largest_window!r}, "
+            f"at or beyond the policy's {pct(bound)} in one window"
+        )
+    vol = p.largest_volatility_annualized
+    if vol is not None and vol > vol_bound:
+        found.append(
+            f"{p.largest_volatility_configuration!r} has an annualised volatility of {pct(vol)}, beyond the "
+            f"policy's {pct(vol_bound)}"
+        )
+    if not found:
+        vol_text = f" and no annualised volatility above {pct(vol_bound)}" if vol is not None else (
+            " (volatility not judged: periods per year unknown)")
+        reason = (f"No excess return reaches {pct(bound)} in one window (largest {pct(p.largest_window_return)})"
+                  f"{vol_text}: the values look like returns in the stated units.")
+        return Check("plausible_returns", True, p.largest_window_return, bound, reason)
+    what = "; ".join(found)
+    if policy.allow_implausible_returns:
+        reason = f"Implausible returns allowed by the policy (allow_implausible_returns): {what}."
+        return Check("plausible_returns", True, p.largest_window_return, bound, reason)
+    reason = (
+        f"Implausible returns: {what}. Check the units (--units percent or bps) and that the columns hold "
+        "per-window returns, not prices or cumulative curves; a policy may allow such returns "
+        "(allow_implausible_returns)."
+    )
+    return Check("plausible_returns", False, p.largest_window_return, bound, reason)
+
+
 @check("mean_interval")
 def _mean_interval(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check:
     k = evidence.selected_index

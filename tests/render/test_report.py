@@ -456,7 +456,7 @@ def test_no_surface_without_two_parameters(edge_audit):
 
 def test_ranking_of_a_thousand_configurations_thins_labels():
     rng = np.random.default_rng(8)
-    from sweepaudit.sweep import sweep_from_array
+    from sweepaudit import sweep_from_array
 
     res = audit(sweep_from_array(rng.normal(0, 0.01, (60, 1000))), settings=AuditSettings(seed=1, resamples=100))
     fig = plots.sharpe_ranking(res.document, res.figures)

@@ -3,9 +3,9 @@
 Internal consistency (property-based, hypothesis): configuration names, parameter names and file
 names built from rich markup, ANSI / OSC 8 escape sequences, C0 and C1 controls, NUL, line breaks,
 bidirectional overrides, matplotlib mathtext, lone surrogates and arbitrary text are put into a
-real audit document (and a calibration document), which then goes through the terminal renderer
-(plain and with colours), the JSON, the JUnit XML, the Markdown and HTML reports and the error
-line. The properties:
+real audit document (and a calibration and an inspection document), which then goes through the
+terminal renderers of audit, calibrate and inspect (plain and with colours), the JSON, the JUnit
+XML, the Markdown and HTML reports and the error line. The properties:
 
 * the terminal shows the verdict as its first line and no other line starts with ``Verdict``;
   the only escape sequences are the renderer's own colours (SGR), the same ones, in the same order,
@@ -35,12 +35,13 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from sweepaudit import AuditSettings, audit
+from sweepaudit import AuditSettings, audit, inspect
 from sweepaudit.calibration import calibrate_sweep
 from sweepaudit.cli import _error_line
 from sweepaudit.document import calibration_document
 from sweepaudit.read import LoadOptions, load_sweep
 from sweepaudit.render.calibration import render_calibration
+from sweepaudit.render.inspect import render_inspection
 from sweepaudit.render.json import dumps
 from sweepaudit.render.junit import audit_to_junit
 from sweepaudit.render.report import build_report
@@ -89,7 +90,8 @@ def template(tmp_path_factory):
     result = audit(sweep, settings=AuditSettings(resamples=200, seed=2), baseline=first.document,
                    baseline_path=str(folder / "FILEP.json"), ledger=folder / "LEDGERL.jsonl")
     calibration = calibrate_sweep(sweep, sweeps=2, edge=1.0, resamples=100, seed=3)
-    return result.document, calibration_document(calibration, command=f"sweepaudit calibrate {path}")
+    return (result.document, calibration_document(calibration, command=f"sweepaudit calibrate {path}"),
+            inspect(str(path), periods_per_year=52).document)
 
 
 def _hostile(doc, name):
@@ -177,12 +179,13 @@ def test_reports_keep_their_shape(template, name):
 
 
 @settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
-@given(name=hostile, colour=st.booleans())
-def test_calibration_output_cannot_be_styled(template, name, colour):
-    doc = _hostile(template[1], name)
+@given(name=hostile, colour=st.booleans(), which=st.sampled_from(["calibrate", "inspect"]))
+def test_calibration_and_inspection_output_cannot_be_styled(template, name, colour, which):
+    doc = _hostile(template[1] if which == "calibrate" else template[2], name)
     out = io.StringIO()
-    render_calibration(doc, terminal_console(file=out, width=100, force_terminal=colour,
-                                             color_system="truecolor" if colour else None))
+    render = render_calibration if which == "calibrate" else render_inspection
+    render(doc, terminal_console(file=out, width=100, force_terminal=colour,
+                                 color_system="truecolor" if colour else None))
     plain = SGR.sub("", out.getvalue())
     assert "\x1b" not in plain and _only_line_breaks(plain)
     assert not [line for line in plain.split("\n") if line.startswith("Verdict")]

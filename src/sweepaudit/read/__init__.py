@@ -1,4 +1,4 @@
-"""Files -> Sweep (T windows x N configurations): the only package that reads input files.
+"""Input -> Sweep (T windows x N configurations): the only package that reads input files and data.
 
 Two layouts are understood:
 
@@ -10,13 +10,18 @@ Every problem is an :class:`~sweepaudit.errors.InputError` naming the file, the 
 Rows are counted as data rows, 1-based, the header not counted (row 1 is the line after the header).
 Missing values are never filled.
 
-Modules: ``formats`` (bytes -> table), ``layout`` (window column, long or wide), ``build`` (table ->
-matrix), ``checks`` (the guards), ``dates`` (window order, periods per year), ``loader`` (the steps
-in order), ``options`` (:class:`LoadOptions`).
+In-memory data (a wide or long DataFrame, a numpy array with optional dates) is read by the same
+steps; messages then name ``<DataFrame>`` or ``<array>``, the column and the row with its index label.
+
+Modules: ``formats`` (bytes -> table: separators, decimal marks, Parquet index columns), ``memory``
+(DataFrames and arrays -> table), ``layout`` (window column, long or wide), ``build`` (table ->
+matrix), ``checks`` (the guards), ``dates`` (the one date reader, periods per year), ``aggregate``
+(finer returns compounded into windows), ``loader`` (the steps in order), ``options``
+(:class:`LoadOptions`).
 """
 
 from .formats import read_table
-from .loader import load_sweep
+from .loader import load_sweep, sweep_from_array
 from .options import LoadOptions
 
-__all__ = ["LoadOptions", "load_sweep", "read_table"]
+__all__ = ["LoadOptions", "load_sweep", "read_table", "sweep_from_array"]

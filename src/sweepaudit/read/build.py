@@ -1,29 +1,58 @@
-"""Table -> matrix: the T x N excess returns, configuration names, parameter table and windows of a
-long or a wide table, with a benchmark subtracted when the inputs are raw strategy returns.
+"""Table -> matrix: the T x N values, configuration names, parameter table, windows and, for raw
+strategy returns, the benchmark series of a long or a wide table.
 
-Each builder returns ``(matrix, names, parameters, window_labels, dates)`` with windows in time
-order; missing values are never filled (:func:`~sweepaudit.read.checks.coverage` refuses or trims).
+Each builder returns a :class:`Built` with windows in time order, in the file's units, the benchmark
+kept apart (the loader scales, aggregates and subtracts); missing values are never filled
+(:func:`~sweepaudit.read.checks.coverage` refuses or trims).
 """
 
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
 from ..errors import InputError
-from .checks import coverage, numeric
-from .dates import cell_label, looks_like_dates, order_windows
+from .checks import numeric
+from .dates import WindowDates, cell_label, order_windows, read_dates
 from .formats import read_table
 from .layout import ID_NAMES, VALUE_NAMES, WINDOW_NAMES, find_column, require_column
 from .options import LoadOptions
 
-__all__ = ["long_matrix", "wide_matrix", "subtract_benchmark_file", "parse_named_parameters"]
+__all__ = ["Built", "long_matrix", "wide_matrix", "benchmark_from_file", "parse_named_parameters"]
 
 
-def parse_named_parameters(names: list[str]) -> pd.DataFrame | None:
-    """Recover a parameter table from names like ``lookback=20, band=1.5``."""
+@dataclass
+class Built:
+    """What a builder read (mutable: the loader's later steps trim, scale and subtract in place).
+
+    ``columns[k]`` and ``rows[k]`` locate configuration ``k`` in the table (the column holding its
+    values and the 0-based data row of its first window), for messages; ``benchmark_where`` is the
+    benchmark's (file, column, row).
+    """
+
+    matrix: np.ndarray
+    names: list[str]
+    parameters: pd.DataFrame
+    windows: list[str]
+    dates: pd.DatetimeIndex | None
+    reading: WindowDates | None
+    columns: list[str]
+    rows: np.ndarray
+    benchmark: np.ndarray | None = None
+    benchmark_source: str | None = None
+    benchmark_where: tuple[str, str, int] | None = None
+    value_column: str | None = None
+    parameter_columns: tuple[str, ...] = ()
+    parameter_note: str | None = None
+    written: list[str] | None = None
+
+
+def parse_named_parameters(names: list[str]) -> tuple[pd.DataFrame | None, str | None]:
+    """Recover a parameter table from names like ``lookback=20, band=1.5``; when some names carry
+    parameters and the table cannot be built, say why."""
     rows = []
     for name in names:
         parts = [p.strip() for p in name.split(",")]
@@ -31,17 +60,29 @@ def parse_named_parameters(names: list[str]) -> pd.DataFrame | None:
         for part in parts:
             m = re.fullmatch(r"([A-Za-z_][\w.]*)\s*=\s*(.+)", part)
             if not m:
-                return None
+                return None, _why_no_table(names, name)
             row[m.group(1)] = m.group(2).strip()
         rows.append(row)
     table = pd.DataFrame(rows, index=pd.Index(names, name="configuration"))
     if table.isna().any().any():
-        return None
+        k = int(np.flatnonzero(table.isna().any(axis=1).to_numpy())[0])
+        missing = [c for c in table.columns if pd.isna(table.iloc[k][c])]
+        return None, (f"no parameter table: configuration {names[k]!r} has no value for {missing[0]!r}, which "
+                      "other names carry; the parameter surface check needs every name to carry every parameter")
     for col in table.columns:
         num = pd.to_numeric(table[col], errors="coerce")
         if num.notna().all():
             table[col] = num
-    return table
+    return table, None
+
+
+def _why_no_table(names: list[str], odd: str) -> str | None:
+    """A note when the names carry parameters but one does not (a benchmark column left in?)."""
+    carrying = sum("=" in n for n in names)
+    if carrying == 0:
+        return None
+    return (f"no parameter table: {carrying} of {len(names)} configuration names read like 'lookback=20, band=1.5' but "
+            f"{odd!r} does not; the parameter surface check needs every name in that form")
 
 
 # ---------------------------------------------------------------------------------------------
@@ -111,38 +152,56 @@ def _configurations(frame: pd.DataFrame, params: list[str], label: str) -> tuple
     return codes, names, single_id
 
 
-def _long_windows(frame: pd.DataFrame, window_col: str, label: str):
-    """Each row's window code, the unique window labels, their time-order key and dates."""
+def _long_windows(frame: pd.DataFrame, window_col: str, label: str, opt: LoadOptions):
+    """Each row's window code, the unique window labels, their time-order key and dates, and the
+    first data row of each unique window."""
     window_codes, raw_windows = pd.factorize(frame[window_col])
     if (window_codes < 0).any():
         r = int(np.flatnonzero(window_codes < 0)[0])
         raise InputError("missing window label", path=label, column=window_col, row=r + 1)
     first_rows = pd.Series(window_codes).drop_duplicates().index.to_numpy()
-    order_key, dates = order_windows(pd.Series(raw_windows), label, window_col, first_rows)
-    return window_codes, [cell_label(v) for v in raw_windows], order_key, dates
+    order_key, reading = order_windows(pd.Series(raw_windows), label, window_col, first_rows,
+                                       date_order=opt.date_order, date_format=opt.date_format)
+    return window_codes, [cell_label(v) for v in raw_windows], order_key, reading, first_rows
 
 
-def _subtract_benchmark_configuration(matrix, names: list[str], table: pd.DataFrame, opt: LoadOptions, label, notes):
+def _benchmark_configuration(built: Built, opt: LoadOptions, label: str, first_rows: np.ndarray) -> None:
+    """Take the benchmark configuration out of the matrix (kept apart for the loader to subtract)."""
+    names = built.names
     if opt.benchmark not in names:
         raise InputError(
             f"benchmark configuration {opt.benchmark!r} not found among the {len(names)} configurations",
             path=label,
         )
     b = names.index(opt.benchmark)
-    if np.isnan(matrix[:, b]).any():
+    if np.isnan(built.matrix[:, b]).any():
         raise InputError(f"benchmark configuration {opt.benchmark!r} misses windows", path=label)
-    matrix = np.delete(matrix, b, axis=1) - matrix[:, [b]]
+    built.benchmark = built.matrix[:, b].copy()
+    built.benchmark_source = f"configuration {opt.benchmark!r}"
+    built.benchmark_where = (label, built.value_column, int(first_rows[b]))
+    built.matrix = np.delete(built.matrix, b, axis=1)
     names.pop(b)
-    notes.append(f"excess returns computed against the benchmark configuration {opt.benchmark!r}")
-    return matrix, table.drop(index=opt.benchmark)
+    built.rows = np.delete(built.rows, b)
+    built.parameters = built.parameters.drop(index=opt.benchmark)
 
 
-def long_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions, notes: list[str]):
+def _windows_in_order(order: np.ndarray, uniques: list[str], reading: WindowDates | None):
+    """Window labels and dates in time order (dates shown as ISO dates, period labels as written),
+    and the labels as written."""
+    written = [uniques[i] for i in order]
+    if reading is None:
+        return written, None, written
+    dates = pd.DatetimeIndex(reading.dates[order])
+    labels = written if reading.keep_labels else [cell_label(d) for d in dates]
+    return labels, dates, written
+
+
+def long_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions) -> Built:
     """The matrix of a long table (one row per configuration and window)."""
     value_col, params = _long_columns(frame, label, window_col, opt)
     values = numeric(frame[value_col], label, value_col)
     config_codes, names, single_id = _configurations(frame, params, label)
-    window_codes, window_uniques, order_key, dates_unique = _long_windows(frame, window_col, label)
+    window_codes, window_uniques, order_key, reading, _ = _long_windows(frame, window_col, label, opt)
     # Duplicate (configuration, window) pairs: name the second occurrence.
     pair = config_codes.astype(np.int64) * (len(window_uniques) + 1) + window_codes
     dup = pd.Series(pair).duplicated().to_numpy()
@@ -159,44 +218,45 @@ def long_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: Lo
     rank[order] = np.arange(len(order))
     matrix = np.full((len(window_uniques), len(names)), np.nan)
     matrix[rank[window_codes], config_codes] = values
-    window_labels = [window_uniques[i] for i in order]
-    dates = None
-    if dates_unique is not None:
-        dates = pd.DatetimeIndex(dates_unique[order])
-        window_labels = [cell_label(d) for d in dates]
+    window_labels, dates, written = _windows_in_order(order, window_uniques, reading)
+    first_rows = pd.Series(np.arange(len(frame))).groupby(config_codes).first().to_numpy()
+    note = None
     if single_id:
-        table = pd.DataFrame(index=pd.Index(names, name="configuration"))
+        # An id column of names like "lookback=20, band=1.5" still gives a parameter table.
+        table, note = parse_named_parameters(names)
+        if table is None:
+            table = pd.DataFrame(index=pd.Index(names, name="configuration"))
     else:
-        first_rows = pd.Series(np.arange(len(frame))).groupby(config_codes).first().to_numpy()
         table = frame[params].iloc[first_rows].reset_index(drop=True)
         table.index = pd.Index(names, name="configuration")
+    built = Built(matrix, names, table, window_labels, dates, reading, [value_col] * len(names), first_rows.copy(),
+                  value_column=value_col, parameter_columns=tuple(params), written=written, parameter_note=note)
     if opt.benchmark is not None:
-        matrix, table = _subtract_benchmark_configuration(matrix, names, table, opt, label, notes)
-    matrix, window_labels, dates = coverage(matrix, names, window_labels, dates, opt, label, notes)
-    return matrix, names, table, window_labels, dates
+        _benchmark_configuration(built, opt, label, first_rows)
+        built.columns = [value_col] * len(built.names)
+    return built
 
 
 # ---------------------------------------------------------------------------------------------
 # wide: one row per window, one column per configuration
 
 
-def _wide_windows(frame: pd.DataFrame, label: str, window_col: str | None):
+def _wide_windows(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions):
     """The row order (time order), the window labels and dates, and the configuration columns."""
     if window_col is None:
         order = np.arange(len(frame))
-        return order, [str(i + 1) for i in order], None, list(frame.columns)
+        labels = [str(i + 1) for i in order]
+        return order, labels, None, None, labels, list(frame.columns)
     labels = frame[window_col]
     dup = labels.duplicated().to_numpy()
     if dup.any():
         r = int(np.flatnonzero(dup)[0])
         raise InputError(f"window {cell_label(labels.iloc[r])!r} appears twice", path=label, column=window_col, row=r + 1)
-    order_key, dates = order_windows(labels, label, window_col)
+    order_key, reading = order_windows(labels, label, window_col, date_order=opt.date_order,
+                                       date_format=opt.date_format)
     order = np.argsort(order_key.to_numpy(), kind="stable")
-    window_labels = [cell_label(v) for v in labels.iloc[order]]
-    if dates is not None:
-        dates = pd.DatetimeIndex(dates[order])
-        window_labels = [cell_label(d) for d in dates]
-    return order, window_labels, dates, [c for c in frame.columns if c != window_col]
+    window_labels, dates, written = _windows_in_order(order, [cell_label(v) for v in labels], reading)
+    return order, window_labels, dates, reading, written, [c for c in frame.columns if c != window_col]
 
 
 def _wide_values(frame: pd.DataFrame, label: str, config_cols: list[str], order: np.ndarray) -> np.ndarray:
@@ -213,9 +273,9 @@ def _wide_values(frame: pd.DataFrame, label: str, config_cols: list[str], order:
     return np.column_stack([numeric(frame[c], label, c, allow_missing=True) for c in config_cols])[order]
 
 
-def wide_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions, notes: list[str]):
+def wide_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions) -> Built:
     """The matrix of a wide table (one row per window, one column per configuration)."""
-    order, window_labels, dates, config_cols = _wide_windows(frame, label, window_col)
+    order, window_labels, dates, reading, written, config_cols = _wide_windows(frame, label, window_col, opt)
     if opt.benchmark is not None:
         require_column(frame, opt.benchmark, label, "benchmark")
         if opt.benchmark not in config_cols:
@@ -224,29 +284,34 @@ def wide_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: Lo
         raise InputError("no configuration columns: a wide file needs one column per configuration", path=label)
     matrix = _wide_values(frame, label, config_cols, order)
     names = list(config_cols)
+    built = Built(matrix, names, pd.DataFrame(), window_labels, dates, reading, names,
+                  np.full(len(names), int(order[0]) if len(order) else 0), written=written)
     if opt.benchmark is not None:
         b = names.index(opt.benchmark)
         bench = matrix[:, b]
         if np.isnan(bench).any():
             r = int(order[np.flatnonzero(np.isnan(bench))[0]])
             raise InputError("missing benchmark value", path=label, column=opt.benchmark, row=r + 1)
-        matrix = np.delete(matrix, b, axis=1) - bench[:, None]
+        built.matrix = np.delete(matrix, b, axis=1)
+        built.benchmark = bench.copy()
+        built.benchmark_source = f"column {opt.benchmark!r}"
+        built.benchmark_where = (label, opt.benchmark, int(order[0]))
         names.pop(b)
-        notes.append(f"excess returns computed against the benchmark column {opt.benchmark!r}")
-    table = parse_named_parameters(names)
-    if table is None:
-        table = pd.DataFrame(index=pd.Index(names, name="configuration"))
-    matrix, window_labels, dates = coverage(matrix, names, window_labels, dates, opt, label, notes)
-    return matrix, names, table, window_labels, dates
+        built.rows = built.rows[1:]
+    built.names = names
+    built.columns = list(names)
+    table, built.parameter_note = parse_named_parameters(names)
+    built.parameters = table if table is not None else pd.DataFrame(index=pd.Index(names, name="configuration"))
+    return built
 
 
 # ---------------------------------------------------------------------------------------------
 # a benchmark in its own file
 
 
-def subtract_benchmark_file(matrix, window_labels, dates, opt: LoadOptions, notes):
-    """Excess returns against the benchmark series of ``opt.benchmark_file``, matched by window."""
-    frame, label, _ = read_table(opt.benchmark_file)
+def benchmark_from_file(built: Built, opt: LoadOptions) -> None:
+    """The benchmark series of ``opt.benchmark_file``, matched to the windows by date (or label)."""
+    frame, label, _ = read_table(opt.benchmark_file, opt)
     columns = list(frame.columns)
     wcol = find_column(columns, WINDOW_NAMES) or columns[0]
     vcols = [c for c in columns if c != wcol]
@@ -259,13 +324,13 @@ def subtract_benchmark_file(matrix, window_labels, dates, opt: LoadOptions, note
         )
     values = numeric(frame[vcols[0]], label, vcols[0])
     keys = frame[wcol]
-    bdates = looks_like_dates(keys)
-    if dates is not None and bdates is not None:
-        lookup = pd.Series(values, index=bdates)
-        wanted = dates
+    bdates = read_dates(keys, date_order=opt.date_order, date_format=opt.date_format, path=label, column=wcol)
+    if built.dates is not None and bdates is not None:
+        lookup = pd.Series(values, index=bdates.dates)
+        wanted = built.dates
     else:
         lookup = pd.Series(values, index=keys.astype(object).map(cell_label).to_numpy())
-        wanted = pd.Index(window_labels)
+        wanted = pd.Index(built.windows)
     if lookup.index.duplicated().any():
         r = int(np.flatnonzero(lookup.index.duplicated())[0])
         raise InputError("window appears twice", path=label, column=wcol, row=r + 1)
@@ -273,9 +338,11 @@ def subtract_benchmark_file(matrix, window_labels, dates, opt: LoadOptions, note
     if aligned.isna().any():
         t = int(np.flatnonzero(aligned.isna().to_numpy())[0])
         raise InputError(
-            f"no benchmark value for window {window_labels[t]!r} ({int(aligned.isna().sum())} windows missing)",
+            f"no benchmark value for window {built.windows[t]!r} ({int(aligned.isna().sum())} windows missing)",
             path=label,
             column=wcol,
         )
-    notes.append(f"excess returns computed against the benchmark file {label}")
-    return matrix - aligned.to_numpy()[:, None]
+    positions = lookup.index.get_indexer(wanted)
+    built.benchmark = aligned.to_numpy(dtype=np.float64)
+    built.benchmark_source = f"file {label}"
+    built.benchmark_where = (label, vcols[0], int(positions[0]))

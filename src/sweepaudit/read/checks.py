@@ -8,9 +8,13 @@ import pandas as pd
 
 from ..errors import DegenerateDataError, InputError
 from ..sweep import MIN_WINDOWS
+from .dates import numeric_dates
 from .options import LoadOptions
 
-__all__ = ["numeric", "refuse_whole_number_columns", "coverage", "check_matrix"]
+__all__ = [
+    "numeric", "refuse_whole_number_columns", "coverage", "LEVEL_RATIO", "level_like", "refuse_levels",
+    "refuse_level_excess", "check_matrix",
+]
 
 
 def numeric(series: pd.Series, label: str, column: str, *, allow_missing: bool = False) -> np.ndarray:
@@ -63,11 +67,12 @@ def refuse_whole_number_columns(
             )
 
 
-def coverage(matrix: np.ndarray, names, window_labels, dates, opt: LoadOptions, label: str, notes):
+def coverage(built, opt: LoadOptions, label: str, notes: list[str]) -> None:
     """Refuse (or, with common_windows, trim) configurations covering different windows."""
+    matrix, names, window_labels = built.matrix, built.names, built.windows
     missing = np.isnan(matrix)
     if not missing.any():
-        return matrix, window_labels, dates
+        return
     affected = int(missing.any(axis=0).sum())
     full = ~missing.any(axis=1)
     if not opt.common_windows:
@@ -84,13 +89,116 @@ def coverage(matrix: np.ndarray, names, window_labels, dates, opt: LoadOptions, 
         f"kept the {int(full.sum())} windows common to every configuration; dropped "
         f"{int((~full).sum())} windows ({affected} configurations were incomplete)"
     )
-    labels = [w for w, keep in zip(window_labels, full) if keep]
-    return matrix[full], labels, (dates[full] if dates is not None else None)
+    built.matrix = matrix[full]
+    built.windows = [w for w, keep in zip(window_labels, full) if keep]
+    if built.written is not None:
+        built.written = [w for w, keep in zip(built.written, full) if keep]
+    if built.dates is not None:
+        built.dates = built.dates[full]
+    if built.benchmark is not None:
+        built.benchmark = built.benchmark[full]
 
 
-def check_matrix(matrix: np.ndarray, names: list[str], label: str, layout: str, units: str, notes: list[str]) -> None:
-    """A matrix (in fractions) that can be audited: configurations, enough windows, no constant one;
-    a note for a return of 100% or more in a window (wrong units?)."""
+#: A column whose values all share one sign and sit this many times their typical window-to-window
+#: change away from zero is a level (a price, an index, a cumulative equity curve), not returns: for
+#: returns the ratio is about the per-window Sharpe ratio over the square root of 2 (0.1 to 0.3 for
+#: a good strategy), so 4 means a per-window Sharpe ratio near 6, which no strategy earns.
+LEVEL_RATIO = 4.0
+
+
+def level_like(matrix: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Per column: is it level-like, and its distance from zero in window-to-window changes."""
+    if matrix.shape[0] < 3:
+        return np.zeros(matrix.shape[1], dtype=bool), np.zeros(matrix.shape[1])
+    step = np.diff(matrix, axis=0).std(axis=0)
+    centre = np.abs(matrix.mean(axis=0))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        # A constant column is no level: check_matrix refuses it as constant.
+        ratio = np.where(step > 0, centre / step, 0.0)
+    same_sign = np.all(matrix > 0, axis=0) | np.all(matrix < 0, axis=0)
+    return same_sign & (ratio > LEVEL_RATIO), ratio
+
+
+def _counter_like(matrix: np.ndarray) -> np.ndarray:
+    """Per column: whole numbers that only rise or only fall (a counter, an index, dates)."""
+    whole = np.all(matrix == np.round(matrix), axis=0)
+    if matrix.shape[0] < 2:
+        return np.zeros(matrix.shape[1], dtype=bool)
+    d = np.diff(matrix, axis=0)
+    rising = np.all(d >= 0, axis=0) & np.any(d > 0, axis=0)
+    falling = np.all(d <= 0, axis=0) & np.any(d < 0, axis=0)
+    return whole & (rising | falling)
+
+
+def _date_like(values: np.ndarray) -> str | None:
+    read = numeric_dates(pd.Series(values))
+    return read.form if read is not None else None
+
+
+def refuse_levels(built, label: str) -> None:
+    """Refuse a configuration (or benchmark) that looks like dates, a counter, a price level or a
+    cumulative equity curve: whatever the units, such a column is never audited as returns.
+
+    Checked on the values as written (before units are applied), so no option bypasses it.
+    """
+    m = built.matrix
+    counters = _counter_like(m)
+    in_range = np.zeros(m.shape[1], dtype=bool)
+    for low in (180_000, 18_000_000):  # YYYYMM and YYYYMMDD numbers from 1800 to 2199
+        in_range |= np.all((m >= low) & (m < low * 22 / 18), axis=0)
+    whole = np.all(m == np.round(m), axis=0) & (in_range | counters)
+    for k in np.flatnonzero(whole):
+        form = _date_like(m[:, k])
+        if form is not None or counters[k]:
+            _refuse(built, int(k), label, f"looks like dates ({form})" if form else
+                    "looks like a counter or an index (whole numbers that only rise or only fall)")
+    level, ratio = level_like(m)
+    if level.any():
+        k = int(np.flatnonzero(level)[0])
+        _refuse(built, k, label, _level_reason(m[:, k], ratio[k]))
+    if built.benchmark is not None:
+        b = built.benchmark[:, None]
+        form = _date_like(b[:, 0]) if np.all(b == np.round(b)) else None
+        if form is not None or _counter_like(b)[0]:
+            path, column, row = built.benchmark_where
+            raise InputError(
+                f"the benchmark looks like {'dates (' + form + ')' if form else 'a counter or an index'}, not "
+                "returns", path=path, column=column, row=row + 1,
+            )
+
+
+def _level_reason(values: np.ndarray, ratio: float) -> str:
+    sign = "positive" if values[0] > 0 else "negative"
+    return (
+        f"looks like a price level or a cumulative equity curve, not returns: every value is {sign} and the "
+        f"values sit {ratio:.3g} times their typical window-to-window change away from zero (returns sit "
+        "well under 1); give per-window returns"
+    )
+
+
+def _refuse(built, k: int, label: str, reason: str) -> None:
+    column = built.columns[k]
+    where = f"configuration {built.names[k]!r} " if column != built.names[k] else ""
+    raise InputError(f"{where}{reason}; no option reads it as returns", path=label, column=column,
+                     row=int(built.rows[k]) + 1)
+
+
+def refuse_level_excess(matrix: np.ndarray, names: list[str], built, label: str) -> None:
+    """After a benchmark was subtracted: excess returns that look like a level mean the benchmark
+    is a price level or an equity curve."""
+    level, ratio = level_like(matrix)
+    if level.any():
+        k = int(np.flatnonzero(level)[0])
+        path, column, row = built.benchmark_where
+        raise InputError(
+            f"the excess returns of {names[k]!r} over this benchmark look like a level (they sit {ratio[k]:.3g} "
+            "times their window-to-window change away from zero): is the benchmark a price level or an "
+            "equity curve? give the benchmark's per-window returns", path=path, column=column, row=row + 1,
+        )
+
+
+def check_matrix(matrix: np.ndarray, names: list[str], label: str, layout: str, columns: list[str]) -> None:
+    """A matrix (in fractions) that can be audited: configurations, enough windows, no constant one."""
     t, n = matrix.shape
     if n == 0:
         raise InputError("no configuration columns to audit", path=label)
@@ -100,20 +208,14 @@ def check_matrix(matrix: np.ndarray, names: list[str], label: str, layout: str, 
             "estimates), and the selection tests need many more to say anything",
             path=label,
         )
-    biggest = np.abs(matrix).max(axis=0)
-    if biggest.max() >= 1.0:
-        k = int(np.argmax(biggest))
-        notes.append(
-            f"configuration {names[k]!r} has an excess return of {biggest[k]:g} (100% or more) in one "
-            f"window, read as {units}: check --units (percent? bps?) and that it is a return column"
-        )
     sd = matrix.std(axis=0)
     constant = np.flatnonzero(sd <= 1e-15 * np.maximum(1.0, np.abs(matrix).max(axis=0)))
     if len(constant):
         k = int(constant[0])
+        never = " (it never invests)" if matrix[0, k] == 0 else ""
         raise DegenerateDataError(
-            f"configuration {names[k]!r} is constant (every window = {matrix[0, k]:g}): its "
+            f"configuration {names[k]!r} is constant (every window = {matrix[0, k]:g}){never}: its "
             f"Sharpe ratio is undefined; remove it ({len(constant)} constant configuration(s) in all)",
             path=label,
-            column=names[k] if layout == "wide" else None,
+            column=columns[k] if layout != "long" else None,
         )

@@ -1,17 +1,34 @@
 """Which column holds the windows, and is the file long (one row per configuration and window) or
-wide (one row per window, one column per configuration)?"""
+wide (one row per window, one column per configuration)?
+
+The window column is the one named by the options, else the first named like a window
+(:data:`WINDOW_NAMES`), else the first column holding datetimes, else a first column of text, else a
+first column of YYYYMM or YYYYMMDD numbers.
+"""
 
 from __future__ import annotations
+
+import re
 
 import pandas as pd
 
 from ..errors import InputError
+from .dates import numeric_dates
 from .options import LoadOptions
 
-__all__ = ["WINDOW_NAMES", "VALUE_NAMES", "ID_NAMES", "find_column", "require_column", "window_column", "layout_of"]
+__all__ = [
+    "WINDOW_NAMES", "VALUE_NAMES", "ID_NAMES", "BENCHMARK_NAME", "find_column", "require_column", "window_column",
+    "layout_of",
+]
 
-WINDOW_NAMES = ("window", "date", "period", "week", "month", "day", "time", "timestamp", "window_end")
+WINDOW_NAMES = ("window", "date", "period", "week", "month", "day", "time", "timestamp", "window_end", "datetime",
+                "yyyymm", "yyyymmdd", "month_end", "period_end", "week_end", "quarter")
 VALUE_NAMES = ("excess_return", "excess", "value", "return", "returns", "ret", "pnl")
+#: A configuration named like this is probably the benchmark of raw strategy returns, not a strategy.
+BENCHMARK_NAME = re.compile(
+    r"(^|[^a-z])(bench(mark)?|index|market|mkt|buy[_ -]?(and|&|n)?[_ -]?hold|b&h|bnh|passive|spx)([^a-z]|$)",
+    re.IGNORECASE,
+)
 ID_NAMES = ("configuration", "config", "config_id", "configuration_id", "strategy", "id", "name")
 
 
@@ -59,8 +76,16 @@ def window_column(frame: pd.DataFrame, label: str, options: LoadOptions) -> str 
         require_column(frame, options.window_column, label, "window")
         return options.window_column
     found = find_column(columns, WINDOW_NAMES)
-    if found is None and not pd.api.types.is_numeric_dtype(frame[columns[0]]):
-        found = columns[0]
+    if found is None:
+        stamped = [c for c in columns if pd.api.types.is_datetime64_any_dtype(frame[c])]
+        first = frame[columns[0]]
+        if stamped:
+            found = stamped[0]
+        elif not pd.api.types.is_numeric_dtype(first):
+            found = columns[0]
+        elif numeric_dates(first.drop_duplicates()) is not None:
+            # A first column of YYYYMM or YYYYMMDD numbers is a date column exported as numbers.
+            found = columns[0]
     return found
 
 

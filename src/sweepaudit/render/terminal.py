@@ -26,7 +26,7 @@ from rich.text import Text
 from ..format import fmt, pct, prob, sig
 from .safe import visible_document
 
-__all__ = ["render_terminal", "terminal_console", "offscreen_console", "terminal_text"]
+__all__ = ["render_terminal", "terminal_console", "offscreen_console", "terminal_text", "text_row", "indented"]
 
 _INDENT = 2
 
@@ -36,12 +36,12 @@ def terminal_console(**options) -> Console:
     return Console(markup=False, emoji=False, highlight=False, **options)
 
 
-def _indented(*parts: RenderableType) -> Padding:
+def indented(*parts: RenderableType) -> Padding:
     """Parts shown indented: wrapped lines included, none starts at the first column."""
     return Padding(Group(*parts), (0, 0, 0, _INDENT), expand=False)
 
 
-def _row(table: Table, *cells: str) -> None:
+def text_row(table: Table, *cells: str) -> None:
     """A table row of plain text (a ``str`` cell would be parsed as markup)."""
     table.add_row(*(Text(c) for c in cells))
 
@@ -62,23 +62,27 @@ def _verdict(doc: dict) -> list:
     go = doc["verdict"] == "go"
     sel = doc["selected"]
     head = Text.assemble(("Verdict: ", "bold"), ("GO" if go else "NO-GO", "bold green" if go else "bold red"))
-    chosen = _indented(Text.assemble(("selected configuration: ", "bold"), sel["configuration"]),
-                       Text(f"chosen as: {sel['rule']}", style="dim"))
-    reasons = _indented(*(Text(f"- {r}") for r in doc["reasons"]))
-    return [head, chosen, Text("Reasons", style="bold"), reasons, Text("")]
+    lines = [Text.assemble(("selected configuration: ", "bold"), sel["configuration"]),
+             Text(f"chosen as: {sel['rule']}", style="dim")]
+    # Returns that do not look like returns stand on the first screen, passed or not.
+    for c in doc["checks"]:
+        if c["id"] == "plausible_returns" and (not c["passed"] or c["reason"].startswith("Implausible")):
+            lines.append(Text(f"! {c['reason']}", style="bold yellow"))
+    reasons = indented(*(Text(f"- {r}") for r in doc["reasons"]))
+    return [head, indented(*lines), Text("Reasons", style="bold"), reasons, Text("")]
 
 
 def _data_table(doc: dict) -> Table:
     inp, st = doc["input"], doc["settings"]
     data = Table(title=Text("The data"), show_header=False, box=None, title_justify="left")
-    _row(data, "file", f"{inp['path']} ({inp['layout']} layout)")
+    text_row(data, "file", f"{inp['path']} ({inp['layout']} layout)")
     plural = "s" if inp["configurations"] != 1 else ""
-    _row(data, "sweep", f"{inp['configurations']:,} configuration{plural} x {inp['windows']:,} windows, "
+    text_row(data, "sweep", f"{inp['configurations']:,} configuration{plural} x {inp['windows']:,} windows, "
                         f"{inp['first_window']} to {inp['last_window']}")
     ppy = inp["periods_per_year"]
-    _row(data, "periods per year", f"{fmt(ppy)} ({inp['periods_per_year_source']}"
+    text_row(data, "periods per year", f"{fmt(ppy)} ({inp['periods_per_year_source']}"
          + (f", {inp['frequency']})" if inp.get("frequency") else ")") if ppy else "unknown: figures per window")
-    _row(data, "resampling", f"{st['resamples']:,} {st['bootstrap']} bootstrap resamples, block length "
+    text_row(data, "resampling", f"{st['resamples']:,} {st['bootstrap']} bootstrap resamples, block length "
          f"{fmt(st['block_length'], 3)}, seed {st['seed']}")
     return data
 
@@ -91,15 +95,15 @@ def _selected_table(doc: dict) -> Table:
     figures.add_column("figure")
     figures.add_column("per window")
     figures.add_column("annualized")
-    _row(figures, "mean excess return", _iv(boot["mean"], as_pct=True), _iv(boot["mean_annualized"], as_pct=True))
-    _row(figures, "Sharpe ratio", _iv(boot["sharpe"]), _iv(boot["sharpe_annualized"]))
+    text_row(figures, "mean excess return", _iv(boot["mean"], as_pct=True), _iv(boot["mean_annualized"], as_pct=True))
+    text_row(figures, "Sharpe ratio", _iv(boot["sharpe"]), _iv(boot["sharpe_annualized"]))
     return figures
 
 
 def _surface_text(surface: dict) -> Group:
     verdict = ("an ISOLATED PEAK among weak neighbours: what selection luck looks like"
                if surface["isolated_peak"] else "not an isolated peak")
-    return Group(Text("Parameter surface", style="bold"), _indented(Text(
+    return Group(Text("Parameter surface", style="bold"), indented(Text(
         f"parameters {', '.join(surface['parameters'])}: the selected cell's Sharpe ratio "
         f"{fmt(surface['selected_sharpe'])} against {fmt(surface['neighbour_mean_sharpe'])} on average over "
         f"its {surface['neighbours']} grid neighbours ({fmt(surface['gap_in_standard_errors'], 3)} standard "
@@ -130,7 +134,7 @@ def _checks_table(doc: dict) -> Table:
         state = "pass" if c["passed"] else "FAIL"
         if not c["required"]:
             state += " (advisory)"
-        _row(checks, c["id"], state, fmt(c["value"]), fmt(c["threshold"]))
+        text_row(checks, c["id"], state, fmt(c["value"]), fmt(c["threshold"]))
     return checks
 
 
@@ -138,7 +142,7 @@ def _sections(doc: dict) -> list:
     parts = [*_verdict(doc), _data_table(doc), _selected_table(doc), *_method_parts(doc), _checks_table(doc)]
     parts += _gate_sections(doc)
     if doc["warnings"]:
-        parts += [Text("Warnings", style="bold yellow"), _indented(*(Text(f"! {w}") for w in doc["warnings"])),
+        parts += [Text("Warnings", style="bold yellow"), indented(*(Text(f"! {w}") for w in doc["warnings"])),
                   Text("")]
     parts.append(Text(doc["caution"], style="italic"))
     return parts
@@ -152,17 +156,17 @@ def _snooping_table(sn: dict, selected: str) -> Table:
               title_justify="left", show_header=False)
     t.add_column("figure")
     t.add_column("value")
-    _row(t, "White's reality check p-value", prob(sn["reality_check"]["pvalue"]))
+    text_row(t, "White's reality check p-value", prob(sn["reality_check"]["pvalue"]))
     spa = sn["spa"]
-    _row(t, f"Hansen's SPA p-value ({'studentized' if spa['studentized'] else 'not studentized'})",
+    text_row(t, f"Hansen's SPA p-value ({'studentized' if spa['studentized'] else 'not studentized'})",
               f"consistent {prob(spa['pvalue'])}  (lower {prob(spa['pvalue_lower'])}, upper {prob(spa['pvalue_upper'])})")
     st = sn["stepm"]
     names = st["significant"]
     shown = "; ".join(names[:_STEPM_SHOWN]) + (f", ... ({len(names) - _STEPM_SHOWN} more)" if len(names) > _STEPM_SHOWN else "")
-    _row(t, f"StepM: beat the benchmark at {sig(st['level'], 6)}", f"{len(names)}: {shown}" if names else "none")
-    _row(t, "selected configuration survives StepM",
+    text_row(t, f"StepM: beat the benchmark at {sig(st['level'], 6)}", f"{len(names)}: {shown}" if names else "none")
+    text_row(t, "selected configuration survives StepM",
               "yes" if sn["selected_survives_stepm"] else f"NO: {selected} is not among them")
-    _row(t, "gate", f"{sn['gating']} p-value {prob(sn['gating_pvalue'])}")
+    text_row(t, "gate", f"{sn['gating']} p-value {prob(sn['gating_pvalue'])}")
     return t
 
 
@@ -171,17 +175,17 @@ def _overfitting_table(ov: dict) -> Table:
                          f"({ov['statistic']})"), title_justify="left", show_header=False)
     t.add_column("figure")
     t.add_column("value")
-    _row(t, "probability of backtest overfitting (PBO)",
+    text_row(t, "probability of backtest overfitting (PBO)",
               f"{prob(ov['probability_of_overfitting'])}  (pure luck: {prob(ov['null_probability_of_overfitting'])})")
-    _row(t, "in-sample winner loses out of sample", prob(ov["probability_of_loss"]))
+    text_row(t, "in-sample winner loses out of sample", prob(ov["probability_of_loss"]))
     deg = ov["degradation"]
-    _row(t, "degradation: out-of-sample = a + b x in-sample",
+    text_row(t, "degradation: out-of-sample = a + b x in-sample",
               f"b = {fmt(deg['slope'], 3)}, a = {fmt(deg['intercept'], 3)}, R^2 = {fmt(deg['r_squared'], 3)}")
     sd = ov["stochastic_dominance"]
-    _row(t, "winner dominates a random pick (1st / 2nd order)",
+    text_row(t, "winner dominates a random pick (1st / 2nd order)",
               f"{'yes' if sd['first_order'] else 'no'} / "
               f"{'-' if sd['second_order'] is None else ('yes' if sd['second_order'] else 'no')}")
-    _row(t, "diagnosis", ov["diagnosis"]["case"].replace("_", " "))
+    text_row(t, "diagnosis", ov["diagnosis"]["case"].replace("_", " "))
     return t
 
 
@@ -192,20 +196,20 @@ def _sharpe_table(sh: dict, ppy) -> Table:
     t.add_column("figure")
     t.add_column("value")
     ann = lambda v, a: fmt(v) + (f"  ({fmt(a, 3)} annualized)" if a is not None else "")
-    _row(t, "selected Sharpe ratio", ann(sh["observed"], sh["observed_annualized"]))
-    _row(t, "skewness / kurtosis (raw)", f"{fmt(sh['skewness'], 3)} / {fmt(sh['kurtosis'], 3)}")
-    _row(t, "probabilistic Sharpe ratio vs 0", prob(sh["probabilistic"]["probability"]))
-    _row(t, "trials / effective trials", f"{fmt(d['trials'], 6)} / {fmt(d['effective_trials'], 3)} "
+    text_row(t, "selected Sharpe ratio", ann(sh["observed"], sh["observed_annualized"]))
+    text_row(t, "skewness / kurtosis (raw)", f"{fmt(sh['skewness'], 3)} / {fmt(sh['kurtosis'], 3)}")
+    text_row(t, "probabilistic Sharpe ratio vs 0", prob(sh["probabilistic"]["probability"]))
+    text_row(t, "trials / effective trials", f"{fmt(d['trials'], 6)} / {fmt(d['effective_trials'], 3)} "
               f"({d['effective_trials_method']}); deflation uses {d['trials_used']} trials")
-    _row(t, "best-of-trials luck benchmark", ann(d["benchmark_sharpe"], d["benchmark_sharpe_annualized"])
+    text_row(t, "best-of-trials luck benchmark", ann(d["benchmark_sharpe"], d["benchmark_sharpe_annualized"])
               + f"  [{d['variance_mode']} variance, {d['expected_maximum']} expected maximum]")
-    _row(t, "deflated Sharpe probability", prob(d["probability"]))
+    text_row(t, "deflated Sharpe probability", prob(d["probability"]))
     mtrl = sh["min_track_record"]
-    _row(t, "minimum track record", "-" if mtrl["observations"] is None else
+    text_row(t, "minimum track record", "-" if mtrl["observations"] is None else
               f"{fmt(mtrl['observations'])} windows" + (f" ({fmt(mtrl['years'], 3)} years)" if mtrl["years"] else ""))
     hc = sh.get("haircut")
     if hc:
-        _row(t, "haircut Sharpe (Bonferroni / Holm / BHY)",
+        text_row(t, "haircut Sharpe (Bonferroni / Holm / BHY)",
                   " / ".join(fmt(hc[m]["sharpe_annualized"] if ppy else hc[m]["sharpe"], 3) for m in ("bonferroni", "holm", "bhy"))
                   + (" annualized" if ppy else " per window"))
     t.caption = Text("The deflated probability is the chance that the true Sharpe ratio beats what the best "
@@ -222,7 +226,7 @@ def _ledger_part(ledger: dict) -> Group:
                   f"sweeps recorded, {ledger['trials_counted']:,} trials counted")]
     if ledger.get("note"):
         lines.append(Text(ledger["note"]))
-    return Group(Text("Trial ledger", style="bold"), _indented(*lines), Text(""))
+    return Group(Text("Trial ledger", style="bold"), indented(*lines), Text(""))
 
 
 def _baseline_table(base: dict) -> Table:
@@ -232,7 +236,7 @@ def _baseline_table(base: dict) -> Table:
         table.add_column(name)
     for g in base["gated"]:
         flag = "EXCEEDED" if g["exceeded"] else ("worse" if g in base["worsened"] else "")
-        _row(table, g["key"].removeprefix("results."), fmt(g["before"]), fmt(g["after"]), fmt(g["change"]),
+        text_row(table, g["key"].removeprefix("results."), fmt(g["before"]), fmt(g["after"]), fmt(g["change"]),
              fmt(g["allowed_worsening"]), flag)
     return table
 
@@ -253,7 +257,7 @@ def _baseline_moves(base: dict) -> Padding:
              for m in summary[:_MOVES_SHOWN]]
     if len(summary) > _MOVES_SHOWN:
         shown.append(Text(f"... and {len(summary) - _MOVES_SHOWN:,} more"))
-    return _indented(*lines, _indented(*shown))
+    return indented(*lines, indented(*shown))
 
 
 def _gate_sections(doc: dict) -> list:
@@ -264,7 +268,7 @@ def _gate_sections(doc: dict) -> list:
     base = doc.get("baseline")
     if base:
         parts += [_baseline_table(base),
-                  _indented(Text(f"baseline file: {base['path']} (verdict then: {base['verdict_before']})")),
+                  indented(Text(f"baseline file: {base['path']} (verdict then: {base['verdict_before']})")),
                   _baseline_moves(base), Text("")]
     return parts
 
