@@ -52,7 +52,7 @@ def render_calibration(document: dict, console: Console | None = None) -> None:
     say("Calibration")  # the user's strings come indented, on lines of their own
     say(
         f"{document['input']['path']} ({document['input']['windows']} windows x "
-        f"{document['input']['configurations']} configurations), selected {document['selected']['configuration']!r}; "
+        f"{document['input']['configurations']} configurations), selected '{document['selected']['configuration']}'; "
         f"its own verdict: {document['observed_verdict']}.", indent=2,
     )
     say(

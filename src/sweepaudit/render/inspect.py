@@ -39,9 +39,9 @@ def _reading_table(doc: dict) -> Table:
     t = Table(title=Text("How the input was read"), show_header=False, box=None, title_justify="left")
     source = r["source"] or "-"
     if r.get("separator") is not None:
-        source += f", separator {r['separator']!r}, decimal mark {r['decimal']!r}"
+        source += f", separator '{r['separator']}', decimal mark '{r['decimal']}'"
         if r.get("thousands"):
-            source += f", thousands separator {r['thousands']!r}"
+            source += f", thousands separator '{r['thousands']}'"
     if r.get("index_columns"):
         source += f", index column(s) {', '.join(r['index_columns'])}"
     text_row(t, "input", f"{doc['input']['path']} ({source}; {r['rows']:,} rows)")

@@ -244,7 +244,7 @@ def _baseline_table(base: dict) -> Table:
 def _baseline_moves(base: dict) -> Padding:
     lines = []
     if base.get("selected_changed"):
-        lines.append(Text(f"! the baseline judged {base['selected_before']!r}: the selected figures compare "
+        lines.append(Text(f"! the baseline judged '{base['selected_before']}': the selected figures compare "
                           "different configurations"))
     lines += [Text(f"check {c['id']}: {c['before']} -> {c['after']}") for c in base["checks_changed"]]
     moved = base["moved"]
