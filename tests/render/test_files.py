@@ -459,3 +459,40 @@ def test_standard_output_on_a_full_disk_takes_everything_back(versions, tmp_path
     assert done.returncode == 2
     assert done.stderr == "sweepaudit: error: cannot write to standard output: no space left on device\n"
     assert _snapshot(tmp_path / "out") == before
+
+
+@pytest.mark.slow
+def test_kill_9_at_random_moments_of_a_real_run(versions, tmp_path):
+    """The command line in a child process, SIGKILLed after a random delay (seeded), many times:
+    each output old or whole and new, the report's figures all there, the ledger record only after
+    every output."""
+    import json
+    import random
+    import xml.etree.ElementTree as ET
+
+    rng = random.Random(16)
+    sweep = write_wide(tmp_path / "s.csv", synthetic_returns())
+    template = tmp_path / "template"
+    before = _old_state(template, versions)
+    for run_number in range(12):
+        work = tmp_path / f"run{run_number}"
+        shutil.copytree(template, work, symlinks=True)
+        child = subprocess.Popen([sys.executable, "-m", "sweepaudit", "audit", str(sweep), "--resamples", "200",
+                                  "-q", "--json", str(work / "a.json"), "--junit", str(work / "a.xml"),
+                                  "--report", str(work / "r.md"), "--ledger", str(work / "trials.jsonl")])
+        time.sleep(rng.uniform(1.0, 6.0))
+        child.send_signal(signal.SIGKILL)
+        child.wait()
+        now = _snapshot(work)
+        for name, data in USER_FILES.items():
+            assert now[name] == data
+        json.loads(now["a.json"])
+        if now["a.xml"] != before["a.xml"]:
+            ET.fromstring(now["a.xml"])
+        for figure in _linked_figures(now["r.md"]):
+            assert f"r_figures/{figure}" in now
+        lines, old = now["trials.jsonl"].splitlines(), before["trials.jsonl"].splitlines()
+        assert lines[: len(old)] == old and len(lines) - len(old) in (0, 1)
+        if len(lines) > len(old):
+            assert all(now[k] != before[k] for k in ("a.json", "a.xml", "r.md"))
+        shutil.rmtree(work)
