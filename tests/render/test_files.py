@@ -11,7 +11,8 @@ Internal consistency (no outside reference applies); the faults are real where t
   and whole, the report with all its figures, the user's files untouched, the ledger unchanged or
   with one whole new line, and that line only if every output is new; a later run must then clean
   exactly the hidden files the killed run left;
-* stale hidden files: removed only when ours by name, owner and age.
+* stale hidden files: removed only when ours by name, owner and age;
+* (slow) the command line itself, killed with SIGKILL at random moments of real runs.
 """
 
 from __future__ import annotations
