@@ -23,7 +23,6 @@ import os
 import re
 import shutil
 import signal
-import stat
 import subprocess
 import sys
 import time
