@@ -47,6 +47,9 @@ def assert_same_audit(whole, streamed):
     close = dict(rtol=1e-12, atol=1e-15)
     np.testing.assert_allclose(_figures(b.intervals.mean), _figures(a.intervals.mean), **close)
     np.testing.assert_allclose(_figures(b.intervals.sharpe), _figures(a.intervals.sharpe), **close)
+    for name in ("mean_standard_error", "sharpe_standard_error", "degrees_of_freedom"):
+        np.testing.assert_allclose(getattr(b.intervals, name), getattr(a.intervals, name), **close)
+    assert a.intervals.method == b.intervals.method
     k = a.evidence.selected_index
     assert k == b.evidence.selected_index
     np.testing.assert_allclose(b.intervals.sharpe_distribution_of(k), a.intervals.sharpe_distribution_of(k), **close)

@@ -112,6 +112,7 @@ def _resampled_task(block, moments, start, *, confidence, method, selected):
         snooping=snooping_block(moments.mean, block.mean(axis=0), block.shape[0], start=start),
         selected=(intervals.mean_distribution[:, k].copy(), intervals.sharpe_distribution[:, k].copy()) if inside else None,
         confidence=intervals.confidence, method=intervals.method,
+        scale=(intervals.mean_standard_error, intervals.sharpe_standard_error, intervals.degrees_of_freedom),
     )
 
 
@@ -204,7 +205,7 @@ class Stream:
         n = self.returns.shape[1]
         task = functools.partial(_resampled_task, confidence=confidence, method=method, selected=selected)
         report = None if self.progress is None else (lambda stop: self.progress(round(resamples.count * stop / n), resamples.count))
-        means, sharpes, variance, snooping = [], [], [], []
+        means, sharpes, variance, snooping, scales = [], [], [], [], []
         degenerate = np.zeros(resamples.count, dtype=bool)
         chosen = piece = None
         for piece in self._map(task, resamples, report):
@@ -213,11 +214,14 @@ class Stream:
             degenerate |= piece["degenerate"]
             variance.append(piece["snooping"].variance_of_mean)
             snooping.append(piece["snooping"])
+            scales.append(piece["scale"])
             chosen = piece["selected"] if piece["selected"] is not None else chosen
+        mean_se, sharpe_se, nu = (None if part[0] is None else np.concatenate(part) for part in zip(*scales))
         intervals = BootstrapIntervals(
             mean=tuple(means), sharpe=tuple(sharpes), mean_distribution=chosen[0][:, None],
             sharpe_distribution=chosen[1][:, None], confidence=piece["confidence"], method=piece["method"],
-            degenerate_resamples=int(degenerate.sum()), distribution_columns=(selected,),
+            degenerate_resamples=int(degenerate.sum()), mean_standard_error=mean_se, sharpe_standard_error=sharpe_se,
+            degrees_of_freedom=nu, distribution_columns=(selected,),
         )
         return ResampledPass(intervals, np.concatenate(variance), snooping)
 

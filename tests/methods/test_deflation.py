@@ -271,6 +271,18 @@ def test_effective_trials_from_gram_blocks_equal_the_whole_matrix():
         assert blocked.nyholt == pytest.approx(whole.nyholt, rel=1e-9)
 
 
+def test_effective_trials_handles_large_sweeps():
+    """N = 1000 configurations, T = 2000 windows: the eigenvalues of a correlation matrix sum to N
+    (its trace); independent columns give nearly N effective trials. (Speed is measured in
+    benchmarks/, never in a timed test.)"""
+    rng = np.random.default_rng(5)
+    x = rng.standard_normal((2000, 1000))
+    result = effective_trials(x)
+    assert result.eigenvalues.shape == (1000,)
+    assert result.eigenvalues.sum() == pytest.approx(1000.0, rel=1e-9)
+    assert result.li_ji > 500
+
+
 def test_formula_helpers_by_hand():
     """rho + (1 - rho) N by hand; clipping to [1, N]; Nyholt and Li-Ji on small eigenvalue sets by hand."""
     assert trials_from_average_correlation(0.25, configurations=9) == pytest.approx(0.25 + 0.75 * 9)
