@@ -33,6 +33,7 @@ test-slow: $(STAMP)
 
 bench: $(STAMP)
 	$(BIN)/python benchmarks/snooping_speed.py
+	$(BIN)/python benchmarks/audit_floor.py
 
 clean:
 	rm -rf $(VENV) .pytest_cache
