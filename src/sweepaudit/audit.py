@@ -29,7 +29,7 @@ from .methods.snooping import COLUMN_BLOCK, snooping_block, snooping_from_blocks
 from .methods.surface import isolated_peak
 from .methods.tails import MIN_FAMILY, family_stress, tail_test
 from .policy import DEFAULT_POLICY, Policy
-from .resample import ResampledMoments, Resamples, draw_resamples
+from .resample import Resamples, draw_resamples
 from .results import (
     AuditSettings,
     BlockLengthChoice,
