@@ -131,12 +131,18 @@ class Sweep:
     def plausibility(self) -> Plausibility:
         """The largest move in one window and the largest annualised volatility (computed once)."""
         r = self.returns
-        size = np.abs(r)
-        t, k = np.unravel_index(int(np.argmax(size)), size.shape)
-        sd = r.std(axis=0, ddof=1) if self.n_windows > 1 else np.zeros(self.n_configurations)
+        # Column reductions only, a block of columns at a time: no T x N temporary for a large sweep.
+        # The largest |value| is the first in row-major order, as numpy.argmax of |r| would find it.
+        column_size = np.maximum(r.max(axis=0), -r.min(axis=0))
+        largest = float(column_size.max())
+        t, k = min((int(np.argmax(np.abs(r[:, c]) == largest)), int(c)) for c in np.flatnonzero(column_size == largest))
+        if self.n_windows > 1:
+            sd = np.concatenate([r[:, a:a + 4096].std(axis=0, ddof=1) for a in range(0, self.n_configurations, 4096)])
+        else:
+            sd = np.zeros(self.n_configurations)
         v = int(np.argmax(sd))
         vol = float(sd[v] * np.sqrt(self.periods_per_year)) if self.periods_per_year else None
-        return Plausibility(float(size[t, k]), self.configurations[k], self.windows[t], vol, self.configurations[v])
+        return Plausibility(largest, self.configurations[k], self.windows[t], vol, self.configurations[v])
 
     def frame(self) -> pd.DataFrame:
         """The returns as a DataFrame (windows x configurations)."""
