@@ -79,40 +79,37 @@ def read_wide_parquet(path: str, opt: LoadOptions, read: Reader, *, block: int |
     if len(configurations) <= block:
         return None
     try:
-        blocks = _blocks(p, opt, read, fixed, configurations, block)
+        return _read_blocks(p, opt, read, fixed, configurations, block)
     except SweepAuditError:
         return None
-    return None if blocks is None else _joined(p, blocks, len(configurations))
 
 
-def _blocks(p: Path, opt: LoadOptions, read: Reader, fixed: list[str], configurations: list[str],
-            block: int) -> list[Sweep] | None:
-    """Each block read as a sweep of its own; None when the blocks disagree on what spans columns."""
-    out: list[Sweep] = []
+def _read_blocks(p: Path, opt: LoadOptions, read: Reader, fixed: list[str], configurations: list[str],
+                 block: int) -> Sweep | None:
+    """Each block read as a sweep of its own and copied into the one matrix at once (a block's
+    returns are dropped before the next is read); None when the blocks disagree on what spans
+    columns."""
+    first: Sweep | None = None
+    matrix = None
+    names: list[str] = []
+    tables = []
     for start in range(0, len(configurations), block):
         columns = configurations[start:start + block]
         part = read(_frame(p, fixed + columns), str(p), None, opt)
-        first = out[0] if out else part
+        first = first or part
         if (part.layout != "wide" or list(part.configurations) != [c.strip() for c in columns]
                 or part.windows != first.windows or part.notes != first.notes
                 or list(part.parameters.columns) != list(first.parameters.columns)):
             return None
-        out.append(part)
-    return out
-
-
-def _joined(p: Path, blocks: list[Sweep], configurations: int) -> Sweep:
-    """One sweep of the blocks' returns, names and parameters (the rest is the first block's)."""
-    first = blocks[0]
-    matrix = np.empty((first.n_windows, configurations))
-    done = 0
-    for part in blocks:
-        matrix[:, done:done + part.n_configurations] = part.returns
-        done += part.n_configurations
-    names = tuple(name for part in blocks for name in part.configurations)
+        if matrix is None:
+            matrix = np.empty((first.n_windows, len(configurations)))
+        matrix[:, start:start + part.n_configurations] = part.returns
+        names += part.configurations
+        tables.append(part.parameters)
+        del part
     return Sweep(
-        returns=matrix, configurations=names, parameters=pd.concat([b.parameters for b in blocks]),
-        windows=first.windows, dates=first.dates, periods_per_year=first.periods_per_year,
-        periods_source=first.periods_source, frequency=first.frequency, units=first.units, layout=first.layout,
-        path=first.path, sha256=_digest(p), notes=first.notes, reading=first.reading,
+        returns=matrix, configurations=tuple(names), parameters=pd.concat(tables), windows=first.windows,
+        dates=first.dates, periods_per_year=first.periods_per_year, periods_source=first.periods_source,
+        frequency=first.frequency, units=first.units, layout=first.layout, path=first.path, sha256=_digest(p),
+        notes=first.notes, reading=first.reading,
     )
