@@ -152,7 +152,7 @@ def block_cost() -> None:
     in_bytes *= 3  # each of the three passes ships the block
     per_block = resampled + data_pass + rank_pass
     blocks = -(-1_000_000 // width)
-    print(f"block width (1 GiB budget, B = {b:,}, T = {t:,}): {width} configurations")
+    print(f"block width (the default budget, B = {b:,}, T = {t:,}): {width} configurations")
     print(f"weights drawn once per worker: {drawn:.2f} s; one block: resampled pass {resampled:.2f} s, first data "
           f"pass {data_pass:.2f} s, CSCV ranks {rank_pass:.2f} s (one thread; load average {os.getloadavg()[0]:.2f})")
     print(f"bytes per block, three passes: {in_bytes / 2**20:.1f} MiB of returns in, {out_bytes / 2**20:.2f} MiB of "

@@ -416,7 +416,7 @@ def audit_command(
     ] = None,
     memory_budget: Annotated[
         Optional[int],
-        typer.Option(help="Working memory in MiB (default 1024, the policy's): beyond it the audit streams over "
+        typer.Option(help="Working memory in MiB (default 768, the policy's): beyond it the audit streams over "
                           "blocks of configurations, with the same figures."),
     ] = None,
     scheduler: Annotated[

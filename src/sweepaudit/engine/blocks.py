@@ -26,7 +26,7 @@ __all__ = [
 ]
 
 #: Default working-memory budget of an audit, bytes (beyond the sweep's own T x N returns).
-MEMORY_BUDGET = 1 * 2**30
+MEMORY_BUDGET = 768 * 2**20
 #: B x N float64 arrays alive at once on the in-memory path (means, second moments, Sharpe ratios
 #: and the quantile and snooping temporaries).
 IN_MEMORY_ARRAYS = 6

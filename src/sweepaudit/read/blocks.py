@@ -21,7 +21,9 @@ import numpy as np
 import pandas as pd
 
 from ..errors import SweepAuditError
+from ..readfile import check_regular
 from ..sweep import Sweep
+from .formats import SWEEP_FILE_LIMIT
 from .options import LoadOptions
 
 __all__ = ["BLOCK_COLUMNS", "read_wide_parquet"]
@@ -63,6 +65,10 @@ def read_wide_parquet(path: str, opt: LoadOptions, read: Reader, *, block: int |
     block = block or BLOCK_COLUMNS
     p = Path(path)
     try:
+        # Only a regular file within the reader's size limit; anything else is the usual path's to refuse.
+        check_regular(path)
+        if p.stat().st_size > SWEEP_FILE_LIMIT:
+            return None
         schema = pq.ParquetFile(p).schema_arrow
     except Exception:  # noqa: BLE001 - unreadable here: the usual path says why
         return None
