@@ -241,6 +241,31 @@ def test_json_follows_the_contract(tmp_path):
         assert {"configuration", "mean", "sharpe"} <= set(c)
 
 
+def test_json_and_terminal_show_the_evidence_over_time(tmp_path):
+    # The fixture file itself is the oracle: its weekly windows, read here with pandas.
+    out = tmp_path / "audit.json"
+    result = run("audit", EDGE, "--seed", 3, *FAST, "--json", out)
+    doc = _strict_json(out.read_text())
+    weeks = sorted(pd.read_csv(EDGE)["week_ending"].unique())
+    walk, st = doc["results"]["walk_forward"], doc["results"]["stability"]
+    assert (walk["warmup"], walk["lookback"], walk["windows"], walk["first_window"]) == (52, None, 156, weeks[52])
+    assert {"mean", "mean_annualized", "sharpe", "sharpe_annualized", "pick_changes", "pick_change_rate",
+            "distinct_picks", "most_picked", "selected_share", "selected_same_windows", "persistence", "stress",
+            "test"} <= set(walk)
+    assert walk["mean"]["low"] <= walk["mean"]["estimate"] <= walk["mean"]["high"]
+    assert [(p["first_window"], p["last_window"], p["windows"]) for p in st["thirds"]] == [
+        (weeks[0], weeks[69], 70), (weeks[70], weeks[138], 69), (weeks[139], weeks[207], 69)]
+    assert (st["early"]["windows"], st["recent"]["first_window"], st["rolling"]["windows"]) == (104, weeks[104], 52)
+    assert set(st["recent"]["mean"]) == {"estimate", "low", "high"}
+    assert {"difference", "standard_error", "statistic", "degrees_of_freedom", "pvalue"} <= set(st["change"])
+    checks = {c["id"]: c for c in doc["checks"]}
+    assert checks["walk_forward"]["value"] == walk["test"]["pvalue"] and not checks["walk_forward"]["required"]
+    assert checks["edge_decay"]["value"] == st["change"]["pvalue"] and not checks["edge_decay"]["required"]
+    text = " ".join(result.stdout.split())
+    assert "Is the edge still alive?" in text and "Re-picking the winner: walk-forward record" in text
+    assert "Over time, the edge" in text
+
+
 def test_same_seed_same_bytes_other_seed_other_bytes(tmp_path):
     paths = [tmp_path / f"{i}.json" for i in range(3)]
     for path, seed in zip(paths, (5, 5, 6)):

@@ -246,6 +246,10 @@ def results_document(evidence: Evidence) -> dict:
         out["overfitting"] = _overfitting_block(evidence)
     if evidence.tails is not None and evidence.tails.stress.applicable:
         out["tails"] = _tails_block(evidence)
+    if evidence.walk_forward is not None:
+        out["walk_forward"] = _walk_forward_block(evidence)
+    if evidence.stability is not None:
+        out["stability"] = _stability_block(evidence)
     return _clean(out)
 
 
@@ -367,6 +371,99 @@ def _tails_block(evidence: Evidence) -> dict:
         "statistic": test.statistic,
         "critical_value": test.critical_value,
         "passed": test.passed,
+    }
+
+
+def _mean_and_sharpe(iv, mean: float, sharpe: float, ppy: float | None) -> dict:
+    """A record's mean and Sharpe ratio, per window and annualized: intervals when the audit has them,
+    plain numbers otherwise."""
+    root = math.sqrt(ppy) if ppy else None
+    if iv is None:
+        return {"mean": mean, "mean_annualized": mean * ppy if ppy else None,
+                "sharpe": sharpe, "sharpe_annualized": sharpe * root if root else None}
+    return {"mean": _interval(iv.mean[0]), "mean_annualized": _interval(iv.mean[0], ppy),
+            "sharpe": _interval(iv.sharpe[0]), "sharpe_annualized": _interval(iv.sharpe[0], root)}
+
+
+def _walk_forward_block(evidence: Evidence) -> dict:
+    walk = evidence.walk_forward
+    sweep = evidence.sweep
+    names = sweep.configurations
+    ppy = sweep.periods_per_year
+    return {
+        "rule": "highest Sharpe ratio on the earlier windows, re-picked before every window",
+        "warmup": walk.warmup,
+        "lookback": walk.lookback,
+        "first_window": sweep.windows[walk.warmup],
+        "windows": walk.windows,
+        **_mean_and_sharpe(walk.intervals, walk.mean, walk.sharpe, ppy),
+        "pick_changes": walk.pick_changes,
+        "pick_change_rate": walk.pick_change_rate,
+        "distinct_picks": walk.distinct_picks,
+        "most_picked": names[walk.most_picked],
+        "most_picked_share": walk.most_picked_share,
+        "last_pick": names[int(walk.picks[-1])],
+        "selected_share": walk.selected_share,
+        "selected_same_windows": {
+            "mean": walk.selected_mean,
+            "mean_annualized": walk.selected_mean * ppy if ppy else None,
+            "sharpe": walk.selected_sharpe,
+            "sharpe_annualized": walk.selected_sharpe * math.sqrt(ppy) if ppy else None,
+        },
+        "persistence": {"ar_coefficient": walk.persistence, "mean_prediction": walk.persistence_gain},
+        "stress": {"windows": walk.stress_windows, "expected_windows": walk.stress_windows_expected,
+                   "mean_charge": walk.stress_charge},
+        "test": {
+            "mean_tested": walk.tested_mean,
+            "statistic": walk.statistic,
+            "degrees_of_freedom": walk.degrees_of_freedom,
+            "pvalue": walk.pvalue,
+        },
+    }
+
+
+def _period(evidence: Evidence, period, iv=None) -> dict:
+    windows = evidence.sweep.windows
+    return {
+        "first_window": windows[period.start],
+        "last_window": windows[period.stop - 1],
+        "start": period.start,
+        "windows": period.windows,
+        **_mean_and_sharpe(iv, period.mean, period.sharpe, evidence.sweep.periods_per_year),
+        "t_ratio": period.t_ratio,
+        "degrees_of_freedom": period.degrees_of_freedom,
+    }
+
+
+def _stability_block(evidence: Evidence) -> dict:
+    st = evidence.stability
+    ppy = evidence.sweep.periods_per_year
+    root = math.sqrt(ppy) if ppy else None
+    return {
+        "configuration": evidence.selected,
+        "thirds": [_period(evidence, p) for p in st.thirds],
+        "recent_share": st.recent_share,
+        "early": _period(evidence, st.early, st.early_intervals),
+        "recent": _period(evidence, st.recent, st.recent_intervals),
+        "change": {
+            "difference": st.difference,
+            "difference_annualized": st.difference * ppy if ppy else None,
+            "standard_error": st.standard_error,
+            "statistic": st.statistic,
+            "degrees_of_freedom": st.degrees_of_freedom,
+            "pvalue": st.pvalue,
+            "long_run_ratio": st.long_run_ratio,
+        },
+        "rolling": {
+            "windows": st.rolling_windows,
+            "last_sharpe": st.rolling_sharpe[-1],
+            "last_sharpe_annualized": st.rolling_sharpe[-1] * root if root else None,
+            "lowest_sharpe": st.rolling_lowest,
+            "lowest_sharpe_annualized": st.rolling_lowest * root if root else None,
+            "highest_sharpe": st.rolling_highest,
+            "highest_sharpe_annualized": st.rolling_highest * root if root else None,
+            "share_above_zero": st.rolling_share_positive,
+        },
     }
 
 
@@ -586,6 +683,8 @@ def figure_material(evidence: Evidence) -> FigureMaterial:
         split_statistic=None if overfit is None else overfit.statistic,
         deflation_curve=evidence.deflation_curve,
         surface=evidence.surface,
+        walk_forward=evidence.walk_forward,
+        stability=evidence.stability,
     )
 
 

@@ -51,6 +51,8 @@ CHECK_IDS: tuple[str, ...] = (
     "overfitting",
     "data_snooping",
     "family_tails",
+    "walk_forward",
+    "edge_decay",
     "parameter_surface",
 )
 
@@ -116,13 +118,19 @@ class Policy:
         Check ids that must pass for a go; a check (one of :data:`CHECK_IDS`) not listed is advisory.
     disabled : tuple of str
         Check ids left out entirely.
+    walk_forward_warmup, walk_forward_lookback : int
+        The walk-forward record's first window and each pick's training windows (0: a quarter of the
+        windows; all earlier windows).
+    recent_share : float
+        The share of the windows, at the end, that the ``edge_decay`` check compares with the rest.
     baseline_interval_margin, baseline_probability_margin, baseline_pvalue_margin : float
         How far a gated figure may worsen against a ``--baseline`` audit before the
         ``baseline_drift`` check fails (see :mod:`sweepaudit.baseline`).
     """
 
     significance: float = _f(
-        0.05, "familywise level of the data-snooping tests (conventional 5%)", low=0.0, high=0.5, low_open=True
+        0.05, "familywise level of the data-snooping tests, and the level of the walk_forward and edge_decay "
+        "tests (conventional 5%)", low=0.0, high=0.5, low_open=True
     )
     confidence: float = _f(
         0.95, "two-sided level of the bootstrap confidence intervals (conventional 95%)", low=0.5, high=1.0, high_open=True
@@ -258,6 +266,30 @@ class Policy:
         low=0.0, high=1.0, low_open=True,
         source="sweepaudit's choice (README: the family's tails)",
     )
+    walk_forward_warmup: int = _f(
+        0,
+        "walk_forward check: windows before the first pick of the walk-forward record (0: automatic, a "
+        "quarter of the windows; otherwise at least 2)",
+        low=0, high=10**9,
+        source="sweepaudit's choice: a quarter of the windows leaves three quarters as the out-of-sample "
+        "record and rests the first picks on a year of a four-year weekly sweep",
+    )
+    walk_forward_lookback: int = _f(
+        0,
+        "walk_forward check: each pick looks at the trailing this many windows (0: all earlier windows; "
+        "otherwise at least 2), as when a parameter is re-tuned on a rolling window",
+        low=0, high=10**9,
+        source="sweepaudit's choice: all earlier windows, the steadiest pick; set it to the training window "
+        "of your own re-tuning",
+    )
+    recent_share: float = _f(
+        0.5,
+        "edge_decay check: share of the windows, at the end, that form the recent period compared with "
+        "the windows before it (each period keeps at least 8 windows)",
+        low=0.0, high=1.0, low_open=True, high_open=True,
+        source="sweepaudit's choice on simulation evidence: the even split is the most powerful against a "
+        "change in the middle of the record (docs/validation.md)",
+    )
     required: tuple[str, ...] = _f(
         ("enough_windows", "plausible_returns", "mean_interval", "deflated_sharpe", "track_record", "overfitting",
          "data_snooping", "family_tails", "baseline_drift"),
@@ -349,6 +381,10 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
                 raise PolicyError(f"{source}: {key} must be {rel} {high}; got {value!r}")
         clean[key] = value
     policy = replace(Policy(), **clean)
+    for key, zero in (("walk_forward_warmup", "automatic"), ("walk_forward_lookback", "all earlier windows")):
+        if getattr(policy, key) == 1:
+            raise PolicyError(f"{source}: {key} must be 0 ({zero}) or at least 2: a Sharpe ratio needs "
+                              "two windows; got 1")
     both = sorted(set(policy.required) & set(policy.disabled))
     if both:
         raise PolicyError(

@@ -983,6 +983,174 @@ class TailTest:
     passed: bool
 
 
+@dataclass(frozen=True, eq=False)
+class WalkForward:
+    """The walk-forward record of picking the winner: for each window after a warm-up, the
+    configuration with the highest Sharpe ratio on the windows before it, and its excess return there.
+
+    Attributes
+    ----------
+    warmup : int
+        Windows before the first pick: the record starts at window ``warmup`` (0-based).
+    lookback : int or None
+        Trailing windows each pick looks at; None: all earlier windows.
+    picks : ndarray of int, shape (n,)
+        The configuration picked for each window of the record.
+    record : ndarray, shape (n,)
+        Its excess return in that window: the out-of-sample record of the selection procedure.
+    selected_record : ndarray, shape (n,)
+        The selected configuration's excess returns over the same windows (the pick of hindsight).
+    mean, sharpe : float
+        Mean excess return and Sharpe ratio (ddof = 1) of the record, per window.
+    pick_changes : int
+        Windows of the record whose pick differs from the previous window's.
+    distinct_picks : int
+        Configurations picked at least once.
+    pick_change_rate : float
+        ``pick_changes`` over the record's windows less one.
+    selected_share : float
+        Share of the record's windows whose pick was the selected configuration.
+    most_picked : int
+        The configuration picked most often (the lowest column among equals).
+    most_picked_share : float
+        Share of the record's windows it was picked in.
+    selected_mean, selected_sharpe : float
+        The selected configuration's mean and Sharpe ratio over the same windows.
+    persistence : float
+        The AR(1) coefficient whose prediction ``persistence * returns[t - 1, pick]`` is taken out of
+        the record before the test.
+    persistence_gain : float
+        Mean of that prediction over the record: what the picks' own last returns foretold.
+    stress_windows : int
+        The family's stress windows inside the record.
+    stress_windows_expected : float
+        The stress windows the record would hold at the whole sample's rate.
+    stress_charge : float
+        Mean per window of the losses charged: in the record's stress windows, and for the ones it
+        holds fewer than expected.
+    tested : ndarray, shape (n,)
+        The series the test reads: the charged record minus the persistence prediction.
+    tested_mean : float
+        Its mean per window.
+    statistic, degrees_of_freedom, pvalue : float
+        The tested series' mean over its long-run standard error, the long-run estimate's equivalent
+        degrees of freedom, and the one-sided p-value (Student's t) against a mean at or below zero.
+    intervals : BootstrapIntervals or None
+        The record's mean and Sharpe ratio intervals from the audit's shared resamples.
+    """
+
+    warmup: int
+    lookback: int | None
+    picks: np.ndarray
+    record: np.ndarray
+    selected_record: np.ndarray
+    mean: float
+    sharpe: float
+    pick_changes: int
+    distinct_picks: int
+    pick_change_rate: float
+    selected_share: float
+    most_picked: int
+    most_picked_share: float
+    selected_mean: float
+    selected_sharpe: float
+    persistence: float
+    persistence_gain: float
+    stress_windows: int
+    stress_windows_expected: float
+    stress_charge: float
+    tested: np.ndarray
+    tested_mean: float
+    statistic: float
+    degrees_of_freedom: float
+    pvalue: float
+    intervals: BootstrapIntervals | None = None
+
+    @property
+    def windows(self) -> int:
+        """Windows in the record."""
+        return int(self.record.size)
+
+
+@dataclass(frozen=True)
+class SubPeriod:
+    """One stretch of a configuration's record: windows ``start`` to ``stop - 1`` (0-based).
+
+    Attributes
+    ----------
+    start, stop : int
+    mean, sharpe : float
+        Mean excess return and Sharpe ratio (ddof = 1), per window.
+    t_ratio : float
+        The mean over its long-run standard error (:func:`~sweepaudit.methods.longrun.long_run_variance`).
+    degrees_of_freedom : float
+        The long-run estimate's equivalent degrees of freedom (read the t-ratio against Student's t).
+    """
+
+    start: int
+    stop: int
+    mean: float
+    sharpe: float
+    t_ratio: float
+    degrees_of_freedom: float
+
+    @property
+    def windows(self) -> int:
+        return self.stop - self.start
+
+
+@dataclass(frozen=True, eq=False)
+class EdgeStability:
+    """Is the selected configuration's edge still alive? Its record over time.
+
+    Attributes
+    ----------
+    thirds : tuple of SubPeriod
+        The record cut into three contiguous thirds (the first ``T mod 3`` one window longer).
+    early, recent : SubPeriod
+        The windows before the recent period, and the last ``recent_share`` of the windows.
+    recent_share : float
+    difference : float
+        Recent mean minus early mean, per window.
+    standard_error : float
+        Its long-run standard error: ``omega * sqrt(1 / n_early + 1 / n_recent)``, omega^2 the long-run
+        variance of the record demeaned within each period.
+    statistic, degrees_of_freedom, pvalue : float
+        ``difference / standard_error``, the long-run estimate's degrees of freedom, and the one-sided
+        p-value (Student's t) of a recent mean this far below the early one if the mean never changed.
+    long_run_ratio : float
+        ``omega^2 / sigma^2`` of the demeaned record (1 without serial correlation).
+    rolling_windows : int
+        Length of the trailing window of the rolling figures.
+    rolling_mean, rolling_sharpe : ndarray, shape (T - rolling_windows + 1,)
+        Mean and Sharpe ratio (ddof = 1) over the trailing windows; entry i covers windows i to
+        i + rolling_windows - 1 (NaN where the record is flat).
+    rolling_lowest, rolling_highest, rolling_share_positive : float
+        The rolling Sharpe ratio's extremes and the share of its values above zero.
+    early_intervals, recent_intervals : BootstrapIntervals or None
+        The two periods' mean and Sharpe ratio intervals from the audit's shared resamples.
+    """
+
+    thirds: tuple[SubPeriod, ...]
+    early: SubPeriod
+    recent: SubPeriod
+    recent_share: float
+    difference: float
+    standard_error: float
+    statistic: float
+    degrees_of_freedom: float
+    pvalue: float
+    long_run_ratio: float
+    rolling_windows: int
+    rolling_mean: np.ndarray
+    rolling_sharpe: np.ndarray
+    rolling_lowest: float
+    rolling_highest: float
+    rolling_share_positive: float
+    early_intervals: BootstrapIntervals | None = None
+    recent_intervals: BootstrapIntervals | None = None
+
+
 @dataclass(frozen=True)
 class AuditSettings:
     """Every knob that changes a figure.
@@ -1102,6 +1270,11 @@ class Evidence:
         Its 10th percentile over the configurations.
     tails : TailTest or None
         The family-stress test of the selected configuration (None for a single configuration).
+    walk_forward : WalkForward or None
+        The walk-forward record of re-picking the winner (None for a single configuration or when
+        the warm-up leaves too short a record).
+    stability : EdgeStability or None
+        The selected configuration's edge over time (None for a record too short to cut).
     """
 
     sweep: Sweep
@@ -1126,6 +1299,8 @@ class Evidence:
     bootstrap_share: float | None = None
     bootstrap_share_low: float | None = None
     tails: TailTest | None = None
+    walk_forward: WalkForward | None = None
+    stability: EdgeStability | None = None
 
     @property
     def selected(self) -> str:
@@ -1503,6 +1678,10 @@ class FigureMaterial:
         The deflated Sharpe probability against the number of trials.
     surface : PeakShape or None
         The parameter-surface result, for the report's words on which part of the rule held.
+    walk_forward : WalkForward or None
+        The walk-forward record and the selected configuration's over the same windows.
+    stability : EdgeStability or None
+        The rolling figures and the sub-periods they are drawn against.
     """
 
     selected_index: int
@@ -1516,6 +1695,8 @@ class FigureMaterial:
     split_statistic: str | None = None
     deflation_curve: DeflatedCurve | None = None
     surface: PeakShape | None = None
+    walk_forward: WalkForward | None = None
+    stability: EdgeStability | None = None
 
 
 def _evidence(name: str, doc: str) -> property:

@@ -11,6 +11,7 @@ from rich.table import Table
 from rich.text import Text
 
 from ..format import fmt, pct, prob, sig
+from .timewords import period_name, time_sentence
 
 __all__ = ["render_terminal"]
 
@@ -99,6 +100,79 @@ def _method_parts(doc: dict) -> list:
         parts.append(_overfitting_table(results["overfitting"]))
     if results.get("tails"):
         parts.append(_tails_text(results["tails"]))
+    return parts + _time_parts(doc)
+
+
+def _period_cells(block: dict, annual: bool) -> tuple[str, str]:
+    """Mean (a percentage) and Sharpe ratio of a period, annualized when the periods per year are known,
+    with the interval when the document has one."""
+    mean, sharpe = (block["mean_annualized"], block["sharpe_annualized"]) if annual else (block["mean"], block["sharpe"])
+    if isinstance(mean, dict):
+        return _iv(mean, as_pct=True), _iv(sharpe)
+    return pct(mean), fmt(sharpe)
+
+
+def _stability_table(st: dict, annual: bool) -> Table:
+    t = Table(title=Text(f"Is the edge still alive? {st['configuration']} over time "
+                         f"({'annualized' if annual else 'per window'})"), title_justify="left")
+    for column in ("period", "windows", "mean excess return", "Sharpe ratio", "t-ratio (long-run)"):
+        t.add_column(column)
+    rows = [(period_name(i).capitalize(), p) for i, p in enumerate(st["thirds"])]
+    rows += [("Before the recent period", st["early"]), ("Recent period", st["recent"])]
+    for label, p in rows:
+        t.add_row(Text(f"{label}: {p['first_window']} to {p['last_window']}"), f"{p['windows']:,}",
+                  *_period_cells(p, annual), fmt(p["t_ratio"], 3))
+    change, rolling = st["change"], st["rolling"]
+    moved = change["difference_annualized"] if annual else change["difference"]
+    suffix = "_annualized" if annual else ""
+    t.caption = (f"Recent minus earlier mean: {pct(moved)}{' a year' if annual else ' per window'}, "
+                 f"t = {fmt(change['statistic'], 3)} against the long-run standard error, one-sided p = "
+                 f"{prob(change['pvalue'])}. Rolling {rolling['windows']}-window Sharpe ratio: last "
+                 f"{fmt(rolling['last_sharpe' + suffix], 3)}, lowest {fmt(rolling['lowest_sharpe' + suffix], 3)}, "
+                 f"highest {fmt(rolling['highest_sharpe' + suffix], 3)}, above zero "
+                 f"{pct(rolling['share_above_zero'])} of the time.")
+    t.caption_justify = "left"
+    return t
+
+
+def _walk_forward_table(wf: dict, names: dict, annual: bool) -> Table:
+    looks = "all earlier windows" if wf["lookback"] is None else f"the {wf['lookback']:,} windows before"
+    t = Table(title=Text(f"Re-picking the winner: walk-forward record (best Sharpe ratio on {looks}, from window "
+                         f"{wf['first_window']}, {wf['windows']:,} windows)"), title_justify="left", show_header=False)
+    t.add_column("figure")
+    t.add_column("value")
+    mean, sharpe = _period_cells(wf, annual)
+    unit = "annualized" if annual else "per window"
+    t.add_row(f"mean excess return ({unit})", mean)
+    t.add_row(f"Sharpe ratio ({unit})", sharpe)
+    held = wf["selected_same_windows"]
+    t.add_row(Text(f"the selected {names['selected']}, same windows"),
+              f"{pct(held['mean_annualized'] if annual else held['mean'])}, Sharpe "
+              f"{fmt(held['sharpe_annualized'] if annual else held['sharpe'], 3)}")
+    t.add_row("picks", Text(f"changed {wf['pick_changes']:,} times ({pct(wf['pick_change_rate'])} of windows), "
+                            f"{wf['distinct_picks']:,} configurations; the selected one {pct(wf['selected_share'])} "
+                            f"of the time; most picked {wf['most_picked']} ({pct(wf['most_picked_share'])}); "
+                            f"last {wf['last_pick']}"))
+    test = wf["test"]
+    t.add_row("test of the mean", f"t = {fmt(test['statistic'], 3)}, one-sided p = {prob(test['pvalue'])} "
+              f"(persistence {fmt(wf['persistence']['ar_coefficient'], 3)} taken out: "
+              f"{pct(wf['persistence']['mean_prediction'])} per window; stress charge "
+              f"{pct(wf['stress']['mean_charge'])} per window)")
+    return t
+
+
+def _time_parts(doc: dict) -> list:
+    """The edge over time and the walk-forward record, with one sentence on what they mean."""
+    results, parts = doc["results"], []
+    annual = doc["input"]["periods_per_year"] is not None
+    if results.get("stability"):
+        parts.append(_stability_table(results["stability"], annual))
+    if results.get("walk_forward"):
+        parts.append(_walk_forward_table(results["walk_forward"], {"selected": doc["selected"]["configuration"]},
+                                         annual))
+    sentence = time_sentence(doc)
+    if sentence:
+        parts.append(Text(sentence + "\n", style="italic"))
     return parts
 
 
