@@ -87,7 +87,7 @@ def default_warmup(windows: int) -> int:
     return max(2, validate.whole_number(windows, "windows", minimum=1) // 4)
 
 
-def _block_picks(x: np.ndarray, positions: np.ndarray, starts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _block_picks(x: np.ndarray, warmup: int, lookback: int | None) -> tuple[np.ndarray, np.ndarray]:
     """Highest training Sharpe ratio and its column (within the block) for each traded window."""
     t, width = x.shape
     centre = x.mean(axis=0)
@@ -97,16 +97,25 @@ def _block_picks(x: np.ndarray, positions: np.ndarray, starts: np.ndarray) -> tu
     np.cumsum(x, axis=0, out=sums[1:])
     squares = np.zeros((t + 1, width))
     np.cumsum(deviation * deviation, axis=0, out=squares[1:])
-    count = (positions - starts)[:, None].astype(np.float64)
-    mean = (sums[positions] - sums[starts]) / count
+    positions = np.arange(warmup, t)
+    # Training windows [start, t): sums up to t are rows warmup..t-1 (a view); all earlier windows
+    # start at row 0, which holds zeros, so only a trailing look-back needs its start rows.
+    total, square = sums[warmup:t], squares[warmup:t]
+    if lookback is not None:
+        starts = np.maximum(0, positions - lookback)
+        total, square = total - sums[starts], square - squares[starts]
+        count = (positions - starts)[:, None].astype(np.float64)
+    else:
+        count = positions[:, None].astype(np.float64)
+    mean = total / count
     shift = mean - centre
     # Shifting by the full-sample mean leaves the variance unchanged and keeps the sums small.
-    variance = ((squares[positions] - squares[starts]) - count * shift * shift) / (count - 1.0)
+    variance = (square - count * shift * shift) / (count - 1.0)
     flat = variance <= _FLAT * level
     with np.errstate(divide="ignore", invalid="ignore"):
         sharpe = np.where(flat, -np.inf, mean / np.sqrt(np.where(flat, 1.0, variance)))
     column = np.argmax(sharpe, axis=1)
-    return np.take_along_axis(sharpe, column[:, None], axis=1)[:, 0], column
+    return sharpe[np.arange(column.size), column], column
 
 
 def walk_forward_picks(returns, *, warmup: int, lookback: int | None = None) -> np.ndarray:
@@ -138,13 +147,11 @@ def walk_forward_picks(returns, *, warmup: int, lookback: int | None = None) -> 
     warmup = validate.whole_number(warmup, "warmup", minimum=2, maximum=t - 1)
     if lookback is not None:
         lookback = validate.whole_number(lookback, "lookback", minimum=2)
-    positions = np.arange(warmup, t)
-    starts = np.zeros_like(positions) if lookback is None else np.maximum(0, positions - lookback)
     width = max(1, min(n, PICK_BUDGET // (8 * 8 * (t + 1))))
-    best = np.full(positions.size, -np.inf)
-    picks = np.zeros(positions.size, dtype=np.int64)
+    best = np.full(t - warmup, -np.inf)
+    picks = np.zeros(t - warmup, dtype=np.int64)
     for first in range(0, n, width):
-        value, column = _block_picks(x[:, first : first + width], positions, starts)
+        value, column = _block_picks(x[:, first : first + width], warmup, lookback)
         better = value > best  # strict: an earlier block keeps a tie
         best[better] = value[better]
         picks[better] = column[better] + first
