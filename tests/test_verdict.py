@@ -107,6 +107,7 @@ def test_walk_forward_check_reports_the_record_and_can_be_required():
     r = audit(sweep, settings=AuditSettings(resamples=300))
     check = next(c for c in r.verdict.checks if c.id == "walk_forward")
     walk = r.evidence.walk_forward
+    assert r.walk_forward is walk and r.stability is r.evidence.stability  # readable from the result too
     assert check.passed and not check.required and check.value == walk.pvalue and check.threshold == 0.05
     assert "from window '51' on (150 windows" in check.reason and "the selection procedure itself earns" in check.reason
     noise = sweep_from_array(synthetic_returns(windows=200, edges=(0.0, 0.0, 0.0, 0.0), seed=9), periods_per_year=52)

@@ -1744,6 +1744,8 @@ class AuditResult:
     overfitting_diagnosis = _evidence("overfitting_diagnosis", "The CSCV diagnosis.")
     snooping = _evidence("snooping", "The data-snooping tests.")
     surface = _evidence("surface", "The parameter surface around the selected cell.")
+    walk_forward = _evidence("walk_forward", "The walk-forward record of re-picking the winner.")
+    stability = _evidence("stability", "The selected configuration's edge over time.")
     warnings = _evidence("warnings", "What the reader should weigh.")
     confidence = _evidence("confidence", "The interval level.")
 
