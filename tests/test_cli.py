@@ -264,6 +264,13 @@ def test_json_and_terminal_show_the_evidence_over_time(tmp_path):
     text = " ".join(result.stdout.split())
     assert "Is the edge still alive?" in text and "Re-picking the winner: walk-forward record" in text
     assert "Over time, the edge" in text
+    assert len(st["rolling"]["sharpe"]) == 208 - 52 + 1 and st["rolling"]["first_window"] == weeks[51]
+    rows = result.stdout.splitlines()
+    bars = rows[next(i for i, row in enumerate(rows) if "thirds marked |:" in row) + 1].strip()
+    # 60 bars for 157 rolling values (each bar about 2.6 of them) and a | before the bar holding the first
+    # stretch of the middle and of the last third (the stretches ending at windows 70 and 139, 0-based).
+    assert len(bars) == 62 and bars.count("|") == 2 and set(bars) <= set("▁▂▃▄▅▆▇█|")
+    assert bars.index("|") == (70 - 51) * 60 // 157 and bars.rindex("|") == (139 - 51) * 60 // 157 + 1
 
 
 def test_same_seed_same_bytes_other_seed_other_bytes(tmp_path):

@@ -456,6 +456,8 @@ def _stability_block(evidence: Evidence) -> dict:
         },
         "rolling": {
             "windows": st.rolling_windows,
+            "first_window": evidence.sweep.windows[st.rolling_windows - 1],
+            "sharpe": st.rolling_sharpe,
             "last_sharpe": st.rolling_sharpe[-1],
             "last_sharpe_annualized": st.rolling_sharpe[-1] * root if root else None,
             "lowest_sharpe": st.rolling_lowest,

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import io
 
+import numpy as np
 from rich.console import Console, Group, RenderableType
 from rich.padding import Padding
 from rich.table import Table
@@ -136,6 +137,43 @@ def _period_cells(block: dict, annual: bool) -> tuple[str, str]:
     return pct(mean), fmt(sharpe)
 
 
+_BARS = "▁▂▃▄▅▆▇█"
+_SPARK_WIDTH = 60
+
+
+def _sparkline(values: list, marks: list[int]) -> str:
+    """The rolling Sharpe ratio as one line of bars (means of equal runs of values), a ``|`` where a
+    sub-period starts; positions in ``marks`` index ``values``."""
+    finite = np.array([np.nan if v is None else v for v in values], dtype=float)
+    width = min(_SPARK_WIDTH, finite.size)
+    edges = np.linspace(0, finite.size, width + 1).round().astype(int)
+    with np.errstate(all="ignore"):
+        means = np.array([np.nanmean(finite[a:b]) if np.isfinite(finite[a:b]).any() else np.nan
+                          for a, b in zip(edges[:-1], edges[1:])])
+    low, high = np.nanmin(means), np.nanmax(means)
+    span = high - low if high > low else 1.0
+    bars = [" " if not np.isfinite(m) else _BARS[int(round((m - low) / span * (len(_BARS) - 1)))] for m in means]
+    for mark in sorted({int(np.searchsorted(edges, m, side="right")) - 1 for m in marks if 0 < m < finite.size},
+                       reverse=True):
+        bars.insert(mark, "|")
+    return "".join(bars)
+
+
+def _rolling_line(st: dict, annual: bool) -> Group | None:
+    """The rolling figure as a line of bars under its caption, the thirds marked."""
+    rolling = st["rolling"]
+    values = rolling.get("sharpe") or []
+    if not any(v is not None for v in values):
+        return None
+    start = rolling["windows"] - 1  # the first value ends at this window
+    marks = [p["start"] - start for p in st["thirds"][1:]]
+    suffix = "_annualized" if annual else ""
+    return Group(Text(f"Rolling {rolling['windows']}-window Sharpe ratio, {fmt(rolling['lowest_sharpe' + suffix], 3)} "
+                      f"to {fmt(rolling['highest_sharpe' + suffix], 3)}{' annualized' if annual else ' per window'}; "
+                      "thirds marked |:"),
+                 Text(_sparkline(values, marks), no_wrap=True, overflow="crop"))
+
+
 def _stability_table(st: dict, annual: bool) -> Table:
     # Window labels are the user's strings: they sit in a later column, never in the title.
     t = Table(title=Text(f"Is the edge still alive? The selected configuration over time "
@@ -192,6 +230,9 @@ def _time_parts(doc: dict) -> list:
     annual = doc["input"]["periods_per_year"] is not None
     if results.get("stability"):
         parts.append(_stability_table(results["stability"], annual))
+        line = _rolling_line(results["stability"], annual)
+        if line is not None:
+            parts += [indented(line), Text("")]
     if results.get("walk_forward"):
         parts.append(_walk_forward_table(results["walk_forward"], annual))
     sentence = time_sentence(doc)

@@ -470,6 +470,16 @@ def _periods_table(block: dict, annual: bool) -> Table:
                  "(means as fractions; intervals from the audit's resamples for the two periods the test compares)")
 
 
+def _rolling_table(block: dict) -> Table:
+    """The rolling Sharpe ratio window by window (folded in HTML: it is the figure's raw numbers)."""
+    rolling = block["rolling"]
+    first = rolling["windows"]  # the first stretch ends at this window (1-based)
+    rows = tuple((figure(first + i), figure(v)) for i, v in enumerate(rolling.get("sharpe") or []))
+    return Table(("stretch ends at window number", "Sharpe ratio per window"), rows, collapsed=True,
+                 caption=f"The rolling {figure(rolling['windows'])}-window Sharpe ratio, window by window "
+                         f"(the first stretch ends at {rolling['first_window']})")
+
+
 def _walk_forward_table(block: dict, annual: bool) -> Table:
     keys = ("mean", "sharpe") + (("mean_annualized", "sharpe_annualized") if annual else ())
     rows = tuple((key.replace("_", " "), *_value_cells(block[key])) for key in keys)
@@ -500,8 +510,9 @@ def _time_section(doc: dict, material: FigureMaterial | None) -> Section:
     annual = _annual(doc)
     tables, facts, figs, notes = [], [], [], []
     if block is not None:
-        tables.append(_periods_table(block, annual))
-        facts += _extra_facts(block, {"thirds", "early", "recent"})
+        tables += [_periods_table(block, annual), _rolling_table(block)]
+        facts += _extra_facts({**block, "rolling": {k: v for k, v in block["rolling"].items() if k != "sharpe"}},
+                              {"thirds", "early", "recent"})
     else:
         notes.append("Not computed in this audit: the JSON has no results.stability block.")
     if walk is not None:
