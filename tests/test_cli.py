@@ -263,7 +263,8 @@ def test_json_and_terminal_show_the_evidence_over_time(tmp_path):
     assert checks["edge_decay"]["value"] == st["change"]["pvalue"] and not checks["edge_decay"]["required"]
     text = " ".join(result.stdout.split())
     assert "Is the edge still alive?" in text and "Re-picking the winner: walk-forward record" in text
-    assert "Over time, the edge" in text
+    assert doc["results"]["time_meaning"].startswith("Over time, the edge") and doc["results"]["time_meaning"] in text
+    assert [p["period"] for p in st["thirds"]] == ["first third", "middle third", "last third"]
     assert len(st["rolling"]["sharpe"]) == 208 - 52 + 1 and st["rolling"]["first_window"] == weeks[51]
     rows = result.stdout.splitlines()
     bars = rows[next(i for i, row in enumerate(rows) if "thirds marked |:" in row) + 1].strip()

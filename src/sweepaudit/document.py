@@ -19,6 +19,7 @@ from typing import Any
 import numpy as np
 
 from ._version import AUDIT_SCHEMA, CALIBRATION_SCHEMA, INSPECT_SCHEMA, __version__
+from .format import pct, sig
 from .methods.surface import parameter_grid
 from .policy import Policy
 from .results import (
@@ -250,6 +251,9 @@ def results_document(evidence: Evidence) -> dict:
         out["walk_forward"] = _walk_forward_block(evidence)
     if evidence.stability is not None:
         out["stability"] = _stability_block(evidence)
+    meaning = _time_meaning(out, evidence.policy.significance, evidence.sweep.periods_per_year)
+    if meaning is not None:
+        out["time_meaning"] = meaning
     return _clean(out)
 
 
@@ -422,9 +426,10 @@ def _walk_forward_block(evidence: Evidence) -> dict:
     }
 
 
-def _period(evidence: Evidence, period, iv=None) -> dict:
+def _period(evidence: Evidence, period, iv=None, name: str = "") -> dict:
     windows = evidence.sweep.windows
     return {
+        "period": name,
         "first_window": windows[period.start],
         "last_window": windows[period.stop - 1],
         "start": period.start,
@@ -441,10 +446,11 @@ def _stability_block(evidence: Evidence) -> dict:
     root = math.sqrt(ppy) if ppy else None
     return {
         "configuration": evidence.selected,
-        "thirds": [_period(evidence, p) for p in st.thirds],
+        "thirds": [_period(evidence, p, name=f"{which} third")
+                   for p, which in zip(st.thirds, ("first", "middle", "last"))],
         "recent_share": st.recent_share,
-        "early": _period(evidence, st.early, st.early_intervals),
-        "recent": _period(evidence, st.recent, st.recent_intervals),
+        "early": _period(evidence, st.early, st.early_intervals, "before the recent period"),
+        "recent": _period(evidence, st.recent, st.recent_intervals, "recent period"),
         "change": {
             "difference": st.difference,
             "difference_annualized": st.difference * ppy if ppy else None,
@@ -467,6 +473,38 @@ def _stability_block(evidence: Evidence) -> dict:
             "share_above_zero": st.rolling_share_positive,
         },
     }
+
+
+def _mean_words(block: dict, ppy: float | None) -> str:
+    """A period's mean as a percentage, a year when the periods per year are known, else per window."""
+    value = block["mean_annualized"] if ppy else block["mean"]
+    value = value["estimate"] if isinstance(value, dict) else value
+    return f"{pct(value)} a year" if ppy else f"{pct(value)} per window"
+
+
+def _time_meaning(results: dict, level: float, ppy: float | None) -> str | None:
+    """One sentence on what the decay test and the walk-forward record mean together (figures of the
+    two blocks, in words); None when the audit examined neither."""
+    clauses = []
+    st, walk = results.get("stability"), results.get("walk_forward")
+    if st is not None:
+        figures = (f"{_mean_words(st['recent'], ppy)} in the recent period against "
+                   f"{_mean_words(st['early'], ppy)} before it")
+        if st["change"]["pvalue"] <= level:
+            clauses.append(f"the edge has faded ({figures}, a fall beyond chance at the {sig(level, 6)} level)")
+        elif st["change"]["difference"] < 0:
+            clauses.append(f"the edge earned less of late but not beyond chance ({figures})")
+        else:
+            clauses.append(f"the edge shows no sign of fading ({figures})")
+    if walk is not None:
+        earned = _mean_words(walk, ppy)
+        if walk["test"]["pvalue"] <= level:
+            clauses.append(f"re-picking the winner as the windows came would have earned {earned} out of sample, "
+                           "above zero beyond chance")
+        else:
+            clauses.append(f"re-picking the winner as the windows came earned {earned} out of sample, not clearly "
+                           "above zero")
+    return "Over time, " + "; ".join(clauses) + "." if clauses else None
 
 
 def _overfitting_block(evidence: Evidence) -> dict:

@@ -530,10 +530,8 @@ def test_html_report_renders_in_a_real_browser(edge_audit, written, tmp_path):
 
 
 def test_time_section_says_what_the_evidence_over_time_means(edge_audit, written, tmp_path):
-    from sweepaudit.render.timewords import time_sentence
-
     doc, material = edge_audit
-    sentence = time_sentence(doc)
+    sentence = doc["results"]["time_meaning"]
     assert sentence.startswith("Over time, the edge")
     for name in ("edge.html", "edge.md"):
         text = (written / name).read_text()

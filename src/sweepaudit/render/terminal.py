@@ -26,7 +26,6 @@ from rich.text import Text
 
 from ..format import fmt, pct, prob, sig
 from .safe import visible_document
-from .timewords import period_name, time_sentence
 
 __all__ = ["render_terminal", "terminal_console", "offscreen_console", "terminal_text", "text_row", "indented"]
 
@@ -180,10 +179,8 @@ def _stability_table(st: dict, annual: bool) -> Table:
                          f"({'annualized' if annual else 'per window'})"), title_justify="left")
     for column in ("period", "windows", "from / to", "mean excess return", "Sharpe ratio", "t (long-run)"):
         t.add_column(column)
-    rows = [(period_name(i), p) for i, p in enumerate(st["thirds"])]
-    rows += [("before the recent period", st["early"]), ("recent period", st["recent"])]
-    for label, p in rows:
-        text_row(t, label, f"{p['windows']:,}", f"{p['first_window']} / {p['last_window']}",
+    for p in (*st["thirds"], st["early"], st["recent"]):
+        text_row(t, p["period"], f"{p['windows']:,}", f"{p['first_window']} / {p['last_window']}",
                  *_period_cells(p, annual), fmt(p["t_ratio"], 3))
     change, rolling = st["change"], st["rolling"]
     moved = change["difference_annualized"] if annual else change["difference"]
@@ -235,9 +232,8 @@ def _time_parts(doc: dict) -> list:
             parts += [indented(line), Text("")]
     if results.get("walk_forward"):
         parts.append(_walk_forward_table(results["walk_forward"], annual))
-    sentence = time_sentence(doc)
-    if sentence:
-        parts += [indented(Text(sentence, style="italic")), Text("")]
+    if results.get("time_meaning"):
+        parts += [indented(Text(results["time_meaning"], style="italic")), Text("")]
     return parts
 
 

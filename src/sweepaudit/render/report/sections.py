@@ -17,7 +17,6 @@ from collections.abc import Callable
 from ...format import figure, pct
 from ...results import FigureMaterial
 from ..safe import visible_document
-from ..timewords import period_name, time_sentence
 from . import plots
 from .model import Figure, Report, Section, Table
 
@@ -457,11 +456,9 @@ def _periods_table(block: dict, annual: bool) -> Table:
     for key in keys:
         name = key.replace("_", " ")
         columns += [name, f"{name} low", f"{name} high"]
-    periods = [(period_name(i), p) for i, p in enumerate(block["thirds"])]
-    periods += [("before the recent period", block["early"]), ("recent period", block["recent"])]
     rows = []
-    for name, p in periods:
-        row = [name, str(p["first_window"]), str(p["last_window"]), figure(p["windows"]), figure(p["t_ratio"]),
+    for p in (*block["thirds"], block["early"], block["recent"]):
+        row = [p["period"], str(p["first_window"]), str(p["last_window"]), figure(p["windows"]), figure(p["t_ratio"]),
                figure(p["degrees_of_freedom"])]
         for key in keys:
             row += _value_cells(p[key])
@@ -523,7 +520,7 @@ def _time_section(doc: dict, material: FigureMaterial | None) -> Section:
         notes.append("Not computed in this audit: the JSON has no results.walk_forward block.")
     if material is not None:
         figs = [f for f in (plots.edge_over_time(doc, material), plots.walk_forward_curve(doc, material)) if f]
-    sentence = time_sentence(doc)
+    sentence = doc["results"].get("time_meaning")
     words = (meaning,) + ((walk_meaning,) if walk is not None else ()) + ((sentence,) if sentence else ())
     return Section("time", title, meaning=words,
                    facts=tuple(facts), tables=tuple(tables), figures=tuple(figs), notes=tuple(notes),
