@@ -54,9 +54,9 @@ def test_the_result_agrees_with_itself(sweep):
     assert isinstance(result, AuditResult)
     assert result.document == audit_document(result.evidence, result.verdict, command="seed 1")
     assert result.document["reproduce"]["command"] == "seed 1"
-    assert result.figures.selected_index == result.selected_index == result.evidence.selected_index
-    assert result.figures.deflation_curve is result.evidence.deflation_curve
-    assert result.figures.mean_distribution.shape == (200,)
+    assert result.figure_material.selected_index == result.selected_index == result.evidence.selected_index
+    assert result.figure_material.deflation_curve is result.evidence.deflation_curve
+    assert result.figure_material.mean_distribution.shape == (200,)
     assert result.baseline is None and "baseline" not in result.document
     for name in ("sweep", "settings", "policy", "intervals", "sharpe", "haircut", "overfitting", "snooping"):
         assert getattr(result, name) is getattr(result.evidence, name)

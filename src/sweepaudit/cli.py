@@ -342,6 +342,11 @@ def audit_command(
         Optional[int],
         typer.Option(help="Trials the deflated Sharpe ratio counts (at least the configurations); with --ledger the larger count wins."),
     ] = None,
+    strategy: Annotated[
+        Optional[str],
+        typer.Option(help="The strategy's label in the trial ledger (a trial is a configuration of a strategy); "
+                          "default: the policy's strategy key."),
+    ] = None,
     report_path: Annotated[
         Optional[Path], typer.Option("--report", help="Write the audit report here: .md (Markdown) or .html.")
     ] = None,
@@ -371,6 +376,8 @@ def audit_command(
         overrides = {k: v for k, v in (("confidence", confidence), ("resamples", resamples)) if v is not None}
         if overrides:
             policy_from_mapping(overrides, source="command-line option")
+        if strategy is not None:
+            validate.label(strategy, "--strategy")
         baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
         sweep = inputs.load()
         if trials is not None:
@@ -382,8 +389,9 @@ def audit_command(
         result = _with_progress(
             quiet, "resampling", audit, sweep, settings=settings, policy=loaded.policy, policy_source=loaded.source,
             baseline=baseline_document, baseline_path=str(baseline_path) if baseline_path is not None else None,
-            ledger=ledger_path, trials=trials,
-            command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source),
+            ledger=ledger_path, trials=trials, strategy=strategy,
+            command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source,
+                                                       strategy=strategy),
         )
         _write_audit_outputs(result, outputs, started)
     except SweepAuditError as exc:
@@ -412,15 +420,17 @@ def _write_audit_outputs(result, outputs: dict[str, Optional[Path]], started: fl
     json_text = dumps(document) if json_path is not None else None
     junit_text = audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path is not None else None
     if report_path is not None:
-        _for_report(write_report, report_path, document, result.figures)
+        _for_report(write_report, report_path, document, result.figure_material)
     if json_text is not None:
         write_atomic(json_path, json_text)
     if junit_text is not None:
         write_atomic(junit_path, junit_text)
 
 
-def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults") -> str:
-    """The canonical command that reproduces every figure of this audit (output options left out)."""
+def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults",
+                      strategy: str | None = None) -> str:
+    """The canonical command that reproduces every figure of this audit (output options left out;
+    ``--strategy`` kept, since with a ledger it decides the trials counted)."""
     words = ["sweepaudit", "audit", *SweepInput(evidence.sweep.path, options, None).words(evidence.sweep.path)]
     if policy_source != "defaults":
         # A policy found in a pyproject.toml applies only from that folder: name it.
@@ -436,6 +446,8 @@ def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source
         words += ["--select", s.selected]
     if s.trials is not None:
         words += ["--trials", str(s.trials)]
+    if strategy is not None:
+        words += ["--strategy", strategy.strip()]
     return " ".join(shlex.quote(w) for w in words)
 
 

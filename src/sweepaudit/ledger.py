@@ -1,10 +1,20 @@
 """The trial ledger (``--ledger PATH``): a JSON Lines file, kept in the strategy repository, with
-one record per audit. It remembers every sweep a researcher has audited, so the deflated Sharpe
-ratio can count all of them as trials, not only the configurations of the sweep in hand.
+one record per audit. It remembers every configuration a researcher has tried, so the deflated
+Sharpe ratio can count all of them as trials, not only the configurations of the sweep in hand.
 
-Counting rule: the trials are the sum of the configurations of every distinct fingerprint in the
-ledger, plus this sweep's configurations when its fingerprint is new. Re-auditing the same sweep
-adds no trials. The count is never below the sweep's own configurations.
+Counting rule (:func:`tally_trials`): a trial is a configuration, identified by its key (its name
+and parameter values, :mod:`sweepaudit.names`), of a strategy (an optional label). The trials are
+the distinct (strategy, configuration) pairs of every record, this audit's included. Re-auditing
+the same grid on more data adds no trials; widening the grid adds only the new configurations.
+Each record keeps the data fingerprint of its sweep for the audit trail.
+
+Records that name no configurations count by their data fingerprint, as every record did before
+the ledger counted configurations: each distinct fingerprint its configurations once. Such a record
+is an old one (it has only ``fingerprint`` and ``configurations``), or one of a sweep whose
+configuration names were generated (an array without names), which say nothing about what was
+tried. When a record naming configurations, or this audit, has the same data fingerprint, the
+old record was that sweep, so it is counted as those configurations (it adds nothing more).
+The count is never below the sweep's own configurations.
 
 Concurrency: the ledger is opened with ``O_APPEND`` and held under an exclusive ``fcntl.flock``
 for the whole read-count-append cycle (callers hold it across the audit, so concurrent audits
@@ -19,8 +29,10 @@ import fcntl
 import hashlib
 import json
 import os
-from collections.abc import Iterator
+from collections import Counter
+from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
+from dataclasses import dataclass, field
 from datetime import datetime, timezone
 from pathlib import Path
 from typing import Any
@@ -31,6 +43,7 @@ from . import validate
 from ._version import LEDGER_SCHEMA, __version__
 from .errors import InputError
 from .results import LedgerEntry, LedgerTally
+from .sweep import Sweep
 
 __all__ = [
     "LEDGER_SCHEMA",
@@ -41,6 +54,9 @@ __all__ = [
     "parse_ledger",
     "read_ledger",
     "tally_trials",
+    "tally_note",
+    "record_trials",
+    "trial_keys",
     "ledger_record",
     "open_ledger",
 ]
@@ -125,24 +141,155 @@ def read_ledger(path: str | Path) -> tuple[LedgerEntry, ...]:
     return parse_ledger(data, path=str(path))
 
 
-def tally_trials(
-    entries: tuple[LedgerEntry, ...], *, fingerprint: str, configurations: int, path: str = "<ledger>"
-) -> LedgerTally:
-    """Count the trials: configurations summed over distinct fingerprints, this sweep included."""
-    distinct: dict[str, int] = {}
+def trial_keys(sweep: Sweep) -> tuple[str, ...] | None:
+    """The keys of a sweep's configurations as the ledger counts them; None when the names were
+    generated (an array without names: ``config 1``, ``config 2``, ... say nothing about what was
+    tried, so such a sweep counts by its data fingerprint)."""
+    if sweep.reading.get("configuration_names") == "generated":
+        return None
+    return sweep.configuration_keys
+
+
+def record_trials(entry: LedgerEntry, *, path: str = "<ledger>") -> tuple[str | None, tuple[str, ...] | None]:
+    """The strategy label and the configuration keys a record tried (keys None: the record names no
+    configurations and counts by its data fingerprint).
+
+    Raises
+    ------
+    InputError
+        Naming the file and the record's line when ``strategy`` or ``configurations_tried`` is
+        malformed.
+    """
+    record = entry.record
+    strategy = record.get("strategy")
+    if strategy is not None and not isinstance(strategy, str):
+        raise _bad_line(path, entry.line, f"strategy must be a string or null; got {strategy!r}")
+    keys = record.get("configurations_tried")
+    if keys is None:
+        return strategy, None
+    if not isinstance(keys, list) or not all(isinstance(k, str) for k in keys):
+        raise _bad_line(path, entry.line, "configurations_tried must be a list of configuration keys (strings) or null")
+    if len(keys) != entry.configurations or len(set(keys)) != len(keys):
+        raise _bad_line(
+            path, entry.line,
+            f"configurations_tried must list the record's {entry.configurations} configurations once each; "
+            f"it lists {len(keys)} ({len(set(keys))} distinct)",
+        )
+    return strategy, tuple(keys)
+
+
+@dataclass
+class _Tried:
+    """What the ledger's records tried, read once."""
+
+    pairs: set[tuple[str | None, str]] = field(default_factory=set)
+    #: fingerprint -> (label, keys) of the first record (or this audit) naming that sweep's configurations
+    named: dict[str, tuple[str | None, tuple[str, ...]]] = field(default_factory=dict)
+    #: fingerprint -> (label, configurations) of records naming no configurations
+    unnamed: dict[str, tuple[str | None, int]] = field(default_factory=dict)
+    unnamed_records: int = 0
+
+    def count(self) -> tuple[Counter, int]:
+        """Trials per strategy label, and the trials of the fingerprints no named record explains."""
+        identified: set[tuple[str | None, str]] = set()  # old records' configurations, known by fingerprint
+        labels: Counter = Counter()
+        by_print = 0
+        for fingerprint, (label, configurations) in self.unnamed.items():
+            if fingerprint in self.named:
+                named_label, keys = self.named[fingerprint]
+                identified.update(p for p in ((named_label, k) for k in keys) if p not in self.pairs)
+            else:
+                labels[label] += configurations
+                by_print += configurations
+        labels.update(label for label, _ in self.pairs)
+        labels.update(label for label, _ in identified)
+        return labels, by_print
+
+
+def _read_tried(entries: Sequence[LedgerEntry], path: str) -> _Tried:
+    tried = _Tried()
     for e in entries:
-        distinct.setdefault(e.fingerprint, e.configurations)
-    new = fingerprint not in distinct
-    trials = sum(distinct.values()) + (configurations if new else 0)
+        label, keys = record_trials(e, path=path)
+        if keys is None:
+            tried.unnamed.setdefault(e.fingerprint, (label, e.configurations))
+            tried.unnamed_records += 1
+        else:
+            tried.named.setdefault(e.fingerprint, (label, keys))
+            tried.pairs.update((label, k) for k in keys)
+    return tried
+
+
+def tally_trials(
+    entries: Sequence[LedgerEntry],
+    *,
+    fingerprint: str,
+    configurations: int,
+    path: str = "<ledger>",
+    keys: Sequence[str] | None = None,
+    strategy: str | None = None,
+) -> LedgerTally:
+    """Count the trials: distinct (strategy, configuration) pairs over the records and this audit,
+    plus the configurations of each distinct fingerprint of the records naming none (see the module
+    notes).
+
+    Parameters
+    ----------
+    entries : sequence of LedgerEntry
+        The ledger's records.
+    fingerprint : str
+        This sweep's data fingerprint (:func:`sweep_fingerprint`).
+    configurations : int
+        This sweep's configurations.
+    keys : sequence of str, optional
+        This sweep's configuration keys (:func:`trial_keys`); None counts it by its fingerprint.
+    strategy : str, optional
+        This audit's strategy label.
+    """
+    tried = _read_tried(entries, path)
+    if keys is not None:
+        keys = tuple(keys)
+        if len(keys) != configurations or len(set(keys)) != len(keys):
+            raise InputError(f"keys must name the sweep's {configurations} configurations once each; got {len(keys)}")
+        tried.named.setdefault(fingerprint, (strategy, keys))
+    before, _ = tried.count()
+    if keys is not None:
+        tried.pairs.update((strategy, k) for k in keys)
+    elif fingerprint not in tried.named:
+        tried.unnamed.setdefault(fingerprint, (strategy, configurations))
+    after, by_print = tried.count()
+    trials = max(sum(after.values()), configurations)
+    prints = {e.fingerprint for e in entries}
     return LedgerTally(
         path=path,
         records=len(entries),
-        sweeps_before=len(distinct),
+        sweeps_before=len(prints),
         fingerprint=fingerprint,
         configurations=configurations,
-        new_sweep=new,
-        trials=max(trials, configurations),
+        new_sweep=fingerprint not in prints,
+        trials=trials,
+        strategy=strategy,
+        by_configuration=keys is not None,
+        trials_before=sum(before.values()),
+        trials_added=trials - sum(before.values()),
+        fingerprint_records=tried.unnamed_records,
+        fingerprint_trials=by_print,
+        strategies=tuple(sorted(after.items(), key=lambda kv: (kv[0] is not None, kv[0] or ""))),
     )
+
+
+def tally_note(tally: LedgerTally) -> str:
+    """The ledger's count in words: what it counts, what this audit added, and the old records."""
+    label = f" of strategy {tally.strategy!r}" if tally.strategy is not None else ""
+    added = (f"{tally.trials_added:,} of this sweep's {tally.configurations:,} configurations{label} are new"
+             if tally.by_configuration else
+             f"this sweep's configuration names were generated, so its {tally.configurations:,} configurations "
+             "count by its data fingerprint")
+    note = (f"{tally.trials:,} trials counted by the ledger {tally.path} (a trial is a configuration of a strategy; "
+            f"re-auditing one on more data adds none): {added}")
+    if tally.fingerprint_records:
+        note += (f"; {tally.fingerprint_records:,} record(s) name no configurations and count by their data "
+                 f"fingerprint: {tally.fingerprint_trials:,} trials")
+    return note
 
 
 def ledger_record(
@@ -155,8 +302,16 @@ def ledger_record(
     input_path: str,
     trials: int,
     date: datetime | None = None,
+    strategy: str | None = None,
+    keys: Sequence[str] | None = None,
+    tally: LedgerTally | None = None,
 ) -> dict[str, Any]:
-    """One ledger record (``date`` defaults to now, UTC, ISO 8601 to the second)."""
+    """One ledger record (``date`` defaults to now, UTC, ISO 8601 to the second).
+
+    ``strategy`` and ``keys`` (the sweep's configuration keys, stored sorted as
+    ``configurations_tried``; None when they were generated) say what was tried; ``tally`` adds the
+    ledger's count (``trials_counted``) and what this audit added (``trials_added``).
+    """
     when = (date or datetime.now(timezone.utc)).astimezone(timezone.utc)
     return {
         "schema": LEDGER_SCHEMA,
@@ -169,6 +324,10 @@ def ledger_record(
         "trials": trials,
         "version": __version__,
         "input": input_path,
+        "strategy": strategy,
+        "configurations_tried": sorted(keys) if keys is not None else None,
+        "trials_counted": tally.trials if tally is not None else None,
+        "trials_added": tally.trials_added if tally is not None else None,
     }
 
 
@@ -181,8 +340,10 @@ class Ledger:
         self.entries = entries
         self._needs_newline = not ends_with_newline
 
-    def tally(self, *, fingerprint: str, configurations: int) -> LedgerTally:
-        return tally_trials(self.entries, fingerprint=fingerprint, configurations=configurations, path=self.path)
+    def tally(self, *, fingerprint: str, configurations: int, keys: Sequence[str] | None = None,
+              strategy: str | None = None) -> LedgerTally:
+        return tally_trials(self.entries, fingerprint=fingerprint, configurations=configurations, path=self.path,
+                            keys=keys, strategy=strategy)
 
     def append(self, record: dict[str, Any]) -> None:
         """Append one record as one line, in one write (O_APPEND puts it at the end)."""

@@ -24,7 +24,8 @@ from dataclasses import dataclass, field, fields, replace
 from pathlib import Path
 from typing import Any
 
-from .errors import PolicyError
+from . import validate
+from .errors import InputError, PolicyError
 
 __all__ = [
     "Policy",
@@ -74,6 +75,7 @@ def _f(
     high_open=False,
     source: str | None = None,
     check_ids: bool = False,
+    label: bool = False,
 ):
     return field(
         default=default,
@@ -88,6 +90,8 @@ def _f(
             "source": source,
             # A list of check ids: validated against CHECK_IDS.
             "check_ids": check_ids,
+            # A name (validate.label): no default value to take the type from.
+            "label": label,
         },
     )
 
@@ -294,6 +298,13 @@ class Policy:
         high=1.0,
         source="sweepaudit's choice, a judgement call: small against the conventional 5% level",
     )
+    strategy: str | None = _f(
+        None,
+        "trial ledger: the strategy's label; a trial is a configuration of a strategy, so two strategies "
+        "sharing a ledger count their configurations apart even when their names coincide (--strategy "
+        "overrides it)",
+        label=True,
+    )
 
     def replace(self, **changes: Any) -> Policy:
         return policy_from_mapping({**_as_mapping(self), **changes})
@@ -316,7 +327,12 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
         f = known[key]
         meta = f.metadata
         default = f.default
-        if isinstance(default, bool):
+        if meta.get("label"):
+            try:
+                value = None if value is None else validate.label(value, key)
+            except InputError as exc:
+                raise PolicyError(f"{source}: {exc}") from None
+        elif isinstance(default, bool):
             if not isinstance(value, bool):
                 raise PolicyError(f"{source}: {key} must be true or false; got {value!r}")
         elif isinstance(default, int):
