@@ -98,19 +98,11 @@ def nearest_names(request: str, names: Sequence[str], keys: Sequence[str], *, li
     """
     wanted = parse_parameters(request) or {}
     given = {_spaced(p): parameter_value(v) for p, v in wanted.items()}
-    target = configuration_key(request)
-    scored = []
+    matcher = difflib.SequenceMatcher(b=configuration_key(request), autojunk=False)
+    ranked = []
     for k, key in enumerate(keys):
         have = parse_parameters(key) or {}
-        shared = sum(have.get(p) == v for p, v in given.items())
-        scored.append((shared, k))
-    best = sorted(scored, key=lambda s: -s[0])
-    top = best[0][0] if best else 0
-    pool = [k for shared, k in best if shared == top] if top > 0 else list(range(len(keys)))
-    matcher = difflib.SequenceMatcher(b=target, autojunk=False)
-    ranked = []
-    for k in pool:
-        matcher.set_seq1(keys[k])
-        ranked.append((-matcher.ratio(), k))
+        matcher.set_seq1(key)
+        ranked.append((-sum(have.get(p) == v for p, v in given.items()), -matcher.ratio(), k))
     ranked.sort()
-    return [names[k] for _, k in ranked[:limit]]
+    return [names[k] for _, _, k in ranked[:limit]]

@@ -120,6 +120,17 @@ class Sweep:
         return self.returns.shape[1]
 
     @cached_property
+    def _parameter_keys(self) -> tuple[str, ...]:
+        """Each configuration's key from its parameter values (two may coincide)."""
+        table = self.parameters
+        tabled = (table is not None and len(table.columns) > 0 and table.index.is_unique
+                  and set(table.index) == set(self.configurations))
+        if not tabled:
+            return tuple(configuration_key(n) for n in self.configurations)
+        rows = table.reindex(list(self.configurations)).to_dict(orient="records")
+        return tuple(configuration_key(n, r) for n, r in zip(self.configurations, rows))
+
+    @cached_property
     def configuration_keys(self) -> tuple[str, ...]:
         """The key of each configuration (:func:`sweepaudit.names.configuration_key`): its parameter
         values from the parameter table, in any order and spacing, numbers as numbers.
@@ -127,14 +138,7 @@ class Sweep:
         When two configurations of this sweep share a key (``lookback=20`` and ``lookback=20.0``),
         every configuration is keyed by its name instead, so a key always names one configuration.
         """
-        table = self.parameters
-        tabled = (table is not None and len(table.columns) > 0 and table.index.is_unique
-                  and set(table.index) == set(self.configurations))
-        if tabled:
-            rows = table.reindex(list(self.configurations)).to_dict(orient="records")
-            keys = tuple(configuration_key(n, r) for n, r in zip(self.configurations, rows))
-        else:
-            keys = tuple(configuration_key(n) for n in self.configurations)
+        keys = self._parameter_keys
         if len(set(keys)) == len(keys):
             return keys
         spaced = tuple(configuration_key(n, {}) for n in self.configurations)
@@ -155,14 +159,18 @@ class Sweep:
         if not isinstance(configuration, str):
             raise InputError(f"a configuration is named by a string; got {configuration!r}")
         key = configuration_key(configuration)
-        hits = [k for k, c in enumerate(self.configuration_keys) if c == key]
+        hits = [k for k, c in enumerate(self._parameter_keys) if c == key]
         if len(hits) == 1:
             return hits[0]
-        near = nearest_names(configuration, self.configurations, self.configuration_keys)
-        shown = ", ".join(repr(n if len(n) <= 80 else n[:77] + "...") for n in near)
+        shown = ", ".join(repr(n if len(n) <= 80 else n[:77] + "...") for n in (
+            [self.configurations[k] for k in hits][:5] or
+            nearest_names(configuration, self.configurations, self._parameter_keys)))
+        if hits:  # configurations named apart with the same values (lookback=20 and lookback=20.0)
+            raise InputError(f"{configuration!r} matches {len(hits)} configurations by its values: {shown}; "
+                             "give the exact name")
         raise InputError(
             f"no configuration named {configuration!r} in the sweep (parameter values match in any order, "
-            f"numbers as numbers)" + (f"; nearest: {shown}" if shown else "")
+            f"numbers as numbers); nearest: {shown}"
         )
 
     @cached_property
