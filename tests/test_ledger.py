@@ -33,6 +33,7 @@ from sweepaudit.ledger import (
     open_ledger,
     parse_ledger,
     read_ledger,
+    grid_digest,
     sweep_fingerprint,
     tally_note,
     tally_trials,
@@ -248,10 +249,29 @@ def test_generated_names_count_by_fingerprint():
     assert "count by its data fingerprint" in tally_note(tally_trials((unnamed,), fingerprint=B, configurations=5))
 
 
+def test_grids_are_listed_once_and_named_by_digest_after():
+    keys = _keys(12)
+    listed = _named(1, A, keys)
+    by_digest = LedgerEntry(2, B, 12, {"fingerprint": B, "configurations": 12, "grid": grid_digest(keys)})
+    t = tally_trials((listed, by_digest), fingerprint=C, configurations=12, keys=keys[::-1])
+    assert (t.trials, t.trials_added, t.grid_recorded, t.grid) == (12, 0, True, grid_digest(keys))
+    record = ledger_record(fingerprint=C, configurations=12, windows=9, selected="s", verdict="go", input_path="p",
+                           trials=12, keys=keys, tally=t)
+    assert record["configurations_tried"] is None and record["grid"] == grid_digest(keys)
+    first = tally_trials((), fingerprint=C, configurations=12, keys=keys)
+    assert ledger_record(fingerprint=C, configurations=12, windows=9, selected="s", verdict="go", input_path="p",
+                         trials=12, keys=keys, tally=first)["configurations_tried"] == sorted(keys)
+    # The listing line removed by hand: the record naming the grid counts by its fingerprint.
+    t = tally_trials((by_digest,), fingerprint=C, configurations=12, keys=_keys(12, start=50))
+    assert (t.trials, t.fingerprint_records, t.fingerprint_trials) == (24, 1, 12)
+
+
 @pytest.mark.parametrize(
     ("extra", "fragment"),
     [
         ({"strategy": 3}, "strategy must be a string or null; got 3"),
+        ({"grid": "ab"}, "grid must be 64 lowercase hex digits or null; got 'ab'"),
+        ({"grid": "d" * 64, "configurations_tried": ["a", "b"]}, "grid is not the digest of configurations_tried"),
         ({"configurations_tried": "lookback=1"}, "configurations_tried must be a list of configuration keys"),
         ({"configurations_tried": [1, 2]}, "configurations_tried must be a list of configuration keys"),
         ({"configurations_tried": ["a"]}, "must list the record's 2 configurations once each; it lists 1 (1 distinct)"),
@@ -309,7 +329,10 @@ def test_a_growing_record_keeps_counting_its_twelve_configurations(tmp_path):
         assert deflated["probability"] == pytest.approx(alone["results"]["sharpe"]["deflated"]["probability"], rel=1e-12)
     records = [json.loads(line) for line in ledger.read_text().splitlines()]
     assert len({r["fingerprint"] for r in records}) == 3  # each year's data stays in the audit trail
+    # The grid is listed once, then named by its digest.
     assert records[0]["configurations_tried"][:2] == ["entry_z=1, train_days=126", "entry_z=1, train_days=21"]
+    assert [r["configurations_tried"] is None for r in records] == [False, True, True]
+    assert len({r["grid"] for r in records}) == 1 and records[0]["grid"] == grid_digest(records[0]["configurations_tried"])
     assert [r["trials_counted"] for r in records] == [12, 12, 12] and [r["windows"] for r in records] == [208, 260, 312]
 
 

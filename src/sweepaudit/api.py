@@ -258,7 +258,6 @@ def audit(
     if settings.selected is not None:
         settings = replace(settings, selected=sweep.configurations[sweep.index_of(settings.selected)])
     declared = trials if trials is not None else settings.trials
-    trials_to_count(sweep.n_configurations, declared=declared)
     with counted_trials(sweep, ledger=ledger, declared=declared, strategy=strategy) as count:
         evidence = gather_evidence(
             sweep, settings=replace(settings, trials=count.trials), policy=policy, progress=progress,

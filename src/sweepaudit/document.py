@@ -574,6 +574,7 @@ def ledger_block(tally: LedgerTally, *, declared: int | None, used: int | None, 
         "fingerprint_records": tally.fingerprint_records,
         "fingerprint_trials": tally.fingerprint_trials,
         "strategies": [{"strategy": label, "trials": count} for label, count in tally.strategies],
+        "grid": tally.grid,
     }
 
 

@@ -1329,6 +1329,10 @@ class LedgerTally:
         naming configurations explains.
     strategies : tuple of (str or None, int)
         The trials of each strategy label once this audit is recorded, labels in order (None first).
+    grid : str or None
+        The digest of this sweep's configuration keys (None when counted by fingerprint).
+    grid_recorded : bool
+        Whether the ledger already lists that grid (this audit's record then names it by digest).
     """
 
     path: str
@@ -1345,6 +1349,8 @@ class LedgerTally:
     fingerprint_records: int = 0
     fingerprint_trials: int = 0
     strategies: tuple[tuple[str | None, int], ...] = ()
+    grid: str | None = None
+    grid_recorded: bool = False
 
     @property
     def sweeps_recorded(self) -> int:

@@ -72,7 +72,9 @@ def audit_text(doc: dict) -> str:
         lines.append(f"  {_check_status(c):<15} {c['id']:<{width}}  {_cut(c['reason'], REASON_LIMIT)}")
     trials = doc["settings"].get("trials")
     if trials is not None:
-        lines.append(f"trials    {trials:,} counted by the deflated Sharpe ratio")
+        ledger = doc.get("ledger")
+        source = f" (ledger {_cut(ledger['path'])}: {ledger['trials_added']:,} added)" if ledger else ""
+        lines.append(f"trials    {trials:,} counted by the deflated Sharpe ratio{source}")
     lines.append(doc["caution"])
     return "\n".join(lines)
 
@@ -130,6 +132,8 @@ def audit_html(doc: dict) -> str:
     trials = doc["settings"].get("trials")
     if trials is not None:
         parts.append(f"<p>Trials counted by the deflated Sharpe ratio: {trials:,}.</p>")
+    if doc.get("ledger") and doc["ledger"].get("note"):
+        parts.append(f'<p style="color:#555">Trial ledger: {_e(doc["ledger"]["note"])}</p>')
     parts.append(f'<p style="color:#555;font-size:0.9em"><em>{html.escape(doc["caution"])}</em></p></div>')
     return "".join(parts)
 

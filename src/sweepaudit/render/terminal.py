@@ -225,7 +225,8 @@ def _gate_sections(doc: dict) -> list:
     ledger = doc.get("ledger")
     if ledger:
         text = Text("Trial ledger\n", style="bold")
-        state = "new (recorded now)" if ledger["new_sweep"] else "already recorded (no trials added)"
+        state = ("new (recorded now)" if ledger["new_sweep"] else "already recorded (no trials added)"
+                 if not ledger.get("trials_added") else "already recorded")
         text.append(f"  {ledger['path']}: this sweep is {state}; {ledger['sweeps_recorded']:,} distinct "
                     f"sweeps recorded, {ledger['trials_counted']:,} trials counted\n")
         if ledger.get("note"):
