@@ -24,22 +24,13 @@ import argparse
 import hashlib
 import json
 import os
-import statistics
 import tempfile
-import time
 from pathlib import Path
+
+from timing import median_seconds  # benchmarks/timing.py, beside this script
 
 from sweepaudit.ledger import grid_digest, ledger_record, read_ledger, tally_trials
 from sweepaudit.results import LedgerTally
-
-
-def _median_seconds(fn, repeats: int) -> float:
-    times = []
-    for _ in range(repeats):
-        started = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - started)
-    return statistics.median(times)
 
 
 def _grid(n: int) -> list[str]:
@@ -96,8 +87,8 @@ def main() -> None:
                                 strategy="meanrev-weekly", path=str(path))
 
         tally = count()
-        floor = _median_seconds(parse_only, args.repeats)
-        counted = _median_seconds(count, args.repeats)
+        floor = median_seconds(parse_only, args.repeats)
+        counted = median_seconds(count, args.repeats)
         size = path.stat().st_size
         every = Path(folder) / "every.jsonl"
         write_ledger(every, args.records, args.configurations, list_every_time=True)
