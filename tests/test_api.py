@@ -192,7 +192,7 @@ def test_hostile_names_are_escaped_in_the_repr_and_the_html():
     result = audit(_weekly_grid(hostile=True), resamples=200, select="mode=calm, lookback=10")
     hostile = next(c for c in result.sweep.configurations if "script" in c)
     assert result.sweep.index_of(hostile) >= 0
-    for shown in (repr(result), result._repr_html_(), repr(result.document["selected"])):
+    for shown in (repr(result), result._repr_html_(), repr(result.document["selected"]), result.terminal()):
         assert "\x1b" not in shown and "\u202e" not in shown
     page = result._repr_html_()
     assert "<script" not in page.lower() and "javascript:" not in page and " on" + "error=" not in page

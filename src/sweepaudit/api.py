@@ -45,6 +45,7 @@ from .render.json import dumps
 from .render.junit import audit_to_junit
 from .render.notebook import audit_html, audit_text, calibration_html, calibration_text
 from .render.report import build_report, write_report
+from .render.safe import visible_document
 from .render.terminal import render_terminal
 from .results import AuditSettings, BaselineComparison, Evidence, Inspection, Verdict
 from .sweep import Sweep
@@ -90,11 +91,12 @@ class _Shown:
 
     def terminal(self, width: int = 100) -> str:
         """The terminal view as plain text (no colour), ``width`` columns wide."""
-        return _text_view(self.document, type(self)._render, validate.whole_number(width, "width", minimum=40))
+        width = validate.whole_number(width, "width", minimum=40)
+        return _text_view(visible_document(self.document), type(self)._render, width)
 
     def show(self) -> None:
         """Print the terminal view (with colour where the terminal has it)."""
-        type(self)._render(self.document)
+        type(self)._render(visible_document(self.document))
 
 
 class AuditResult(_Shown, results.AuditResult):
