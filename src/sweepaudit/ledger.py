@@ -256,7 +256,6 @@ def _read_tried(entries: Sequence[LedgerEntry], path: str) -> _Tried:
     return tried
 
 
-# Longer than 60 lines with its docstring; the body is about 30 lines.
 def tally_trials(
     entries: Sequence[LedgerEntry],
     *,
