@@ -371,3 +371,21 @@ def test_the_strategy_label_from_the_option_and_the_policy(tmp_path):
                                            {"strategy": "meanrev-weekly", "trials": 12}]
     assert doc["reproduce"]["command"].endswith("--strategy carry-weekly")
     assert [r["strategy"] for r in map(json.loads, ledger.read_text().splitlines())] == ["meanrev-weekly", "carry-weekly"]
+
+
+def test_arrays_without_names_count_by_fingerprint(tmp_path):
+    from sweepaudit import audit, inspect
+
+    ledger = tmp_path / "trials.jsonl"
+    rng = np.random.default_rng(3)
+    first, second = rng.normal(0, 0.01, (60, 3)), rng.normal(0, 0.01, (60, 3))
+    assert inspect(first).reading["configuration_names"] == "generated"
+    assert inspect(pd.DataFrame(first)).reading["configuration_names"] == "generated"  # columns 0, 1, 2
+    assert inspect(first, configurations=["a", "b", "c"]).reading["configuration_names"] == "given"
+    one = audit(first, periods_per_year=52, resamples=200, ledger=ledger)
+    two = audit(second, periods_per_year=52, resamples=200, ledger=ledger)
+    # config 1..3 of two different arrays are not the same trials: each array counts its own 3.
+    assert one.document["ledger"]["counted_by"] == "fingerprint" and two.settings.trials == 6
+    named = audit(second, configurations=["a", "b", "c"], periods_per_year=52, resamples=200, ledger=ledger)
+    assert named.document["ledger"]["counted_by"] == "configuration" and named.settings.trials == 9
+    assert [r.record["grid"] is None for r in read_ledger(ledger)] == [True, True, False]
