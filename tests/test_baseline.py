@@ -148,3 +148,30 @@ def test_baseline_drift_fails_the_gate_while_the_other_checks_pass(tmp_path):
     # Advisory instead of required: the same drift is reported, the gate stays open.
     policy.write_text('required = ["enough_windows", "mean_interval"]\n')
     assert run(args).exit_code == 0
+
+
+@pytest.mark.parametrize(
+    ("data", "fragment"),
+    [
+        (b"[" * 100_000 + b"]" * 100_000, "nested too deeply"),
+        (b'{"a": ' * 70 + b"1" + b"}" * 70, "nested more than 64 levels deep"),
+        (b'{"schema": "sweepaudit.audit/1", "n": 1' + b"0" * 5000 + b"}", "not usable JSON"),
+        ('{"schema": "sweepaudit.audit/1", "note": "caf\xe9"}'.encode("latin-1"), "not UTF-8 text"),
+    ],
+    ids=["deep", "deeper-than-a-document", "huge-integer", "latin-1"],
+)
+def test_hostile_baselines_are_one_line(tmp_path, data, fragment):
+    path = tmp_path / "base.json"
+    path.write_bytes(data)
+    with pytest.raises(InputError) as info:
+        read_baseline(path)
+    assert str(info.value).startswith(f"{path}: ") and fragment in str(info.value)
+
+
+def test_numbers_beyond_the_float_range_are_not_compared():
+    doc = _doc(0.01, 0.02, 0.9, 0.1)
+    doc["results"]["huge"] = 10**400
+    doc["checks"] = [{"id": "x", "value": -(10**400), "passed": True}]
+    leaves = numeric_leaves(doc)
+    assert "results.huge" not in leaves and "checks.x.value" not in leaves
+    assert leaves["results.bootstrap.selected.mean.low"] == 0.01

@@ -55,7 +55,7 @@ def test_a_failing_report_leaves_no_json_or_junit(tmp_path, monkeypatch):
     def broken(*args, **kwargs):
         raise cli.SweepAuditError("the report could not be written")
 
-    monkeypatch.setattr(cli, "write_report", broken)
+    monkeypatch.setattr(cli, "render_report", broken)
     result = run("audit", EDGE, "--quick", "-q", "--json", tmp_path / "a.json", "--junit", tmp_path / "a.xml",
                  "--report", tmp_path / "a.html")
     assert result.exit_code == 2

@@ -166,3 +166,23 @@ def test_the_audit_with_a_ledger_passes_the_counted_trials_to_the_methods(tmp_pa
     assert result.settings.trials == 43 and result.sharpe.trials == 43
     assert result.document["ledger"]["trials_used"] == 43 and result.document["settings"]["trials"] == 43
     assert len(read_ledger(ledger)) == 2
+
+
+def test_trial_counts_have_a_ceiling_and_accept_scientific_notation(tmp_path):
+    from sweepaudit.ledger import MAX_TRIALS
+
+    with pytest.raises(InputError, match=r"^--trials must be at most 1,000,000,000,000,000 trials"):
+        trials_to_count(10, declared=MAX_TRIALS + 1, name="--trials")
+    big = tally_trials((_entry(1, "a" * 64, MAX_TRIALS),), fingerprint="a" * 64, configurations=10)
+    assert big.trials == MAX_TRIALS
+    with pytest.raises(InputError, match="more than the 1,000,000,000,000,000 sweepaudit can count"):
+        tally_trials((_entry(1, "a" * 64, MAX_TRIALS),), fingerprint="b" * 64, configurations=10)
+    sweep = write_wide(tmp_path / "sweep.csv", synthetic_returns())
+    for text, message in (("1e30", "--trials must be a whole number from 1 to 1,000,000,000,000,000; got 1e+30"),
+                          ("2.5", "--trials must be a whole number from 1 to"), ("many", "--trials must be a finite")):
+        result = run(["audit", str(sweep), "--quick", "--trials", text])
+        assert result.exit_code == 2 and result.stderr.count("\n") == 1 and message in result.stderr
+    out = tmp_path / "a.json"
+    result = run(["audit", str(sweep), "--quick", "-q", "--trials", "6e8", "--json", str(out)])
+    assert result.exit_code in (0, 1)
+    assert json.loads(out.read_text())["results"]["sharpe"]["deflated"]["trials"] == 600_000_000

@@ -115,8 +115,10 @@ def test_corrupted_ledger_line_is_reported_and_nothing_is_lost(tmp_path):
         (b"[1]", "not a JSON object"),
         (b"\xff\xfe", "not UTF-8"),
         (b'{"fingerprint": "' + b"A" * 64 + b'", "configurations": 2}', "64 lowercase hex"),
-        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": 0}', "whole number of at least 1"),
-        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": true}', "whole number of at least 1"),
+        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": 0}', "whole number from 1 to"),
+        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": true}', "whole number from 1 to"),
+        (b'{"fingerprint": "' + b"a" * 64 + b'", "configurations": 1' + b"0" * 30 + b"}",
+         "configurations must be a whole number from 1 to 1000000000000000"),
     ],
 )
 def test_ledger_line_messages(line, fragment):
@@ -164,6 +166,48 @@ def test_concurrent_appends_are_serialised(tmp_path):
     # Under the lock each cycle saw every earlier record: the counts are n, 2n, ..., each exactly once.
     assert sorted(r["trials"] for r in records) == [n * (k + 1) for k in range(workers * each)]
     assert len(read_ledger(path)) == workers * each
+
+
+def test_a_failed_append_leaves_no_partial_line_and_a_retract_takes_the_record_back(tmp_path, monkeypatch):
+    import errno
+    import os
+
+    ledger = tmp_path / "trials.jsonl"
+    first = ledger_record(fingerprint="a" * 64, configurations=3, windows=60, selected="x", verdict="go",
+                          input_path="s.csv", trials=3)
+    with open_ledger(ledger) as book:
+        book.append(first)
+    content = ledger.read_bytes()
+    real = os.write
+
+    def short_then_full(fd, data):  # a disk that fills up midway through the record
+        if len(data) > 20:
+            return real(fd, bytes(data[:20]))
+        raise OSError(errno.ENOSPC, "No space left on device")
+
+    second = {**first, "fingerprint": "b" * 64}
+    with open_ledger(ledger) as book:
+        monkeypatch.setattr(os, "write", short_then_full)
+        with pytest.raises(InputError, match="cannot append to the trial ledger .*no space left.*left as it was"):
+            book.append(second)
+        monkeypatch.setattr(os, "write", real)
+    assert ledger.read_bytes() == content
+    with open_ledger(ledger) as book:
+        book.append(second)
+        assert len(ledger.read_bytes().splitlines()) == 2
+        book.retract()  # an output failed after the record
+    assert ledger.read_bytes() == content and [e.fingerprint for e in read_ledger(ledger)] == ["a" * 64]
+
+
+def test_the_ledger_is_ascii_so_printing_it_cannot_drive_a_terminal(tmp_path):
+    ledger = tmp_path / "trials.jsonl"
+    record = ledger_record(fingerprint="a" * 64, configurations=3, windows=60, selected="x\x1b]8;;\u202e",
+                           verdict="go", input_path="s\udcff.csv", trials=3)
+    with open_ledger(ledger) as book:
+        book.append(record)
+    data = ledger.read_bytes()
+    assert data.isascii() and b"\x1b" not in data
+    assert read_ledger(ledger)[0].record["selected"] == "x\x1b]8;;\u202e"
 
 
 # ---------------------------------------------------------------------------------------------

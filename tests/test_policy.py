@@ -351,3 +351,40 @@ def test_policy_file_tool_shapes(tmp_path, body, fragment):
     with pytest.raises(PolicyError) as info:
         load_policy_file(path)
     assert str(info.value) == f"{path}: {fragment}"
+
+
+@pytest.mark.parametrize(
+    ("text", "message"),
+    [
+        ("min_deflated_probability = nan\n", "min_deflated_probability must be a finite number; got nan"),
+        ("significance = nan\n", "significance must be a finite number; got nan"),
+        ("confidence = inf\n", "confidence must be a finite number; got inf"),
+        ("baseline_interval_margin = -inf\n", "baseline_interval_margin must be a finite number; got -inf"),
+        ("partitions = 15\n", "partitions must be an even whole number; got 15"),
+        ("required = " + "[" * 5000 + "]" * 5000 + "\n", "nested too deeply"),
+    ],
+    ids=["nan", "nan-significance", "inf", "minus-inf", "odd-partitions", "deep"],
+)
+def test_policy_values_that_would_break_a_check_name_the_file_and_key(tmp_path, text, message):
+    path = tmp_path / "p.toml"
+    path.write_text(text)
+    with pytest.raises(PolicyError) as info:
+        load_policy_file(path)
+    assert str(info.value).startswith(str(path)) and message in str(info.value)
+    result = CliRunner().invoke(app, ["policy", "--effective", "--policy", str(path)])
+    assert result.exit_code == 2 and result.stderr.count("\n") == 1 and message in result.stderr
+
+
+def test_a_policy_that_is_not_utf8_or_not_a_file(tmp_path):
+    path = tmp_path / "latin.toml"
+    path.write_bytes("# r\xe9sum\xe9\nconfidence = 0.9\n".encode("latin-1"))
+    with pytest.raises(PolicyError, match=r"latin.toml is not UTF-8 text \(byte 0xe9 at offset 3\)"):
+        load_policy_file(path)
+    with pytest.raises(PolicyError, match="character device, not a regular file"):
+        load_policy_file("/dev/zero")
+
+
+def test_command_line_overrides_name_the_option_and_key():
+    result = CliRunner().invoke(app, ["audit", "fixtures/demo_edge_long.csv", "--confidence", "nan"])
+    assert result.exit_code == 2
+    assert result.stderr == "sweepaudit: error: --confidence: confidence must be a finite number; got nan\n"

@@ -18,6 +18,7 @@ import io
 import json
 import os
 from collections.abc import Callable
+from contextlib import AbstractContextManager, nullcontext
 from dataclasses import replace
 from typing import Any
 
@@ -58,6 +59,7 @@ PolicyLike = Policy | str | os.PathLike | None
 
 #: The resamples of ``quick=True`` (``--quick``): a fast look, not a final audit.
 QUICK_RESAMPLES = 1_000
+Publish = Callable[[results.AuditResult], AbstractContextManager[Any]]
 
 
 # ---------------------------------------------------------------------------------------------
@@ -188,6 +190,7 @@ def audit(
     policy_source: str | None = None,
     progress: Callable[[int, int], None] | None = None,
     memory_budget: int | None = None,
+    publish: Publish | None = None,
     **input_options: Any,
 ) -> AuditResult:
     """Audit a sweep: resample once, run every method once, decide the verdict once.
@@ -237,6 +240,13 @@ def audit(
         ``progress(done, total)`` as the resamples are worked through.
     memory_budget : int, optional
         Bytes the ``B x N`` resampled moments may take before the engine streams.
+    publish : callable, optional
+        ``publish(result)`` returns a context manager that writes the audit's outputs: it is
+        entered once the document exists (the ledger still locked), the ledger record is appended
+        inside it, and it is left with the record's outcome. So the record follows the outputs
+        (an output that fails leaves the ledger unchanged), a failing append reaches the outputs
+        (which can roll back), and a failure on leaving (the terminal output) takes the record
+        back.
 
     Returns
     -------
@@ -270,8 +280,14 @@ def audit(
             evidence, verdict, command=command(evidence) if callable(command) else command,
             policy_source=policy_source, baseline=comparison, ledger=count.block(),
         )
-        count.record(sweep, selected=evidence.selected, verdict=verdict.decision)
-    return AuditResult(evidence, verdict, document, figure_material(evidence), comparison)
+        result = AuditResult(evidence, verdict, document, figure_material(evidence), comparison)
+        try:
+            with publish(result) if publish is not None else nullcontext():
+                count.record(sweep, selected=evidence.selected, verdict=verdict.decision)
+        except BaseException:
+            count.retract()  # an output failed after the record: take it back, the ledger still locked
+            raise
+    return result
 
 
 def _policy(policy: PolicyLike, source: str | None) -> tuple[Policy, str]:

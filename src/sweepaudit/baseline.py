@@ -23,6 +23,7 @@ from typing import Any
 
 from ._version import AUDIT_SCHEMA
 from .errors import InputError
+from .readfile import explained, read_bytes
 from .results import BaselineComparison, CheckChange, FigureMove, GatedFigure, GatedMove
 
 __all__ = [
@@ -68,30 +69,28 @@ GATED_FIGURES: tuple[GatedFigure, ...] = (
 )
 
 
+#: The most bytes a baseline audit JSON may hold (an audit of 100,000 configurations is about 200 MB).
+BASELINE_FILE_LIMIT = 1 << 30
+#: The deepest nesting a baseline may have (an audit document is about 6 levels deep).
+BASELINE_DEPTH_LIMIT = 64
+
+
 def read_baseline(path: str | Path) -> dict[str, Any]:
     """Read and check an earlier audit JSON.
 
     Raises
     ------
     InputError
-        Naming the file, when it cannot be read, is not JSON, or is not a ``sweepaudit.audit/1``
-        document with ``results`` and ``checks``.
+        Naming the file, when it cannot be read (missing, a folder, a device, unreadable, larger
+        than :data:`BASELINE_FILE_LIMIT`), is not UTF-8 JSON, is nested deeper than
+        :data:`BASELINE_DEPTH_LIMIT`, or is not a ``sweepaudit.audit/1`` document with ``results``
+        and ``checks``.
     """
     where = str(path)
-    try:
-        text = Path(path).read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError("baseline file does not exist", path=where) from None
-    except IsADirectoryError:
-        raise InputError("baseline is a folder, not an audit JSON file", path=where) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the baseline: {exc}", path=where) from None
-    try:
-        document = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise InputError(
-            f"the baseline is not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})", path=where
-        ) from None
+    data = explained(lambda: read_bytes(path, limit=BASELINE_FILE_LIMIT), lambda m: InputError(m, path=where),
+                     missing="baseline file does not exist", folder="baseline is a folder, not an audit JSON file",
+                     other="cannot read the baseline")
+    document = _parse_json(data, where)
     if not isinstance(document, dict):
         raise InputError("the baseline must be an audit JSON object", path=where)
     schema = document.get("schema")
@@ -106,8 +105,49 @@ def read_baseline(path: str | Path) -> dict[str, Any]:
     return document
 
 
+def _parse_json(data: bytes, where: str) -> Any:
+    """JSON text -> objects, every failure one message naming the file."""
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise InputError(f"the baseline is not UTF-8 text (byte offset {exc.start})", path=where) from None
+    try:
+        document = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise InputError(
+            f"the baseline is not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})", path=where
+        ) from None
+    except RecursionError:
+        raise InputError("the baseline is not an audit JSON: it is nested too deeply", path=where) from None
+    except ValueError as exc:  # an integer of more digits than Python converts
+        raise InputError(f"the baseline is not usable JSON ({str(exc).split(':')[0]})", path=where) from None
+    if _depth(document) > BASELINE_DEPTH_LIMIT:
+        raise InputError(
+            f"the baseline is not an audit JSON: it is nested more than {BASELINE_DEPTH_LIMIT} levels deep",
+            path=where,
+        )
+    return document
+
+
+def _depth(value: Any) -> int:
+    """How deeply lists and objects nest (without recursion, so any depth can be measured)."""
+    deepest, stack = 0, [(value, 1)]
+    while stack:
+        item, depth = stack.pop()
+        if isinstance(item, (dict, list)):
+            deepest = max(deepest, depth)
+            if depth <= BASELINE_DEPTH_LIMIT:
+                stack.extend((v, depth + 1) for v in (item.values() if isinstance(item, dict) else item))
+    return deepest
+
+
 def _is_number(value: Any) -> bool:
-    return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+    if not isinstance(value, (int, float)) or isinstance(value, bool):
+        return False
+    try:
+        return math.isfinite(value)
+    except OverflowError:  # an integer beyond the float range
+        return False
 
 
 def _walk(value: Any, key: str, out: dict[str, float]) -> None:

@@ -1,6 +1,12 @@
 """The command line: parse options, call audit(), render, map the verdict to an exit code.
 
-Exit status: 0 go, 1 no-go, 2 bad input or usage.
+Exit status: 0 go, 1 no-go, 2 bad input or usage (or any failure that left no verdict).
+
+Every failure is one line on standard error, ``sweepaudit: error: ...``, with control characters
+shown as escapes; no traceback (``SWEEPAUDIT_TRACEBACK=1`` shows one for an unexpected error).
+The outputs of a run are one transaction (:mod:`sweepaudit.render.files`): rendered in memory,
+staged beside their targets, committed together, then the terminal text, then the ledger record;
+a failure anywhere rolls them back, so exit status 2 means no output changed and no record added.
 
 Policy: ``--policy PATH`` or else the ``[tool.sweepaudit]`` table of the nearest pyproject.toml
 (see :func:`sweepaudit.policy.discover_policy`). ``--resamples``, ``--quick`` and ``--confidence``
@@ -12,16 +18,19 @@ from __future__ import annotations
 
 import functools
 import inspect
+import os
 import shlex
 import sys
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
 from dataclasses import dataclass
 from enum import Enum
 from pathlib import Path
 from typing import Annotated, Any, Optional
 
 import typer
+import typer.core
 from rich.console import Console
 
 from . import validate
@@ -30,23 +39,68 @@ from .api import audit, inspect as inspect_input
 from .baseline import read_baseline
 from .calibration import calibrate_sweep
 from .document import calibration_document
-from .errors import InputError, SweepAuditError
+from .errors import SweepAuditError
 from .gate import trials_to_count
+from .ledger import MAX_TRIALS
 from .policy import policy_from_mapping, policy_to_toml, resolve_policy
 from .read import LoadOptions, load_sweep
-from .render.calibration import render_calibration
-from .render.inspect import render_inspection
-from .render.files import write_atomic
+from .render.calibration import calibration_text
+from .render.files import FileStep, Transaction, check_target, write_terminal
+from .render.inspect import inspection_text
 from .render.json import dumps
 from .render.junit import audit_to_junit
-from .render.report import check_report_path, write_report
-from .render.terminal import render_terminal
-from .results import AuditSettings, Evidence
+from .render.report import check_report_path, render_report, stage_report
+from .render.safe import visible
+from .render.terminal import terminal_text
+from .results import AuditResult, AuditSettings, Evidence
 from .sweep import Sweep
 
 EXIT_GO, EXIT_NO_GO, EXIT_BAD_INPUT = 0, 1, 2
 
+
+def _error_line(message: object) -> None:
+    """The one line a failure prints on standard error (control characters shown as escapes)."""
+    print(f"sweepaudit: error: {visible(message)}", file=sys.stderr, flush=True)
+
+
+class _OneLineErrors(typer.core.TyperGroup):
+    """The command group, with every failure turned into one line on standard error.
+
+    Usage errors (an unknown option, a value of the wrong type) keep their exit status (2) and
+    name the option; an unexpected exception, which would otherwise print a traceback, becomes
+    ``sweepaudit: error: internal error: ...`` with exit status 2 (``SWEEPAUDIT_TRACEBACK=1``
+    lets it through for debugging). Help requested by giving no arguments is shown as usual.
+    """
+
+    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
+        if not standalone_mode:
+            return super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        try:
+            code = super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        except Exception as exc:  # noqa: BLE001 - the last line of defence against a traceback
+            sys.exit(_usage_or_internal(exc))
+        sys.exit(code if isinstance(code, int) else EXIT_GO)
+
+
+def _usage_or_internal(exc: Exception) -> int:
+    """Print the one line for an exception that reached the top; return the exit status."""
+    if type(exc).__name__ == "NoArgsIsHelpError":
+        exc.show()  # type: ignore[attr-defined]
+        return int(getattr(exc, "exit_code", EXIT_BAD_INPUT))
+    if hasattr(exc, "format_message") and hasattr(exc, "exit_code"):  # a usage error of the parser
+        context = getattr(exc, "ctx", None)
+        hint = f" (see {context.command_path} --help)" if context is not None else ""
+        _error_line(exc.format_message() + hint)
+        return int(exc.exit_code)
+    if os.environ.get("SWEEPAUDIT_TRACEBACK"):
+        raise exc
+    detail = f"{type(exc).__name__}: {exc}" if str(exc) else type(exc).__name__
+    _error_line(f"internal error, nothing was written: {detail[:500]} (set SWEEPAUDIT_TRACEBACK=1 to see where)")
+    return EXIT_BAD_INPUT
+
+
 app = typer.Typer(
+    cls=_OneLineErrors,
     name="sweepaudit",
     help="Audit a trading strategy's parameter sweep: is the winner's edge real, or selection luck?",
     no_args_is_help=True,
@@ -82,6 +136,7 @@ class BootstrapChoice(str, Enum):
 
 
 class IntervalChoice(str, Enum):
+    studentized = "studentized"
     percentile = "percentile"
     basic = "basic"
 
@@ -105,51 +160,46 @@ def _root(
 
 
 def _fail(message: str) -> typer.Exit:
-    print(f"sweepaudit: error: {message}", file=sys.stderr)
+    _error_line(message)
     return typer.Exit(EXIT_BAD_INPUT)
 
 
-def _check_output(path: Optional[Path], what: str) -> None:
-    if path is None:
-        return
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise SweepAuditError(f"cannot write the {what} {path}: folder {folder} does not exist")
-    if path.is_dir():
-        raise SweepAuditError(f"cannot write the {what} {path}: it is a folder; give a file name")
-    if path.exists() and not path.is_file():
-        raise SweepAuditError(f"cannot write the {what} {path}: it is not a regular file")
-
-
-def _for_report(step, path: Path, *args) -> None:
+def _for_report(step, path: Path, *args) -> Any:
     """A report step whose error names the --report option (the library's names the path)."""
     try:
-        step(path, *args)
-    except InputError as exc:
+        return step(path, *args)
+    except SweepAuditError as exc:
         raise SweepAuditError(f"--report: {exc}") from None
+
+
+def _real(path: object) -> str:
+    # os.path.realpath, unlike Path.resolve, does not raise on a symbolic-link loop
+    return os.path.realpath(os.fspath(path))  # type: ignore[arg-type]
 
 
 def _check_distinct(outputs: dict[str, Optional[Path]], inputs: dict[str, object]) -> None:
     """Refuse an output that would overwrite an input (the sweep, a ledger, ...) or another output."""
-    seen: dict[Path, str] = {}
+    seen: dict[str, str] = {}
     for what, value in inputs.items():
         if value is not None and str(value) != "-":
-            seen[Path(value).resolve()] = what
+            seen[_real(value)] = what
     for what, path in outputs.items():
         if path is None:
             continue
-        key = path.resolve()
+        key = _real(path)
         if key in seen:
             raise SweepAuditError(f"the {what} {path} would overwrite the {seen[key]}; give another file name")
         seen[key] = what
 
 
-def _with_progress(quiet: bool, label: str, run: Callable[..., Any], *args, **kwargs) -> Any:
-    """``run(*args, progress=..., **kwargs)`` under a progress bar on stderr for long runs; no bar
-    when quiet or when stderr is not a terminal."""
+@contextmanager
+def _progress(quiet: bool, label: str) -> Iterator[tuple[Optional[Callable[[int, int], None]], Callable[[], None]]]:
+    """A progress callback drawing a bar on stderr for long runs, and a function that ends the bar
+    (before the terminal output is written); no bar when quiet or when stderr is not a terminal."""
     console = Console(stderr=True)
     if quiet or not console.is_terminal:
-        return run(*args, **kwargs)
+        yield None, lambda: None
+        return
     from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
 
     bar = Progress(TextColumn(label), BarColumn(), TextColumn("{task.completed:,}/{task.total:,}"),
@@ -161,8 +211,23 @@ def _with_progress(quiet: bool, label: str, run: Callable[..., Any], *args, **kw
             task["id"] = bar.add_task(label, total=total)
         bar.update(task["id"], completed=done)
 
-    with bar:
-        return run(*args, progress=update, **kwargs)
+    bar.start()
+    try:
+        yield update, bar.stop
+    finally:
+        bar.stop()
+
+
+def _count(text: Optional[str], option: str) -> Optional[int]:
+    """A count given on the command line: a whole number, also written as 1e6 or 1_000_000."""
+    if text is None:
+        return None
+    try:
+        value: object = int(text)
+    except ValueError:
+        value = validate.finite_number(text, option)
+    return validate.whole_number(value, option, minimum=1, maximum=MAX_TRIALS, accept_float=True,
+                                 what=f"a whole number from 1 to {MAX_TRIALS:,}")
 
 
 # ---------------------------------------------------------------------------------------------
@@ -321,7 +386,10 @@ def audit_command(
     block_length: Annotated[
         Optional[float], typer.Option(help="Fix the (mean) block length in windows; automatic otherwise.")
     ] = None,
-    interval_method: Annotated[IntervalChoice, typer.Option(help="Bootstrap interval.")] = IntervalChoice.percentile,
+    interval_method: Annotated[
+        IntervalChoice,
+        typer.Option(help="Bootstrap interval: studentized (the block bootstrap's shape, the long-run variance's width), percentile or basic."),
+    ] = IntervalChoice.studentized,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the audit JSON here.")] = None,
     policy_path: Annotated[
         Optional[Path],
@@ -339,8 +407,9 @@ def audit_command(
         typer.Option("--ledger", help="Trial ledger (JSON Lines): count every sweep audited so far as trials; append this one."),
     ] = None,
     trials: Annotated[
-        Optional[int],
-        typer.Option(help="Trials the deflated Sharpe ratio counts (at least the configurations); with --ledger the larger count wins."),
+        Optional[str],
+        typer.Option(metavar="N", help="Trials the deflated Sharpe ratio counts (at least the configurations, "
+                     "at most 10^15; 1e6 is accepted); with --ledger the larger count wins."),
     ] = None,
     strategy: Annotated[
         Optional[str],
@@ -370,61 +439,76 @@ def audit_command(
         _check_audit_outputs(inputs, outputs, trial_ledger=ledger_path, baseline=baseline_path, policy_file=policy_path)
         if resamples is not None and quick:
             raise SweepAuditError("give either --resamples or --quick, not both")
+        declared = _count(trials, "--trials")
         loaded = resolve_policy(policy_path)
         # Options that override the policy obey the policy's ranges (a 10% interval would make
         # mean_interval meaningless; a handful of resamples, every p-value coarse).
-        overrides = {k: v for k, v in (("confidence", confidence), ("resamples", resamples)) if v is not None}
-        if overrides:
-            policy_from_mapping(overrides, source="command-line option")
+        for key, value in (("confidence", confidence), ("resamples", resamples)):
+            if value is not None:
+                policy_from_mapping({key: value}, source=f"--{key}")
         if strategy is not None:
             validate.label(strategy, "--strategy")
         baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
         sweep = inputs.load()
-        if trials is not None:
-            trials_to_count(sweep.n_configurations, declared=trials, name="--trials")
+        if declared is not None:
+            trials_to_count(sweep.n_configurations, declared=declared, name="--trials")
         settings = AuditSettings(
             seed=seed, resamples=1_000 if quick else resamples, confidence=confidence, bootstrap=bootstrap.value,
             block_length=block_length, interval_method=interval_method.value, selected=inputs.select,
         )
-        result = _with_progress(
-            quiet, "resampling", audit, sweep, settings=settings, policy=loaded.policy, policy_source=loaded.source,
-            baseline=baseline_document, baseline_path=str(baseline_path) if baseline_path is not None else None,
-            ledger=ledger_path, trials=trials, strategy=strategy,
-            command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source,
-                                                       strategy=strategy),
-        )
-        _write_audit_outputs(result, outputs, started)
+        with _progress(quiet, "resampling") as (progress, done):
+            publish = functools.partial(_published, outputs=outputs, started=started, quiet=quiet, before_print=done)
+            result = audit(
+                sweep, settings=settings, policy=loaded.policy, policy_source=loaded.source,
+                baseline=baseline_document, baseline_path=str(baseline_path) if baseline_path is not None else None,
+                ledger=ledger_path, trials=declared, strategy=strategy, progress=progress, publish=publish,
+                command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source,
+                                                           strategy=strategy),
+            )
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
-    if not quiet:
-        render_terminal(result.document)
     raise typer.Exit(EXIT_GO if result.verdict.decision == "go" else EXIT_NO_GO)
 
 
 def _check_audit_outputs(inputs: SweepInput, outputs: dict[str, Optional[Path]], **files: Optional[Path]) -> None:
     """Every output writable, and none overwriting an input or another output."""
-    _check_output(outputs["JSON file"], "JSON file")
-    _check_output(outputs["JUnit file"], "JUnit file")
+    for what in ("JSON file", "JUnit file"):
+        if outputs[what] is not None:
+            check_target(outputs[what], what)
     if outputs["report"] is not None:
         _for_report(check_report_path, outputs["report"])
-        _check_output(outputs["report"], "report")
     _check_distinct(outputs, {"input sweep": inputs.path, "benchmark file": inputs.options.benchmark_file,
                               **{name.replace("_", " "): path for name, path in files.items()}})
 
 
-def _write_audit_outputs(result, outputs: dict[str, Optional[Path]], started: float) -> None:
-    """Render everything in memory first; the report (figures and all) is written first, so a
-    failure there leaves no JSON or JUnit file behind either."""
+@contextmanager
+def _published(result: AuditResult, *, outputs: dict[str, Optional[Path]], started: float, quiet: bool,
+               before_print: Callable[[], None]) -> Iterator[None]:
+    """The audit's outputs as one transaction, around the ledger record (see :func:`sweepaudit.api.audit`).
+
+    Everything is rendered in memory, then every file staged, then all committed; the record is
+    appended inside this block; then the terminal text is written. A failure at any point (the
+    append, or standard output) rolls every file back and the record is taken back: the earlier
+    outputs and the ledger stay as they were.
+    """
     document = result.document
     json_path, junit_path, report_path = outputs["JSON file"], outputs["JUnit file"], outputs["report"]
-    json_text = dumps(document) if json_path is not None else None
-    junit_text = audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path is not None else None
-    if report_path is not None:
-        _for_report(write_report, report_path, document, result.figure_material)
-    if json_text is not None:
-        write_atomic(json_path, json_text)
-    if junit_text is not None:
-        write_atomic(junit_path, junit_text)
+    files = [(json_path, "JSON file", dumps(document) if json_path else None),
+             (junit_path, "JUnit file",
+              audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path else None)]
+    report = _for_report(render_report, report_path, document, result.figure_material) if report_path else None
+    terminal = None if quiet else terminal_text(document)
+    with Transaction() as staged:
+        if report is not None:
+            _for_report(stage_report, staged, report)
+        for path, what, text in files:
+            if path is not None:
+                staged.add(FileStep(path, text, what=what))
+        staged.commit()
+        yield
+        before_print()
+        if terminal is not None:
+            write_terminal(terminal)
 
 
 def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults",
@@ -440,7 +524,7 @@ def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source
               f"{evidence.confidence:g}", "--bootstrap", evidence.resamples.kind]
     if s.block_length is not None:
         words += ["--block-length", f"{s.block_length:g}"]
-    if s.interval_method != "percentile":
+    if s.interval_method != "studentized":
         words += ["--interval-method", s.interval_method]
     if s.selected is not None:
         words += ["--select", s.selected]
@@ -478,7 +562,8 @@ def inspect_command(
       cat sweep.tsv | sweepaudit inspect -
     """
     try:
-        _check_output(json_path, "JSON file")
+        if json_path is not None:
+            check_target(json_path, "JSON file")
         _check_distinct({"JSON file": json_path}, {"input sweep": inputs.path,
                                                     "benchmark file": inputs.options.benchmark_file,
                                                     "policy file": policy_path})
@@ -486,13 +571,21 @@ def inspect_command(
         result = inspect_input(inputs.path, options=inputs.options, policy=loaded.policy)
         if inputs.select is not None:
             result.sweep.index_of(inputs.select)
-        if json_path is not None:
-            write_atomic(json_path, dumps(result.document))
+        _json_and_terminal(json_path, result.document, None if quiet else inspection_text(result.document))
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
-    if not quiet:
-        render_inspection(result.document)
     raise typer.Exit(EXIT_GO)
+
+
+def _json_and_terminal(json_path: Optional[Path], document: dict, terminal: Optional[str]) -> None:
+    """A command's JSON file and terminal text as one transaction: the text is written once the
+    file is in place, and a failure writing it puts the previous file back."""
+    with Transaction() as staged:
+        if json_path is not None:
+            staged.add(FileStep(json_path, dumps(document), what="JSON file"))
+        staged.commit()
+        if terminal is not None:
+            write_terminal(terminal)
 
 
 @app.command("policy")
@@ -512,7 +605,7 @@ def policy_command(
     try:
         if effective:
             loaded = resolve_policy(policy_path)
-            typer.echo(f"# policy in effect, from: {loaded.source}")
+            typer.echo(f"# policy in effect, from: {visible(loaded.source)}")
             typer.echo(policy_to_toml(loaded.policy), nl=False)
         else:
             if policy_path is not None:
@@ -546,8 +639,8 @@ def calibrate_command(
         typer.Option("--policy", help="Policy TOML file; default: [tool.sweepaudit] in the nearest pyproject.toml."),
     ] = None,
     trials: Annotated[
-        Optional[int],
-        typer.Option(help="Trials the deflated Sharpe ratio counts (at least the configurations), as for audit."),
+        Optional[str],
+        typer.Option(metavar="N", help="Trials the deflated Sharpe ratio counts (at least the configurations), as for audit."),
     ] = None,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the calibration JSON here.")] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
@@ -565,7 +658,8 @@ def calibrate_command(
       sweepaudit calibrate sweep.parquet --sweeps 500 --edge 0.5 --json calibration.json
     """
     try:
-        _check_output(json_path, "JSON file")
+        if json_path is not None:
+            check_target(json_path, "JSON file")
         _check_distinct({"JSON file": json_path}, {"input sweep": inputs.path,
                                                     "benchmark file": inputs.options.benchmark_file,
                                                     "policy file": policy_path})
@@ -573,30 +667,29 @@ def calibrate_command(
         validate.at_least(resamples, "--resamples", 1)
         validate.at_least(edge, "--edge", 0, what="0 (an annualised Sharpe ratio)")
         validate.whole_number(seed, "--seed", minimum=0)
+        declared = _count(trials, "--trials")
         loaded = resolve_policy(policy_path)
         sweep = inputs.load()
-        if trials is not None:
-            trials_to_count(sweep.n_configurations, declared=trials, name="--trials")  # the audit's own rule
-        settings = AuditSettings(seed=seed, resamples=resamples, selected=inputs.select, trials=trials)
-        result = _with_progress(quiet, "auditing simulated sweeps", calibrate_sweep, sweep, sweeps=sweeps,
-                                edge=edge, settings=settings, resamples=resamples, policy=loaded.policy, seed=seed)
+        if declared is not None:
+            trials_to_count(sweep.n_configurations, declared=declared, name="--trials")  # the audit's own rule
+        settings = AuditSettings(seed=seed, resamples=resamples, selected=inputs.select, trials=declared)
+        with _progress(quiet, "auditing simulated sweeps") as (progress, done):
+            result = calibrate_sweep(sweep, sweeps=sweeps, edge=edge, settings=settings, resamples=resamples,
+                                     policy=loaded.policy, seed=seed, progress=progress)
         words = ["sweepaudit", "calibrate", *inputs.words(sweep.path)]
         if inputs.select is not None:
             words += ["--select", inputs.select]
         if policy_path is not None:
             words += ["--policy", str(policy_path)]
-        if trials is not None:
-            words += ["--trials", str(trials)]
+        if declared is not None:
+            words += ["--trials", str(declared)]
         words += ["--sweeps", str(sweeps), "--edge", f"{edge:g}", "--resamples", str(resamples), "--seed", str(seed)]
         document = calibration_document(
             result, command=" ".join(shlex.quote(w) for w in words), policy_source=loaded.source
         )
-        if json_path is not None:
-            write_atomic(json_path, dumps(document))
+        _json_and_terminal(json_path, document, None if quiet else calibration_text(document))
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
-    if not quiet:
-        render_calibration(document)
     raise typer.Exit(EXIT_GO)
 
 

@@ -10,6 +10,7 @@ __all__ = [
     "InputError",
     "DegenerateDataError",
     "PolicyError",
+    "OutputError",
     "SweepAuditWarning",
 ]
 
@@ -63,6 +64,11 @@ class DegenerateDataError(InputError):
 
 class PolicyError(SweepAuditError, ValueError):
     """A policy file or option that breaks a rule (unknown key, value out of range)."""
+
+
+class OutputError(SweepAuditError):
+    """An output (a file, the report's figures, standard output) that could not be written; the
+    outputs written before it are left as they were."""
 
 
 class SweepAuditWarning(UserWarning):

@@ -13,7 +13,8 @@ from contextlib import contextmanager
 from dataclasses import dataclass
 
 from .document import ledger_block
-from .ledger import Ledger, ledger_record, open_ledger, sweep_fingerprint, tally_note, trial_keys
+from .errors import InputError
+from .ledger import MAX_TRIALS, Ledger, ledger_record, open_ledger, sweep_fingerprint, tally_note, trial_keys
 from .methods.inference import declared_trials
 from .results import LedgerTally
 from .sweep import Sweep
@@ -26,12 +27,15 @@ def trials_to_count(
 ) -> tuple[int | None, str | None]:
     """The trials the deflated Sharpe ratio counts, and a note saying where the number came from.
 
-    ``declared`` may not be below the sweep's configurations (``name`` is the argument or option
-    it came from, for the message). With a ledger the count is the larger of the two. Without
-    either: ``(None, None)`` (the sweep's configurations).
+    ``declared`` may not be below the sweep's configurations nor above
+    :data:`~sweepaudit.ledger.MAX_TRIALS` (``name`` is the argument or option it came from, for the
+    message). With a ledger the count is the larger of the two. Without either: ``(None, None)``
+    (the sweep's configurations).
     """
     if declared is not None:
-        declared_trials(declared, configurations, name=name)
+        declared = declared_trials(declared, configurations, name=name)
+        if declared > MAX_TRIALS:
+            raise InputError(f"{name} must be at most {MAX_TRIALS:,} trials; got {declared:,}")
     if tally is None:
         if declared is None:
             return None, None
@@ -93,6 +97,12 @@ class TrialCount:
             keys=self.keys,
             tally=self.tally,
         ))
+
+
+    def retract(self) -> None:
+        """Take back the record :meth:`record` appended (the ledger is still locked)."""
+        if self._ledger is not None:
+            self._ledger.retract()
 
 
 @contextmanager

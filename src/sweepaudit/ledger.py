@@ -23,8 +23,11 @@ The count is never below the sweep's own configurations.
 Concurrency: the ledger is opened with ``O_APPEND`` and held under an exclusive ``fcntl.flock``
 for the whole read-count-append cycle (callers hold it across the audit, so concurrent audits
 sharing a ledger count each other's sweeps in some order). Each record is written as one full
-line with one ``os.write``. A corrupted line stops the run with its line number; the ledger is
-never rewritten, so nothing in it is lost.
+line with one ``os.write``; a write that fails midway (a full disk) is cut back to the ledger's
+previous end, so no partial line is ever left. A corrupted line stops the run with its line number;
+the ledger is never rewritten, so nothing in it is lost. The ledger must be a regular file (a
+device, FIFO or folder is refused) of at most :data:`LEDGER_FILE_LIMIT` bytes, and a record counts
+at most :data:`MAX_TRIALS` configurations.
 """
 
 from __future__ import annotations
@@ -46,6 +49,7 @@ import numpy as np
 from . import validate
 from ._version import LEDGER_SCHEMA, __version__
 from .errors import InputError
+from .readfile import GiB, describe, open_regular, read_bytes, read_locked
 from .results import LedgerEntry, LedgerTally
 from .sweep import Sweep
 
@@ -64,7 +68,15 @@ __all__ = [
     "grid_digest",
     "ledger_record",
     "open_ledger",
+    "LEDGER_FILE_LIMIT",
+    "MAX_TRIALS",
 ]
+
+#: The most bytes a ledger may hold (a record is about 300 bytes: millions of audits).
+LEDGER_FILE_LIMIT = 1 * GiB
+#: The most trials sweepaudit counts, from a declaration or summed over a ledger: far beyond any
+#: search a computer can run, and every count up to it is exact as a float (below 2**53).
+MAX_TRIALS = 10**15
 
 def sweep_fingerprint(returns: np.ndarray, configurations: tuple[str, ...] | list[str]) -> str:
     """SHA-256 fingerprint of a sweep's data.
@@ -128,7 +140,8 @@ def parse_ledger(data: bytes, *, path: str = "<ledger>") -> tuple[LedgerEntry, .
                 and all(c in "0123456789abcdef" for c in fingerprint)):
             raise _bad_line(path, number, f"fingerprint must be 64 lowercase hex digits; got {fingerprint!r}")
         try:
-            count = validate.whole_number(record.get("configurations"), "configurations", minimum=1)
+            count = validate.whole_number(record.get("configurations"), "configurations", minimum=1,
+                                          maximum=MAX_TRIALS)
         except InputError as exc:
             raise _bad_line(path, number, str(exc)) from None
         entries.append(LedgerEntry(number, fingerprint, count, record))
@@ -138,11 +151,11 @@ def parse_ledger(data: bytes, *, path: str = "<ledger>") -> tuple[LedgerEntry, .
 def read_ledger(path: str | Path) -> tuple[LedgerEntry, ...]:
     """Read a ledger without locking it (for reports); a missing file is an empty ledger."""
     try:
-        data = Path(path).read_bytes()
+        data = read_bytes(path, limit=LEDGER_FILE_LIMIT)
     except FileNotFoundError:
         return ()
     except OSError as exc:
-        raise InputError(f"cannot read the trial ledger: {exc.strerror}", path=str(path)) from None
+        raise InputError(f"cannot read the trial ledger: {describe(exc)}", path=str(path)) from None
     return parse_ledger(data, path=str(path))
 
 
@@ -171,8 +184,8 @@ def record_trials(
     """The strategy label, the configuration keys listed, and the grid digest of a record.
 
     Keys are listed the first time a grid appears in a ledger; later records name it by ``grid``
-    only. A record with neither names no configurations (an old record, or a sweep whose names
-    were generated) and counts by its data fingerprint.
+    only. A record with neither (an old record, or one of a sweep whose names were generated) names
+    no configurations and counts by its data fingerprint.
 
     Raises
     ------
@@ -283,6 +296,11 @@ def tally_trials(
         This sweep's configuration keys (:func:`trial_keys`); None counts it by its fingerprint.
     strategy : str, optional
         This audit's strategy label.
+
+    Raises
+    ------
+    InputError
+        When a record is malformed (naming its line), or the count exceeds :data:`MAX_TRIALS`.
     """
     tried = _read_tried(entries, path)
     grid = None
@@ -301,6 +319,12 @@ def tally_trials(
         tried.unnamed.setdefault(fingerprint, (strategy, configurations))
     after, by_print = tried.count()
     trials = max(sum(after.values()), configurations)
+    if trials > MAX_TRIALS:
+        raise InputError(
+            f"the trial ledger counts {trials:,} trials, more than the {MAX_TRIALS:,} sweepaudit can count; "
+            "check its records' configurations",
+            path=path,
+        )
     prints = {e.fingerprint for e in entries}
     return LedgerTally(
         path=path, records=len(entries), sweeps_before=len(prints), fingerprint=fingerprint,
@@ -378,6 +402,7 @@ class Ledger:
         self._fd = fd
         self.entries = entries
         self._needs_newline = not ends_with_newline
+        self._appended: tuple[int, int] | None = None
 
     def tally(self, *, fingerprint: str, configurations: int, keys: Sequence[str] | None = None,
               strategy: str | None = None) -> LedgerTally:
@@ -385,10 +410,16 @@ class Ledger:
                             keys=keys, strategy=strategy)
 
     def append(self, record: dict[str, Any]) -> None:
-        """Append one record as one line, in one write (O_APPEND puts it at the end)."""
-        line = json.dumps(record, ensure_ascii=False, allow_nan=False, separators=(",", ":")) + "\n"
-        payload = ("\n" if self._needs_newline else "") + line
-        data = payload.encode("utf-8")
+        """Append one record as one line, in one write (O_APPEND puts it at the end).
+
+        A write that fails midway (a full disk) is cut back to the previous end: the ledger then
+        holds exactly what it held before, and the error says so.
+        """
+        # ASCII only: names and paths with control characters or bidirectional overrides are
+        # escaped, so printing the ledger cannot drive a terminal.
+        line = json.dumps(record, ensure_ascii=True, allow_nan=False, separators=(",", ":")) + "\n"
+        data = (("\n" if self._needs_newline else "") + line).encode("ascii")
+        end = os.fstat(self._fd).st_size
         try:
             written = os.write(self._fd, data)
             # A short write is only possible on a full disk; we hold the lock, so finish the line.
@@ -396,11 +427,35 @@ class Ledger:
                 written += os.write(self._fd, data[written:])
             os.fsync(self._fd)
         except OSError as exc:
-            raise InputError(f"cannot append to the trial ledger: {exc.strerror}", path=self.path) from None
+            try:
+                os.ftruncate(self._fd, end)
+            except OSError:
+                pass
+            raise InputError(
+                f"cannot append to the trial ledger ({describe(exc)}); the ledger was left as it was",
+                path=self.path,
+            ) from None
         self._needs_newline = False
+        self._appended = (end, end + len(data))
         fingerprint = record["fingerprint"]
         line_number = (self.entries[-1].line if self.entries else 0) + 1
         self.entries = (*self.entries, LedgerEntry(line_number, fingerprint, record["configurations"], record))
+
+
+    def retract(self) -> None:
+        """Take back the record this run appended (when an output failed after it), while the lock
+        is still held; nothing if none was appended or the ledger no longer ends with it."""
+        if self._appended is None:
+            return
+        start, end = self._appended
+        try:
+            if os.fstat(self._fd).st_size == end:
+                os.ftruncate(self._fd, start)
+                os.fsync(self._fd)
+        except OSError:
+            pass
+        self._appended = None
+        self.entries = self.entries[:-1]
 
 
 @contextmanager
@@ -418,22 +473,17 @@ def open_ledger(path: str | Path) -> Iterator[Ledger]:
     if not folder.is_dir():
         raise InputError(f"cannot keep the trial ledger: folder {folder} does not exist", path=where)
     try:
-        fd = os.open(where, os.O_RDWR | os.O_CREAT | os.O_APPEND, 0o644)
+        fd = open_regular(where, os.O_RDWR | os.O_CREAT | os.O_APPEND, 0o666)
     except IsADirectoryError:
         raise InputError("the trial ledger is a folder, not a file", path=where) from None
     except OSError as exc:
-        raise InputError(f"cannot open the trial ledger: {exc.strerror}", path=where) from None
+        raise InputError(f"cannot open the trial ledger: {describe(exc)}", path=where) from None
     try:
         fcntl.flock(fd, fcntl.LOCK_EX)
-        chunks = []
-        offset = 0
-        while True:
-            chunk = os.pread(fd, 1 << 20, offset)
-            if not chunk:
-                break
-            chunks.append(chunk)
-            offset += len(chunk)
-        data = b"".join(chunks)
+        try:
+            data = read_locked(fd, limit=LEDGER_FILE_LIMIT, where=where)
+        except OSError as exc:
+            raise InputError(f"cannot read the trial ledger: {describe(exc)}", path=where) from None
         entries = parse_ledger(data, path=where)
         yield Ledger(where, fd, entries, ends_with_newline=(not data or data.endswith(b"\n")))
     finally:

@@ -26,6 +26,7 @@ from typing import Any
 
 from . import validate
 from .errors import InputError, PolicyError
+from .readfile import explained, read_bytes
 
 __all__ = [
     "Policy",
@@ -75,6 +76,7 @@ def _f(
     high_open=False,
     source: str | None = None,
     check_ids: bool = False,
+    even: bool = False,
     label: bool = False,
 ):
     return field(
@@ -90,6 +92,8 @@ def _f(
             "source": source,
             # A list of check ids: validated against CHECK_IDS.
             "check_ids": check_ids,
+            # A whole number that must be even.
+            "even": even,
             # A name (validate.label): no default value to take the type from.
             "label": label,
         },
@@ -206,7 +210,7 @@ class Policy:
     partitions: int = _f(
         16,
         "CSCV: number of contiguous blocks S (even) the windows are split into",
-        low=2, high=20,
+        low=2, high=20, even=True,
         source="Bailey, Borwein, Lopez de Prado and Zhu (2017) suggest 16",
     )
     overfitting_statistic: str = _f(
@@ -246,9 +250,8 @@ class Policy:
         "long-run standard deviation, read against Student's t), bootstrap (divided by the bootstrap "
         "standard deviation) or none; all three are always reported",
         choices=("long-run", "bootstrap", "none"),
-        source="sweepaudit's choice on simulation evidence: long-run held its level under AR(1) windows "
-        "where bootstrap rejected 19-30% and none 9-12% of true nulls at 5%, and it sees a quiet edge "
-        "among loud noise (docs/validation.md)",
+        source="sweepaudit's choice on simulation evidence: long-run holds its level under serial "
+        "dependence and sees a quiet edge among loud noise, which unscaled means miss (docs/validation.md)",
     )
     stress_threshold: float = _f(
         4.0,
@@ -315,56 +318,17 @@ def _as_mapping(policy: Policy) -> dict[str, Any]:
 
 
 def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Policy:
-    """Build a validated Policy from a mapping (e.g. a parsed TOML table)."""
+    """Build a validated Policy from a mapping (e.g. a parsed TOML table).
+
+    Every message names ``source`` (the file, or the command-line option) and the key.
+    """
     known = {f.name: f for f in fields(Policy)}
     for key in values:
         if key in _REPLACED_KEYS:
             raise PolicyError(f"{source}: {_REPLACED_KEYS[key]}")
         if key not in known:
             raise PolicyError(f"{source}: unknown key {key!r}; known keys are {', '.join(known)}")
-    clean: dict[str, Any] = {}
-    for key, value in values.items():
-        f = known[key]
-        meta = f.metadata
-        default = f.default
-        if meta.get("label"):
-            try:
-                value = None if value is None else validate.label(value, key)
-            except InputError as exc:
-                raise PolicyError(f"{source}: {exc}") from None
-        elif isinstance(default, bool):
-            if not isinstance(value, bool):
-                raise PolicyError(f"{source}: {key} must be true or false; got {value!r}")
-        elif isinstance(default, int):
-            if isinstance(value, bool) or not isinstance(value, int):
-                raise PolicyError(f"{source}: {key} must be a whole number; got {value!r}")
-        elif isinstance(default, float):
-            if isinstance(value, bool) or not isinstance(value, (int, float)):
-                raise PolicyError(f"{source}: {key} must be a number; got {value!r}")
-            value = float(value)
-        elif isinstance(default, tuple):
-            if not isinstance(value, (list, tuple)) or not all(isinstance(v, str) for v in value):
-                raise PolicyError(f"{source}: {key} must be a list of check names; got {value!r}")
-            value = tuple(value)
-            if meta.get("check_ids"):
-                _validate_check_ids(value, key=key, source=source)
-        elif isinstance(default, str):
-            if not isinstance(value, str):
-                raise PolicyError(f"{source}: {key} must be a string; got {value!r}")
-        if meta.get("choices") and value not in meta["choices"]:
-            raise PolicyError(f"{source}: {key} must be one of {', '.join(meta['choices'])}; got {value!r}")
-        low, high = meta.get("low"), meta.get("high")
-        if low is not None:
-            bad = value <= low if meta.get("low_open") else value < low
-            if bad:
-                rel = ">" if meta.get("low_open") else ">="
-                raise PolicyError(f"{source}: {key} must be {rel} {low}; got {value!r}")
-        if high is not None:
-            bad = value >= high if meta.get("high_open") else value > high
-            if bad:
-                rel = "<" if meta.get("high_open") else "<="
-                raise PolicyError(f"{source}: {key} must be {rel} {high}; got {value!r}")
-        clean[key] = value
+    clean = {key: _checked(known[key], value, source) for key, value in values.items()}
     policy = replace(Policy(), **clean)
     both = sorted(set(policy.required) & set(policy.disabled))
     if both:
@@ -373,6 +337,53 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
             "remove it from one of the two lists"
         )
     return policy
+
+
+def _checked(f: Any, value: Any, source: str) -> Any:
+    """One policy value, of the field's type and within its range."""
+    key, meta, default = f.name, f.metadata, f.default
+    if meta.get("label"):
+        try:
+            return None if value is None else validate.label(value, key)
+        except InputError as exc:
+            raise PolicyError(f"{source}: {exc}") from None
+    if isinstance(default, bool):
+        if not isinstance(value, bool):
+            raise PolicyError(f"{source}: {key} must be true or false; got {value!r}")
+    elif isinstance(default, int):
+        if isinstance(value, bool) or not isinstance(value, int):
+            raise PolicyError(f"{source}: {key} must be a whole number; got {value!r}")
+        if meta.get("even") and value % 2:
+            raise PolicyError(f"{source}: {key} must be an even whole number; got {value!r}")
+    elif isinstance(default, float):
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            raise PolicyError(f"{source}: {key} must be a number; got {value!r}")
+        if not math.isfinite(value):
+            raise PolicyError(f"{source}: {key} must be a finite number; got {value!r}")
+        value = float(value)
+    elif isinstance(default, tuple):
+        if not isinstance(value, (list, tuple)) or not all(isinstance(v, str) for v in value):
+            raise PolicyError(f"{source}: {key} must be a list of check names; got {value!r}")
+        value = tuple(value)
+        if meta.get("check_ids"):
+            _validate_check_ids(value, key=key, source=source)
+    elif isinstance(default, str):
+        if not isinstance(value, str):
+            raise PolicyError(f"{source}: {key} must be a string; got {value!r}")
+    if meta.get("choices") and value not in meta["choices"]:
+        raise PolicyError(f"{source}: {key} must be one of {', '.join(meta['choices'])}; got {value!r}")
+    _in_range(key, value, meta, source)
+    return value
+
+
+def _in_range(key: str, value: Any, meta: Any, source: str) -> None:
+    low, high = meta.get("low"), meta.get("high")
+    if low is not None and (value <= low if meta.get("low_open") else value < low):
+        rel = ">" if meta.get("low_open") else ">="
+        raise PolicyError(f"{source}: {key} must be {rel} {low}; got {value!r}")
+    if high is not None and (value >= high if meta.get("high_open") else value > high):
+        rel = "<" if meta.get("high_open") else "<="
+        raise PolicyError(f"{source}: {key} must be {rel} {high}; got {value!r}")
 
 
 def _validate_check_ids(names: tuple[str, ...], *, key: str, source: str) -> None:
@@ -409,18 +420,26 @@ class LoadedPolicy:
     source: str
 
 
+#: The most bytes a policy file may hold (a policy is a few dozen lines).
+POLICY_FILE_LIMIT = 1 << 20
+
+
 def _read_toml(path: Path) -> dict[str, Any]:
+    data = explained(lambda: read_bytes(path, limit=POLICY_FILE_LIMIT), PolicyError,
+                     missing=f"policy file {path} does not exist", folder=f"policy file {path} is a folder, not a TOML file",
+                     other=f"cannot read policy file {path}")
     try:
-        with open(path, "rb") as handle:
-            return tomllib.load(handle)
-    except FileNotFoundError:
-        raise PolicyError(f"policy file {path} does not exist") from None
-    except IsADirectoryError:
-        raise PolicyError(f"policy file {path} is a folder, not a TOML file") from None
-    except OSError as exc:
-        raise PolicyError(f"cannot read policy file {path}: {exc.strerror}") from None
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise PolicyError(
+            f"{path} is not UTF-8 text (byte 0x{data[exc.start]:02x} at offset {exc.start}); TOML files are UTF-8"
+        ) from None
+    try:
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise PolicyError(f"{path} is not valid TOML: {exc}") from None
+    except RecursionError:
+        raise PolicyError(f"{path} is not a policy: its arrays or tables are nested too deeply") from None
 
 
 def _tool_table(document: dict[str, Any], path: Path) -> dict[str, Any] | None:

@@ -21,7 +21,7 @@ from .policy import Policy
 from .resample import BootstrapKind, Resamples
 from .sweep import Sweep
 
-IntervalMethod = Literal["percentile", "basic"]
+IntervalMethod = Literal["studentized", "percentile", "basic"]
 ExpectedMaximum = Literal["approximate", "exact"]
 EffectiveTrialsMethod = Literal["average_correlation", "nyholt", "li_ji"]
 VarianceMode = Literal["null", "empirical"]
@@ -61,9 +61,12 @@ class BootstrapIntervals:
         The resampled statistics (kept so a user can change the level without resampling, with
         :func:`sweepaudit.methods.bootstrap_ci.at_level`).
     confidence : float
-    method : {"percentile", "basic"}
+    method : {"studentized", "percentile", "basic"}
     degenerate_resamples : int
         Resamples in which some configuration had zero variance (their Sharpe ratio is dropped).
+    mean_standard_error, sharpe_standard_error, degrees_of_freedom : ndarray or None
+        Long-run standard errors of each configuration's mean and Sharpe ratio and the long-run
+        estimate's degrees of freedom, the scale of the studentized intervals.
     """
 
     mean: tuple[Interval, ...]
@@ -73,6 +76,9 @@ class BootstrapIntervals:
     confidence: float
     method: IntervalMethod
     degenerate_resamples: int
+    mean_standard_error: np.ndarray | None = None
+    sharpe_standard_error: np.ndarray | None = None
+    degrees_of_freedom: np.ndarray | None = None
 
     @property
     def mean_estimates(self) -> np.ndarray:
@@ -992,7 +998,7 @@ class AuditSettings:
     bootstrap : {"stationary", "circular", "moving-block"}
     block_length : float or None
         None: automatic (Politis and White 2004 on the selected configuration's series).
-    interval_method : {"percentile", "basic"}
+    interval_method : {"studentized", "percentile", "basic"}
     selected : str or None
         Configuration to judge; None selects the highest full-sample Sharpe ratio.
     trials : int or None
@@ -1005,7 +1011,7 @@ class AuditSettings:
     confidence: float | None = None
     bootstrap: BootstrapKind = "stationary"
     block_length: float | None = None
-    interval_method: IntervalMethod = "percentile"
+    interval_method: IntervalMethod = "studentized"
     selected: str | None = None
     trials: int | None = None
 

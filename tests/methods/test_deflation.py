@@ -19,7 +19,6 @@ number of trials grows (theory: the expected maximum grows with N).
 from __future__ import annotations
 
 import math
-import time
 
 import numpy as np
 import pytest
@@ -253,14 +252,16 @@ def test_eigenvalues_and_average_correlation_against_numpy():
         assert result.value("average_correlation") == result.from_average_correlation
 
 
-def test_effective_trials_is_fast_for_large_sweeps():
-    """N = 1000 configurations, T = 2000 windows: well under the 10 s bound on a shared machine."""
+def test_effective_trials_handles_large_sweeps():
+    """N = 1000 configurations, T = 2000 windows: the eigenvalues of a correlation matrix sum to N
+    (its trace); independent columns give nearly N effective trials. (Speed is measured in
+    benchmarks/, never in a timed test.)"""
     rng = np.random.default_rng(5)
     x = rng.standard_normal((2000, 1000))
-    started = time.perf_counter()
     result = effective_trials(x)
-    assert time.perf_counter() - started < 10.0
     assert result.eigenvalues.shape == (1000,)
+    assert result.eigenvalues.sum() == pytest.approx(1000.0, rel=1e-9)
+    assert result.li_ji > 500
 
 
 def test_formula_helpers_by_hand():

@@ -9,20 +9,26 @@ Verified against an outside reference:
   multipletests 'fdr_bh', the routine family the haircut uses), and BY rejects 3 (our hand
   computation with c(15) = 3.3182).
 
-Internal consistency only: padding of unseen tests, the cap when p-values underflow, signs.
+- the closed form of the adjusted p-values (unseen tests padded with p = 1, computed without
+  allocating them) against multipletests on the explicitly padded vector, and the harmonic number
+  c(M) by digamma (scipy) against the direct sum.
+
+Internal consistency only: padding of unseen tests, the cap when p-values underflow, signs, the
+memory a huge declared test count takes (tracemalloc).
 """
 
 from __future__ import annotations
 
 import math
+import tracemalloc
 
 import numpy as np
 import pytest
-from scipy import stats
+from scipy import special, stats
 from statsmodels.stats.multitest import multipletests
 
 from sweepaudit.errors import InputError
-from sweepaudit.methods.haircut import haircut_sharpe
+from sweepaudit.methods.haircut import _harmonic, adjusted_pvalues, haircut_sharpe
 
 # Benjamini and Hochberg (1995), section 4 worked example: 15 p-values.
 BH_1995 = np.array(
@@ -184,3 +190,48 @@ def test_haircut_errors():
         haircut_sharpe([0.1, float("nan")], selected=0, observations=10)
     with pytest.raises(InputError, match=r"method must be one of bonferroni, holm, bhy; got 'sidak'"):
         haircut_sharpe(0.1, observations=10).adjustment("sidak")
+
+
+def test_closed_form_equals_statsmodels_on_the_padded_p_values():
+    """adjusted_pvalues against multipletests on the explicitly padded vector (statsmodels, the
+    outside reference): ties, p-values of exactly 1 and padding of every size, to 1e-12."""
+    rng = np.random.default_rng(21)
+    for case in range(24):  # statsmodels' Holm runs gc.collect() on every call: few, varied cases
+        n = int(rng.integers(1, 40))
+        pvalues = rng.uniform(0, 1, n) ** rng.uniform(0.5, 4)
+        if case % 3 == 0:
+            pvalues[rng.integers(0, n)] = 1.0
+        if case % 4 == 0 and n > 2:
+            pvalues[1] = pvalues[0]
+        tests = n + (int(rng.integers(0, 5_000)) if case % 2 else 0)
+        padded = np.concatenate([pvalues, np.ones(tests - n)])
+        reference = {m: multipletests(padded, method=sm)[1]
+                     for m, sm in (("bonferroni", "bonferroni"), ("holm", "holm"), ("bhy", "fdr_by"))}
+        for index in range(n):
+            got = adjusted_pvalues(pvalues, index, tests)
+            for method, value in got.items():
+                assert value == pytest.approx(reference[method][index], rel=1e-12, abs=1e-300)
+
+
+def test_the_harmonic_number_beyond_the_summed_range():
+    """c(M) by digamma (scipy) against the direct sum, on both sides of the switch (2**20)."""
+    for m in (2**20, 2**20 + 1, 3 * 2**20):
+        direct = float(np.sum(1.0 / np.arange(1, m + 1)))
+        assert _harmonic(m) == pytest.approx(direct, rel=1e-13)
+
+
+def test_a_huge_declared_trial_count_needs_no_memory_per_trial():
+    """600 million and 10**15 declared tests: instant, and as the formulas say (Bonferroni p * M;
+    Holm equals Bonferroni for the smallest p; BHY p * M * c(M) with c(M) = digamma(M + 1) + gamma)."""
+    sharpes = np.array([0.5, 0.1, -0.2])
+    for tests in (600_000_000, 10**15):
+        tracemalloc.start()
+        result = haircut_sharpe(sharpes, selected=0, observations=400, tests=tests)
+        peak = tracemalloc.get_traced_memory()[1]
+        tracemalloc.stop()
+        assert peak < 1_000_000  # bytes: nothing of size `tests` was allocated
+        p = result.pvalue
+        assert result.bonferroni.pvalue == pytest.approx(min(p * tests, 1.0), rel=1e-12)
+        assert result.holm.pvalue == result.bonferroni.pvalue
+        c = special.digamma(tests + 1.0) + np.euler_gamma
+        assert result.bhy.pvalue == pytest.approx(min(p * tests * c, 1.0), rel=1e-12)

@@ -39,7 +39,7 @@ from sweepaudit.cli import app
 from sweepaudit.read import LoadOptions, load_sweep
 from sweepaudit.document import figure_material
 from sweepaudit.format import figure
-from sweepaudit.render.report import build_report, figures_folder, plots, write_report
+from sweepaudit.render.report import MANIFEST, build_report, figures_folder, plots, write_report
 from sweepaudit.render.report.markdown import escape as md_escape
 from sweepaudit.sweep import Sweep
 
@@ -186,6 +186,18 @@ def test_first_screen_comes_first(edge_audit, written):
         assert text.index(_shown(name, doc["caution"])) < first_section
 
 
+def _figure_files(report):
+    """The figure files a Markdown report links to, by figure name (``<name>.<hash>.svg``)."""
+    linked = re.findall(r"\]\(([^)]+\.svg)\)", Path(report).read_text())
+    return {Path(link).name.split(".")[0]: Path(report).parent / link for link in linked}
+
+
+def _figure_names(report):
+    files = _figure_files(report)
+    assert all(path.is_file() for path in files.values())
+    return set(files)
+
+
 def test_absent_method_blocks_are_said_absent_and_have_no_figure(edge_audit, tmp_path):
     # A document from an audit whose method blocks are absent (CONTRACT.md: absent, not empty).
     doc, material = edge_audit
@@ -199,8 +211,8 @@ def test_absent_method_blocks_are_said_absent_and_have_no_figure(edge_audit, tmp
     for key in ("sharpe", "overfitting", "snooping"):
         assert f"no results.{key} block" in md
         assert f"no results.{key} block" in html
-    names = {p.stem for p in figures_folder(tmp_path / "edge.md").iterdir()}
-    assert names == {"bootstrap_mean", "sharpe_ranking", "sharpe_surface", "cumulative_excess"}
+    assert _figure_names(tmp_path / "edge.md") == {"bootstrap_mean", "sharpe_ranking", "sharpe_surface",
+                                                    "cumulative_excess"}
 
 
 def test_method_blocks_present_are_shown_with_every_figure(edge_audit, tmp_path):
@@ -215,10 +227,10 @@ def test_method_blocks_present_are_shown_with_every_figure(edge_audit, tmp_path)
     for text in (html, md):
         assert _missing(full, text) == []
         assert "Not computed in this audit" not in text
-    names = {p.stem for p in figures_folder(tmp_path / "full.md").iterdir()}
+    names = _figure_names(tmp_path / "full.md")
     assert {"cscv_logits", "cscv_degradation", "deflated_by_trials"} <= names
     assert len([t for t, a in _tags(html) if t == "img"]) == len(names) == 7
-    for p in figures_folder(tmp_path / "full.md").iterdir():
+    for p in figures_folder(tmp_path / "full.md").glob("*.svg"):
         assert ET.parse(p).getroot().tag.endswith("svg")
         assert p.stat().st_size < 400_000  # 3,432 split points are rasterised inside the SVG
 
@@ -294,7 +306,7 @@ def test_hostile_names_stay_text_in_the_figure_files(hostile):
     for path in svgs:
         root = ET.parse(path).getroot()
         assert not [e for e in root.iter() if e.tag.rsplit("}", 1)[-1] == "script"], path.name
-    ranking = (figures_folder(folder / "r.md") / "sharpe_ranking.svg").read_text()
+    ranking = _figure_files(folder / "r.md")["sharpe_ranking"].read_text()
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in ranking
 
 
@@ -353,14 +365,23 @@ def test_failure_midway_leaves_no_new_report(edge_audit, tmp_path, monkeypatch):
     assert list(tmp_path.iterdir()) == []
 
 
-def test_rewriting_a_markdown_report_replaces_its_figures(edge_audit, tmp_path):
+def test_rewriting_a_markdown_report_replaces_only_its_own_figures(edge_audit, tmp_path):
     doc, material = edge_audit
-    folder = figures_folder(tmp_path / "again.md")
+    target = tmp_path / "again.md"
+    folder = figures_folder(target)
     folder.mkdir()
-    (folder / "stale.svg").write_text("old")
-    write_report(tmp_path / "again.md", doc, material)
-    assert not (folder / "stale.svg").exists()
-    assert (folder / "bootstrap_mean.svg").is_file()
+    (folder / "stale.svg").write_text("a file sweepaudit did not write")
+    write_report(target, doc, material)
+    first = _figure_files(target)
+    changed = {**doc, "verdict": "no-go" if doc["verdict"] == "go" else "go"}
+    moved = replace(material, mean_distribution=material.mean_distribution * 1.5)  # a new bootstrap figure
+    write_report(target, changed, moved)
+    second = _figure_files(target)
+    assert (folder / "stale.svg").read_text() == "a file sweepaudit did not write"
+    assert first["bootstrap_mean"] != second["bootstrap_mean"] and not first["bootstrap_mean"].exists()
+    assert first["sharpe_surface"] == second["sharpe_surface"]  # same figure, same file, kept
+    on_disk = {p.name for p in folder.iterdir()}
+    assert on_disk == {"stale.svg", MANIFEST, *(p.name for p in second.values())}
     assert sorted(p.name for p in tmp_path.iterdir()) == ["again.md", "again_figures"]
 
 

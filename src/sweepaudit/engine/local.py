@@ -87,6 +87,7 @@ def _streamed(returns, resamples, intervals: IntervalFunction, progress: Progres
     degenerate = np.zeros(b, dtype=bool)
     mean_iv: list = []
     sharpe_iv: list = []
+    scales: list[list[np.ndarray]] = [[], [], []]
     block_iv = None
     for start in range(0, n, width):
         cols = slice(start, min(n, start + width))
@@ -97,6 +98,10 @@ def _streamed(returns, resamples, intervals: IntervalFunction, progress: Progres
         degenerate |= ~np.isfinite(block_iv.sharpe_distribution).all(axis=1)
         mean_iv += block_iv.mean
         sharpe_iv += block_iv.sharpe
+        for kept, part in zip(scales, (block_iv.mean_standard_error, block_iv.sharpe_standard_error,
+                                       block_iv.degrees_of_freedom)):
+            if part is not None:
+                kept.append(part)
         del block
         if progress is not None:
             progress(round(b * cols.stop / n), b)
@@ -108,5 +113,8 @@ def _streamed(returns, resamples, intervals: IntervalFunction, progress: Progres
         confidence=block_iv.confidence,
         method=block_iv.method,
         degenerate_resamples=int(degenerate.sum()),
+        mean_standard_error=np.concatenate(scales[0]) if scales[0] else None,
+        sharpe_standard_error=np.concatenate(scales[1]) if scales[1] else None,
+        degrees_of_freedom=np.concatenate(scales[2]) if scales[2] else None,
     )
     return ResampledMoments(mean=mean, second=None, windows=t), combined

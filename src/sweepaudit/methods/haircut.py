@@ -5,8 +5,12 @@ gives a two-sided p-value ``p = 2 (1 - Phi(|t|))``. Adjusting it for the number 
 Holm, or Benjamini-Hochberg-Yekutieli) and mapping the adjusted p-value back,
 ``t_adj = Phi^-1(1 - p_adj / 2)``, gives the haircut Sharpe ratio ``t_adj / sqrt(T)`` per window.
 
-The adjustments are computed by ``statsmodels.stats.multitest.multipletests`` (methods
-'bonferroni', 'holm', 'fdr_by'), not re-implemented here.
+The adjusted p-values are those of ``statsmodels.stats.multitest.multipletests`` (methods
+'bonferroni', 'holm', 'fdr_by') on the N p-values padded with ``tests - N`` p-values of 1, computed
+in closed form with the same floating-point operations: the padding never outranks a p-value below
+1, so only the N supplied p-values, the count ``tests`` and the harmonic number ``c(tests)`` enter,
+and memory stays O(N) however many trials are declared (``tests/methods/test_haircut.py`` checks
+the equality against multipletests itself).
 
 References
 ----------
@@ -27,18 +31,20 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import stats
-from statsmodels.stats.multitest import multipletests
+from scipy import special, stats
 
 from .. import validate
 from ..errors import InputError
 from ..results import HaircutAdjustment, HaircutSharpe
 
-__all__ = ["haircut_sharpe"]
+__all__ = ["haircut_sharpe", "adjusted_pvalues"]
 
 
-# Our method names -> statsmodels' names.
-_STATSMODELS_METHOD = {"bonferroni": "bonferroni", "holm": "holm", "bhy": "fdr_by"}
+_METHODS = ("bonferroni", "holm", "bhy")
+
+# Up to this many tests the harmonic number c(M) is summed exactly as statsmodels sums it; beyond,
+# c(M) = digamma(M + 1) + Euler's gamma (relative difference about 1e-16).
+_SUMMED_HARMONIC = 1 << 20
 
 
 def _validate(
@@ -66,10 +72,35 @@ def _validate(
     return values, index, n, count, validate.periods_per_year(periods_per_year)
 
 
-def _adjustment(method: str, padded: np.ndarray, index: int, t_observed: float, observed: float, root: float,
+def _harmonic(m: int) -> float:
+    """c(m) = sum_{j=1}^m 1/j, the Benjamini-Yekutieli (2001, Theorem 1.3) constant."""
+    if m <= _SUMMED_HARMONIC:
+        return float(np.sum(1.0 / np.arange(1, m + 1)))
+    return float(special.digamma(m + 1.0) + np.euler_gamma)
+
+
+def adjusted_pvalues(pvalues: np.ndarray, index: int, tests: int) -> dict[str, float]:
+    """The Bonferroni, Holm and BY adjusted p-values of ``pvalues[index]`` among ``tests`` tests.
+
+    Equal to ``multipletests(padded, method)[1][index]`` (statsmodels) with ``padded`` the p-values
+    followed by ``tests - len(pvalues)`` ones, in closed form: sorted ascending, the padded ones
+    come after every p-value below 1, Holm's running maximum of ``(M - j + 1) p_(j)`` and BY's
+    running minimum from the top of ``p_(j) M c(M) / j`` (capped at 1) never need them.
+    """
+    n = pvalues.size
+    order = np.argsort(pvalues, kind="stable")
+    ranked = pvalues[order]
+    rank = int(np.flatnonzero(order == index)[0])
+    holm = np.maximum.accumulate(ranked[: rank + 1] * np.arange(tests, tests - rank - 1, -1))[rank]
+    factor = np.arange(1, n + 1) / float(tests) / _harmonic(tests)
+    by = np.minimum.accumulate((ranked[rank:] / factor[rank:])[::-1])[-1]
+    raw = {"bonferroni": pvalues[index] * float(tests), "holm": holm, "bhy": by}
+    return {method: min(float(value), 1.0) for method, value in raw.items()}
+
+
+def _adjustment(method: str, adjusted: float, t_observed: float, observed: float, root: float,
                 annual: float | None) -> HaircutAdjustment:
-    """The selected configuration after one multiple-testing adjustment (statsmodels' ``multipletests``)."""
-    adjusted = float(multipletests(padded, method=_STATSMODELS_METHOD[method])[1][index])
+    """The selected configuration after one multiple-testing adjustment (its adjusted p-value)."""
     adjusted = min(max(adjusted, 0.0), 1.0)
     t_adjusted = min(float(stats.norm.isf(adjusted / 2.0)), abs(t_observed))
     haircut_value = math.copysign(t_adjusted, observed) / root if observed != 0 else 0.0
@@ -130,12 +161,12 @@ def haircut_sharpe(
     root = math.sqrt(n)
     t_values = values * root
     pvalues = np.minimum(2.0 * stats.norm.sf(np.abs(t_values)), 1.0)
-    padded = np.concatenate([pvalues, np.ones(count - values.size)])
     observed = float(values[index])
     t_observed = float(t_values[index])
     annual = None if periods is None else math.sqrt(periods)
 
-    adjusted = {m: _adjustment(m, padded, index, t_observed, observed, root, annual) for m in _STATSMODELS_METHOD}
+    pvalue = adjusted_pvalues(pvalues, index, count)
+    adjusted = {m: _adjustment(m, pvalue[m], t_observed, observed, root, annual) for m in _METHODS}
     return HaircutSharpe(
         sharpe=observed, sharpe_annualized=None if annual is None else observed * annual, observations=n,
         periods_per_year=periods, tests=count, configurations=int(values.size), t_statistic=t_observed,

@@ -7,15 +7,21 @@ import hashlib
 import io
 import re
 import sys
+from collections.abc import Callable
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from ..errors import InputError
+from ..readfile import GiB, check_regular, explained, read_bytes, read_stream
 from .options import LoadOptions
 
-__all__ = ["NA_TOKENS", "read_table"]
+__all__ = ["NA_TOKENS", "SWEEP_FILE_LIMIT", "read_table"]
+
+#: The most bytes a sweep (or benchmark) file may hold: the whole file is read into memory and
+#: parsed there, so a larger one could not be audited on a machine of ordinary memory anyway.
+SWEEP_FILE_LIMIT = 4 * GiB
 
 NA_TOKENS = ["", "NA", "N/A", "NaN", "nan", "null", "NULL", "None"]
 _KINDS = {".csv": "csv", ".txt": "csv", ".tsv": "tsv", ".tab": "tsv", ".parquet": "parquet", ".pq": "parquet"}
@@ -30,23 +36,19 @@ def read_table(path: str, options: LoadOptions | None = None) -> tuple[pd.DataFr
     """
     options = options or LoadOptions()
     if path == "-":
-        data = sys.stdin.buffer.read()
         label = "<stdin>"
         kind = "csv"
+        data = _input_bytes(label, lambda: read_stream(sys.stdin.buffer, limit=SWEEP_FILE_LIMIT, where=label))
     else:
-        p = Path(path)
         label = str(path)
-        if not p.exists():
-            raise InputError("no such file", path=label)
-        if p.is_dir():
-            raise InputError("is a directory, not a sweep file", path=label)
-        suffix = p.suffix.lower()
+        _check_regular(path, label)
+        suffix = Path(path).suffix.lower()
         if suffix not in _KINDS:
             raise InputError(
                 f"unreadable format {suffix or '(no suffix)'!r}: use .csv, .tsv or .parquet", path=label
             )
         kind = _KINDS[suffix]
-        data = p.read_bytes()
+        data = _input_bytes(label, lambda: read_bytes(path, limit=SWEEP_FILE_LIMIT))
     digest = hashlib.sha256(data).hexdigest()
     if not data.strip():
         raise InputError("empty input: no header and no data rows", path=label)
@@ -59,6 +61,21 @@ def read_table(path: str, options: LoadOptions | None = None) -> tuple[pd.DataFr
         raise InputError("the header repeats this column name", path=label, column=dupes[0])
     refuse_grouped_numbers(frame, label, frame.attrs.get("reading", {}))
     return frame, label, digest
+
+
+def _check_regular(path: str, label: str) -> None:
+    """A missing file, a folder, a device or a FIFO is refused before its suffix is looked at."""
+    _explained(lambda: check_regular(path), label)
+
+
+def _input_bytes(label: str, read: Callable[[], bytes]) -> bytes:
+    """The bytes ``read`` returns; its OSError (device, FIFO, permission, loop, size) as one line."""
+    return _explained(read, label)
+
+
+def _explained(action: Callable, label: str):
+    return explained(action, lambda message: InputError(message, path=label), missing="no such file",
+                     folder="is a directory, not a sweep file", other="cannot read it")
 
 
 def _parse(data: bytes, kind: str, label: str, options: LoadOptions) -> pd.DataFrame:

@@ -14,6 +14,10 @@ Formats the audit JSON document only. Layout::
 An advisory failure is reported as skipped: CI test reports show it apart from passes without
 marking the build red, which matches its meaning (reported, no effect on the verdict). ``errors``
 is always 0: an audit that cannot run writes no JUnit file and exits with status 2.
+
+Every string of the document passes through :func:`~sweepaudit.render.safe.visible` first, so a
+name or file name with a control character still gives well-formed XML 1.0 (which has no escape
+for most C0 controls) and CI logs that print the messages see no escape sequence.
 """
 
 from __future__ import annotations
@@ -22,6 +26,7 @@ import xml.etree.ElementTree as ET
 from datetime import datetime, timezone
 
 from ..format import xml_number
+from .safe import visible_document
 
 __all__ = ["audit_to_junit"]
 
@@ -63,6 +68,7 @@ def audit_to_junit(document: dict, *, elapsed: float = 0.0, timestamp: datetime 
     timestamp : datetime, optional
         When the audit ran (default now); written in UTC without a zone suffix, as JUnit expects.
     """
+    document = visible_document(document)
     checks = document["checks"]
     failures = sum(1 for c in checks if not c["passed"] and c["required"])
     skipped = sum(1 for c in checks if not c["passed"] and not c["required"])

@@ -7,8 +7,10 @@ newlines) or be read as markup (HTML tags, emphasis, links).
 from __future__ import annotations
 
 import re
+from collections.abc import Mapping
 from urllib.parse import quote
 
+from ..safe import visible
 from .model import Report, Section, Table
 
 __all__ = ["render_markdown", "escape"]
@@ -17,8 +19,10 @@ _SPECIAL = re.compile(r"([\\`*_\[\]|#~])")
 
 
 def escape(text: object) -> str:
-    """Markdown-safe text: one line, pipes and emphasis characters escaped, HTML characters as entities."""
-    s = str(text).replace("\r\n", " ").replace("\n", " ").replace("\r", " ")
+    """Markdown-safe text: one line (control characters as visible escapes, see
+    :func:`~sweepaudit.render.safe.visible`), pipes and emphasis characters escaped, HTML
+    characters as entities."""
+    s = visible(text)
     s = s.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
     return _SPECIAL.sub(r"\\\1", s)
 
@@ -38,7 +42,7 @@ def _table(t: Table) -> list[str]:
     return lines
 
 
-def _section(s: Section, figures_dir: str) -> list[str]:
+def _section(s: Section, figures_dir: str, file_names: Mapping[str, str]) -> list[str]:
     lines = [f'<a id="{s.id}"></a>', "", f"## {escape(s.title)}", ""]
     for p in s.meaning:
         lines += [escape(p), ""]
@@ -50,7 +54,7 @@ def _section(s: Section, figures_dir: str) -> list[str]:
             lines += _table(Table(("", ""), s.facts))
         for f in s.figures:
             lines += [
-                f"![{escape(f.alt)}]({quote(figures_dir)}/{quote(f.name)}.svg)",
+                f"![{escape(f.alt)}]({quote(figures_dir)}/{quote(file_names.get(f.name, f.name + '.svg'))})",
                 "",
                 f"**{escape(f.title)}.** {escape(f.caption)}",
                 "",
@@ -71,8 +75,10 @@ def _section(s: Section, figures_dir: str) -> list[str]:
     return lines
 
 
-def render_markdown(report: Report, *, figures_dir: str) -> str:
-    """The report as Markdown; figures are linked as ``figures_dir/<name>.svg`` (relative)."""
+def render_markdown(report: Report, *, figures_dir: str, file_names: Mapping[str, str] | None = None) -> str:
+    """The report as Markdown; figures are linked as ``figures_dir/<file name>`` (relative), the file
+    name from ``file_names`` (figure name -> file name; default ``<name>.svg``)."""
+    file_names = file_names or {}
     word = "GO" if report.verdict == "go" else "NO-GO"
     lines = [
         f"# {escape(report.title)}",
@@ -94,6 +100,6 @@ def render_markdown(report: Report, *, figures_dir: str) -> str:
     lines += [f"> **Caution.** {escape(report.caution)}", "", "Contents:", ""]
     lines += [f"{i}. [{escape(s.title)}](#{s.id})" for i, s in enumerate(report.sections, 1)] + [""]
     for s in report.sections:
-        lines += _section(s, figures_dir)
+        lines += _section(s, figures_dir, file_names)
     lines += ["---", "", f"*{escape(report.caution)}*", ""]
     return "\n".join(lines)

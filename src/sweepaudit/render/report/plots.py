@@ -30,6 +30,7 @@ from matplotlib.patches import Patch, Rectangle
 
 from ...format import figure, level, pct
 from ...results import DeflatedCurve, FigureMaterial
+from ..safe import visible
 from .model import Figure
 
 __all__ = [
@@ -260,13 +261,19 @@ def sharpe_ranking(doc: dict, material: FigureMaterial) -> Figure:
 # ---------------------------------------------------------------------------------------------
 
 
+def _plain(text: object) -> str:
+    """A user string as matplotlib text: control characters visible, ``$`` not read as mathtext."""
+    return visible(text).replace("$", r"\$")
+
+
 def _short(name: str, limit: int = 60) -> str:
     """A configuration name short enough for an axis label (the tables keep the full name)."""
-    return name if len(name) <= limit else name[: limit - 1] + "\u2026"
+    name = visible(name)
+    return _plain(name if len(name) <= limit else name[: limit - 1] + "\u2026")
 
 
 def _tick(v: Any) -> str:
-    return figure(v) if isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool) else str(v)
+    return figure(v) if isinstance(v, (int, float, np.integer, np.floating)) and not isinstance(v, bool) else _plain(v)
 
 
 def sharpe_surface(doc: dict, material: FigureMaterial) -> Figure | None:
@@ -278,7 +285,7 @@ def sharpe_surface(doc: dict, material: FigureMaterial) -> Figure | None:
     label, annual = _sharpe_label(doc)
     ppy = doc["input"].get("periods_per_year")
     values = grid * math.sqrt(ppy) if annual else grid
-    a, b = g.x_parameter, g.y_parameter
+    a, b = visible(g.x_parameter), visible(g.y_parameter)
 
     def draw():
         width = min(9.0, max(4.8, 1.2 + 0.6 * len(xs)))
@@ -304,8 +311,8 @@ def sharpe_surface(doc: dict, material: FigureMaterial) -> Figure | None:
         step_y = max(1, len(ys) // 15)
         ax.set_xticks(range(0, len(xs), step_x), [_tick(v) for v in xs[::step_x]])
         ax.set_yticks(range(0, len(ys), step_y), [_tick(v) for v in ys[::step_y]])
-        ax.set_xlabel(str(a))
-        ax.set_ylabel(str(b))
+        ax.set_xlabel(_plain(a))
+        ax.set_ylabel(_plain(b))
         ax.set_title(f"{label[0].upper() + label[1:]} over the parameter grid")
         fig.colorbar(image, ax=ax, label=label, fraction=0.06, pad=0.03)
         ax.legend(handles=[Patch(fill=False, edgecolor=PALETTE["rust"], hatch="////", linewidth=2, label="selected")],

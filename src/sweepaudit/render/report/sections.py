@@ -16,6 +16,7 @@ from collections.abc import Callable
 
 from ...format import figure, pct
 from ...results import FigureMaterial
+from ..safe import visible_document
 from . import plots
 from .model import Figure, Report, Section, Table
 
@@ -556,7 +557,12 @@ def headline(doc: dict) -> tuple[tuple[str, str], ...]:
 
 
 def build_report(doc: dict, material: FigureMaterial | None = None) -> Report:
-    """The report's sections from the audit JSON document and (for figures) their raw material."""
+    """The report's sections from the audit JSON document and (for figures) their raw material.
+
+    Every string of the document is made visible first (:func:`~sweepaudit.render.safe.visible`):
+    no control character or direction override from the user's data reaches the report.
+    """
+    doc = visible_document(doc)
     go = doc["verdict"] == "go"
     words = (
         "The evidence supports the selected configuration's edge under the policy applied."
