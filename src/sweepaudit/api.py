@@ -44,7 +44,7 @@ from .render.calibration import render_calibration
 from .render.files import write_atomic
 from .render.json import dumps
 from .render.junit import audit_to_junit
-from .render.notebook import audit_html, audit_text, calibration_html, calibration_text
+from .render.notebook import audit_html, audit_summary, calibration_html, calibration_summary
 from .render.report import build_report, write_report
 from .render.safe import visible_document
 from .render.terminal import render_terminal
@@ -121,7 +121,7 @@ class AuditResult(_Shown, results.AuditResult):
     _render = staticmethod(render_terminal)
 
     def __repr__(self) -> str:
-        return audit_text(self.document)
+        return audit_summary(self.document)
 
     def _repr_html_(self) -> str:
         return audit_html(self.document)
@@ -155,7 +155,7 @@ class CalibrationResult(_Shown, results.CalibrationResult):
     _render = staticmethod(render_calibration)
 
     def __repr__(self) -> str:
-        return calibration_text(self.document)
+        return calibration_summary(self.document)
 
     def _repr_html_(self) -> str:
         return calibration_html(self.document)

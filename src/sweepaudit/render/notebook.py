@@ -18,7 +18,7 @@ from ..format import figure, level, pct_fixed, rate
 from .report.sections import headline
 from .safe import visible
 
-__all__ = ["audit_text", "audit_html", "calibration_text", "calibration_html"]
+__all__ = ["audit_summary", "audit_html", "calibration_summary", "calibration_html"]
 
 #: Longest user string (a configuration name, a path) shown whole; longer ones are cut.
 NAME_LIMIT = 80
@@ -56,7 +56,7 @@ def _check_status(check: dict) -> str:
     return "FAIL" if check["required"] else "fail (advisory)"
 
 
-def audit_text(doc: dict) -> str:
+def audit_summary(doc: dict) -> str:
     """The short ``repr`` of an audit: verdict, input, selected configuration, one line per check,
     the trial count when a ledger or a declaration set it, and the caution."""
     verdict = "GO" if doc["verdict"] == "go" else "NO-GO"
@@ -160,7 +160,7 @@ def _calibration_lines(doc: dict) -> list[tuple[str, str]]:
     return lines
 
 
-def calibration_text(doc: dict) -> str:
+def calibration_summary(doc: dict) -> str:
     """The short ``repr`` of a calibration: input, selected configuration, the false-go rate, the
     power, each check's failure rate on the null sweeps, and the caution."""
     lines = [
