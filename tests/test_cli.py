@@ -324,6 +324,38 @@ def test_select_unknown_name_is_exit_2():
                            "no configuration named 'entry_z=9.0, holding_weeks=1'")
 
 
+@pytest.mark.parametrize("request_", ["holding_weeks=8, entry_z=1.0", "entry_z=1,holding_weeks=8",
+                                      "  holding_weeks = 8.00 , entry_z=1.0 "])
+def test_select_matches_parameter_values_in_any_order(tmp_path, request_):
+    out = tmp_path / "audit.json"
+    result = run("audit", EDGE, *FAST, "--select", request_, "--json", out)
+    assert result.exit_code in (0, 1), result.stderr
+    doc = _strict_json(out.read_text())
+    # The exact name is judged and reproduced, whatever form the request took.
+    assert doc["selected"]["configuration"] == "entry_z=1.0, holding_weeks=8"
+    assert "--select 'entry_z=1.0, holding_weeks=8'" in doc["reproduce"]["command"]
+
+
+def test_select_without_a_match_lists_the_nearest_names(tmp_path):
+    result = run("audit", EDGE, *FAST, "--select", "holding_weeks=8, entry_z=9", "--json", tmp_path / "a.json")
+    _assert_one_line_error(result, "nearest: 'entry_z=")
+    nearest = result.stderr.split("nearest: ")[1]
+    assert nearest.count("holding_weeks=8") >= 3  # the configurations sharing the value given come first
+    assert not (tmp_path / "a.json").exists()
+    inspected = run("inspect", EDGE, "--select", "holding_weeks=8,entry_z=1.0")
+    assert inspected.exit_code == 0, inspected.stderr
+
+
+def test_strategy_label_errors_are_exit_2(tmp_path):
+    _assert_one_line_error(run("audit", EDGE, *FAST, "--strategy", "a\x1bb".encode().decode("unicode_escape")),
+                           "--strategy must not contain control or format characters")
+    _assert_one_line_error(run("audit", EDGE, *FAST, "--strategy", " "), "--strategy must be a name of 1 to 100 characters")
+    policy = tmp_path / "policy.toml"
+    policy.write_text("strategy = 5\n")
+    _assert_one_line_error(run("audit", EDGE, *FAST, "--policy", policy),
+                           f"{policy}: strategy must be a name of 1 to 100 characters; got 5")
+
+
 def test_standard_input(tmp_path):
     out = tmp_path / "audit.json"
     result = run("audit", "-", *FAST, "--seed", 7, "--json", out, input=EDGE.read_bytes())

@@ -691,7 +691,9 @@ def baseline_block(comparison: BaselineComparison) -> dict[str, Any]:
 
 
 def ledger_block(tally: LedgerTally, *, declared: int | None, used: int | None, note: str | None) -> dict:
-    """The JSON ``ledger`` block."""
+    """The JSON ``ledger`` block: the count (``trials_counted``: distinct configurations of each
+    strategy, plus the records counted by data fingerprint), what this audit added, the trials of
+    each strategy label, and the data fingerprint kept for the audit trail."""
     return {
         "path": tally.path,
         "fingerprint": tally.fingerprint,
@@ -702,6 +704,14 @@ def ledger_block(tally: LedgerTally, *, declared: int | None, used: int | None, 
         "trials_declared": declared,
         "trials_used": used,
         "note": note,
+        "strategy": tally.strategy,
+        "counted_by": "configuration" if tally.by_configuration else "fingerprint",
+        "trials_before": tally.trials_before,
+        "trials_added": tally.trials_added,
+        "fingerprint_records": tally.fingerprint_records,
+        "fingerprint_trials": tally.fingerprint_trials,
+        "strategies": [{"strategy": label, "trials": count} for label, count in tally.strategies],
+        "grid": tally.grid,
     }
 
 
@@ -804,4 +814,5 @@ def calibration_document(
         "power": power,
         "null": null,
         "command": command,
+        "caution": CAUTION,
     }

@@ -24,7 +24,8 @@ from dataclasses import dataclass, field, fields, replace
 from pathlib import Path
 from typing import Any
 
-from .errors import PolicyError
+from . import validate
+from .errors import InputError, PolicyError
 from .readfile import explained, read_bytes
 
 __all__ = [
@@ -78,6 +79,7 @@ def _f(
     source: str | None = None,
     check_ids: bool = False,
     even: bool = False,
+    label: bool = False,
 ):
     return field(
         default=default,
@@ -94,6 +96,8 @@ def _f(
             "check_ids": check_ids,
             # A whole number that must be even.
             "even": even,
+            # A name (validate.label): no default value to take the type from.
+            "label": label,
         },
     )
 
@@ -329,6 +333,13 @@ class Policy:
         high=1.0,
         source="sweepaudit's choice, a judgement call: small against the conventional 5% level",
     )
+    strategy: str | None = _f(
+        None,
+        "trial ledger: the strategy's label; a trial is a configuration of a strategy, so two strategies "
+        "sharing a ledger count their configurations apart even when their names coincide (--strategy "
+        "overrides it)",
+        label=True,
+    )
 
     def replace(self, **changes: Any) -> Policy:
         return policy_from_mapping({**_as_mapping(self), **changes})
@@ -367,6 +378,11 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
 def _checked(f: Any, value: Any, source: str) -> Any:
     """One policy value, of the field's type and within its range."""
     key, meta, default = f.name, f.metadata, f.default
+    if meta.get("label"):
+        try:
+            return None if value is None else validate.label(value, key)
+        except InputError as exc:
+            raise PolicyError(f"{source}: {exc}") from None
     if isinstance(default, bool):
         if not isinstance(value, bool):
             raise PolicyError(f"{source}: {key} must be true or false; got {value!r}")

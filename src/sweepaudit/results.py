@@ -1469,7 +1469,14 @@ class LedgerEntry:
 
 @dataclass(frozen=True)
 class LedgerTally:
-    """What the ledger says about the trials of this sweep.
+    """What the ledger says about the trials of this audit.
+
+    A trial is a configuration (its key: name and parameter values, see :mod:`sweepaudit.names`)
+    of a strategy (an optional label). Records that name no configurations (written before the
+    ledger counted configurations, or of a sweep whose configuration names were generated) are
+    counted by their data fingerprint instead: each distinct fingerprint its configurations once,
+    unless a record that names configurations, or this audit, has the same fingerprint (then they
+    are those configurations). See :func:`sweepaudit.ledger.tally_trials`.
 
     Attributes
     ----------
@@ -1477,15 +1484,36 @@ class LedgerTally:
     records : int
         Records in the ledger before this audit.
     sweeps_before : int
-        Distinct fingerprints in the ledger before this audit.
+        Distinct data fingerprints in the ledger before this audit.
     fingerprint : str
-        This sweep's fingerprint.
+        This sweep's data fingerprint.
     configurations : int
         This sweep's configurations.
     new_sweep : bool
-        Whether this fingerprint was not yet recorded.
+        Whether this fingerprint was not yet recorded (the same data was never audited).
     trials : int
-        Sum of configurations over distinct fingerprints, this sweep included.
+        The trials counted once this audit is recorded (never below ``configurations``).
+    strategy : str or None
+        This audit's strategy label.
+    by_configuration : bool
+        Whether this audit's trials are counted by configuration (False: its configuration names
+        were generated, so its data fingerprint counts, as for old records).
+    trials_before : int
+        The ledger's count before this audit (its old records identified by this audit's data
+        fingerprint when they match it).
+    trials_added : int
+        ``trials - trials_before``: the configurations of this sweep not tried before.
+    fingerprint_records : int
+        Records counted by their data fingerprint (they name no configurations).
+    fingerprint_trials : int
+        The trials those records add: the configurations of each distinct fingerprint no record
+        naming configurations explains.
+    strategies : tuple of (str or None, int)
+        The trials of each strategy label once this audit is recorded, labels in order (None first).
+    grid : str or None
+        The digest of this sweep's configuration keys (None when counted by fingerprint).
+    grid_recorded : bool
+        Whether the ledger already lists that grid (this audit's record then names it by digest).
     """
 
     path: str
@@ -1495,6 +1523,15 @@ class LedgerTally:
     configurations: int
     new_sweep: bool
     trials: int
+    strategy: str | None = None
+    by_configuration: bool = False
+    trials_before: int = 0
+    trials_added: int = 0
+    fingerprint_records: int = 0
+    fingerprint_trials: int = 0
+    strategies: tuple[tuple[str | None, int], ...] = ()
+    grid: str | None = None
+    grid_recorded: bool = False
 
     @property
     def sweeps_recorded(self) -> int:
@@ -1703,12 +1740,14 @@ def _evidence(name: str, doc: str) -> property:
     return property(lambda self: getattr(self.evidence, name), doc=doc)
 
 
-@dataclass(frozen=True, eq=False)
+@dataclass(frozen=True, eq=False, repr=False)
 class AuditResult:
     """One audit, end to end: the evidence, the verdict on it and the JSON document of both.
 
-    Returned by :func:`sweepaudit.audit`. The evidence's fields are also readable here directly
-    (``result.sharpe`` is ``result.evidence.sharpe``).
+    The data of an audit; :func:`sweepaudit.audit` returns :class:`sweepaudit.api.AuditResult`,
+    which adds the ways to show and write it (a short ``repr``, the notebook view, the report, the
+    figures, the terminal view). The evidence's fields are also readable here directly
+    (``result.sharpe`` is ``result.evidence.sharpe``): each method's typed result.
 
     Attributes
     ----------
@@ -1717,7 +1756,7 @@ class AuditResult:
         Decided once, the baseline comparison included.
     document : dict
         The audit JSON (schema ``sweepaudit.audit/1``).
-    figures : FigureMaterial
+    figure_material : FigureMaterial
         The raw material of the report's figures.
     baseline : BaselineComparison or None
         The comparison with a baseline audit, when one was given.
@@ -1726,7 +1765,7 @@ class AuditResult:
     evidence: Evidence
     verdict: Verdict
     document: dict
-    figures: FigureMaterial
+    figure_material: FigureMaterial
     baseline: BaselineComparison | None = None
 
     sweep = _evidence("sweep", "The audited sweep.")
@@ -1736,18 +1775,87 @@ class AuditResult:
     selected_index = _evidence("selected_index", "The column of the configuration judged.")
     selection_rule = _evidence("selection_rule", "Why that configuration was judged.")
     resamples = _evidence("resamples", "The shared bootstrap resamples.")
-    intervals = _evidence("intervals", "Every configuration's bootstrap intervals.")
+    intervals = _evidence("intervals", "Every configuration's bootstrap intervals (BootstrapIntervals).")
     sharpe_ratios = _evidence("sharpe_ratios", "Every configuration's per-window Sharpe ratio.")
-    sharpe = _evidence("sharpe", "The selection-adjusted Sharpe inference.")
-    haircut = _evidence("haircut", "The haircut Sharpe ratio.")
-    overfitting = _evidence("overfitting", "The CSCV result.")
-    overfitting_diagnosis = _evidence("overfitting_diagnosis", "The CSCV diagnosis.")
-    snooping = _evidence("snooping", "The data-snooping tests.")
-    surface = _evidence("surface", "The parameter surface around the selected cell.")
-    walk_forward = _evidence("walk_forward", "The walk-forward record of re-picking the winner.")
-    stability = _evidence("stability", "The selected configuration's edge over time.")
+    sharpe = _evidence("sharpe", "The selection-adjusted Sharpe inference (SharpeInference): PSR, DSR, track record.")
+    haircut = _evidence("haircut", "The haircut Sharpe ratio (HaircutSharpe).")
+    overfitting = _evidence("overfitting", "The CSCV result (CscvResult): PBO, degradation, dominance.")
+    overfitting_diagnosis = _evidence("overfitting_diagnosis", "The CSCV diagnosis (OverfittingDiagnosis).")
+    snooping = _evidence("snooping", "The data-snooping tests (Snooping): reality check, SPA, StepM.")
+    surface = _evidence("surface", "The parameter surface around the selected cell (PeakShape).")
+    tails = _evidence("tails", "The family-stress test of the selected configuration (TailTest).")
+    long_run = _evidence("long_run", "Every configuration's long-run variance (LongRunVariance).")
+    deflation_curve = _evidence("deflation_curve", "The deflated probability against the trials (DeflatedCurve).")
+    block_choice = _evidence("block_choice", "How the block length was chosen (BlockLengthChoice).")
+    walk_forward = _evidence("walk_forward", "The walk-forward record of re-picking the winner (WalkForward).")
+    stability = _evidence("stability", "The selected configuration's edge over time (EdgeStability).")
     warnings = _evidence("warnings", "What the reader should weigh.")
     confidence = _evidence("confidence", "The interval level.")
+
+    @property
+    def decision(self) -> str:
+        """``"go"`` or ``"no-go"``."""
+        return self.verdict.decision
+
+    @property
+    def checks(self) -> tuple[Check, ...]:
+        """Every check the verdict ran, in display order."""
+        return self.verdict.checks
+
+    def check(self, check_id: str) -> Check:
+        """One check of the verdict, by id."""
+        for c in self.verdict.checks:
+            if c.id == check_id:
+                return c
+        raise InputError(f"no check {check_id!r} in this audit; checks are {', '.join(c.id for c in self.checks)}")
+
+    def __repr__(self) -> str:
+        return f"<{type(self).__name__}: {self.verdict.decision}, selected {self.evidence.selected!r}>"
+
+
+@dataclass(frozen=True, eq=False, repr=False)
+class CalibrationResult:
+    """A calibration of the verdict on sweeps shaped like one, and its JSON document.
+
+    The data; :func:`sweepaudit.calibrate` returns :class:`sweepaudit.api.CalibrationResult`,
+    which adds the ways to show it.
+
+    Attributes
+    ----------
+    calibration : SweepCalibration
+        The false-go rate, the power and each check's failure rates, with their raw material.
+    document : dict
+        The calibration JSON (schema ``sweepaudit.calibration/1``).
+    """
+
+    calibration: SweepCalibration
+    document: dict
+
+    @property
+    def false_go(self) -> Rate:
+        """The go rate on null sweeps: the false-go rate."""
+        return self.calibration.null.go
+
+    @property
+    def power(self) -> Rate | None:
+        """The go rate with the edge planted (None when the edge was 0)."""
+        return None if self.calibration.power is None else self.calibration.power.go
+
+    @property
+    def null(self) -> VerdictCalibration:
+        return self.calibration.null
+
+    @property
+    def sweep(self) -> Sweep:
+        return self.calibration.sweep
+
+    @property
+    def configuration(self) -> str:
+        """The configuration the audit selected in the real sweep (the edge is planted there)."""
+        return self.calibration.configuration
+
+    def __repr__(self) -> str:
+        return f"<{type(self).__name__}: false-go rate {self.false_go.rate:.3f} over {self.false_go.trials} sweeps>"
 
 
 @dataclass(frozen=True, eq=False)

@@ -57,7 +57,7 @@ def edge_audit():
     sweep = load_sweep(str(EDGE), LoadOptions())
     result = audit(sweep, settings=AuditSettings(seed=7, resamples=400),
                    command="sweepaudit audit fixtures/demo_edge_long.csv --seed 7")
-    return result.document, result.figures
+    return result.document, result.figure_material
 
 
 @pytest.fixture(scope="module")
@@ -283,7 +283,7 @@ def hostile(tmp_path_factory):
     frame.to_csv(csv, index=False)
     result = audit(load_sweep(str(csv), LoadOptions()), settings=AuditSettings(seed=1, resamples=200),
                    command=f"sweepaudit audit '{csv}'")
-    doc, material = result.document, result.figures
+    doc, material = result.document, result.figure_material
     assert doc["selected"]["configuration"] == HOSTILE
     write_report(folder / "r.html", doc, material)
     write_report(folder / "r.md", doc, material)
@@ -442,7 +442,7 @@ def test_report_names_an_isolated_peak_and_not_a_plateau():
     for res, expected in ((lone, True), (plateau, False)):
         assert res.selected == "fast=2, slow=20"
         assert res.surface.neighbours == 4 and res.surface.isolated is expected
-        text = "\n".join(n for s in build_report(res.document, res.figures).sections for n in s.notes)
+        text = "\n".join(n for s in build_report(res.document, res.figure_material).sections for n in s.notes)
         assert ("ISOLATED PEAK" in text) is expected
         assert ("It is not an isolated peak" in text) is not expected
 
@@ -462,7 +462,7 @@ def test_ranking_of_a_thousand_configurations_thins_labels():
     from sweepaudit import sweep_from_array
 
     res = audit(sweep_from_array(rng.normal(0, 0.01, (60, 1000))), settings=AuditSettings(seed=1, resamples=100))
-    fig = plots.sharpe_ranking(res.document, res.figures)
+    fig = plots.sharpe_ranking(res.document, res.figure_material)
     root = ET.fromstring(fig.svg)
     texts = [e.text for e in root.iter() if e.tag.endswith("text") and e.text]
     assert sum(bool(re.fullmatch(r"config \d+", t)) for t in texts) == 1  # only the selected one is named

@@ -353,7 +353,8 @@ _MOVES_SHOWN = 8
 
 
 def _ledger_part(ledger: dict) -> Group:
-    state = "new (recorded now)" if ledger["new_sweep"] else "already recorded (no trials added)"
+    state = ("new (recorded now)" if ledger["new_sweep"] else "already recorded (no trials added)"
+             if not ledger.get("trials_added") else "already recorded")
     lines = [Text(f"{ledger['path']}: this sweep is {state}; {ledger['sweeps_recorded']:,} distinct "
                   f"sweeps recorded, {ledger['trials_counted']:,} trials counted")]
     if ledger.get("note"):

@@ -1,5 +1,9 @@
 """The report's figures, drawn with matplotlib's object API on the Agg/SVG canvases (no GUI, no pyplot).
 
+No backend is chosen: a ``Figure`` made without pyplot has no GUI canvas, and saving it as SVG
+switches to the SVG canvas for that call. So importing sweepaudit in a notebook leaves the
+notebook's own backend (inline, widget) as it was.
+
 Every function takes the audit JSON document and the raw material it plots
 (:class:`~sweepaudit.results.FigureMaterial`) and returns a :class:`~sweepaudit.render.report.model.Figure`
 (SVG bytes with ``svg.fonttype: none``, so text stays text and files stay small; dense point clouds are
@@ -19,9 +23,6 @@ from dataclasses import dataclass
 from typing import Any
 
 import matplotlib
-
-matplotlib.use("Agg")  # never a GUI, even where a display exists
-
 import numpy as np
 from matplotlib.colors import LinearSegmentedColormap
 from matplotlib.figure import Figure as MplFigure
@@ -106,7 +107,7 @@ def _figure(name: str, title: str, caption: str, alt: str, draw) -> Figure:
     with matplotlib.rc_context(_STYLE):
         fig = draw()
         svg = _svg(fig)
-    return Figure(name=name, title=title, caption=caption, alt=alt, svg=svg)
+    return Figure(name=name, title=title, caption=caption, alt=alt, svg=svg, plot=fig)
 
 
 def _sharpe_label(doc: dict) -> tuple[str, bool]:

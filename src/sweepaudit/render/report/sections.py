@@ -20,7 +20,7 @@ from ..safe import visible_document
 from . import plots
 from .model import Figure, Report, Section, Table
 
-__all__ = ["SECTIONS", "build_report"]
+__all__ = ["SECTIONS", "build_report", "headline"]
 
 
 def _pct(value) -> str:
@@ -627,7 +627,8 @@ SECTIONS: tuple[SectionFunction, ...] = (
 )
 
 
-def _headline(doc: dict) -> tuple[tuple[str, str], ...]:
+def headline(doc: dict) -> tuple[tuple[str, str], ...]:
+    """The key figures of the first screen (the report's and the notebook view's), with their intervals."""
     sel = doc["results"]["bootstrap"]["selected"]
     annual = _annual(doc)
     out = [
@@ -674,7 +675,7 @@ def build_report(doc: dict, material: FigureMaterial | None = None) -> Report:
         rule=doc["selected"]["rule"],
         reasons=tuple(doc["reasons"]),
         caution=doc["caution"],
-        headline=_headline(doc),
+        headline=headline(doc),
         input_path=doc["input"]["path"],
         sections=tuple(fn(doc, material) for fn in SECTIONS),
         tool=f"{tool.get('name', 'sweepaudit')} {tool.get('version', '')}".strip(),
