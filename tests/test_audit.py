@@ -78,6 +78,13 @@ def assert_same_audit(whole, streamed):
     assert a.evidence.tails.statistic == pytest.approx(b.evidence.tails.statistic, rel=1e-12)
     np.testing.assert_array_equal(a.evidence.tails.stress.windows, b.evidence.tails.stress.windows)
     assert a.evidence.surface == b.evidence.surface  # no parameter grid here: None on both paths
+    # The time structure reads the returns and the family's stress windows: the same on both paths.
+    w, v = a.evidence.walk_forward, b.evidence.walk_forward
+    assert w is not None and v is not None
+    np.testing.assert_array_equal(w.picks, v.picks)
+    assert w.statistic == pytest.approx(v.statistic, rel=1e-12) and w.pvalue == pytest.approx(v.pvalue, rel=1e-12)
+    assert w.intervals.mean[0].low == pytest.approx(v.intervals.mean[0].low, rel=1e-12)
+    assert a.evidence.stability.pvalue == pytest.approx(b.evidence.stability.pvalue, rel=1e-12)
     assert [c.passed for c in a.verdict.checks] == [c.passed for c in b.verdict.checks]
     assert a.evidence.warnings == b.evidence.warnings
 
@@ -119,3 +126,49 @@ def test_evidence_has_no_verdict_and_the_verdict_is_decided_from_it(sweep):
 def test_resamples_below_one_name_the_argument(sweep):
     with pytest.raises(InputError, match="^resamples must be a whole number of at least 1; got 0$"):
         gather_evidence(sweep, settings=AuditSettings(resamples=0))
+
+
+# ------------------------------------------------------------------------------------- evidence over time
+
+
+def test_time_structure_uses_the_audit_resamples_and_the_policy(sweep):
+    from sweepaudit.methods.bootstrap_ci import part_columns, part_intervals
+    from sweepaudit.methods.stability import edge_stability
+    from sweepaudit.methods.walkforward import walk_forward
+    from sweepaudit.policy import DEFAULT_POLICY
+    from sweepaudit.resample import resampled_moments
+
+    evidence = gather_evidence(sweep, settings=AuditSettings(seed=5, resamples=300))
+    walk, st, k = evidence.walk_forward, evidence.stability, evidence.selected_index
+    x = sweep.returns
+    # Defaults: a quarter of the windows as warm-up, all earlier windows, the family's median AR(1).
+    plain = walk_forward(x, selected=k, warmup=75, persistence=float(np.median(evidence.long_run.ar_coefficient)),
+                         stress=evidence.tails.stress)
+    assert np.array_equal(walk.picks, plain.picks) and walk.pvalue == plain.pvalue
+    assert st.pvalue == edge_stability(x[:, k], rolling_windows=52).pvalue
+    # The intervals replay the audit's own resamples (the same seed: the same draws).
+    series = np.where(np.arange(300) >= 75, np.concatenate([np.zeros(75), walk.record]), 0.0)
+    parts = [(series, np.arange(300) >= 75)]
+    (again,) = part_intervals(parts, resampled_moments(part_columns(parts), evidence.resamples))
+    np.testing.assert_allclose(walk.intervals.mean_distribution, again.mean_distribution, rtol=1e-12)
+    assert st.recent_intervals.mean[0].estimate == pytest.approx(x[150:, k].mean())
+    # Policy keys reach the methods.
+    policy = DEFAULT_POLICY.replace(walk_forward_warmup=100, walk_forward_lookback=26, recent_share=0.25)
+    other = gather_evidence(sweep, settings=AuditSettings(seed=5, resamples=300), policy=policy)
+    assert (other.walk_forward.warmup, other.walk_forward.lookback, other.walk_forward.windows) == (100, 26, 200)
+    assert other.stability.recent.windows == 75
+
+
+def test_too_short_a_record_is_said_not_examined():
+    x = np.random.default_rng(9).normal(0, 0.01, (20, 4))
+    evidence = gather_evidence(sweep_from_array(x), settings=AuditSettings(resamples=100))
+    assert evidence.stability is None and evidence.walk_forward is not None
+    assert any("too few to cut into thirds" in w for w in evidence.warnings)
+    from sweepaudit.policy import DEFAULT_POLICY
+
+    late = gather_evidence(sweep_from_array(x), settings=AuditSettings(resamples=100),
+                           policy=DEFAULT_POLICY.replace(walk_forward_warmup=15))
+    assert late.walk_forward is None
+    assert any("a warm-up of 15 windows leaves fewer than 8" in w for w in late.warnings)
+    single = gather_evidence(sweep_from_array(x[:, :1]), settings=AuditSettings(resamples=100))
+    assert single.walk_forward is None

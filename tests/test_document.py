@@ -39,5 +39,5 @@ def test_beyond_the_limit_the_best_the_worst_and_the_selected_are_listed(tmp_pat
         assert f"config {order[0] + 1}" in names and f"config {order[-1] + 1}" in names
         assert names == sorted(names, key=lambda n: int(n.split()[1]))  # sweep order
         assert boot["listing"]["sharpe_quantiles"]["1"] == float(sharpe.max())
-        write_report(tmp_path / "report.md", result.document, result.figures)
+        write_report(tmp_path / "report.md", result.document, result.figure_material)
         assert "config" in (tmp_path / "report.md").read_text()

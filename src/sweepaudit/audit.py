@@ -11,14 +11,14 @@ from __future__ import annotations
 import functools
 import warnings
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from . import validate
 from .engine import InProcess, moments_and_intervals, plan_blocks, single_threaded
 from .errors import SweepAuditWarning
-from .methods.bootstrap_ci import bootstrap_intervals
+from .methods.bootstrap_ci import bootstrap_intervals, part_columns, part_intervals
 from .methods.cscv import cscv
 from .methods.deflation import deflated_by_trials
 from .methods.haircut import haircut_sharpe
@@ -26,22 +26,26 @@ from .methods.inference import sharpe_inference, sharpe_inference_of_family
 from .methods.longrun import family_block_length, long_run_variance
 from .methods.overfitting import overfitting_diagnosis
 from .methods.snooping import COLUMN_BLOCK, snooping_block, snooping_from_blocks, stored_further_pass
+from .methods.stability import MIN_PERIOD, default_rolling_windows, edge_stability
 from .methods.surface import isolated_peak
 from .methods.tails import MIN_FAMILY, family_stress, tail_test
+from .methods.walkforward import MIN_RECORD, default_warmup, walk_forward
 from .policy import DEFAULT_POLICY, Policy
-from .resample import Resamples, draw_resamples
+from .resample import Resamples, draw_resamples, moment_chunk, resampled_moments
 from .results import (
     AuditSettings,
     BlockLengthChoice,
     BootstrapIntervals,
     CscvResult,
     DeflatedCurve,
+    EdgeStability,
     Evidence,
     LongRunVariance,
     OverfittingDiagnosis,
     SharpeInference,
     Snooping,
     TailTest,
+    WalkForward,
 )
 from .streamed import Stream
 from .sweep import Sweep
@@ -99,8 +103,12 @@ def gather_evidence(
             parts.inference.configuration_sharpes, observations=sweep.n_windows, selected=parts.selected,
             tests=parts.inference.trials, periods_per_year=sweep.periods_per_year,
         )
-    caught_notes = tuple(str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning))
-    return _evidence(sweep, settings, policy, parts, haircut, caught_notes)
+        walk, stability, time_notes = _time_structure(sweep, parts.selected, policy, parts.long_run, parts.tails)
+        confidence = settings.confidence if settings.confidence is not None else policy.confidence
+        walk, stability = _time_intervals(sweep.returns[:, parts.selected], walk, stability, parts.resamples,
+                                          confidence, settings.interval_method)
+    caught_notes = tuple(str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning)) + time_notes
+    return _evidence(sweep, settings, policy, parts, haircut, caught_notes, walk, stability)
 
 
 @dataclass(frozen=True, eq=False)
@@ -178,7 +186,10 @@ def _streamed(sweep, settings, policy, count, plan, executor, progress) -> _Part
                   second.variance, inference, snooping, overfit, _diagnosis(overfit, policy), tails)
 
 
-def _evidence(sweep: Sweep, settings: AuditSettings, policy: Policy, p: _Parts, haircut, caught: tuple[str, ...]) -> Evidence:
+def _evidence(
+    sweep: Sweep, settings: AuditSettings, policy: Policy, p: _Parts, haircut, caught: tuple[str, ...],
+    walk: WalkForward | None, stability: EdgeStability | None,
+) -> Evidence:
     """The evidence of either path (the surface and curve read off the parts)."""
     share, share_low = _bootstrap_share(p.variance_of_means, p.long_run)
     return Evidence(
@@ -190,7 +201,7 @@ def _evidence(sweep: Sweep, settings: AuditSettings, policy: Policy, p: _Parts, 
         surface=isolated_peak(sweep.parameters, p.sharpe, selected=p.selected,
                               sharpe_distribution=p.intervals.sharpe_distribution_of(p.selected)),
         deflation_curve=_curve(p.inference), long_run=p.long_run, block_choice=p.choice,
-        bootstrap_share=share, bootstrap_share_low=share_low, tails=p.tails,
+        bootstrap_share=share, bootstrap_share_low=share_low, tails=p.tails, walk_forward=walk, stability=stability,
     )
 
 
@@ -260,6 +271,62 @@ def _diagnosis(overfit: CscvResult, policy: Policy) -> OverfittingDiagnosis:
         max_probability_of_loss=policy.max_probability_of_loss,
         min_strength_share=policy.min_strength_share,
     )
+
+
+def _time_structure(
+    sweep: Sweep, selected: int, policy: Policy, long_run: LongRunVariance, tails: TailTest | None
+) -> tuple[WalkForward | None, EdgeStability | None, tuple[str, ...]]:
+    """The walk-forward record of re-picking the winner and the selected configuration's edge over time."""
+    t, n = sweep.returns.shape
+    notes: list[str] = []
+    walk = None
+    warmup = policy.walk_forward_warmup or default_warmup(t)
+    if n >= 2 and t - warmup >= MIN_RECORD:
+        walk = walk_forward(
+            sweep.returns, selected=selected, warmup=warmup, lookback=policy.walk_forward_lookback or None,
+            # The family's median AR(1) coefficient: steadier than each configuration's own estimate.
+            persistence=float(np.median(long_run.ar_coefficient)),
+            stress=None if tails is None else tails.stress,
+        )
+    elif n >= 2:
+        notes.append(f"the walk-forward record was not computed: a warm-up of {warmup} windows leaves fewer than "
+                     f"{MIN_RECORD} of the {t} windows to trade (walk_forward_warmup)")
+    stability = None
+    if t >= 3 * MIN_PERIOD:
+        stability = edge_stability(sweep.returns[:, selected], recent_share=policy.recent_share,
+                                   rolling_windows=default_rolling_windows(t, sweep.periods_per_year))
+    else:
+        notes.append(f"the edge over time was not examined: {t} windows are too few to cut into thirds of at "
+                     f"least {MIN_PERIOD}")
+    return walk, stability, tuple(notes)
+
+
+def _time_intervals(
+    own: np.ndarray, walk: WalkForward | None, stability: EdgeStability | None, resamples: Resamples,
+    confidence: float, method: str,
+) -> tuple[WalkForward | None, EdgeStability | None]:
+    """Intervals of the walk-forward record and of the two periods, from the audit's own resamples.
+
+    Each part enters as two columns (its returns where it holds, zero elsewhere, and its indicator);
+    their moments come from the same resamples as every other figure (replayed from the seed).
+    """
+    t = own.size
+    parts, where = [], np.arange(t)
+    if walk is not None:
+        series = np.zeros(t)
+        series[walk.warmup:] = walk.record
+        parts.append((series, where >= walk.warmup))
+    if stability is not None:
+        parts += [(own, where < stability.early.stop), (own, where >= stability.recent.start)]
+    if not parts:
+        return walk, stability
+    moments = resampled_moments(part_columns(parts), resamples, chunk=moment_chunk(t))
+    found = list(part_intervals(parts, moments, confidence=confidence, method=method))
+    if walk is not None:
+        walk = replace(walk, intervals=found.pop(0))
+    if stability is not None:
+        stability = replace(stability, early_intervals=found[0], recent_intervals=found[1])
+    return walk, stability
 
 
 def _notes(

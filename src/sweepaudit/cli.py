@@ -411,6 +411,11 @@ def audit_command(
         typer.Option(metavar="N", help="Trials the deflated Sharpe ratio counts (at least the configurations, "
                      "at most 10^15; 1e6 is accepted); with --ledger the larger count wins."),
     ] = None,
+    strategy: Annotated[
+        Optional[str],
+        typer.Option(help="The strategy's label in the trial ledger (a trial is a configuration of a strategy); "
+                          "default: the policy's strategy key."),
+    ] = None,
     report_path: Annotated[
         Optional[Path], typer.Option("--report", help="Write the audit report here: .md (Markdown) or .html.")
     ] = None,
@@ -461,6 +466,8 @@ def audit_command(
             policy = policy.replace(memory_budget=_option_budget(memory_budget))
         if workers is not None:
             validate.whole_number(workers, "--workers", minimum=1)
+        if strategy is not None:
+            validate.label(strategy, "--strategy")
         baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
         sweep = inputs.load()
         if declared is not None:
@@ -475,8 +482,9 @@ def audit_command(
                 sweep, settings=settings, policy=policy, policy_source=loaded.source,
                 scheduler=scheduler, workers=workers,
                 baseline=baseline_document, baseline_path=str(baseline_path) if baseline_path is not None else None,
-                ledger=ledger_path, trials=declared, progress=progress, publish=publish,
-                command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source),
+                ledger=ledger_path, trials=declared, strategy=strategy, progress=progress, publish=publish,
+                command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source,
+                                                           strategy=strategy),
             )
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
@@ -515,7 +523,7 @@ def _published(result: AuditResult, *, outputs: dict[str, Optional[Path]], start
     files = [(json_path, "JSON file", dumps(document) if json_path else None),
              (junit_path, "JUnit file",
               audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path else None)]
-    report = _for_report(render_report, report_path, document, result.figures) if report_path else None
+    report = _for_report(render_report, report_path, document, result.figure_material) if report_path else None
     terminal = None if quiet else terminal_text(document)
     with Transaction() as staged:
         if report is not None:
@@ -530,8 +538,10 @@ def _published(result: AuditResult, *, outputs: dict[str, Optional[Path]], start
             write_terminal(terminal)
 
 
-def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults") -> str:
-    """The canonical command that reproduces every figure of this audit (output options left out)."""
+def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults",
+                      strategy: str | None = None) -> str:
+    """The canonical command that reproduces every figure of this audit (output options left out;
+    ``--strategy`` kept, since with a ledger it decides the trials counted)."""
     words = ["sweepaudit", "audit", *SweepInput(evidence.sweep.path, options, None).words(evidence.sweep.path)]
     if policy_source != "defaults":
         # A policy found in a pyproject.toml applies only from that folder: name it.
@@ -547,6 +557,8 @@ def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source
         words += ["--select", s.selected]
     if s.trials is not None:
         words += ["--trials", str(s.trials)]
+    if strategy is not None:
+        words += ["--strategy", strategy.strip()]
     return " ".join(shlex.quote(w) for w in words)
 
 

@@ -19,6 +19,7 @@ from typing import Any
 import numpy as np
 
 from ._version import AUDIT_SCHEMA, CALIBRATION_SCHEMA, INSPECT_SCHEMA, __version__
+from .format import pct, sig
 from .methods.surface import parameter_grid
 from .policy import Policy
 from .results import (
@@ -292,6 +293,13 @@ def results_document(evidence: Evidence) -> dict:
         out["overfitting"] = _overfitting_block(evidence)
     if evidence.tails is not None and evidence.tails.stress.applicable:
         out["tails"] = _tails_block(evidence)
+    if evidence.walk_forward is not None:
+        out["walk_forward"] = _walk_forward_block(evidence)
+    if evidence.stability is not None:
+        out["stability"] = _stability_block(evidence)
+    meaning = _time_meaning(out, evidence.policy.significance, evidence.sweep.periods_per_year)
+    if meaning is not None:
+        out["time_meaning"] = meaning
     return _clean(out)
 
 
@@ -414,6 +422,135 @@ def _tails_block(evidence: Evidence) -> dict:
         "critical_value": test.critical_value,
         "passed": test.passed,
     }
+
+
+def _mean_and_sharpe(iv, mean: float, sharpe: float, ppy: float | None) -> dict:
+    """A record's mean and Sharpe ratio, per window and annualized: intervals when the audit has them,
+    plain numbers otherwise."""
+    root = math.sqrt(ppy) if ppy else None
+    if iv is None:
+        return {"mean": mean, "mean_annualized": mean * ppy if ppy else None,
+                "sharpe": sharpe, "sharpe_annualized": sharpe * root if root else None}
+    return {"mean": _interval(iv.mean[0]), "mean_annualized": _interval(iv.mean[0], ppy),
+            "sharpe": _interval(iv.sharpe[0]), "sharpe_annualized": _interval(iv.sharpe[0], root)}
+
+
+def _walk_forward_block(evidence: Evidence) -> dict:
+    walk = evidence.walk_forward
+    sweep = evidence.sweep
+    names = sweep.configurations
+    ppy = sweep.periods_per_year
+    return {
+        "rule": "highest Sharpe ratio on the earlier windows, re-picked before every window",
+        "warmup": walk.warmup,
+        "lookback": walk.lookback,
+        "first_window": sweep.windows[walk.warmup],
+        "windows": walk.windows,
+        **_mean_and_sharpe(walk.intervals, walk.mean, walk.sharpe, ppy),
+        "pick_changes": walk.pick_changes,
+        "pick_change_rate": walk.pick_change_rate,
+        "distinct_picks": walk.distinct_picks,
+        "most_picked": names[walk.most_picked],
+        "most_picked_share": walk.most_picked_share,
+        "last_pick": names[int(walk.picks[-1])],
+        "selected_share": walk.selected_share,
+        "selected_same_windows": {
+            "mean": walk.selected_mean,
+            "mean_annualized": walk.selected_mean * ppy if ppy else None,
+            "sharpe": walk.selected_sharpe,
+            "sharpe_annualized": walk.selected_sharpe * math.sqrt(ppy) if ppy else None,
+        },
+        "persistence": {"ar_coefficient": walk.persistence, "mean_prediction": walk.persistence_gain},
+        "stress": {"windows": walk.stress_windows, "expected_windows": walk.stress_windows_expected,
+                   "mean_charge": walk.stress_charge},
+        "test": {
+            "mean_tested": walk.tested_mean,
+            "statistic": walk.statistic,
+            "degrees_of_freedom": walk.degrees_of_freedom,
+            "pvalue": walk.pvalue,
+        },
+    }
+
+
+def _period(evidence: Evidence, period, iv=None, name: str = "") -> dict:
+    windows = evidence.sweep.windows
+    return {
+        "period": name,
+        "first_window": windows[period.start],
+        "last_window": windows[period.stop - 1],
+        "start": period.start,
+        "windows": period.windows,
+        **_mean_and_sharpe(iv, period.mean, period.sharpe, evidence.sweep.periods_per_year),
+        "t_ratio": period.t_ratio,
+        "degrees_of_freedom": period.degrees_of_freedom,
+    }
+
+
+def _stability_block(evidence: Evidence) -> dict:
+    st = evidence.stability
+    ppy = evidence.sweep.periods_per_year
+    root = math.sqrt(ppy) if ppy else None
+    return {
+        "configuration": evidence.selected,
+        "thirds": [_period(evidence, p, name=f"{which} third")
+                   for p, which in zip(st.thirds, ("first", "middle", "last"))],
+        "recent_share": st.recent_share,
+        "early": _period(evidence, st.early, st.early_intervals, "before the recent period"),
+        "recent": _period(evidence, st.recent, st.recent_intervals, "recent period"),
+        "change": {
+            "difference": st.difference,
+            "difference_annualized": st.difference * ppy if ppy else None,
+            "standard_error": st.standard_error,
+            "statistic": st.statistic,
+            "degrees_of_freedom": st.degrees_of_freedom,
+            "pvalue": st.pvalue,
+            "long_run_ratio": st.long_run_ratio,
+        },
+        "rolling": {
+            "windows": st.rolling_windows,
+            "first_window": evidence.sweep.windows[st.rolling_windows - 1],
+            "sharpe": st.rolling_sharpe,
+            "last_sharpe": st.rolling_sharpe[-1],
+            "last_sharpe_annualized": st.rolling_sharpe[-1] * root if root else None,
+            "lowest_sharpe": st.rolling_lowest,
+            "lowest_sharpe_annualized": st.rolling_lowest * root if root else None,
+            "highest_sharpe": st.rolling_highest,
+            "highest_sharpe_annualized": st.rolling_highest * root if root else None,
+            "share_above_zero": st.rolling_share_positive,
+        },
+    }
+
+
+def _mean_words(block: dict, ppy: float | None) -> str:
+    """A period's mean as a percentage, a year when the periods per year are known, else per window."""
+    value = block["mean_annualized"] if ppy else block["mean"]
+    value = value["estimate"] if isinstance(value, dict) else value
+    return f"{pct(value)} a year" if ppy else f"{pct(value)} per window"
+
+
+def _time_meaning(results: dict, level: float, ppy: float | None) -> str | None:
+    """One sentence on what the decay test and the walk-forward record mean together (figures of the
+    two blocks, in words); None when the audit examined neither."""
+    clauses = []
+    st, walk = results.get("stability"), results.get("walk_forward")
+    if st is not None:
+        figures = (f"{_mean_words(st['recent'], ppy)} in the recent period against "
+                   f"{_mean_words(st['early'], ppy)} before it")
+        if st["change"]["pvalue"] <= level:
+            clauses.append(f"the edge has faded ({figures}, a fall beyond chance at the {sig(level, 6)} level)")
+        elif st["change"]["difference"] < 0:
+            clauses.append(f"the edge earned less of late but not beyond chance ({figures})")
+        else:
+            clauses.append(f"the edge shows no sign of fading ({figures})")
+    if walk is not None:
+        earned = _mean_words(walk, ppy)
+        if walk["test"]["pvalue"] <= level:
+            clauses.append(f"re-picking the winner as the windows came would have earned {earned} out of sample, "
+                           "above zero beyond chance")
+        else:
+            clauses.append(f"re-picking the winner as the windows came earned {earned} out of sample, not clearly "
+                           "above zero")
+    return "Over time, " + "; ".join(clauses) + "." if clauses else None
 
 
 def _overfitting_block(evidence: Evidence) -> dict:
@@ -600,7 +737,9 @@ def baseline_block(comparison: BaselineComparison) -> dict[str, Any]:
 
 
 def ledger_block(tally: LedgerTally, *, declared: int | None, used: int | None, note: str | None) -> dict:
-    """The JSON ``ledger`` block."""
+    """The JSON ``ledger`` block: the count (``trials_counted``: distinct configurations of each
+    strategy, plus the records counted by data fingerprint), what this audit added, the trials of
+    each strategy label, and the data fingerprint kept for the audit trail."""
     return {
         "path": tally.path,
         "fingerprint": tally.fingerprint,
@@ -611,6 +750,14 @@ def ledger_block(tally: LedgerTally, *, declared: int | None, used: int | None, 
         "trials_declared": declared,
         "trials_used": used,
         "note": note,
+        "strategy": tally.strategy,
+        "counted_by": "configuration" if tally.by_configuration else "fingerprint",
+        "trials_before": tally.trials_before,
+        "trials_added": tally.trials_added,
+        "fingerprint_records": tally.fingerprint_records,
+        "fingerprint_trials": tally.fingerprint_trials,
+        "strategies": [{"strategy": label, "trials": count} for label, count in tally.strategies],
+        "grid": tally.grid,
     }
 
 
@@ -632,6 +779,8 @@ def figure_material(evidence: Evidence) -> FigureMaterial:
         split_statistic=None if overfit is None else overfit.statistic,
         deflation_curve=evidence.deflation_curve,
         surface=evidence.surface,
+        walk_forward=evidence.walk_forward,
+        stability=evidence.stability,
     )
 
 
@@ -711,4 +860,5 @@ def calibration_document(
         "power": power,
         "null": null,
         "command": command,
+        "caution": CAUTION,
     }

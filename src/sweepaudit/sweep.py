@@ -10,6 +10,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import InputError
+from .names import configuration_key, nearest_names
 
 __all__ = ["Sweep", "Units", "UNIT_SCALE", "MIN_WINDOWS", "Plausibility"]
 
@@ -118,14 +119,59 @@ class Sweep:
     def n_configurations(self) -> int:
         return self.returns.shape[1]
 
+    @cached_property
+    def _parameter_keys(self) -> tuple[str, ...]:
+        """Each configuration's key from its parameter values (two may coincide)."""
+        table = self.parameters
+        tabled = (table is not None and len(table.columns) > 0 and table.index.is_unique
+                  and set(table.index) == set(self.configurations))
+        if not tabled:
+            return tuple(configuration_key(n) for n in self.configurations)
+        rows = table.reindex(list(self.configurations)).to_dict(orient="records")
+        return tuple(configuration_key(n, r) for n, r in zip(self.configurations, rows))
+
+    @cached_property
+    def configuration_keys(self) -> tuple[str, ...]:
+        """The key of each configuration (:func:`sweepaudit.names.configuration_key`): its parameter
+        values from the parameter table, in any order and spacing, numbers as numbers.
+
+        When two configurations of this sweep share a key (``lookback=20`` and ``lookback=20.0``),
+        every configuration is keyed by its name instead, so a key always names one configuration.
+        """
+        keys = self._parameter_keys
+        if len(set(keys)) == len(keys):
+            return keys
+        spaced = tuple(configuration_key(n, {}) for n in self.configurations)
+        return spaced if len(set(spaced)) == len(spaced) else self.configurations
+
     def index_of(self, configuration: str) -> int:
-        """Column of a configuration, by exact name."""
-        try:
+        """Column of a configuration: by its exact name, or by its parameter values in any order and
+        spacing, numbers compared as numbers (``"entry_z=1.50,train_days=21"`` finds
+        ``"train_days=21, entry_z=1.5"``).
+
+        Raises
+        ------
+        InputError
+            When none matches, naming the nearest configurations.
+        """
+        if configuration in self.configurations:
             return self.configurations.index(configuration)
-        except ValueError:
-            close = [c for c in self.configurations if configuration.lower() in c.lower()][:3]
-            hint = f"; did you mean {', '.join(map(repr, close))}?" if close else ""
-            raise InputError(f"no configuration named {configuration!r} in the sweep{hint}") from None
+        if not isinstance(configuration, str):
+            raise InputError(f"a configuration is named by a string; got {configuration!r}")
+        key = configuration_key(configuration)
+        hits = [k for k, c in enumerate(self._parameter_keys) if c == key]
+        if len(hits) == 1:
+            return hits[0]
+        shown = ", ".join(repr(n if len(n) <= 80 else n[:77] + "...") for n in (
+            [self.configurations[k] for k in hits][:5] or
+            nearest_names(configuration, self.configurations, self._parameter_keys)))
+        if hits:  # configurations named apart with the same values (lookback=20 and lookback=20.0)
+            raise InputError(f"{configuration!r} matches {len(hits)} configurations by its values: {shown}; "
+                             "give the exact name")
+        raise InputError(
+            f"no configuration named {configuration!r} in the sweep (parameter values match in any order, "
+            f"numbers as numbers); nearest: {shown}"
+        )
 
     @cached_property
     def plausibility(self) -> Plausibility:

@@ -313,6 +313,61 @@ def _family_tails(evidence: Evidence, policy: Policy, baseline: BaselineComparis
     return Check("family_tails", test.passed, test.statistic, test.critical_value, reason)
 
 
+def _window_label(evidence: Evidence, position: int) -> str:
+    return str(evidence.sweep.windows[position])
+
+
+@check("walk_forward")
+def _walk_forward(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    walk = evidence.walk_forward
+    if walk is None:
+        return None
+    level = policy.significance
+    ok = walk.pvalue <= level
+    looks = "all earlier windows" if walk.lookback is None else f"the {walk.lookback} windows before it"
+    record = (
+        f"Re-picking the configuration with the best Sharpe ratio on {looks} and trading it in the next window, "
+        f"from window {_window_label(evidence, walk.warmup)!r} on ({walk.windows} windows, the pick changing "
+        f"{walk.pick_changes} times), earned {pct(walk.mean)} per window"
+    )
+    adjust = f"with what the picks' last returns foretold (AR(1) coefficient {sig(walk.persistence, 3)}) taken out"
+    if walk.stress_charge > 0:
+        adjust += (f" and the family's stress losses charged ({walk.stress_windows} stress window(s) in the record, "
+                   f"{sig(walk.stress_windows_expected, 3)} at the whole sample's rate; {pct(walk.stress_charge)} per "
+                   "window)")
+    test = f"t = {sig(walk.statistic, 3)}, one-sided p = {prob(walk.pvalue)}"
+    if ok:
+        reason = (f"{record}; {adjust}, its mean is above zero ({test}, at or below {sig(level, 6)}): the "
+                  "selection procedure itself earns out of sample.")
+    else:
+        reason = (f"{record}; {adjust}, its mean is not clearly above zero ({test}, above {sig(level, 6)}): "
+                  "picking the winner as one goes has not been shown to pay out of sample.")
+    return Check("walk_forward", ok, walk.pvalue, level, reason)
+
+
+@check("edge_decay")
+def _edge_decay(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    st = evidence.stability
+    if st is None:
+        return None
+    level = policy.significance
+    ok = st.pvalue > level
+    periods = (
+        f"the recent {st.recent.windows} windows (from {_window_label(evidence, st.recent.start)!r}) average "
+        f"{pct(st.recent.mean)} per window against {pct(st.early.mean)} over the {st.early.windows} before"
+    )
+    test = (f"change {pct(st.difference)} per window, t = {sig(st.statistic, 3)} against the long-run standard "
+            f"error, one-sided p = {prob(st.pvalue)}")
+    if ok:
+        reason = (f"For {evidence.selected!r}, {periods} ({test}, above {sig(level, 6)}): the recent evidence is "
+                  "not significantly worse than the early evidence.")
+    else:
+        reason = (f"For {evidence.selected!r}, {periods} ({test}, at or below {sig(level, 6)}): the recent "
+                  "evidence is significantly worse than the early evidence, so the edge may have decayed; the "
+                  "full-sample figures describe a past that may not last.")
+    return Check("edge_decay", ok, st.pvalue, level, reason)
+
+
 @check("parameter_surface")
 def _parameter_surface(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
     peak = evidence.surface

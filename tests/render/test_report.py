@@ -57,7 +57,7 @@ def edge_audit():
     sweep = load_sweep(str(EDGE), LoadOptions())
     result = audit(sweep, settings=AuditSettings(seed=7, resamples=400),
                    command="sweepaudit audit fixtures/demo_edge_long.csv --seed 7")
-    return result.document, result.figures
+    return result.document, result.figure_material
 
 
 @pytest.fixture(scope="module")
@@ -149,7 +149,8 @@ def _cscv_arrays(material, rng, splits=3432):  # C(14, 7): 14 blocks
 # ---------------------------------------------------------------------------------------------
 
 SECTION_IDS = (
-    "data", "selection", "intervals", "sharpe", "overfitting", "snooping", "tails", "checks", "warnings", "reproduce",
+    "data", "selection", "intervals", "sharpe", "overfitting", "snooping", "tails", "time", "checks", "warnings",
+    "reproduce",
 )
 
 
@@ -208,7 +209,7 @@ def test_absent_method_blocks_are_said_absent_and_have_no_figure(edge_audit, tmp
     write_report(tmp_path / "edge.html", bare_doc, bare)
     md = (tmp_path / "edge.md").read_text()
     html = (tmp_path / "edge.html").read_text()
-    for key in ("sharpe", "overfitting", "snooping"):
+    for key in ("sharpe", "overfitting", "snooping", "stability"):
         assert f"no results.{key} block" in md
         assert f"no results.{key} block" in html
     assert _figure_names(tmp_path / "edge.md") == {"bootstrap_mean", "sharpe_ranking", "sharpe_surface",
@@ -228,8 +229,8 @@ def test_method_blocks_present_are_shown_with_every_figure(edge_audit, tmp_path)
         assert _missing(full, text) == []
         assert "Not computed in this audit" not in text
     names = _figure_names(tmp_path / "full.md")
-    assert {"cscv_logits", "cscv_degradation", "deflated_by_trials"} <= names
-    assert len([t for t, a in _tags(html) if t == "img"]) == len(names) == 7
+    assert {"cscv_logits", "cscv_degradation", "deflated_by_trials", "edge_over_time", "walk_forward_curve"} <= names
+    assert len([t for t, a in _tags(html) if t == "img"]) == len(names) == 9
     for p in figures_folder(tmp_path / "full.md").glob("*.svg"):
         assert ET.parse(p).getroot().tag.endswith("svg")
         assert p.stat().st_size < 400_000  # 3,432 split points are rasterised inside the SVG
@@ -241,7 +242,7 @@ def test_html_is_self_contained_and_script_free(written):
     assert not re.search(r"""(src|href)\s*=\s*["'](?!data:|#)""", html)
     assert "url(" not in html and "@import" not in html
     imgs = [a for t, a in _tags(html) if t == "img"]
-    assert len(imgs) == 7
+    assert len(imgs) == 9
     for a in imgs:
         assert a["src"].startswith("data:image/svg+xml;base64,")
         svg = base64.b64decode(a["src"].split(",", 1)[1])
@@ -253,7 +254,7 @@ def test_html_is_self_contained_and_script_free(written):
 def test_markdown_links_every_figure_relatively(written):
     md = (written / "edge.md").read_text()
     links = re.findall(r"!\[[^\]]*\]\(([^)]+)\)", md)
-    assert len(links) == 7
+    assert len(links) == 9
     for link in links:
         assert not link.startswith("/") and link.startswith("edge_figures/")
         assert (written / link).is_file()
@@ -282,7 +283,7 @@ def hostile(tmp_path_factory):
     frame.to_csv(csv, index=False)
     result = audit(load_sweep(str(csv), LoadOptions()), settings=AuditSettings(seed=1, resamples=200),
                    command=f"sweepaudit audit '{csv}'")
-    doc, material = result.document, result.figures
+    doc, material = result.document, result.figure_material
     assert doc["selected"]["configuration"] == HOSTILE
     write_report(folder / "r.html", doc, material)
     write_report(folder / "r.md", doc, material)
@@ -441,7 +442,7 @@ def test_report_names_an_isolated_peak_and_not_a_plateau():
     for res, expected in ((lone, True), (plateau, False)):
         assert res.selected == "fast=2, slow=20"
         assert res.surface.neighbours == 4 and res.surface.isolated is expected
-        text = "\n".join(n for s in build_report(res.document, res.figures).sections for n in s.notes)
+        text = "\n".join(n for s in build_report(res.document, res.figure_material).sections for n in s.notes)
         assert ("ISOLATED PEAK" in text) is expected
         assert ("It is not an isolated peak" in text) is not expected
 
@@ -461,7 +462,7 @@ def test_ranking_of_a_thousand_configurations_thins_labels():
     from sweepaudit import sweep_from_array
 
     res = audit(sweep_from_array(rng.normal(0, 0.01, (60, 1000))), settings=AuditSettings(seed=1, resamples=100))
-    fig = plots.sharpe_ranking(res.document, res.figures)
+    fig = plots.sharpe_ranking(res.document, res.figure_material)
     root = ET.fromstring(fig.svg)
     texts = [e.text for e in root.iter() if e.tag.endswith("text") and e.text]
     assert sum(bool(re.fullmatch(r"config \d+", t)) for t in texts) == 1  # only the selected one is named
@@ -520,9 +521,26 @@ def test_html_report_renders_in_a_real_browser(edge_audit, written, tmp_path):
     match = re.search(r'<pre id="probe">([^<]*)</pre>', dom)
     assert match, "the probe did not run"
     sizes = match.group(1).split()
-    assert len(sizes) == 7
+    assert len(sizes) == 9
     for size in sizes:
         natural, shown = size.split("@")
         nw, nh = (int(v) for v in natural.split("x"))
         sw, sh = (int(v) for v in shown.split("x"))
         assert nw > 100 and nh > 100 and sw > 100 and sh > 100, size
+
+
+def test_time_section_says_what_the_evidence_over_time_means(edge_audit, written, tmp_path):
+    doc, material = edge_audit
+    sentence = doc["results"]["time_meaning"]
+    assert sentence.startswith("Over time, the edge")
+    for name in ("edge.html", "edge.md"):
+        text = (written / name).read_text()
+        assert _shown(name, sentence) in text
+        assert _shown(name, "Is the edge still alive? The evidence over time") in text
+    # One block without the other: the section says which is missing and draws only its own figure.
+    results = {k: v for k, v in doc["results"].items() if k != "walk_forward"}
+    write_report(tmp_path / "time.md", {**doc, "results": results}, material)
+    md = (tmp_path / "time.md").read_text()
+    assert _shown("time.md", "no results.walk_forward block") in md and "walk-forward record" not in md
+    names = _figure_names(tmp_path / "time.md")
+    assert "edge_over_time" in names and "walk_forward_curve" not in names

@@ -40,7 +40,7 @@ from ..errors import InputError
 from ..results import FamilyStress, TailTest
 from .longrun import long_run_variance, normal_scores
 
-__all__ = ["family_stress", "stress_block", "family_stress_from_blocks", "tail_test", "STRESS_THRESHOLD", "STRESS_SHARE", "MIN_FAMILY"]
+__all__ = ["family_stress", "stress_block", "family_stress_from_blocks", "stress_charges", "tail_test", "STRESS_THRESHOLD", "STRESS_SHARE", "MIN_FAMILY"]
 
 #: A loss beyond this many robust standard deviations counts as a large loss.
 STRESS_THRESHOLD = 4.0
@@ -196,3 +196,37 @@ def tail_test(stress: FamilyStress, *, critical_value: float) -> TailTest:
     ratio = math.sqrt(charged.shape[0]) * float(charged.mean()) / math.sqrt(float(estimate.variance[0]))
     statistic = float(normal_scores(np.array([ratio]), estimate.degrees_of_freedom)[0])
     return TailTest(stress, statistic, float(critical_value), bool(statistic > critical_value))
+
+
+def stress_charges(returns, stress: FamilyStress, columns) -> np.ndarray:
+    """What :func:`family_stress` charges in each stress window, for a configuration named per window.
+
+    The walk-forward record (:mod:`sweepaudit.methods.walkforward`) holds a different configuration
+    in each window; it is charged by the same rule as the selected configuration: in stress window
+    ``stress.windows[i]`` the configuration ``columns[i]`` loses at least the family's average
+    standardised loss there, in its own median and robust scale.
+
+    Parameters
+    ----------
+    returns : array_like, shape (T, N)
+        The sweep the stress windows were found in.
+    stress : FamilyStress
+        From :func:`family_stress` on ``returns``.
+    columns : array_like of int, shape (len(stress.windows),)
+        The configuration to charge in each stress window.
+
+    Returns
+    -------
+    ndarray
+        The charge (a return level; the record keeps its own return when that is lower).
+    """
+    x = np.asarray(returns, dtype=np.float64)
+    cols = np.asarray(columns, dtype=np.int64)
+    if cols.shape != stress.windows.shape:
+        raise InputError(f"columns must name one configuration per stress window ({stress.windows.size}); "
+                         f"got {cols.size}")
+    if cols.size == 0:
+        return np.zeros(0)
+    unique, where = np.unique(cols, return_inverse=True)
+    median, scale = _robust_scale(x[:, unique])
+    return median[where] + scale[where] * stress.family_loss

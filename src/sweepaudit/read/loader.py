@@ -204,6 +204,9 @@ def _reading(frame, built: Built, layout, window_col, opt: LoadOptions, aggregat
         "thousands": attrs.get("thousands"),
         "index_columns": attrs.get("index_columns", []),
         "rows": int(len(frame)),
+        # "generated": config 1, config 2, ... (an array without names): the trial ledger counts such
+        # a sweep by its data fingerprint, since the names say nothing about what was tried.
+        "configuration_names": attrs.get("configuration_names", "given"),
         "layout": layout,
         "window_column": window_col,
         "window_form": built.reading.form if built.reading is not None else (

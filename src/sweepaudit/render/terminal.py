@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import io
 
+import numpy as np
 from rich.console import Console, Group, RenderableType
 from rich.padding import Padding
 from rich.table import Table
@@ -123,6 +124,116 @@ def _method_parts(doc: dict) -> list:
         parts.append(_overfitting_table(results["overfitting"]))
     if results.get("tails"):
         parts.append(_tails_text(results["tails"]))
+    return parts + _time_parts(doc)
+
+
+def _period_cells(block: dict, annual: bool) -> tuple[str, str]:
+    """Mean (a percentage) and Sharpe ratio of a period, annualized when the periods per year are known,
+    with the interval when the document has one."""
+    mean, sharpe = (block["mean_annualized"], block["sharpe_annualized"]) if annual else (block["mean"], block["sharpe"])
+    if isinstance(mean, dict):
+        return _iv(mean, as_pct=True), _iv(sharpe)
+    return pct(mean), fmt(sharpe)
+
+
+_BARS = "▁▂▃▄▅▆▇█"
+_SPARK_WIDTH = 60
+
+
+def _sparkline(values: list, marks: list[int]) -> str:
+    """The rolling Sharpe ratio as one line of bars (means of equal runs of values), a ``|`` where a
+    sub-period starts; positions in ``marks`` index ``values``."""
+    finite = np.array([np.nan if v is None else v for v in values], dtype=float)
+    width = min(_SPARK_WIDTH, finite.size)
+    edges = np.linspace(0, finite.size, width + 1).round().astype(int)
+    with np.errstate(all="ignore"):
+        means = np.array([np.nanmean(finite[a:b]) if np.isfinite(finite[a:b]).any() else np.nan
+                          for a, b in zip(edges[:-1], edges[1:])])
+    low, high = np.nanmin(means), np.nanmax(means)
+    span = high - low if high > low else 1.0
+    bars = [" " if not np.isfinite(m) else _BARS[int(round((m - low) / span * (len(_BARS) - 1)))] for m in means]
+    for mark in sorted({int(np.searchsorted(edges, m, side="right")) - 1 for m in marks if 0 < m < finite.size},
+                       reverse=True):
+        bars.insert(mark, "|")
+    return "".join(bars)
+
+
+def _rolling_line(st: dict, annual: bool) -> Group | None:
+    """The rolling figure as a line of bars under its caption, the thirds marked."""
+    rolling = st["rolling"]
+    values = rolling.get("sharpe") or []
+    if not any(v is not None for v in values):
+        return None
+    start = rolling["windows"] - 1  # the first value ends at this window
+    marks = [p["start"] - start for p in st["thirds"][1:]]
+    suffix = "_annualized" if annual else ""
+    return Group(Text(f"Rolling {rolling['windows']}-window Sharpe ratio, {fmt(rolling['lowest_sharpe' + suffix], 3)} "
+                      f"to {fmt(rolling['highest_sharpe' + suffix], 3)}{' annualized' if annual else ' per window'}; "
+                      "thirds marked |:"),
+                 Text(_sparkline(values, marks), no_wrap=True, overflow="crop"))
+
+
+def _stability_table(st: dict, annual: bool) -> Table:
+    # Window labels are the user's strings: they sit in a later column, never in the title.
+    t = Table(title=Text(f"Is the edge still alive? The selected configuration over time "
+                         f"({'annualized' if annual else 'per window'})"), title_justify="left")
+    for column in ("period", "windows", "from / to", "mean excess return", "Sharpe ratio", "t (long-run)"):
+        t.add_column(column)
+    for p in (*st["thirds"], st["early"], st["recent"]):
+        text_row(t, p["period"], f"{p['windows']:,}", f"{p['first_window']} / {p['last_window']}",
+                 *_period_cells(p, annual), fmt(p["t_ratio"], 3))
+    change, rolling = st["change"], st["rolling"]
+    moved = change["difference_annualized"] if annual else change["difference"]
+    suffix = "_annualized" if annual else ""
+    t.caption = Text(f"Recent minus earlier mean: {pct(moved)}{' a year' if annual else ' per window'}, "
+                     f"t = {fmt(change['statistic'], 3)} against the long-run standard error, one-sided p = "
+                     f"{prob(change['pvalue'])}. Rolling {rolling['windows']}-window Sharpe ratio: last "
+                     f"{fmt(rolling['last_sharpe' + suffix], 3)}, lowest {fmt(rolling['lowest_sharpe' + suffix], 3)}, "
+                     f"highest {fmt(rolling['highest_sharpe' + suffix], 3)}, above zero "
+                     f"{pct(rolling['share_above_zero'])} of the time.")
+    t.caption_justify = "left"
+    return t
+
+
+def _walk_forward_table(wf: dict, annual: bool) -> Table:
+    looks = "all earlier windows" if wf["lookback"] is None else f"the {wf['lookback']:,} windows before"
+    t = Table(title=Text(f"Re-picking the winner: walk-forward record (best Sharpe ratio on {looks}, "
+                         f"{wf['windows']:,} windows)"), title_justify="left", show_header=False)
+    t.add_column("figure")
+    t.add_column("value")
+    unit = "annualized" if annual else "per window"
+    mean, sharpe = _period_cells(wf, annual)
+    held = wf["selected_same_windows"]
+    text_row(t, "first window traded", str(wf["first_window"]))
+    text_row(t, f"mean excess return ({unit})", mean)
+    text_row(t, f"Sharpe ratio ({unit})", sharpe)
+    text_row(t, "the selected configuration, same windows",
+             f"{pct(held['mean_annualized'] if annual else held['mean'])}, Sharpe "
+             f"{fmt(held['sharpe_annualized'] if annual else held['sharpe'], 3)}")
+    text_row(t, "picks", f"changed {wf['pick_changes']:,} times ({pct(wf['pick_change_rate'])} of windows), "
+             f"{wf['distinct_picks']:,} configurations; the selected one {pct(wf['selected_share'])} of the time")
+    text_row(t, "most picked / last picked", f"{wf['most_picked']} ({pct(wf['most_picked_share'])}) / {wf['last_pick']}")
+    test = wf["test"]
+    text_row(t, "test of the mean", f"t = {fmt(test['statistic'], 3)}, one-sided p = {prob(test['pvalue'])} "
+             f"(persistence {fmt(wf['persistence']['ar_coefficient'], 3)} taken out: "
+             f"{pct(wf['persistence']['mean_prediction'])} per window; stress charge "
+             f"{pct(wf['stress']['mean_charge'])} per window)")
+    return t
+
+
+def _time_parts(doc: dict) -> list:
+    """The edge over time and the walk-forward record, with one sentence on what they mean."""
+    results, parts = doc["results"], []
+    annual = doc["input"]["periods_per_year"] is not None
+    if results.get("stability"):
+        parts.append(_stability_table(results["stability"], annual))
+        line = _rolling_line(results["stability"], annual)
+        if line is not None:
+            parts += [indented(line), Text("")]
+    if results.get("walk_forward"):
+        parts.append(_walk_forward_table(results["walk_forward"], annual))
+    if results.get("time_meaning"):
+        parts += [indented(Text(results["time_meaning"], style="italic")), Text("")]
     return parts
 
 
@@ -242,7 +353,8 @@ _MOVES_SHOWN = 8
 
 
 def _ledger_part(ledger: dict) -> Group:
-    state = "new (recorded now)" if ledger["new_sweep"] else "already recorded (no trials added)"
+    state = ("new (recorded now)" if ledger["new_sweep"] else "already recorded (no trials added)"
+             if not ledger.get("trials_added") else "already recorded")
     lines = [Text(f"{ledger['path']}: this sweep is {state}; {ledger['sweeps_recorded']:,} distinct "
                   f"sweeps recorded, {ledger['trials_counted']:,} trials counted")]
     if ledger.get("note"):

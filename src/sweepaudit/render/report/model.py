@@ -5,7 +5,8 @@ The Markdown and HTML renderers lay a :class:`Report` out; neither adds or drops
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+from typing import Any
 
 __all__ = ["Figure", "Table", "Section", "Report"]
 
@@ -19,6 +20,8 @@ class Figure:
     caption: str  # what the figure shows and how to read it
     alt: str
     svg: bytes
+    # The matplotlib Figure the SVG was saved from (``AuditResult.figures()`` hands it out).
+    plot: Any = field(default=None, compare=False, repr=False)
 
 
 @dataclass(frozen=True)

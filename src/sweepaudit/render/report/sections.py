@@ -19,7 +19,7 @@ from ...results import FigureMaterial
 from ..safe import visible_document
 from .model import Figure, Report, Section, Table
 
-__all__ = ["SECTIONS", "build_report"]
+__all__ = ["SECTIONS", "build_report", "headline"]
 
 
 def _plots():
@@ -451,6 +451,102 @@ def _tails_section(doc: dict, material: FigureMaterial | None) -> Section:
     return Section("tails", title, meaning=(meaning,), facts=facts, notes=notes, references=refs)
 
 
+_TIME_REFS = (
+    "Pesaran, M. H. and Timmermann, A. (1995). Predictability of stock returns: robustness and economic "
+    "significance. Journal of Finance 50(4), 1201-1228 (model selection using only the data available at "
+    "each date).",
+    "Chow, G. C. (1960). Tests of equality between sets of coefficients in two linear regressions. "
+    "Econometrica 28(3), 591-605.",
+    "Andrews, D. W. K. and Monahan, J. C. (1992). An improved heteroskedasticity and autocorrelation "
+    "consistent covariance matrix estimator. Econometrica 60(4), 953-966.",
+)
+
+
+def _value_cells(value) -> tuple[str, str, str]:
+    """Estimate, low and high of an interval block; a plain number has no bounds."""
+    if isinstance(value, dict):
+        return figure(value.get("estimate")), figure(value.get("low")), figure(value.get("high"))
+    return figure(value), "", ""
+
+
+def _periods_table(block: dict, annual: bool) -> Table:
+    """The thirds, the windows before the recent period and the recent period, each with its figures."""
+    keys = ("mean", "sharpe") + (("mean_annualized", "sharpe_annualized") if annual else ())
+    columns = ["period", "first window", "last window", "windows", "t-ratio (long-run)", "degrees of freedom"]
+    for key in keys:
+        name = key.replace("_", " ")
+        columns += [name, f"{name} low", f"{name} high"]
+    rows = []
+    for p in (*block["thirds"], block["early"], block["recent"]):
+        row = [p["period"], str(p["first_window"]), str(p["last_window"]), figure(p["windows"]), figure(p["t_ratio"]),
+               figure(p["degrees_of_freedom"])]
+        for key in keys:
+            row += _value_cells(p[key])
+        rows.append(tuple(row))
+    return Table(tuple(columns), tuple(rows), caption="The selected configuration's record, period by period "
+                 "(means as fractions; intervals from the audit's resamples for the two periods the test compares)")
+
+
+def _rolling_table(block: dict) -> Table:
+    """The rolling Sharpe ratio window by window (folded in HTML: it is the figure's raw numbers)."""
+    rolling = block["rolling"]
+    first = rolling["windows"]  # the first stretch ends at this window (1-based)
+    rows = tuple((figure(first + i), figure(v)) for i, v in enumerate(rolling.get("sharpe") or []))
+    return Table(("stretch ends at window number", "Sharpe ratio per window"), rows, collapsed=True,
+                 caption=f"The rolling {figure(rolling['windows'])}-window Sharpe ratio, window by window "
+                         f"(the first stretch ends at {rolling['first_window']})")
+
+
+def _walk_forward_table(block: dict, annual: bool) -> Table:
+    keys = ("mean", "sharpe") + (("mean_annualized", "sharpe_annualized") if annual else ())
+    rows = tuple((key.replace("_", " "), *_value_cells(block[key])) for key in keys)
+    return Table(("walk-forward record", "estimate", "low", "high"), rows,
+                 caption="The walk-forward record's mean excess return and Sharpe ratio with their intervals")
+
+
+def _time_section(doc: dict, material: FigureMaterial | None) -> Section:
+    title = "Is the edge still alive? The evidence over time"
+    meaning = (
+        "Every full-sample figure is blind to time: an edge that appeared only recently and the same edge "
+        "reversed in time, one that has died, get the same mean, Sharpe ratio and p-values. This section cuts "
+        "the selected configuration's record into thirds and a rolling window, and tests whether the recent "
+        "period earned less than the windows before it, beyond what chance allows under serial dependence "
+        "(the difference of the two means over its long-run standard error, read against Student's t)."
+    )
+    walk_meaning = (
+        "The walk-forward record judges the selection procedure rather than the winner chosen with "
+        "hindsight: before each window after a warm-up, the configuration with the best Sharpe ratio so "
+        "far is picked and its return in that window recorded. The test of its mean takes out what the "
+        "picks' own last returns foretold (autocorrelation that overlapping positions or stale prices "
+        "create, which no re-pick can trade) and charges the family's crash losses, as the family-tails "
+        "check does."
+    )
+    block, walk = doc["results"].get("stability"), doc["results"].get("walk_forward")
+    if block is None and walk is None:
+        return _absent("time", title, "stability", meaning, _TIME_REFS)
+    annual = _annual(doc)
+    tables, facts, figs, notes = [], [], [], []
+    if block is not None:
+        tables += [_periods_table(block, annual), _rolling_table(block)]
+        facts += _extra_facts({**block, "rolling": {k: v for k, v in block["rolling"].items() if k != "sharpe"}},
+                              {"thirds", "early", "recent"})
+    else:
+        notes.append("Not computed in this audit: the JSON has no results.stability block.")
+    if walk is not None:
+        tables.append(_walk_forward_table(walk, annual))
+        facts += _extra_facts(walk, {"mean", "sharpe", "mean_annualized", "sharpe_annualized"},
+                              prefix="walk-forward: ")
+    else:
+        notes.append("Not computed in this audit: the JSON has no results.walk_forward block.")
+    if material is not None:
+        figs = [f for f in (_plots().edge_over_time(doc, material), _plots().walk_forward_curve(doc, material)) if f]
+    sentence = doc["results"].get("time_meaning")
+    words = (meaning,) + ((walk_meaning,) if walk is not None else ()) + ((sentence,) if sentence else ())
+    return Section("time", title, meaning=words,
+                   facts=tuple(facts), tables=tuple(tables), figures=tuple(figs), notes=tuple(notes),
+                   references=_TIME_REFS)
+
+
 def _extra_facts(block: dict, known: set, prefix: str = "") -> list[tuple[str, str]]:
     """Figures a block holds beyond the ones a section names, so no figure of the JSON goes unshown."""
     out: list[tuple[str, str]] = []
@@ -544,13 +640,15 @@ SECTIONS: tuple[SectionFunction, ...] = (
     _overfitting_section,
     _snooping_section,
     _tails_section,
+    _time_section,
     _checks_section,
     _warnings_section,
     _reproduce_section,
 )
 
 
-def _headline(doc: dict) -> tuple[tuple[str, str], ...]:
+def headline(doc: dict) -> tuple[tuple[str, str], ...]:
+    """The key figures of the first screen (the report's and the notebook view's), with their intervals."""
     sel = doc["results"]["bootstrap"]["selected"]
     annual = _annual(doc)
     out = [
@@ -597,7 +695,7 @@ def build_report(doc: dict, material: FigureMaterial | None = None) -> Report:
         rule=doc["selected"]["rule"],
         reasons=tuple(doc["reasons"]),
         caution=doc["caution"],
-        headline=_headline(doc),
+        headline=headline(doc),
         input_path=doc["input"]["path"],
         sections=tuple(fn(doc, material) for fn in SECTIONS),
         tool=f"{tool.get('name', 'sweepaudit')} {tool.get('version', '')}".strip(),
