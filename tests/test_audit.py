@@ -131,6 +131,23 @@ def test_resamples_below_one_name_the_argument(sweep):
 # ------------------------------------------------------------------------------------- evidence over time
 
 
+def test_the_in_memory_audit_keeps_its_weights_for_the_time_structure_when_they_fit(sweep):
+    from sweepaudit.engine.blocks import IN_MEMORY_ARRAYS
+    from sweepaudit.resample import moment_chunk
+
+    b, t, n = 400, sweep.n_windows, sweep.n_configurations
+    assert plan_blocks(n, t, b).in_memory and plan_blocks(n, t, b).keep_weights
+    # Room for the moments and one chunk of weights, none for the kept weights: drawn again.
+    tight = IN_MEMORY_ARRAYS * b * n * 8 + 2 * min(moment_chunk(t), b) * t * 8
+    assert plan_blocks(n, t, b, tight).in_memory and not plan_blocks(n, t, b, tight).keep_weights
+    settings = AuditSettings(seed=6, resamples=b)
+    kept, drawn = gather_evidence(sweep, settings=settings), gather_evidence(sweep, settings=settings, memory_budget=tight)
+    # The same weights in the same chunks: the same products, bit for bit.
+    assert np.array_equal(kept.walk_forward.intervals.mean_distribution, drawn.walk_forward.intervals.mean_distribution)
+    assert np.array_equal(kept.stability.recent_intervals.sharpe_distribution,
+                          drawn.stability.recent_intervals.sharpe_distribution, equal_nan=True)
+
+
 def test_time_structure_uses_the_audit_resamples_and_the_policy(sweep):
     from sweepaudit.methods.bootstrap_ci import part_columns, part_intervals
     from sweepaudit.methods.stability import edge_stability

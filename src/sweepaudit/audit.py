@@ -16,7 +16,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from . import validate
-from .engine import InProcess, moments_and_intervals, plan_blocks, single_threaded
+from .engine import InProcess, WeightTable, moments_and_intervals, plan_blocks, single_threaded
 from .errors import SweepAuditWarning
 from .methods.bootstrap_ci import bootstrap_intervals, part_columns, part_intervals
 from .methods.cscv import cscv
@@ -96,7 +96,7 @@ def gather_evidence(
     with single_threaded(), warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", SweepAuditWarning)
         if (plan.in_memory and not distributed) or sweep.n_configurations < MIN_FAMILY:
-            parts = _in_memory(sweep, settings, policy, count, progress)
+            parts = _in_memory(sweep, settings, policy, count, progress, plan.keep_weights)
         else:
             parts = _streamed(sweep, settings, policy, count, plan, executor or InProcess(), progress)
         haircut = haircut_sharpe(
@@ -106,7 +106,7 @@ def gather_evidence(
         walk, stability, time_notes = _time_structure(sweep, parts.selected, policy, parts.long_run, parts.tails)
         confidence = settings.confidence if settings.confidence is not None else policy.confidence
         walk, stability = _time_intervals(sweep.returns[:, parts.selected], walk, stability, parts.resamples,
-                                          confidence, settings.interval_method)
+                                          confidence, settings.interval_method, parts.weights)
     caught_notes = tuple(str(w.message) for w in caught if issubclass(w.category, SweepAuditWarning)) + time_notes
     return _evidence(sweep, settings, policy, parts, haircut, caught_notes, walk, stability)
 
@@ -129,18 +129,21 @@ class _Parts:
     overfit: CscvResult | None
     diagnosis: OverfittingDiagnosis | None
     tails: TailTest | None
+    weights: WeightTable | None = None
 
 
-def _in_memory(sweep, settings, policy, count, progress) -> _Parts:
-    """Every method on the whole matrix, the ``B x N`` moments computed at once."""
+def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool) -> _Parts:
+    """Every method on the whole matrix, the ``B x N`` moments computed at once (the weights kept
+    for the time structure's product when the plan keeps them)."""
     confidence = settings.confidence if settings.confidence is not None else policy.confidence
     x = sweep.returns
     sharpe = x.mean(axis=0) / x.std(axis=0, ddof=1)
     selected, rule = _select(sweep, settings, sharpe)
     long_run = long_run_variance(x)
     resamples, block_source, choice = _resamples(sweep, settings, count, selected)
+    table = WeightTable(resamples) if keep_weights and resamples.seed is not None else None
     moments, intervals = moments_and_intervals(
-        x, resamples, progress=progress,
+        x, resamples, progress=progress, table=table,
         intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method),
     )
     inference = _inference(sweep, settings, policy, selected, long_run)
@@ -157,7 +160,7 @@ def _in_memory(sweep, settings, policy, count, progress) -> _Parts:
     variance = (np.concatenate([b.variance_of_mean for b in blocks]) if snooping is not None
                 else np.var(intervals.mean_distribution, axis=0))
     return _Parts(sharpe, selected, rule, long_run, resamples, block_source, choice, intervals,
-                  variance, inference, snooping, overfit, diagnosis, tails)
+                  variance, inference, snooping, overfit, diagnosis, tails, table)
 
 
 def _streamed(sweep, settings, policy, count, plan, executor, progress) -> _Parts:
@@ -183,7 +186,8 @@ def _streamed(sweep, settings, policy, count, plan, executor, progress) -> _Part
     tails = tail_test(stream.stress(first, selected, policy.stress_share),
                       critical_value=snooping.gating_stepm.critical_value_for(selected))
     return _Parts(first.sharpe, selected, rule, first.long_run, resamples, block_source, choice, second.intervals,
-                  second.variance, inference, snooping, overfit, _diagnosis(overfit, policy), tails)
+                  second.variance, inference, snooping, overfit, _diagnosis(overfit, policy), tails,
+                  executor.kept_weights(resamples))
 
 
 def _evidence(
@@ -303,12 +307,13 @@ def _time_structure(
 
 def _time_intervals(
     own: np.ndarray, walk: WalkForward | None, stability: EdgeStability | None, resamples: Resamples,
-    confidence: float, method: str,
+    confidence: float, method: str, table: WeightTable | None = None,
 ) -> tuple[WalkForward | None, EdgeStability | None]:
     """Intervals of the walk-forward record and of the two periods, from the audit's own resamples.
 
     Each part enters as two columns (its returns where it holds, zero elsewhere, and its indicator);
-    their moments come from the same resamples as every other figure (replayed from the seed).
+    their moments come from the same resamples as every other figure (the weights kept by the audit's
+    product, else replayed from the seed: the same weights).
     """
     t = own.size
     parts, where = [], np.arange(t)
@@ -320,7 +325,9 @@ def _time_intervals(
         parts += [(own, where < stability.early.stop), (own, where >= stability.recent.start)]
     if not parts:
         return walk, stability
-    moments = resampled_moments(part_columns(parts), resamples, chunk=moment_chunk(t))
+    chunk = moment_chunk(t)
+    moments = resampled_moments(part_columns(parts), resamples, chunk=chunk,
+                                weights=None if table is None else table.chunks(chunk))
     found = list(part_intervals(parts, moments, confidence=confidence, method=method))
     if walk is not None:
         walk = replace(walk, intervals=found.pop(0))

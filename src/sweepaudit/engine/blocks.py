@@ -45,7 +45,8 @@ class BlockPlan:
     width : int
         Configurations per block on the streamed path.
     keep_weights : bool
-        The ``B x T`` weights are kept drawn (as small integers) instead of redrawn for each block.
+        The ``B x T`` weights are kept drawn (as small integers) instead of redrawn for each block
+        (in memory: for the time structure's product, when they fit beside the moments).
     budget : int
         The budget in bytes.
     """
@@ -67,7 +68,9 @@ def plan_blocks(configurations: int, windows: int, resamples: int, budget: int |
     chunk_bytes = _chunk_bytes(t, b)
     in_memory = IN_MEMORY_ARRAYS * b * n * 8 + chunk_bytes <= budget
     table_bytes = WeightTable.bytes_for(b, t)
-    keep = table_bytes <= budget // 4
+    # In memory, the kept weights serve the time structure's second product, within the budget.
+    keep = table_bytes <= budget // 4 and (
+        not in_memory or IN_MEMORY_ARRAYS * b * n * 8 + chunk_bytes + table_bytes <= budget)
     free = budget - chunk_bytes - (table_bytes if keep else 0)
     width = max(1, min(n, free // (BLOCK_ARRAYS * b * 8)))
     return BlockPlan(in_memory=in_memory, width=int(width), keep_weights=keep, budget=budget)

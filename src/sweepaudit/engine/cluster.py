@@ -162,6 +162,10 @@ class DaskCluster:
             if progress is not None:
                 progress(stop)
 
+    def kept_weights(self, resamples: Resamples) -> None:
+        """None: the weights stay on the workers (the client draws them again when it needs them)."""
+        return None
+
     def close(self) -> None:
         self.client.close()
         if self._cluster is not None:

@@ -40,6 +40,7 @@ def moments_and_intervals(
     intervals: IntervalFunction,
     progress: Progress | None = None,
     threads: int | None = None,
+    table: WeightTable | None = None,
 ) -> tuple[ResampledMoments, BootstrapIntervals]:
     """The shared resampled moments of every configuration at once and the intervals from them.
 
@@ -56,12 +57,17 @@ def moments_and_intervals(
     threads : int, optional
         Threads for the products, each running single-threaded BLAS on its own chunk of resamples
         (default: :func:`~sweepaudit.engine.threads.free_cores`; the figures do not depend on it).
+    table : WeightTable, optional
+        The resamples' weights kept drawn, for a later product on the same resamples (the audit's
+        time structure); default: drawn chunk by chunk and dropped. The same weights either way.
     """
     b = resamples.count
+    chunk = moment_chunk(returns.shape[0])
     with single_threaded():
         moments = resampled_moments(
-            returns, resamples, chunk=moment_chunk(returns.shape[0]), threads=threads or free_cores(),
+            returns, resamples, chunk=chunk, threads=threads or free_cores(),
             progress=(lambda done: progress(done, b)) if progress else None,
+            weights=None if table is None else table.chunks(chunk),
         )
     return moments, intervals(returns, moments)
 
@@ -109,6 +115,11 @@ class InProcess:
                 yield task(block, moments, start)
             if progress is not None:
                 progress(stop)
+
+    def kept_weights(self, resamples: Resamples) -> WeightTable | None:
+        """The weights the blocks read, when they were kept for these resamples (else None)."""
+        table = self._table
+        return table if table is not None and table.resamples == resamples and resamples.seed is not None else None
 
     def each(self, function: Callable[[Any], Any], items) -> Iterator[Any]:
         """``function(item)`` for every item, in order (for independent work such as the audits of
