@@ -34,7 +34,6 @@ from dataclasses import dataclass, replace
 from typing import get_args
 
 import numpy as np
-from scipy import stats
 
 from . import simulate, validate
 from .audit import gather_evidence
@@ -83,6 +82,8 @@ def binomial_rate(events: int, trials: int) -> Rate:
     if trials == 0:
         nan = float("nan")
         return Rate(0, 0, nan, nan, nan, nan)
+    from scipy import stats  # here: an audit never needs scipy.stats, whose import costs about a second
+
     p = events / trials
     upper = 1.0 if events == trials else float(stats.beta.ppf(0.95, events + 1, trials - events))
     lower = 0.0 if events == 0 else float(stats.beta.ppf(0.05, events, trials - events + 1))

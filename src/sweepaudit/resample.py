@@ -271,13 +271,17 @@ def _politis_white(x: np.ndarray) -> tuple[float, float]:
     first: int | None = None
     with np.errstate(divide="ignore", invalid="ignore"):
         for i in range(m_max + 1):
-            v1 = eps[i + 1 :] @ eps[i + 1 :]
-            v2 = eps[: -(i + 1)] @ eps[: -(i + 1)]
             cross = eps[i:] @ eps[: nobs - i]
             acv[i] = cross / nobs
-            abs_acorr[i] = np.abs(cross) / np.sqrt(v1 * v2)
-            if first is None and i >= kn and np.all(abs_acorr[i - kn : i] < band):
-                first = i - kn
+            if first is None:
+                v1 = eps[i + 1 :] @ eps[i + 1 :]
+                v2 = eps[: -(i + 1)] @ eps[: -(i + 1)]
+                abs_acorr[i] = np.abs(cross) / np.sqrt(v1 * v2)
+                if i >= kn and np.all(abs_acorr[i - kn : i] < band):
+                    first = i - kn
+            # Once the bandwidth is known, only the autocovariances up to it are read.
+            if first is not None and i >= min(2 * max(first, 1), m_max):
+                break
         m = min(2 * max(first, 1) if first is not None else m_max, m_max)
         g = 0.0
         long_run = acv[0]

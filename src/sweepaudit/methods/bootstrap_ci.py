@@ -32,12 +32,12 @@ from __future__ import annotations
 from typing import get_args
 
 import numpy as np
-from scipy import stats
 
 from .. import validate
 from ..errors import InputError
 from ..resample import ResampledMoments
 from ..results import BootstrapIntervals, Interval, IntervalMethod, LongRunVariance
+from .distributions import normal_cdf, t_ppf
 from .longrun import long_run_variance
 from .sharpe import variance_numerator
 
@@ -101,7 +101,7 @@ def _studentized(estimates, distribution, standard_error, degrees_of_freedom, q)
         with np.errstate(invalid="ignore", divide="ignore"):
             z = (draws - estimates) / np.nanstd(draws, axis=0)
         zq = np.nanquantile(z, q, axis=0)
-    tq = stats.t.ppf(stats.norm.cdf(zq), degrees_of_freedom)
+    tq = t_ppf(normal_cdf(zq), degrees_of_freedom)
     return np.stack([estimates - tq[1] * standard_error, estimates - tq[0] * standard_error])
 
 

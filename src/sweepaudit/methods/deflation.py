@@ -28,11 +28,12 @@ import math
 from collections.abc import Callable
 
 import numpy as np
-from scipy import integrate, special, stats
+from scipy import integrate, special
 
 from .. import validate
 from ..errors import InputError
 from ..results import DeflatedCurve, DeflatedSharpe, EffectiveTrials, ExpectedMaximum, VarianceMode
+from .distributions import normal_cdf, normal_isf
 from .sharpe import probabilistic_sharpe
 
 __all__ = [
@@ -87,7 +88,7 @@ def _standardised(array: np.ndarray) -> np.ndarray:
 def _expected_max_approximate(trials):
     """The approximation for a trial count or an array of counts (elementwise the same arithmetic)."""
     # Bailey and Lopez de Prado (2014): (1 - gamma) Phi^-1(1 - 1/N) + gamma Phi^-1(1 - 1/(N e)).
-    value = (1.0 - EULER_MASCHERONI) * stats.norm.isf(1.0 / trials) + EULER_MASCHERONI * stats.norm.isf(
+    value = (1.0 - EULER_MASCHERONI) * normal_isf(1.0 / trials) + EULER_MASCHERONI * normal_isf(
         1.0 / (trials * math.e)
     )
     # The formula is built for large N and turns negative below N ~ 1.28 (fractional effective
@@ -106,7 +107,7 @@ def _expected_max_exact(trials: float) -> float:
         return math.exp(trials * special.log_ndtr(x))
 
     # Split the upper part where 1 - Phi^N drops from ~1 to ~0 (near Phi^-1(1 - 1/N)).
-    centre = max(float(stats.norm.isf(1.0 / trials)), 0.0)
+    centre = max(float(normal_isf(1.0 / trials)), 0.0)
     tail_end = centre + 12.0
     upper_part = 0.0
     if centre > 0:
@@ -273,8 +274,8 @@ def calibrated_level(trials: float, *, significance: float = 0.05, expected_maxi
     alpha = validate.probability(significance, "significance")
     mode = validate.choice(expected_maximum, "expected_maximum", _EXPECTED_MAXIMA)
     # (1 - alpha)^(1/N) as 1 - expm1(log1p(-alpha) / N): accurate for large N.
-    quantile = float(stats.norm.isf(-math.expm1(math.log1p(-alpha) / n_trials)))
-    return float(stats.norm.cdf(quantile - expected_max_standard_normal(n_trials, exact=mode == "exact")))
+    quantile = float(normal_isf(-math.expm1(math.log1p(-alpha) / n_trials)))
+    return float(normal_cdf(quantile - expected_max_standard_normal(n_trials, exact=mode == "exact")))
 
 
 def max_trials_for_deflated_sharpe(
@@ -398,7 +399,7 @@ def deflated_by_trials(
     shown = effective_trials is not None and effective_trials >= 1 and abs(effective_trials - trials) > 1e-9
     return DeflatedCurve(
         trials=counts,
-        probability=stats.norm.cdf((at_counted.sharpe - benchmark) / at_counted.standard_error),
+        probability=normal_cdf((at_counted.sharpe - benchmark) / at_counted.standard_error),
         trials_counted=float(trials),
         at_trials_counted=at_counted.probability,
         effective_trials=float(effective_trials) if shown else None,

@@ -31,11 +31,12 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import special, stats
+from scipy import special
 
 from .. import validate
 from ..errors import InputError
 from ..results import HaircutAdjustment, HaircutSharpe
+from .distributions import normal_isf, normal_sf
 
 __all__ = ["haircut_sharpe", "adjusted_pvalues"]
 
@@ -102,7 +103,7 @@ def _adjustment(method: str, adjusted: float, t_observed: float, observed: float
                 annual: float | None) -> HaircutAdjustment:
     """The selected configuration after one multiple-testing adjustment (its adjusted p-value)."""
     adjusted = min(max(adjusted, 0.0), 1.0)
-    t_adjusted = min(float(stats.norm.isf(adjusted / 2.0)), abs(t_observed))
+    t_adjusted = min(float(normal_isf(adjusted / 2.0)), abs(t_observed))
     haircut_value = math.copysign(t_adjusted, observed) / root if observed != 0 else 0.0
     return HaircutAdjustment(
         method=method,  # type: ignore[arg-type]
@@ -160,7 +161,7 @@ def haircut_sharpe(
     values, index, n, count, periods = _validate(sharpes, selected, observations, tests, periods_per_year)
     root = math.sqrt(n)
     t_values = values * root
-    pvalues = np.minimum(2.0 * stats.norm.sf(np.abs(t_values)), 1.0)
+    pvalues = np.minimum(2.0 * normal_sf(np.abs(t_values)), 1.0)
     observed = float(values[index])
     t_observed = float(t_values[index])
     annual = None if periods is None else math.sqrt(periods)

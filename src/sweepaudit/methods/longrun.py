@@ -46,6 +46,7 @@ from scipy import special
 from ..errors import DegenerateDataError, InputError
 from ..resample import politis_white_lengths
 from ..results import BlockLengthChoice, LongRunVariance
+from .distributions import t_upper_log_sf
 
 __all__ = [
     "LongRunVariance",
@@ -187,9 +188,7 @@ def normal_scores(t_ratios, degrees_of_freedom) -> np.ndarray:
     """
     t = np.asarray(t_ratios, dtype=np.float64)
     nu = np.broadcast_to(np.asarray(degrees_of_freedom, dtype=np.float64), t.shape)
-    from scipy import stats
-
-    upper = -special.ndtri_exp(stats.t.logsf(np.abs(t), nu))
+    upper = -special.ndtri_exp(t_upper_log_sf(np.abs(t), nu))
     return np.sign(t) * upper
 
 

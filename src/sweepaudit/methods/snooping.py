@@ -103,7 +103,6 @@ from collections.abc import Callable, Iterator
 from typing import get_args
 
 import numpy as np
-from scipy import stats
 
 from .. import validate
 from ..errors import DegenerateDataError, InputError
@@ -120,6 +119,7 @@ from ..results import (
     StepwiseResult,
     SuperiorPredictiveAbility,
 )
+from .distributions import normal_isf
 from .longrun import long_run_variance, normal_scores
 
 __all__ = [
@@ -580,7 +580,7 @@ def bonferroni_max_t(returns: np.ndarray, *, level: float = 0.05) -> MaxTTest:
     _check_constant(x)
     ratios = math.sqrt(t) * x.mean(axis=0) / x.std(axis=0, ddof=1)
     best = int(np.argmax(ratios))
-    critical = float(stats.norm.isf(alpha / n))
+    critical = float(normal_isf(alpha / n))
     return MaxTTest(float(ratios[best]), best, critical, alpha, bool(ratios[best] > critical))
 
 

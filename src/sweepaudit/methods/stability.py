@@ -37,11 +37,11 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import stats
 
 from .. import validate
 from ..errors import InputError
 from ..results import EdgeStability, SubPeriod
+from .distributions import t_cdf
 from .longrun import long_run_variance
 
 __all__ = ["MIN_PERIOD", "default_rolling_windows", "sub_period", "thirds", "edge_stability"]
@@ -135,7 +135,7 @@ def edge_stability(series, *, recent_share: float = 0.5, rolling_windows: int | 
     variance, nu, ratio = _long_run_ratio(residual)
     error = math.sqrt(variance * (1.0 / split + 1.0 / recent)) if variance > 0 else math.nan
     statistic = difference / error if error > 0 else math.nan
-    pvalue = float(stats.t.cdf(statistic, nu)) if math.isfinite(statistic) else 1.0
+    pvalue = float(t_cdf(statistic, nu)) if math.isfinite(statistic) else 1.0
     rolling_mean, rolling_sharpe = _rolling(x, length)
     defined = rolling_sharpe[np.isfinite(rolling_sharpe)]
     return EdgeStability(

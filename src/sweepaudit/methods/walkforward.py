@@ -58,11 +58,11 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import stats
 
 from .. import validate
 from ..errors import InputError
 from ..results import FamilyStress, WalkForward
+from .distributions import t_sf
 from .longrun import long_run_variance
 from .tails import stress_charges
 
@@ -188,7 +188,7 @@ def _one_sided(series: np.ndarray) -> tuple[float, float, float]:
     estimate = long_run_variance(series[:, None])
     ratio = float(series.mean()) / math.sqrt(float(estimate.variance[0]) / series.size)
     nu = float(estimate.degrees_of_freedom[0])
-    return ratio, nu, float(stats.t.sf(ratio, nu))
+    return ratio, nu, float(t_sf(ratio, nu))
 
 
 def _sharpe(series: np.ndarray) -> float:
