@@ -111,9 +111,10 @@ def _run_audits(
     seed: int,
     progress: Callable[[int], None] | None,
     executor=None,
+    shared: NullSweeps | None = None,
 ) -> VerdictCalibration:
     decisions, selected, outcomes, required, yardstick = _audit_each(
-        sweeps, count, audit_seeds, settings, policy, progress, executor
+        sweeps, count, audit_seeds, settings, policy, progress, executor, shared
     )
     ids = tuple(required)
     failed = np.full((count, len(ids)), np.nan)
@@ -136,11 +137,13 @@ def _run_audits(
     )
 
 
-def _audit_each(sweeps, count, audit_seeds, settings, policy, progress, executor=None):
+def _audit_each(sweeps, count, audit_seeds, settings, policy, progress, executor=None, shared=None):
     """Audit each sweep (its own seed) and decide its verdict: decisions, selections, check failures.
 
     ``executor`` (:func:`sweepaudit.engine.executor_for`) runs the audits, each a task of its own
-    (Dask workers, or in process); the figures do not depend on where they ran.
+    (Dask workers, or in process); the figures do not depend on where they ran. With ``shared`` (a
+    :class:`NullSweeps`), each of ``sweeps`` is ``(rows, column, edge)`` for its ``sweep_at``, so a
+    task carries indices and the real sweep reaches each worker once.
     """
     decisions = np.zeros(count, dtype=bool)
     yardstick = np.zeros(count, dtype=bool)
@@ -154,7 +157,7 @@ def _audit_each(sweeps, count, audit_seeds, settings, policy, progress, executor
     # objects alive now takes them out of those collections. Undone afterwards.
     gc.freeze()
     try:
-        for i, (decision, rejected, index, outcome, kinds) in enumerate((executor or InProcess()).each(_one_audit, work)):
+        for i, (decision, rejected, index, outcome, kinds) in enumerate((executor or InProcess()).each(_one_audit, work, shared)):
             decisions[i], yardstick[i], selected[i] = decision, rejected, index
             outcomes.append(outcome)
             for cid, is_required in kinds.items():
@@ -168,9 +171,11 @@ def _audit_each(sweeps, count, audit_seeds, settings, policy, progress, executor
     return decisions, selected, outcomes, required, yardstick
 
 
-def _one_audit(work: tuple[Sweep, AuditSettings, Policy]) -> tuple[bool, bool, int, dict[str, bool], dict[str, bool]]:
+def _one_audit(work: tuple, shared: NullSweeps | None = None) -> tuple[bool, bool, int, dict[str, bool], dict[str, bool]]:
     """One simulated sweep's audit and verdict, reduced to what the rates count (a pure task)."""
     sweep, settings, policy = work
+    if shared is not None:
+        sweep = shared.sweep_at(*sweep)
     evidence = gather_evidence(sweep, settings=settings, policy=policy)
     verdict = decide(evidence, policy)
     return (verdict.decision == "go", bool(bonferroni_max_t(sweep.returns, level=policy.significance).rejected),
@@ -296,18 +301,30 @@ class NullSweeps:
     def block_length(self) -> float:
         return self.resamples.block_length
 
+    def rows(self, chunk: int = GENERATION_GROUP) -> Iterator[np.ndarray]:
+        """Yield each null sweep's windows (indices into the real sweep's), in order."""
+        for idx in self.resamples.index_chunks(chunk):
+            yield from idx
+
     def arrays(self, chunk: int = GENERATION_GROUP) -> Iterator[np.ndarray]:
         """Yield the null sweeps as T x N arrays, in order (the same ones for any chunk size)."""
-        for idx in self.resamples.index_chunks(chunk):
-            for row in idx:
-                # Whole rows are taken: every configuration sees the same windows, so the
-                # cross-sectional dependence of the real sweep is kept (Politis and Romano 1994).
-                yield self.centred[row]
+        for row in self.rows(chunk):
+            # Whole rows are taken: every configuration sees the same windows, so the
+            # cross-sectional dependence of the real sweep is kept (Politis and Romano 1994).
+            yield self.centred[row]
+
+    def sweep_at(self, rows: np.ndarray, column: int | None = None, edge: float = 0.0) -> Sweep:
+        """The null sweep of these windows as a Sweep with the real sweep's labels, parameters and
+        periods; with ``column``, ``edge`` added to that configuration (a power sweep)."""
+        x = self.centred[rows]
+        if column is not None:
+            x[:, column] += edge
+        return replace(self.sweep, returns=x, sha256=None, notes=(), path=f"null-like {self.sweep.path}")
 
     def sweeps(self, chunk: int = GENERATION_GROUP) -> Iterator[Sweep]:
         """Yield the null sweeps as Sweeps with the real sweep's labels, parameters and periods."""
-        for x in self.arrays(chunk):
-            yield replace(self.sweep, returns=x, sha256=None, notes=(), path=f"null-like {self.sweep.path}")
+        for row in self.rows(chunk):
+            yield self.sweep_at(row)
 
 
 def null_like(
@@ -432,8 +449,10 @@ def calibrate_sweep(
     total = count * (2 if edge > 0 else 1)
     executor = executor_for(scheduler, workers)
     try:
+        # Each task names its sweep by its windows; the real sweep travels to each worker once.
         null = _run_audits(
-            nulls.sweeps(), count=count, audit_seeds=seeds, settings=settings, policy=policy, planted=None,
+            ((rows, None, 0.0) for rows in nulls.rows()), count=count, audit_seeds=seeds, settings=settings,
+            policy=policy, planted=None, shared=nulls,
             seed=seed, progress=(lambda done: progress(done, total)) if progress else None, executor=executor,
         )
         power = per_window = None
@@ -441,7 +460,8 @@ def calibrate_sweep(
             sd = float(nulls.centred[:, k].std(ddof=1))
             per_window = per_window_edge(float(edge), float(sweep.periods_per_year), sd) if sd > 0 else 0.0
             power = _run_audits(
-                _edged(nulls, k, per_window), count=count, audit_seeds=seeds, settings=settings, policy=policy,
+                ((rows, k, per_window) for rows in nulls.rows()), count=count, audit_seeds=seeds,
+                settings=settings, policy=policy, shared=nulls,
                 planted=[k], seed=seed, progress=(lambda done: progress(count + done, total)) if progress else None,
                 executor=executor,
             )
@@ -468,11 +488,3 @@ def _check_calibration(sweep: Sweep, sweeps: int, edge: float, seed: int) -> tup
             "to 0 to skip power"
         )
     return count, validate.whole_number(seed, "seed", minimum=0)
-
-
-def _edged(nulls: NullSweeps, column: int, per_window: float) -> Iterator[Sweep]:
-    """The null sweeps with the edge added to one configuration (common random numbers)."""
-    for s in nulls.sweeps():
-        x = np.array(s.returns)
-        x[:, column] += per_window
-        yield replace(s, returns=x)

@@ -104,9 +104,21 @@ class DaskCluster:
     def workers(self) -> int:
         return max(1, len(self.client.scheduler_info()["workers"]))
 
-    def each(self, function: Callable[[Any], Any], items) -> Iterator[Any]:
-        """``function(item)`` for every item on the workers, in order, a few items per worker in flight."""
-        return self._ordered(((function, item) for item in items), lambda f, item: self.client.submit(f, item, pure=False))
+    def each(self, function: Callable[..., Any], items, shared: Any = None) -> Iterator[Any]:
+        """``function(item)`` for every item on the workers, in order, a few items per worker in flight;
+        with ``shared``, ``function(item, shared)``, the shared object sent to every worker once."""
+        if shared is None:
+            yield from self._ordered(((function, item) for item in items),
+                                     lambda f, item: self.client.submit(f, item, pure=False))
+            return
+        # A key of its own (hash=False): a second scatter of equal data must not share, and then
+        # release, the first one's key. Held here until the last item is done.
+        kept = self.client.scatter(shared, broadcast=True, hash=False)
+        try:
+            yield from self._ordered(((function, item) for item in items),
+                                     lambda f, item: self.client.submit(f, item, kept, pure=False))
+        finally:
+            kept.release()
 
     def _ordered(self, work, submit_one) -> Iterator[Any]:
         """Results of ``submit_one(*piece)`` for every piece of ``work``, in order, with a bounded

@@ -121,11 +121,11 @@ class InProcess:
         table = self._table
         return table if table is not None and table.resamples == resamples and resamples.seed is not None else None
 
-    def each(self, function: Callable[[Any], Any], items) -> Iterator[Any]:
+    def each(self, function: Callable[..., Any], items, shared: Any = None) -> Iterator[Any]:
         """``function(item)`` for every item, in order (for independent work such as the audits of
-        a calibration)."""
+        a calibration); with ``shared``, ``function(item, shared)``."""
         for item in items:
-            yield function(item)
+            yield function(item) if shared is None else function(item, shared)
 
     def close(self) -> None:
         self._table = None
