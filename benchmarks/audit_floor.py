@@ -24,7 +24,6 @@ with another checkout's ``src`` first on ``PYTHONPATH``, interleaved with this o
 from __future__ import annotations
 
 import argparse
-import multiprocessing
 import os
 import re
 import shutil
@@ -37,6 +36,7 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
+from timing import busy_loops
 
 SRC = Path(__file__).resolve().parents[1] / "src"
 
@@ -94,11 +94,6 @@ def in_process_seconds(csv: Path, resamples: int) -> float:
     return time.perf_counter() - start
 
 
-def _busy(stop_at: float) -> None:
-    while time.time() < stop_at:
-        pass
-
-
 def measure(csv: Path, tmp: Path, args, label: str) -> list[tuple]:
     rows = []
     floors, commands, peaks, inner, references = [], [], [], [], []
@@ -143,17 +138,8 @@ def main() -> None:
               f"{os.cpu_count()} cores; median of {args.runs} runs")
         rows = measure(csv, tmp, args, "as found")
         if args.busy:
-            stop_at = time.time() + 3600
-            loops = [multiprocessing.Process(target=_busy, args=(stop_at,)) for _ in range(args.busy)]
-            for p in loops:
-                p.start()
-            try:
-                time.sleep(20)  # let the one-minute load average see them
+            with busy_loops(args.busy):
                 rows += measure(csv, tmp, args, f"+{args.busy} busy loops")
-            finally:
-                for p in loops:
-                    p.terminate()
-                    p.join()
     print("| load | what | median seconds | ratio to floor | peak MB | load average |")
     print("|---|---|---|---|---|---|")
     for label, what, seconds, ratio, peak, load in rows:
