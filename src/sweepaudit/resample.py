@@ -497,8 +497,8 @@ def _in_threads(product, chunks: Iterable[np.ndarray], threads: int, progress) -
 def moment_chunk(windows: int) -> int:
     """Resamples per ``weights @ returns`` product: about 32 MB of weights, 256 to 4,096 rows.
 
-    A memory knob only (the engine's figures do not depend on it), but products of 256 rows run
-    about half as fast as products of 2,048 rows with OpenBLAS at T = 2,000 (measured; see
+    A memory knob only (the engine's figures do not depend on it), but OpenBLAS runs products of a
+    few hundred rows markedly slower per row than products of 2,048 rows at T = 2,000 (see
     ``docs/snooping_performance.md``).
     """
     rows = (2**22 // max(int(windows), 1)) // 256 * 256

@@ -3,8 +3,9 @@
 Only the ``weights @ returns`` products gain from a second core. Every other BLAS call of an audit
 (small products, the eigenvalues of the effective-trials step, least squares) runs on one thread:
 OpenBLAS threads spin while they wait for a core, so on a busy machine a multi-threaded small call
-can run tens of times slower than a single-threaded one (measured: the eigenvalue step 40-75x
-slower at a load of 4 on two cores; see ``docs/performance.md``).
+can run tens of times slower than a single-threaded one (measured: the effective-trials eigenvalue
+step of 1,000 configurations 4.5 s on two threads against 0.47 s on one with 4 busy loops on two
+cores, ``benchmarks/blas_threads_load.py``; see ``docs/performance.md``).
 
 The products get ``free_cores()`` threads: the cores this process may run on
 (``os.sched_getaffinity``) less the load the rest of the machine puts on them (the one-minute load
