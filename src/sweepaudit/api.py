@@ -22,6 +22,7 @@ from .gate import counted_trials
 from .policy import DEFAULT_POLICY, Policy
 from .read import LoadOptions, load_sweep
 from .results import AuditResult, AuditSettings, BaselineComparison, Evidence, Inspection, Verdict
+from .sensitivity import what_would_change
 from .sweep import Sweep
 from .verdict import decide
 
@@ -46,6 +47,7 @@ def audit(
     progress: Callable[[int, int], None] | None = None,
     memory_budget: int | None = None,
     publish: Publish | None = None,
+    sensitivity: bool = True,
     **input_options: Any,
 ) -> AuditResult:
     """Audit a sweep: resample once, run every method once, decide the verdict once.
@@ -88,6 +90,9 @@ def audit(
         (an output that fails leaves the ledger unchanged), a failing append reaches the outputs
         (which can roll back), and a failure on leaving (the terminal output) takes the record
         back.
+    sensitivity : bool
+        Re-decide the verdict under each reasonable alternative choice (:mod:`sweepaudit.sensitivity`,
+        the ``sensitivity`` block and ``result.sensitivity``); False skips it.
 
     Returns
     -------
@@ -105,11 +110,12 @@ def audit(
             memory_budget=memory_budget,
         )
         verdict, comparison = _judge(evidence, policy, baseline, baseline_path)
+        what_if = what_would_change(evidence, verdict, baseline=comparison) if sensitivity else None
         document = audit_document(
             evidence, verdict, command=command(evidence) if callable(command) else command,
-            policy_source=policy_source, baseline=comparison, ledger=count.block(),
+            policy_source=policy_source, baseline=comparison, ledger=count.block(), sensitivity=what_if,
         )
-        result = AuditResult(evidence, verdict, document, figure_material(evidence), comparison)
+        result = AuditResult(evidence, verdict, document, figure_material(evidence), comparison, what_if)
         try:
             with publish(result) if publish is not None else nullcontext():
                 count.record(sweep, selected=evidence.selected, verdict=verdict.decision)

@@ -1,9 +1,33 @@
-"""The one number formatter: every number sweepaudit writes as text goes through one of these styles.
+"""The one number formatter: every number sweepaudit writes as text goes through this module.
 
 The verdict's reasons, the terminal, the JUnit file, the calibration output, the report and its
-figures each use the style below that names their convention; no module formats numbers its own
-way. Each style keeps the exact strings the output has always had (the JSON's reasons and the
-example reports depend on them).
+figures all use these styles, so one figure reads the same wherever it appears:
+
+========================  ==============================================  =========================
+style                     rule                                            examples
+========================  ==============================================  =========================
+:func:`number`            4 significant digits, positional; whole numbers  ``0.3812``, ``2.75``,
+                          of 10,000 and more with separators               ``12,870``
+:func:`whole`             a count, with thousands separators              ``1,000``
+:func:`percent`           a return (a fraction) as a percentage,          ``0.256%``, ``-4.25%``
+                          3 significant digits
+:func:`probability`       3 fixed decimals; ``< 0.001`` and ``> 0.999``   ``0.992``, ``0.200``
+                          for what would round to 0 or 1
+:func:`pvalue`            4 fixed decimals; the resampling floor          ``0.0123``, ``< 0.001``,
+                          ``1/(B + 1)`` and anything below 0.0001 as       ``< 0.0001``
+                          ``< ...``
+:func:`interval`          an estimate and its interval with one number    ``0.256% [-0.082%, 0.585%]``
+                          of decimals (3 significant digits of the
+                          largest), percent for returns
+:func:`level`             a confidence or significance level              ``95%``, ``97.5%``
+:func:`rate`              a Monte Carlo rate and its standard error       ``4.0% ± 1.4%``
+========================  ==============================================  =========================
+
+Common to all: a missing or non-finite figure is ``n/a``; a zero is never written ``-0``;
+scientific notation only outside the ordinary range (below one millionth, or 10^15 and beyond).
+:func:`figure` picks the style of a value of unknown kind (a parameter value, a count, a flag).
+The older names (``sig``, ``fmt``, ``prob``, ``pct``, ``pct_fixed``, ``xml_number``) are kept as
+the same styles under the names other modules already import.
 """
 
 from __future__ import annotations
@@ -13,70 +37,242 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["sig", "fmt", "figure", "prob", "pct", "pct_fixed", "level", "xml_number", "rate"]
+__all__ = [
+    "MISSING",
+    "number",
+    "whole",
+    "percent",
+    "probability",
+    "pvalue",
+    "pvalue_floor",
+    "interval",
+    "level",
+    "rate",
+    "figure",
+    "styled",
+    "STYLES",
+    # the same styles under their earlier names
+    "sig",
+    "fmt",
+    "prob",
+    "pct",
+    "pct_fixed",
+    "xml_number",
+]
+
+#: What a figure that could not be computed reads as, in every output.
+MISSING = "n/a"
+
+# Below this magnitude (and at 10^15 and beyond) positional notation stops being readable.
+_TINY = 1e-6
+_HUGE = 1e15
 
 
-def sig(x: float, digits: int = 4) -> str:
-    """Significant digits and nothing else: the verdict's reasons (``0.0123``, ``1.5e-07``)."""
-    return f"{x:.{digits}g}"
+def _finite(x: Any) -> float | None:
+    """``x`` as a float, or None when absent or not finite."""
+    if x is None or isinstance(x, (bool, np.bool_)):
+        return None
+    try:
+        f = float(x)
+    except (TypeError, ValueError):
+        return None
+    return f if math.isfinite(f) else None
 
 
-def fmt(x: Any, digits: int = 4) -> str:
-    """A terminal figure: ``-`` when it could not be computed, whole numbers with separators."""
-    if x is None:
-        return "-"
-    if isinstance(x, int):
-        return f"{x:,}"
-    return sig(x, digits)
+def _unsigned_zero(text: str) -> str:
+    """``-0``, ``-0.000`` and ``-0.0%`` lose their sign: a zero has none."""
+    if text.startswith("-") and not any(ch in "123456789" for ch in text):
+        return text[1:]
+    return text
 
 
-def figure(value: Any, digits: int = 4) -> str:
-    """A report figure: 4 significant digits; whole numbers with thousands separators.
+def _decimals(magnitude: float, digits: int) -> int:
+    """Decimals that give ``digits`` significant digits to a number of this magnitude (>= 0)."""
+    if magnitude == 0:
+        return 0
+    return max(0, digits - 1 - math.floor(math.log10(magnitude)))
 
-    ``None`` and non-finite values (a figure the audit could not compute) become "n/a"; booleans
-    become "yes" / "no"; zero is "0".
-    """
-    if value is None:
-        return "n/a"
-    if isinstance(value, (bool, np.bool_)):
-        return "yes" if value else "no"
-    if isinstance(value, (int, np.integer)):
-        return f"{int(value):,}"
-    x = float(value)
-    if not math.isfinite(x):
-        return "n/a"
+
+def _fixed(x: float, decimals: int) -> str:
+    return _unsigned_zero(f"{x:,.{decimals}f}")
+
+
+def _significant(x: float, digits: int) -> str:
+    """``digits`` significant digits in positional notation, trailing zeros dropped."""
     if x == 0:
         return "0"
-    return sig(x, digits)
+    a = abs(x)
+    if a < _TINY or a >= _HUGE:
+        return _unsigned_zero(f"{x:.{digits}g}")
+    decimals = _decimals(a, digits)
+    text = f"{x:,.{decimals}f}"
+    # rounding may add a digit (9.9996 -> 10.000): recount on the rounded value
+    rounded = abs(float(text.replace(",", "")))
+    if rounded and _decimals(rounded, digits) < decimals:
+        text = f"{x:,.{_decimals(rounded, digits)}f}"
+    if "." in text:
+        text = text.rstrip("0").rstrip(".")
+    return _unsigned_zero(text)
 
 
-def prob(x: float | None) -> str:
-    """A probability or p-value, four decimals; ``-`` when absent."""
-    return "-" if x is None else f"{x:.4f}"
+def number(x: Any, digits: int = 4) -> str:
+    """A statistic (Sharpe ratio, t-statistic, slope, windows): ``digits`` significant digits.
+
+    Whole-valued magnitudes of 10^digits and more are written whole with separators (``12,870``).
+    """
+    f = _finite(x)
+    if f is None:
+        return MISSING
+    if abs(f) >= 10**digits and abs(f) < _HUGE:
+        return _fixed(f, 0)
+    return _significant(f, digits)
 
 
-def pct(x: float | None, digits: int = 3, *, missing: str = "-") -> str:
-    """A fraction as a percentage with significant digits (``0.0123`` -> ``1.23%``)."""
-    return missing if x is None else f"{100 * float(x):.{digits}g}%"
+def whole(n: Any) -> str:
+    """A count with thousands separators (``1,000``)."""
+    f = _finite(n)
+    return MISSING if f is None else _fixed(round(f), 0)
 
 
-def pct_fixed(x: float, decimals: int = 1) -> str:
-    """A fraction as a percentage with fixed decimals (``0.0412`` -> ``4.1%``)."""
-    return f"{100 * x:.{decimals}f}%"
+def percent(x: Any, digits: int = 3) -> str:
+    """A return or any other fraction as a percentage, ``digits`` significant digits (``0.0123`` -> ``1.23%``)."""
+    f = _finite(x)
+    if f is None:
+        return MISSING
+    return number(100 * f, digits) + "%"
 
 
-def level(x: float) -> str:
+def probability(x: Any) -> str:
+    """A probability, three fixed decimals; ``< 0.001`` / ``> 0.999`` when it would round to 0 or 1."""
+    f = _finite(x)
+    if f is None:
+        return MISSING
+    if 0 < f < 0.0005:
+        return "< 0.001"
+    if 0.9995 <= f < 1:
+        return "> 0.999"
+    return _fixed(f, 3)
+
+
+def pvalue_floor(resamples: Any) -> float | None:
+    """The smallest p-value ``resamples`` resamples can give: ``1/(B + 1)`` (the observed statistic counts)."""
+    f = _finite(resamples)
+    return None if f is None or f < 1 else 1.0 / (f + 1.0)
+
+
+def pvalue(x: Any, floor: float | None = None) -> str:
+    """A p-value, four fixed decimals.
+
+    At the resampling floor ``1/(B + 1)`` (``floor``) the p-value is only known to be at most that,
+    so it reads ``< 0.001`` (the floor rounded up to a power of ten); below 0.0001 it reads
+    ``< 0.0001``.
+    """
+    f = _finite(x)
+    if f is None:
+        return MISSING
+    if floor is not None and floor > 0 and f <= floor * (1 + 1e-9):
+        bound = 10.0 ** math.ceil(math.log10(floor) + 1e-12)
+        return f"< {_fixed(bound, max(0, -round(math.log10(bound))))}"
+    if f < 0.0001:
+        return "< 0.0001"
+    return _fixed(f, 4)
+
+
+def interval(estimate: Any, low: Any, high: Any, *, as_percent: bool = False, digits: int = 3) -> str:
+    """An estimate and its interval, ``est [low, high]``, all with the same decimals.
+
+    The decimals give ``digits`` significant digits to the largest of the three in magnitude, so
+    the three line up (``13.3% [-4.3%, 30.4%]``, ``0.132 [-0.021, 0.306]``); percent for returns.
+    """
+    values = [_finite(v) for v in (estimate, low, high)]
+    scale = 100.0 if as_percent else 1.0
+    present = [abs(v * scale) for v in values if v is not None]
+    if not present:
+        return MISSING
+    decimals = min(_decimals(max(present), digits), 8)
+    unit = "%" if as_percent else ""
+
+    def one(v: float | None) -> str:
+        return MISSING if v is None else _fixed(v * scale, decimals) + unit
+
+    e, lo, hi = (one(v) for v in values)
+    return f"{e} [{lo}, {hi}]"
+
+
+def level(x: Any) -> str:
     """A confidence or significance level as a percentage, as short as exact (``0.95`` -> ``95%``)."""
-    return f"{100 * x:g}%"
+    f = _finite(x)
+    return MISSING if f is None else f"{_significant(100 * f, 6)}%"
 
 
-def xml_number(x: Any) -> str:
-    """A check's value or threshold in JUnit text: ``null`` when absent, floats to 6 digits."""
-    return "null" if x is None else f"{x:.6g}" if isinstance(x, float) else str(x)
+def pct_fixed(x: Any, decimals: int = 1) -> str:
+    """A fraction as a percentage with fixed decimals (``0.0412`` -> ``4.1%``): Monte Carlo rates."""
+    f = _finite(x)
+    return MISSING if f is None else _fixed(100 * f, decimals) + "%"
 
 
 def rate(value: float | None, standard_error: float | None) -> str:
     """A Monte Carlo rate with its standard error, one decimal (``4.0% ± 1.4%``); ``n/a`` when absent."""
-    if value is None or standard_error is None:
-        return "n/a"
+    if _finite(value) is None or _finite(standard_error) is None:
+        return MISSING
     return f"{pct_fixed(value)} ± {pct_fixed(standard_error)}"
+
+
+def figure(value: Any, digits: int = 4) -> str:
+    """A value of unknown kind: flags as yes / no, counts whole, numbers as :func:`number`, text as is."""
+    if value is None:
+        return MISSING
+    if isinstance(value, (bool, np.bool_)):
+        return "yes" if value else "no"
+    if isinstance(value, (int, np.integer)):
+        return whole(value)
+    if isinstance(value, str):
+        return value
+    return number(value, digits)
+
+
+#: The styles a document names (a check's ``value_kind``) and the function that writes each.
+STYLES = {
+    "count": whole,
+    "windows": number,
+    "return": percent,
+    "probability": probability,
+    "pvalue": pvalue,
+    "statistic": number,
+}
+
+
+def styled(value: Any, kind: str, *, floor: float | None = None) -> str:
+    """``value`` in the style of ``kind`` (a key of :data:`STYLES`); p-values take their floor."""
+    if kind == "pvalue":
+        return pvalue(value, floor)
+    return STYLES.get(kind, figure)(value)
+
+
+# ---------------------------------------------------------------------------------------------
+# the same styles under the names earlier code imports
+
+
+def sig(x: Any, digits: int = 4) -> str:
+    """:func:`number` (significant digits, positional)."""
+    return number(x, digits)
+
+
+def fmt(x: Any, digits: int = 4) -> str:
+    """:func:`figure`: counts whole, numbers to ``digits`` significant digits."""
+    return figure(x, digits)
+
+
+def prob(x: Any) -> str:
+    """:func:`probability`."""
+    return probability(x)
+
+
+def pct(x: Any, digits: int = 3, *, missing: str = MISSING) -> str:
+    """:func:`percent`; ``missing`` replaces ``n/a`` where a caller needs another mark."""
+    return missing if _finite(x) is None else percent(x, digits)
+
+
+def xml_number(x: Any) -> str:
+    """A figure in JUnit text: :func:`figure`."""
+    return figure(x)

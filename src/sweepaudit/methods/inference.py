@@ -182,10 +182,12 @@ def _track_record(
     return track, None if periods is None else track / periods
 
 
-def _deflation(array: np.ndarray, sharpes: np.ndarray, declared: int, method: EffectiveTrialsMethod, trial_ratio: float):
+def _deflation(array: np.ndarray, sharpes: np.ndarray, declared: int, method: EffectiveTrialsMethod, trial_ratio: float,
+               detail: EffectiveTrials | None = None):
     """Effective trials, the trial Sharpe variance of each mode and the trial count of each choice."""
     n = array.shape[1]
-    detail: EffectiveTrials = effective_trials(array)
+    if detail is None:
+        detail = effective_trials(array)
     effective = detail.value(method) + (declared - n)
     variances: dict[str, float] = {"null": trial_sharpe_variance(array, mode="null", long_run_ratio=trial_ratio)}
     if n >= 2:
@@ -209,6 +211,7 @@ def sharpe_inference(
     sharpe_variance: SharpeVariance = "long-run",
     long_run: LongRunVariance | None = None,
     significance: float = 0.05,
+    effective: EffectiveTrials | None = None,
 ) -> SharpeInference:
     """Probabilistic and deflated Sharpe ratios of the selected configuration of a sweep.
 
@@ -246,6 +249,10 @@ def sharpe_inference(
     significance : float
         alpha of :func:`~sweepaudit.methods.deflation.calibrated_level`, the deflated probability
         that makes "DSR >= level" a familywise test of size alpha for the trials counted.
+    effective : EffectiveTrials, optional
+        Precomputed :func:`~sweepaudit.methods.deflation.effective_trials` of ``returns`` (the
+        eigenvalues of an N x N correlation matrix: the costly part, shared when the same audit is
+        read under other choices); computed here when absent.
 
     Returns
     -------
@@ -263,7 +270,10 @@ def sharpe_inference(
         raise InputError("variance_mode='empirical' needs at least 2 configurations; got 1")
     alpha = validate.probability(significance, "significance")
     scale = _scale(array, long_run, chosen.sharpe_variance, index)
-    return _infer(array, index, declared, periods, chosen, scale, benchmark=benchmark, confidence=confidence, alpha=alpha)
+    if effective is not None and effective.configurations != n:
+        raise InputError(f"effective must come from the same {n} configurations; got {effective.configurations}")
+    return _infer(array, index, declared, periods, chosen, scale, benchmark=benchmark, confidence=confidence,
+                  alpha=alpha, effective=effective)
 
 
 def _scale(array: np.ndarray, long_run: LongRunVariance | None, mode: SharpeVariance, index: int) -> _Scale:
@@ -279,7 +289,8 @@ def _scale(array: np.ndarray, long_run: LongRunVariance | None, mode: SharpeVari
     return _Scale(float(ratio[index]), float(np.median(ratio))) if mode == "long-run" else _Scale(1.0, 1.0)
 
 
-def _infer(array, index, declared, periods, chosen: _Choices, scale: _Scale, *, benchmark, confidence, alpha) -> SharpeInference:
+def _infer(array, index, declared, periods, chosen: _Choices, scale: _Scale, *, benchmark, confidence, alpha,
+           effective: EffectiveTrials | None = None) -> SharpeInference:
     """The inference on validated inputs (see :func:`sharpe_inference`)."""
     windows = array.shape[0]
     moments = return_moments(array)
@@ -297,7 +308,7 @@ def _infer(array, index, declared, periods, chosen: _Choices, scale: _Scale, *, 
         )
     factor = square_root_factor if chosen.annualization == "square_root" else serial_factor
     detail, effective, variances, counts = _deflation(
-        array, sharpes, declared, chosen.effective_trials_method, scale.trial
+        array, sharpes, declared, chosen.effective_trials_method, scale.trial, effective
     )
     variants = _variants(observed, windows, skewness, kurtosis, variances, counts, scale.selected)
     headline = next(v.result for v in variants if (v.variance_mode, v.expected_maximum, v.trial_count)
