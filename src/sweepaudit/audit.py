@@ -19,6 +19,7 @@ from . import validate
 from .engine import moments_and_intervals
 from .errors import SweepAuditWarning
 from .errors import InputError
+from .format import number, percent
 from .methods.bootstrap_ci import at_level, bootstrap_intervals
 from .methods.cscv import cscv
 from .methods.deflation import deflated_by_trials
@@ -343,7 +344,7 @@ def _notes(
     if snooping is not None and selected not in snooping.gating_stepm.significant:
         notes.append(
             f"the selected configuration {sweep.configurations[selected]!r} is not among the "
-            f"configurations StepM finds beating the benchmark at the {policy.significance:g} level"
+            f"configurations StepM finds beating the benchmark at the {number(policy.significance)} level"
         )
     if intervals.degenerate_resamples:
         notes.append(
@@ -352,7 +353,7 @@ def _notes(
         )
     if share_low < 0.8:
         notes.append(
-            f"the resamples reproduce only {share_low:.0%} of the long-run variance for a tenth of the "
+            f"the resamples reproduce only {percent(share_low, 2)} of the long-run variance for a tenth of the "
             "configurations: their bootstrap intervals may be too narrow (the studentized tests and the Sharpe "
             "inference use the long-run variance and are not affected); consider a longer --block-length"
         )

@@ -6,8 +6,9 @@ figures all use these styles, so one figure reads the same wherever it appears:
 ========================  ==============================================  =========================
 style                     rule                                            examples
 ========================  ==============================================  =========================
-:func:`number`            4 significant digits, positional; whole numbers  ``0.3812``, ``2.75``,
-                          of 10,000 and more with separators               ``12,870``
+:func:`number`            4 significant digits (3 for Sharpe ratios and    ``0.3812``, ``2.75``,
+                          test statistics), positional; whole numbers of   ``12,870``
+                          10,000 and more with separators
 :func:`whole`             a count, with thousands separators              ``1,000``
 :func:`percent`           a return (a fraction) as a percentage,          ``0.256%``, ``-4.25%``
                           3 significant digits
@@ -16,9 +17,9 @@ style                     rule                                            exampl
 :func:`pvalue`            4 fixed decimals; the resampling floor          ``0.0123``, ``< 0.001``,
                           ``1/(B + 1)`` and anything below 0.0001 as       ``< 0.0001``
                           ``< ...``
-:func:`interval`          an estimate and its interval with one number    ``0.256% [-0.082%, 0.585%]``
-                          of decimals (3 significant digits of the
-                          largest), percent for returns
+:func:`interval`          an estimate and its interval, each to 3          ``0.256% [-0.0818%, 0.585%]``
+                          significant digits as it reads alone, percent
+                          for returns
 :func:`level`             a confidence or significance level              ``95%``, ``97.5%``
 :func:`rate`              a Monte Carlo rate and its standard error       ``4.0% ± 1.4%``
 ========================  ==============================================  =========================
@@ -179,24 +180,16 @@ def pvalue(x: Any, floor: float | None = None) -> str:
 
 
 def interval(estimate: Any, low: Any, high: Any, *, as_percent: bool = False, digits: int = 3) -> str:
-    """An estimate and its interval, ``est [low, high]``, all with the same decimals.
+    """An estimate and its interval, ``est [low, high]``, each to ``digits`` significant digits.
 
-    The decimals give ``digits`` significant digits to the largest of the three in magnitude, so
-    the three line up (``13.3% [-4.3%, 30.4%]``, ``0.132 [-0.021, 0.306]``); percent for returns.
+    Each number reads exactly as it does alone (:func:`number` or, for returns, :func:`percent`),
+    so an interval's bound and the same figure quoted in a sentence never disagree:
+    ``0.256% [-0.0818%, 0.585%]``, ``0.132 [-0.0205, 0.306]``.
     """
-    values = [_finite(v) for v in (estimate, low, high)]
-    scale = 100.0 if as_percent else 1.0
-    present = [abs(v * scale) for v in values if v is not None]
-    if not present:
+    one = (lambda v: percent(v, digits)) if as_percent else (lambda v: number(v, digits))
+    if all(_finite(v) is None for v in (estimate, low, high)):
         return MISSING
-    decimals = min(_decimals(max(present), digits), 8)
-    unit = "%" if as_percent else ""
-
-    def one(v: float | None) -> str:
-        return MISSING if v is None else _fixed(v * scale, decimals) + unit
-
-    e, lo, hi = (one(v) for v in values)
-    return f"{e} [{lo}, {hi}]"
+    return f"{one(estimate)} [{one(low)}, {one(high)}]"
 
 
 def level(x: Any) -> str:
@@ -238,14 +231,17 @@ STYLES = {
     "return": percent,
     "probability": probability,
     "pvalue": pvalue,
-    "statistic": number,
+    "statistic": lambda x: number(x, 3),
 }
 
 
-def styled(value: Any, kind: str, *, floor: float | None = None) -> str:
-    """``value`` in the style of ``kind`` (a key of :data:`STYLES`); p-values take their floor."""
+def styled(value: Any, kind: str, *, floor: float | None = None, threshold: bool = False) -> str:
+    """``value`` in the style of ``kind`` (a key of :data:`STYLES`); p-values take their floor.
+
+    A ``threshold`` of a p-value is a significance level, written as a plain number (``0.05``).
+    """
     if kind == "pvalue":
-        return pvalue(value, floor)
+        return number(value) if threshold else pvalue(value, floor)
     return STYLES.get(kind, figure)(value)
 
 

@@ -1550,7 +1550,7 @@ class SweepCalibration:
         Audits of the same null sweeps with the edge planted in ``configuration``; None when the
         edge is 0.
     edge_annual_sharpe : float
-        The planted edge as an annualised Sharpe ratio.
+        The planted edge as an annualized Sharpe ratio.
     edge_per_window : float or None
         The per-window mean added: edge / sqrt(periods per year) * sd of the configuration.
     null_block_length : float

@@ -87,9 +87,9 @@ def _policy_choice(id: str, question: str, key: str, words: dict[str, str], reac
 
 def _bar_words(e: Evidence, setting: str) -> str:
     if setting == "fixed":
-        return f"the fixed level {probability(e.policy.min_deflated_probability)} of the deflated Sharpe paper"
+        return f"fixed level {probability(e.policy.min_deflated_probability)}, as in the paper"
     level = e.sharpe.deflated_level if e.sharpe is not None else None
-    return f"the calibrated level ({probability(level)} here), a test of size {number(e.policy.significance)}"
+    return f"calibrated level ({probability(level)}), a test of size {number(e.policy.significance)}"
 
 
 def _interval_others(e: Evidence) -> tuple[str, ...]:
@@ -97,12 +97,10 @@ def _interval_others(e: Evidence) -> tuple[str, ...]:
     return ("percentile",) if e.intervals.method == "studentized" else ("studentized",)
 
 
-_INTERVAL_WORDS = {"studentized": "studentized (the bootstrap's shape, the long-run variance's width)",
-                   "percentile": "percentile (read off the resampled means)",
-                   "basic": "basic (the resampled means reflected about the estimate)"}
+_INTERVAL_WORDS = {"studentized": "studentized (bootstrap-t)", "percentile": "percentile",
+                   "basic": "basic"}
 
-_BOOTSTRAP_WORDS = {"stationary": "the stationary bootstrap", "circular": "the circular block bootstrap",
-                    "moving-block": "the moving-block bootstrap"}
+_BOOTSTRAP_WORDS = {"stationary": "stationary", "circular": "circular block", "moving-block": "moving-block"}
 
 
 def _block_lengths(e: Evidence) -> dict[str, float]:
@@ -117,9 +115,9 @@ def _block_lengths(e: Evidence) -> dict[str, float]:
 def _block_words(e: Evidence, setting: str) -> str:
     lengths = _block_lengths(e)
     if setting in lengths:
-        return f"{setting}, {number(lengths[setting], 3)} windows"
-    how = "chosen automatically" if e.settings.block_length is None else "as given"
-    return f"{number(e.resamples.block_length, 3)} windows, {how}"
+        return f"{setting}: {number(lengths[setting], 3)} windows"
+    how = "automatic" if e.settings.block_length is None else "as given"
+    return f"{number(e.resamples.block_length, 3)} windows ({how})"
 
 
 def _bootstrap_change(e: Evidence, kind: str) -> Change:
@@ -132,51 +130,48 @@ def _bootstrap_change(e: Evidence, kind: str) -> Change:
 
 CHOICES: tuple[Choice, ...] = (
     _policy_choice(
-        "trial_variance", "the trial Sharpe variance of the deflation", "deflation_variance",
-        {"null": "the no-edge sampling variance of one Sharpe ratio",
-         "empirical": "the spread of the configurations' Sharpe ratios"},
+        "trial_variance", "trial Sharpe variance of the deflation", "deflation_variance",
+        {"null": "no-edge sampling variance", "empirical": "spread of the configurations' Sharpe ratios"},
         ("deflated_sharpe",), "nothing: every variant of the deflated Sharpe ratio is part of the audit", "sharpe",
         others=lambda e: ("null", "empirical") if e.sweep.n_configurations >= 2 else ("null",)),
     _policy_choice(
-        "trial_count", "the trials the deflation counts", "deflation_trials",
-        {"declared": "the declared trials", "effective": "the effective (independent) trials"},
+        "trial_count", "trials the deflation counts", "deflation_trials",
+        {"declared": "declared trials", "effective": "effective (independent) trials"},
         ("deflated_sharpe",), "nothing: every variant of the deflated Sharpe ratio is part of the audit", "sharpe"),
     Choice(
-        "deflated_bar", "the deflated Sharpe check's bar", ("deflated_sharpe",),
+        "deflated_bar", "deflated Sharpe check's bar", ("deflated_sharpe",),
         current=lambda e: e.policy.deflation_threshold,
         alternatives=lambda e: tuple(v for v in ("calibrated", "fixed") if v != e.policy.deflation_threshold),
         change=lambda e, v: (e.policy.replace(deflation_threshold=v), None),
         words=_bar_words, recomputed="nothing: the same figure held to another bar", needs="sharpe"),
     _policy_choice(
-        "sharpe_variance", "the Sharpe ratio's standard error", "sharpe_variance",
-        {"long-run": "the long-run variance (serial dependence counted)", "iid": "the iid formula as published"},
+        "sharpe_variance", "Sharpe ratio's standard error", "sharpe_variance",
+        {"long-run": "long-run variance (serial dependence counted)", "iid": "iid formula as published"},
         ("deflated_sharpe", "track_record"), "the Sharpe inference, on the audit's long-run variance", "sharpe"),
     _policy_choice(
-        "cscv_statistic", "the statistic CSCV ranks the configurations by", "overfitting_statistic",
-        {"sharpe": "the Sharpe ratio", "mean": "the mean excess return"},
+        "cscv_statistic", "statistic CSCV ranks by", "overfitting_statistic",
+        {"sharpe": "Sharpe ratio", "mean": "mean excess return"},
         ("overfitting",), "CSCV, on the same windows", "overfitting"),
     _policy_choice(
-        "snooping_scale", "how the data-snooping tests put configurations on one scale", "snooping_scale",
-        {"long-run": "t-ratios on each configuration's long-run variance",
-         "bootstrap": "each configuration divided by its bootstrap standard deviation",
-         "none": "unscaled means"},
+        "snooping_scale", "scale of the data-snooping tests", "snooping_scale",
+        {"long-run": "long-run t-ratios", "bootstrap": "bootstrap standard deviation", "none": "unscaled means"},
         ("data_snooping", "family_tails"), "nothing: the tests ran under every scale", "snooping"),
     Choice(
-        "interval_method", "the interval for the mean excess return", ("mean_interval",),
+        "interval_method", "interval for the mean", ("mean_interval",),
         current=lambda e: e.intervals.method,
         alternatives=_interval_others,
         change=lambda e, v: (None, {"interval_method": v}),
         words=lambda e, v: _INTERVAL_WORDS[v], recomputed="the intervals, from the same resamples"),
     Choice(
-        "bootstrap", "the block bootstrap", ("mean_interval", "data_snooping", "family_tails"),
+        "bootstrap", "block bootstrap", ("mean_interval", "data_snooping", "family_tails"),
         current=lambda e: e.resamples.kind,
         alternatives=lambda e: tuple(k for k in _BOOTSTRAP_WORDS if k != e.resamples.kind),
         change=_bootstrap_change,
-        words=lambda e, v: _BOOTSTRAP_WORDS[v] + (" (its own automatic block length)"
+        words=lambda e, v: _BOOTSTRAP_WORDS[v] + (" (own automatic block length)"
                                                   if e.settings.block_length is None else ""),
         recomputed="new resamples (same seed) and the methods that read them", resampled=True),
     Choice(
-        "block_length", "the block length", ("mean_interval", "data_snooping", "family_tails"),
+        "block_length", "block length", ("mean_interval", "data_snooping", "family_tails"),
         current=lambda e: number(e.resamples.block_length, 3),
         alternatives=lambda e: tuple(_block_lengths(e)),
         change=lambda e, v: (None, {"block_length": _block_lengths(e)[v]}),
@@ -230,7 +225,7 @@ def _control(evidence: Evidence, verdict: Verdict, baseline: BaselineComparison 
     again = decide(reassess(evidence, settings=settings), evidence.policy, baseline)
     count = number(evidence.resamples.count)
     return Alternative(
-        choice="resamples", question="the number of resamples", as_audited=str(evidence.resamples.count),
+        choice="resamples", question="number of resamples", as_audited=str(evidence.resamples.count),
         setting=str(resamples), as_audited_words=f"{count} resamples", setting_words=f"{number(resamples)} resamples",
         recomputed="new resamples (same seed) and the methods that read them", resamples=resamples,
         decision=again.decision, flips=again.decision != verdict.decision,
@@ -250,7 +245,7 @@ def _summary(verdict: Verdict, alternatives: tuple[Alternative, ...], control: A
                  "it sits within Monte Carlo noise of its threshold.")
     if not flips:
         return f"The {word} holds under every one of the {n} alternative choices.{noise}"
-    named = "; ".join(f"{a.question}: {a.setting_words}" for a in flips)
+    named = "; ".join(f"the {a.question}: {a.setting_words}" for a in flips)
     if verdict.decision == "go":
         return (f"The go is fragile: {len(flips)} of the {n} alternative choices turn it into a no-go "
                 f"({named}).{noise}")

@@ -25,7 +25,7 @@ MIN_WINDOWS = 8
 @dataclass(frozen=True)
 class Plausibility:
     """The figures that tell returns from something else: the largest move in one window and the
-    largest annualised volatility (what the ``plausible_returns`` check of the verdict judges).
+    largest annualized volatility (what the ``plausible_returns`` check of the verdict judges).
 
     Attributes
     ----------
@@ -129,7 +129,7 @@ class Sweep:
 
     @cached_property
     def plausibility(self) -> Plausibility:
-        """The largest move in one window and the largest annualised volatility (computed once)."""
+        """The largest move in one window and the largest annualized volatility (computed once)."""
         r = self.returns
         size = np.abs(r)
         t, k = np.unravel_index(int(np.argmax(size)), size.shape)

@@ -1,7 +1,7 @@
 """The selection-adjusted Sharpe inference an audit reports for the configuration it judges.
 
 :func:`sharpe_inference` assembles the estimates of :mod:`sweepaudit.methods.sharpe` (moments,
-standard errors, annualisation, probabilistic Sharpe ratio, minimum track record) and the deflation
+standard errors, annualization, probabilistic Sharpe ratio, minimum track record) and the deflation
 of :mod:`sweepaudit.methods.deflation` (the deflated Sharpe ratio under every combination of
 choices, effective trials) into one :class:`~sweepaudit.results.SharpeInference`.
 
@@ -24,8 +24,8 @@ relies on an estimate from the same data and is only defined for the configurati
 whereas declared trials can include configurations the user tried and dropped. The effective count
 (with undeclared trials added as independent) is reported beside it, and every variant is kept.
 
-*Annualisation.* All inference is per window; ``observed_annualized`` uses ``sqrt(q)`` by default,
-the convention the rest of the report's annualised figures use, and Lo's ``eta(q)`` is reported in
+*Annualization.* All inference is per window; ``observed_annualized`` uses ``sqrt(q)`` by default,
+the convention the rest of the report's annualized figures use, and Lo's ``eta(q)`` is reported in
 ``serial_correlation_factor`` (it needs q - 1 sample autocorrelations, which are noisy for daily
 data).
 
@@ -131,7 +131,7 @@ def _serial_factor(series: np.ndarray, periods: float | None, notes: list[str]) 
     """Lo's (2002) eta(q) for the selected series, or None with a note saying why it is absent."""
     windows = series.shape[0]
     if periods is None:
-        notes.append("periods per year unknown: annualised Sharpe ratio and track record in years not shown")
+        notes.append("periods per year unknown: annualized Sharpe ratio and track record in years not shown")
     elif not float(periods).is_integer():
         notes.append(f"periods per year ({periods:g}) is not a whole number: Lo's serial-correlation factor not computed")
     elif windows <= int(periods):
@@ -224,7 +224,7 @@ def sharpe_inference(
     trials : int, optional
         Configurations actually tried, including any not in the file; default N, fewer is an error.
     periods_per_year : float, optional
-        Windows per year, for annualised figures and the track record in years.
+        Windows per year, for annualized figures and the track record in years.
     benchmark, confidence : float
         Per-window Sharpe ratio the PSR and minimum track record test against (default 0), and the
         level of the minimum track record (default 0.95).

@@ -17,7 +17,8 @@ from .model import Figure, Report
 __all__ = ["render_html"]
 
 
-_NUMBER = re.compile(r"^(-?[0-9][0-9,.]*(e[-+][0-9]+)?( \[.*\])?|n/a)$")
+# A cell that is one figure (right-aligned): 0.992, -4.3%, 12,870, < 0.001, 0.132 [-0.021, 0.306], n/a.
+_NUMBER = re.compile(r"^([<>] )?-?[0-9][0-9,.]*(e[-+][0-9]+)?%?( \[[^\]]*\])?$|^n/a$")
 
 
 def _data_uri(fig: Figure) -> str:

@@ -5,7 +5,7 @@ Every function takes the audit JSON document and the raw material it plots
 (SVG bytes with ``svg.fonttype: none``, so text stays text and files stay small; dense point clouds are
 rasterised inside the SVG). Functions whose raw material is absent return None and the report leaves
 the figure out. The numbers come from the document or the material; drawing only transforms them for
-display (percent units, cumulative sums of a return series, histogram bins, annualised axes).
+display (percent units, cumulative sums of a return series, histogram bins, annualized axes).
 
 Figures are readable in grey-scale print: series differ by line style, hatching and marker, not only
 by colour. The palette is our own, restrained: ink, rust, steel and sand.
@@ -80,7 +80,7 @@ _STYLE = {
 }
 
 # Beyond these sizes labels are thinned or cells left unlabelled, so 1,000 configurations stay fast.
-_NAMED_RANKING_LIMIT = 50
+_NAMED_RANKING_LIMIT = 20
 _ANNOTATED_CELLS_LIMIT = 150
 _RASTERISE_POINTS = 1_000
 
@@ -235,7 +235,7 @@ def _dense_ranking(r: _Ranked):
 
 
 def sharpe_ranking(doc: dict, material: FigureMaterial) -> Figure:
-    """Every configuration's Sharpe ratio (annualised when possible) with its interval, sorted."""
+    """Every configuration's Sharpe ratio (annualized when possible) with its interval, sorted."""
     r = _ranked(doc, material)
 
     def draw():
