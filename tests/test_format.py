@@ -44,7 +44,7 @@ def test_a_zero_never_has_a_sign():
 
 @given(st.floats(min_value=-1e14, max_value=1e14, allow_nan=False))
 def test_no_minus_zero_and_no_scientific_notation_in_the_ordinary_range(x):
-    for text in (f.number(x), f.number(x, 3), f.percent(x / 100), f.probability(min(abs(x), 1.0)),
+    for text in (f.number(x), f.statistic(x), f.percent(x / 100), f.probability(min(abs(x), 1.0)),
                  f.pvalue(min(abs(x), 1.0))):
         assert not re.fullmatch(r"-0(\.0*)?%?", text), text
         if abs(x) >= 1e-6 or x == 0:
@@ -75,14 +75,15 @@ def test_p_values_have_four_decimals_and_their_floor():
 def test_an_interval_reads_as_its_figures_alone():
     assert f.interval(0.00256, -0.000818, 0.00585, as_percent=True) == "0.256% [-0.0818%, 0.585%]"
     assert f.interval(0.1316, -0.02052, 0.3058) == "0.132 [-0.0205, 0.306]"
-    assert f.interval(2.749, 1.503, 3.904) == "2.75 [1.5, 3.9]"
-    assert f.interval(0.5, None, 1.0) == "0.5 [n/a, 1]"
+    assert f.interval(2.749, 1.503, 3.904) == "2.75 [1.50, 3.90]"
+    assert f.interval(0.5, None, 1.0) == "0.500 [n/a, 1.00]"
+    assert f.statistic(1.503) == "1.50" and f.statistic(-0.0) == "0" and f.statistic(12870.4) == "12,870"
 
 
 @given(st.tuples(*(st.floats(min_value=-1e6, max_value=1e6, allow_nan=False),) * 3))
 def test_an_interval_is_three_figures_each_as_alone(values):
     e, lo, hi = values
-    assert f.interval(e, lo, hi) == f"{f.number(e, 3)} [{f.number(lo, 3)}, {f.number(hi, 3)}]"
+    assert f.interval(e, lo, hi) == f"{f.statistic(e)} [{f.statistic(lo)}, {f.statistic(hi)}]"
     assert f.interval(e, lo, hi, as_percent=True) == f"{f.percent(e)} [{f.percent(lo)}, {f.percent(hi)}]"
 
 
@@ -99,7 +100,8 @@ def test_a_checks_figure_takes_its_style():
     assert f.styled(1 / 1001, "pvalue", floor=1 / 1001) == "< 0.001"
     assert f.styled(0.05, "pvalue", threshold=True) == "0.05"  # a significance level, not a p-value
     assert f.styled(208.0, "count") == "208" and f.styled(226.33, "windows") == "226.3"
-    assert f.styled(4.4265, "statistic") == "4.43"
+    assert f.styled(4.4265, "statistic") == "4.43" and f.styled(2.7, "statistic") == "2.70"
+    assert f.styled(0.0123456, "number") == "0.01235"
 
 
 def test_the_earlier_names_are_the_same_styles():

@@ -220,8 +220,10 @@ def summary_block(evidence: Evidence, verdict: Verdict) -> dict:
         "sentence": summary(verdict),
         "required": len(required),
         "required_passed": sum(c.passed for c in required),
+        "required_failed": sum(not c.passed for c in required),
         "advisory": len(advisory),
         "advisory_passed": sum(c.passed for c in advisory),
+        "advisory_failed": sum(not c.passed for c in advisory),
         "preliminary": used < final,
         "preliminary_reason": (
             f"{whole(used)} resamples, fewer than the {whole(final)} the policy asks of a final audit: "
@@ -616,6 +618,7 @@ def _sharpe_block(evidence: Evidence) -> dict:
 def _gated_dict(g: GatedMove) -> dict[str, Any]:
     return {
         "key": g.key,
+        "label": g.figure.label,
         "before": g.before,
         "after": g.after,
         "change": g.after - g.before,

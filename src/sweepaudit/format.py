@@ -6,9 +6,10 @@ figures all use these styles, so one figure reads the same wherever it appears:
 ========================  ==============================================  =========================
 style                     rule                                            examples
 ========================  ==============================================  =========================
-:func:`number`            4 significant digits (3 for Sharpe ratios and    ``0.3812``, ``2.75``,
-                          test statistics), positional; whole numbers of   ``12,870``
-                          10,000 and more with separators
+:func:`number`            4 significant digits, positional; whole numbers  ``0.3812``, ``12,870``
+                          of 10,000 and more with separators
+:func:`statistic`         a Sharpe ratio or test statistic: 3 significant  ``0.381``, ``1.50``
+                          digits, trailing zeros kept
 :func:`whole`             a count, with thousands separators              ``1,000``
 :func:`percent`           a return (a fraction) as a percentage,          ``0.256%``, ``-4.25%``
                           3 significant digits
@@ -17,9 +18,8 @@ style                     rule                                            exampl
 :func:`pvalue`            4 fixed decimals; the resampling floor          ``0.0123``, ``< 0.001``,
                           ``1/(B + 1)`` and anything below 0.0001 as       ``< 0.0001``
                           ``< ...``
-:func:`interval`          an estimate and its interval, each to 3          ``0.256% [-0.0818%, 0.585%]``
-                          significant digits as it reads alone, percent
-                          for returns
+:func:`interval`          an estimate and its interval, each as it reads   ``0.256% [-0.0818%, 0.585%]``,
+                          alone: percent for returns, else a statistic     ``2.75 [1.50, 3.90]``
 :func:`level`             a confidence or significance level              ``95%``, ``97.5%``
 :func:`rate`              a Monte Carlo rate and its standard error       ``4.0% ± 1.4%``
 ========================  ==============================================  =========================
@@ -41,6 +41,7 @@ import numpy as np
 __all__ = [
     "MISSING",
     "number",
+    "statistic",
     "whole",
     "percent",
     "probability",
@@ -98,8 +99,8 @@ def _fixed(x: float, decimals: int) -> str:
     return _unsigned_zero(f"{x:,.{decimals}f}")
 
 
-def _significant(x: float, digits: int) -> str:
-    """``digits`` significant digits in positional notation, trailing zeros dropped."""
+def _significant(x: float, digits: int, *, zeros: bool = False) -> str:
+    """``digits`` significant digits in positional notation, trailing zeros dropped unless ``zeros``."""
     if x == 0:
         return "0"
     a = abs(x)
@@ -111,7 +112,7 @@ def _significant(x: float, digits: int) -> str:
     rounded = abs(float(text.replace(",", "")))
     if rounded and _decimals(rounded, digits) < decimals:
         text = f"{x:,.{_decimals(rounded, digits)}f}"
-    if "." in text:
+    if "." in text and not zeros:
         text = text.rstrip("0").rstrip(".")
     return _unsigned_zero(text)
 
@@ -127,6 +128,16 @@ def number(x: Any, digits: int = 4) -> str:
     if abs(f) >= 10**digits and abs(f) < _HUGE:
         return _fixed(f, 0)
     return _significant(f, digits)
+
+
+def statistic(x: Any) -> str:
+    """A Sharpe ratio or test statistic: three significant digits, trailing zeros kept (``1.50``)."""
+    f = _finite(x)
+    if f is None:
+        return MISSING
+    if abs(f) >= 1000 and abs(f) < _HUGE:
+        return _fixed(f, 0)
+    return _significant(f, 3, zeros=True)
 
 
 def whole(n: Any) -> str:
@@ -182,11 +193,11 @@ def pvalue(x: Any, floor: float | None = None) -> str:
 def interval(estimate: Any, low: Any, high: Any, *, as_percent: bool = False, digits: int = 3) -> str:
     """An estimate and its interval, ``est [low, high]``, each to ``digits`` significant digits.
 
-    Each number reads exactly as it does alone (:func:`number` or, for returns, :func:`percent`),
+    Each number reads exactly as it does alone (:func:`statistic` or, for returns, :func:`percent`),
     so an interval's bound and the same figure quoted in a sentence never disagree:
     ``0.256% [-0.0818%, 0.585%]``, ``0.132 [-0.0205, 0.306]``.
     """
-    one = (lambda v: percent(v, digits)) if as_percent else (lambda v: number(v, digits))
+    one = (lambda v: percent(v, digits)) if as_percent else (statistic if digits == 3 else lambda v: number(v, digits))
     if all(_finite(v) is None for v in (estimate, low, high)):
         return MISSING
     return f"{one(estimate)} [{one(low)}, {one(high)}]"
@@ -231,7 +242,8 @@ STYLES = {
     "return": percent,
     "probability": probability,
     "pvalue": pvalue,
-    "statistic": lambda x: number(x, 3),
+    "statistic": statistic,
+    "number": number,
 }
 
 

@@ -13,7 +13,7 @@ import math
 from collections.abc import Callable
 from typing import NamedTuple
 
-from .format import interval, level, number, percent, probability, pvalue, pvalue_floor, whole
+from .format import interval, level, number, percent, probability, pvalue, pvalue_floor, statistic, whole
 from .policy import Policy
 from .results import BaselineComparison, Check, Evidence, Verdict
 
@@ -28,7 +28,7 @@ class Measure(NamedTuple):
     """What a check's ``value`` and ``threshold`` are, in words, and what its outcome means.
 
     ``kind`` is the number style (:data:`sweepaudit.format.STYLES`): ``count``, ``windows``,
-    ``return``, ``probability``, ``pvalue`` or ``statistic``; ``passes_when`` says how the value
+    ``return``, ``probability``, ``pvalue``, ``statistic`` or ``number``; ``passes_when`` says how the value
     must stand against the threshold: ``at least``, ``at most``, ``above`` or ``below``.
     ``passed`` and ``failed`` are the outcome in a few words, for the verdict's one sentence.
     """
@@ -59,7 +59,7 @@ MEASURES: dict[str, Measure] = {
         "windows in the record, against the minimum track record", "windows", "at least",
         "the record is longer than its minimum track record", "the record is shorter than its minimum track record"),
     "baseline_drift": Measure(
-        "largest worsening against the baseline", "statistic", "at most",
+        "largest worsening against the baseline", "number", "at most",
         "the evidence held up against the baseline", "the evidence weakened against the baseline"),
     "overfitting": Measure(
         "probability of an out-of-sample loss (CSCV)", "probability", "at most",
@@ -210,16 +210,16 @@ def _deflated_sharpe(evidence: Evidence, policy: Policy, baseline: BaselineCompa
         need = policy.min_deflated_probability
         bar = f"the policy's fixed level {probability(need)}"
     ok = d.probability >= need
-    luck = f"the {number(d.benchmark_sharpe, 3)} a window the best of {trials} trials with no edge would reach by luck"
+    luck = f"the {statistic(d.benchmark_sharpe)} a window the best of {trials} trials with no edge would reach by luck"
     if ok:
         reason = (
             f"The deflated Sharpe probability is {probability(d.probability)}, at least {bar}: the selected "
-            f"Sharpe ratio of {number(d.sharpe, 3)} a window clears {luck}."
+            f"Sharpe ratio of {statistic(d.sharpe)} a window clears {luck}."
         )
     else:
         reason = (
             f"The deflated Sharpe probability is {probability(d.probability)}, below {bar}: the selected "
-            f"Sharpe ratio of {number(d.sharpe, 3)} a window is not clearly more than {luck}."
+            f"Sharpe ratio of {statistic(d.sharpe)} a window is not clearly more than {luck}."
         )
     return Check("deflated_sharpe", ok, d.probability, need, reason)
 
@@ -372,14 +372,14 @@ def _data_snooping(evidence: Evidence, policy: Policy, baseline: BaselineCompari
     stepm = sn.gating_stepm
     k = evidence.selected_index
     selected = evidence.sweep.configurations[k]
-    statistic, critical = float(stepm.statistics[k]), stepm.critical_value_for(k)
+    stat, critical = float(stepm.statistics[k]), stepm.critical_value_for(k)
     kept = k in stepm.significant
     ok = p <= policy.significance and kept
     side = "at or below" if p <= policy.significance else "above"
     shown = pvalue(p, pvalue_floor(evidence.resamples.count))
     family = (f"{name} on {_SCALE_WORDS[sn.scale]} gives p {shown if shown.startswith('<') else '= ' + shown}, "
               f"{side} the policy's {alpha}")
-    figures = f"its statistic {number(statistic, 3)} against the critical value {number(critical, 3)} for the best of {whole(n)}"
+    figures = f"its statistic {statistic(stat)} against the critical value {statistic(critical)} for the best of {whole(n)}"
     survivors = _plural(len(stepm.significant), "configuration")
     if kept:
         step = f"StepM at {alpha} keeps {selected!r} among the {survivors} that beat the benchmark ({figures})"
@@ -401,7 +401,7 @@ def _family_tails(evidence: Evidence, policy: Policy, baseline: BaselineComparis
     stress = test.stress
     selected = evidence.selected
     large = (f"at least {percent(stress.share)} of the configurations lose more than "
-             f"{number(stress.threshold, 3)} robust standard deviations")
+             f"{number(stress.threshold)} robust standard deviations")
     if stress.windows.size == 0:
         reason = (
             f"No window is a stress window (one in which {large}): the family shows no shared crash that "
@@ -420,7 +420,7 @@ def _family_tails(evidence: Evidence, policy: Policy, baseline: BaselineComparis
                f"(windows in which {large})")
     charged = (f"charged the family's average loss there, its mean excess return goes from "
                f"{percent(stress.mean_observed)} to {percent(stress.mean_adjusted)} a window")
-    bar = f"({number(test.statistic, 3)} against {number(test.critical_value, 3)})"
+    bar = f"({statistic(test.statistic)} against {statistic(test.critical_value)})"
     if test.passed:
         reason = f"{selected!r} {escaped}; {charged}, and its edge still clears the selection-adjusted bar {bar}."
     else:
@@ -437,7 +437,7 @@ def _parameter_surface(evidence: Evidence, policy: Policy, baseline: BaselineCom
     ok = not peak.isolated
     verb = "averages" if peak.neighbours == 1 else "average"
     neighbours = (f"its {_plural(peak.neighbours, 'grid neighbour')} {verb} a Sharpe ratio of "
-                  f"{number(peak.neighbour_mean, 3)} a window against its {number(peak.sharpe, 3)}")
+                  f"{statistic(peak.neighbour_mean)} a window against its {statistic(peak.sharpe)}")
     if ok:
         reason = f"The selected cell of the parameter grid is not an isolated peak: {neighbours}."
     else:

@@ -85,8 +85,12 @@ class Figures:
         return self._show(path, fmt.styled(self.get(path), kind or "", floor=self.pvalue_floor(), threshold=threshold))
 
     def sharpe(self, path: str) -> str:
-        """A Sharpe ratio or test statistic: three significant digits."""
-        return self.number(path, 3)
+        """A Sharpe ratio or test statistic: three significant digits (:func:`sweepaudit.format.statistic`)."""
+        return self._show(path, fmt.statistic(self.get(path)))
+
+    def count(self, path: str) -> str:
+        """How many items the list at ``path`` holds (recorded as ``<path>#count``)."""
+        return self._show(f"{path}#count", fmt.whole(len(self.get(path) or ())))
 
     def text(self, path: str) -> str:
         """A string of the document (already made visible), ``n/a`` when absent."""
@@ -305,7 +309,8 @@ def _moved(f: Figures, path: str) -> str:
         return ""  # nothing to compare (a test that found nothing to judge either way)
     audited = {k["id"]: k for k in f.get("checks") or []}.get(c["id"], {})
     kind, measure, when = audited.get("value_kind"), audited.get("measure") or c["id"], audited.get("passes_when") or ""
-    value = f"{f.styled(f'{path}.as_audited.value', kind)} -> {f.styled(f'{path}.value', kind)}"
+    before_value, after_value = f.styled(f"{path}.as_audited.value", kind), f.styled(f"{path}.value", kind)
+    value = f"{after_value} (unchanged)" if before_value == after_value else f"{before_value} -> {after_value}"
     bar = f.styled(f"{path}.threshold", kind, threshold=True)
     before = f.styled(f"{path}.as_audited.threshold", kind, threshold=True)
     against = f" against {when} {bar}" + (f" (was {before})" if before != bar else "") if c["threshold"] is not None else ""

@@ -80,9 +80,8 @@ def _head(f: Figures) -> list[RenderableType]:
     lines.append(Text(summary.get("sentence") or ""))
     counted = f"{f.whole('summary.required_passed')} of {f.whole('summary.required')} required checks passed"
     if summary.get("advisory"):
-        failed = summary["advisory"] - summary["advisory_passed"]
-        counted += f"; {failed:,} of {f.whole('summary.advisory')} advisory " + ("check failed" if failed == 1
-                                                                                 else "checks failed")
+        counted += (f"; {f.whole('summary.advisory_failed')} of {f.whole('summary.advisory')} advisory "
+                    + ("check failed" if summary.get("advisory_failed") == 1 else "checks failed"))
     lines.append(Text(counted + "."))
     lines += [Text.assemble(("selected configuration: ", "bold"), f.text("selected.configuration")),
               Text("chosen as: " + f.text("selected.rule"), style="dim")]
@@ -271,7 +270,7 @@ def _snooping(f: Figures) -> Table:
     shown = "; ".join(names[:_STEPM_SHOWN]) + (f", ... ({len(names) - _STEPM_SHOWN:,} more)"
                                               if len(names) > _STEPM_SHOWN else "")
     rows.append((f"StepM: beat the benchmark at {f.number(f'{s}.stepm.level')}",
-                 f"{len(names):,}: {shown}" if names else "none"))
+                 f"{f.count(f'{s}.stepm.significant')}: {shown}" if names else "none"))
     kept = "yes" if f.get(f"{s}.selected_survives_stepm") else "NO: the selected configuration is not among them"
     rows.append(("the selected configuration survives StepM",
                  f"{kept} (statistic {f.number(f'{s}.stepm.selected_statistic', 3)}, critical value "
@@ -307,7 +306,8 @@ def _tails(f: Figures) -> RenderableType:
     if not windows:
         words_ = ("no stress window (no window in which a large share of the configurations took a large loss)")
     else:
-        words_ = (f"{windows:,} stress window{'s' if windows != 1 else ''}, {f.whole(f'{t}.escaped')} escaped by the "
+        words_ = (f"{f.count(f'{t}.stress_windows')} stress window{'s' if windows != 1 else ''}, "
+                  f"{f.whole(f'{t}.escaped')} escaped by the "
                   f"selected configuration; charged the family's losses, its mean goes from "
                   f"{f.percent(f'{t}.mean_observed')} to {f.percent(f'{t}.mean_adjusted')} a window, statistic "
                   f"{f.number(f'{t}.statistic', 3)} against the critical value {f.number(f'{t}.critical_value', 3)}")

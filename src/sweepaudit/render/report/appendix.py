@@ -42,7 +42,7 @@ def _configurations(f: Figures, material: FigureMaterial | None) -> Section:
         "every_configuration", "A. Every configuration",
         meaning=(f"Each configuration's mean excess return and Sharpe ratio with their "
                  f"{f.level('settings.confidence')} intervals; the selected one is marked.",),
-        tables=(Table(tuple(columns), tuple(rows), caption=f"{len(rows):,} configurations",
+        tables=(Table(tuple(columns), tuple(rows), caption=f"{f.whole('input.configurations')} configurations",
                       collapsed=len(rows) > FOLD_ROWS, marks=tuple(marks), wide=len(columns) > 5),),
     )
 
@@ -143,10 +143,9 @@ def _snooping_details(f: Figures, material: FigureMaterial | None) -> Section | 
         a, b = f"{s}.{spa_key}", f"{s}.{stepm_key}"
         if not f.has(a):
             continue
-        survivors = f.get(f"{b}.significant") or []
         rows.append((words("scale", f.get(f"{a}.scale")), f.sharpe(f"{a}.statistic"), f.pvalue(f"{a}.pvalue"),
                      f.pvalue(f"{a}.pvalue_lower"), f.pvalue(f"{a}.pvalue_upper"),
-                     f"{len(survivors):,}", f.whole(f"{b}.steps"), f.sharpe(f"{b}.selected_statistic"),
+                     f.count(f"{b}.significant"), f.whole(f"{b}.steps"), f.sharpe(f"{b}.selected_statistic"),
                      ", ".join(f.sharpe(f"{b}.critical_values[{j}]") for j in range(len(f.get(f"{b}.critical_values"))))))
         marks.append("selected" if f.get(f"{a}.scale") == f.get(f"{s}.scale") else "")
     names = f.get(f"{s}.stepm.significant") or []
@@ -240,8 +239,11 @@ def _baseline_moves(f: Figures, material: FigureMaterial | None) -> Section | No
                   f.number(f"baseline.moved[{i}].change")) for i, m in enumerate(moved))
     changed = tuple((c["id"], f"{c['before']} -> {c['after']}") for c in f.get("baseline.checks_changed") or [])
     return Section("baseline_moves", "H. Every figure that moved since the baseline", facts=changed,
-                   tables=(Table(("figure", "before", "after", "change"), rows, collapsed=len(rows) > FOLD_ROWS,
-                                 caption=f"{len(rows):,} figures moved"),))
+                   meaning=("Each figure of the audit that differs from the baseline's, by its key in the audit "
+                            "document; the gated ones are in the section on the baseline.",),
+                   tables=(Table(("figure (key in the audit document)", "before", "after", "change"), rows,
+                                 collapsed=len(rows) > FOLD_ROWS,
+                                 caption=f"{f.count('baseline.moved')} figures moved"),))
 
 
 #: The appendix in reading order; a function may return None to leave its part out.

@@ -198,10 +198,11 @@ def _snooping_section(f: Figures, material: FigureMaterial | None) -> Section:
             ("Hansen's SPA, upper bound", f.sharpe(f"{spa}.statistic"), f.pvalue(f"{spa}.pvalue_upper")))
     names = f.get(f"{s}.stepm.significant") or []
     named = "; ".join(f.text(f"{s}.stepm.significant[{i}]") for i in range(min(len(names), _STEPM_NAMED)))
-    more = f" and {len(names) - _STEPM_NAMED:,} more (appendix)" if len(names) > _STEPM_NAMED else ""
+    more = " and more (appendix D)" if len(names) > _STEPM_NAMED else ""
+    beat = "configuration beats" if len(names) == 1 else "configurations beat"
     notes = [
-        f"StepM at {f.number(f'{s}.stepm.level')}: {len(names):,} configuration(s) beat the benchmark"
-        + (f": {named}{more}." if names else "."),
+        f"StepM at {f.number(f'{s}.stepm.level')}: {f.count(f'{s}.stepm.significant')} {beat} the benchmark "
+        "after allowing for the search" + (f": {named}{more}." if names else "."),
         f"The selected configuration's statistic is {f.sharpe(f'{s}.stepm.selected_statistic')} against StepM's "
         f"critical value {f.sharpe(f'{s}.stepm.selected_critical_value')}: "
         + ("it is among them." if f.get(f"{s}.selected_survives_stepm") else "it is not among them."),
@@ -267,7 +268,8 @@ def _tails_section(f: Figures, material: FigureMaterial | None) -> Section:
     rows = (
         ("a large loss: beyond this many robust standard deviations", f.sharpe(f"{t}.threshold")),
         ("a stress window: at least this share of the configurations take one", f.percent(f"{t}.share")),
-        ("stress windows; escaped by the selected configuration", f"{len(windows):,}; {f.whole(f'{t}.escaped')}"),
+        ("stress windows; escaped by the selected configuration",
+         f"{f.count(f'{t}.stress_windows')}; {f.whole(f'{t}.escaped')}"),
         ("mean excess return a window, as observed -> charged",
          f"{f.percent(f'{t}.mean_observed')} -> {f.percent(f'{t}.mean_adjusted')}"),
         ("charged record's statistic against the selection-adjusted bar",
@@ -341,7 +343,7 @@ def _baseline_section(f: Figures, material: FigureMaterial | None) -> Section | 
     rows, marks = [], []
     for i, g in enumerate(f.get("baseline.gated") or []):
         p = f"baseline.gated[{i}]"
-        rows.append((g["key"], f.number(f"{p}.before"), f.number(f"{p}.after"), f.number(f"{p}.change"),
+        rows.append((f.text(f"{p}.label") if g.get("label") else g["key"], f.number(f"{p}.before"), f.number(f"{p}.after"), f.number(f"{p}.change"),
                      f.number(f"{p}.allowed_worsening"), "exceeded" if g["exceeded"] else ""))
         marks.append("failed" if g["exceeded"] else "")
     return Section(
@@ -377,8 +379,12 @@ def _data_facts(f: Figures) -> list[tuple[str, str]]:
                        f"{f.whole('settings.seed')}"),
     ]
     if f.has("ledger"):
-        facts.append(("trial ledger", f"{f.text('ledger.path')}: {f.whole('ledger.sweeps_recorded')} distinct sweeps, "
-                                      f"{f.whole('ledger.trials_counted')} trials counted"))
+        used = f.number("ledger.trials_used", 6) if f.has("ledger.trials_used") else "n/a"
+        declared = f.number("ledger.trials_declared", 6) if f.has("ledger.trials_declared") else "none"
+        facts.append(("trial ledger", f"{f.text('ledger.path')}: {f.whole('ledger.records_before')} records of "
+                                      f"{f.whole('ledger.sweeps_recorded')} distinct sweeps, "
+                                      f"{f.whole('ledger.trials_counted')} trials counted; declared {declared}; "
+                                      f"the deflation counts {used}"))
     return facts
 
 
@@ -422,11 +428,10 @@ def _key_rows(f: Figures) -> tuple[KeyRow, ...]:
 
 def _counted(f: Figures) -> str:
     text = f"{f.whole('summary.required_passed')} of {f.whole('summary.required')} required checks passed"
-    advisory = f.get("summary.advisory") or 0
-    if advisory:
-        failed = advisory - (f.get("summary.advisory_passed") or 0)
-        text += f"; {failed:,} of {f.whole('summary.advisory')} advisory " + (
-            "check failed" if failed == 1 else "checks failed")
+    if f.get("summary.advisory"):
+        failed = f.get("summary.advisory_failed")
+        text += (f"; {f.whole('summary.advisory_failed')} of {f.whole('summary.advisory')} advisory "
+                 + ("check failed" if failed == 1 else "checks failed"))
     return text
 
 
