@@ -54,6 +54,9 @@ def test_no_minus_zero_and_no_scientific_notation_in_the_ordinary_range(x):
 def test_returns_are_percentages():
     assert f.percent(0.00256) == "0.256%" and f.percent(-0.000818) == "-0.0818%" and f.percent(0.133) == "13.3%"
     assert f.percent(1.0) == "100%" and f.percent(0.0123, 2) == "1.2%"
+    # three significant digits shown as three, so the bounds of one interval read alike
+    assert f.percent(0.51998) == "52.0%" and f.percent(0.0044) == "0.440%" and f.percent(0.2) == "20%"
+    assert f.interval(0.367, 0.218, 0.51998, as_percent=True) == "36.7% [21.8%, 52.0%]"
 
 
 def test_probabilities_have_three_fixed_decimals():

@@ -89,7 +89,7 @@ def test_mean_interval(base):
     above = _reason("mean_interval", _mean(base, 0.0005), passed=True)
     assert "lies above zero: " + interval(0.004, 0.0005, 0.009, as_percent=True) + " a window" in above
     below = _reason("mean_interval", _mean(base, -0.0), passed=False)
-    assert "reaches zero or below: 0.4% [0%, 0.9%] a window" in below and "earns nothing" in below
+    assert "reaches zero or below: 0.400% [0%, 0.900%] a window" in below and "earns nothing" in below
 
 
 def _deflated(evidence, probability_, level):
@@ -189,7 +189,7 @@ def test_family_tails(base, windows, escaped, passed, words):
     text = _reason("family_tails", _tails(base, windows, escaped, passed), passed=passed)
     assert words in text and "at least 20% of the configurations lose more than 4 robust" in text
     if escaped:
-        assert f"escaped {whole(escaped)} of the" in text and "goes from 0.4% to 0.3% a window" in text
+        assert f"escaped {whole(escaped)} of the" in text and "goes from 0.400% to 0.300% a window" in text
 
 
 @pytest.mark.parametrize("neighbours, isolated", [(4, False), (1, True), (3, True)])
@@ -210,13 +210,13 @@ def _verdict(*outcomes):
 def test_the_verdict_in_one_sentence():
     go = summary(_verdict(("enough_windows", True, True), ("deflated_sharpe", True, True),
                           ("overfitting", True, True), ("data_snooping", True, True), ("mean_interval", True, True)))
-    assert go == ("Go: all 5 required checks passed: the Sharpe ratio beats what the search alone would produce, "
+    assert go == ("Go, with all 5 required checks passed: the Sharpe ratio beats what the search alone would produce, "
                   "the edge beats the luck of picking the best configuration and the in-sample winner holds up "
                   "out of sample.")
     one = summary(_verdict(("enough_windows", False, True), ("parameter_surface", False, False)))
-    assert one == "No-go: 1 of 1 required check failed: the record is too short to judge."
+    assert one == "No-go, with 1 of 1 required check failed: the record is too short to judge."
     two = summary(_verdict(("mean_interval", False, True), ("track_record", False, True), ("overfitting", True, True)))
-    assert two == ("No-go: 2 of 3 required checks failed: the mean excess return's interval reaches zero and the "
+    assert two == ("No-go, with 2 of 3 required checks failed: the mean excess return's interval reaches zero and the "
                    "record is shorter than its minimum track record.")
     assert summary(_verdict(("parameter_surface", True, False))).startswith("No-go: no required check ran")
     for text in (go, one, two):

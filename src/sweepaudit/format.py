@@ -11,8 +11,9 @@ style                     rule                                            exampl
 :func:`statistic`         a Sharpe ratio or test statistic: 3 significant  ``0.381``, ``1.50``
                           digits, trailing zeros kept
 :func:`whole`             a count, with thousands separators              ``1,000``
-:func:`percent`           a return (a fraction) as a percentage,          ``0.256%``, ``-4.25%``
-                          3 significant digits
+:func:`percent`           a return (a fraction) as a percentage,          ``0.256%``, ``52.0%``,
+                          3 significant digits (trailing zeros kept       ``20%``
+                          unless the percentage is whole)
 :func:`probability`       3 fixed decimals; ``< 0.001`` and ``> 0.999``   ``0.992``, ``0.200``
                           for what would round to 0 or 1
 :func:`pvalue`            4 fixed decimals; the resampling floor          ``0.0123``, ``< 0.001``,
@@ -52,6 +53,7 @@ __all__ = [
     "rate",
     "figure",
     "styled",
+    "listed",
     "STYLES",
     # the same styles under their earlier names
     "sig",
@@ -147,11 +149,18 @@ def whole(n: Any) -> str:
 
 
 def percent(x: Any, digits: int = 3) -> str:
-    """A return or any other fraction as a percentage, ``digits`` significant digits (``0.0123`` -> ``1.23%``)."""
+    """A return or any other fraction as a percentage, ``digits`` significant digits (``0.0123`` -> ``1.23%``).
+
+    Trailing zeros are kept (``0.52`` of a return measured as ``0.51998`` reads ``52.0%`` beside ``21.8%``)
+    unless the percentage is whole (a policy's ``0.2`` reads ``20%``, ``1.0`` reads ``100%``).
+    """
     f = _finite(x)
     if f is None:
         return MISSING
-    return number(100 * f, digits) + "%"
+    p = 100 * f
+    if abs(p) >= 10**digits or abs(p) < _TINY or p == round(p):
+        return number(p, digits) + "%"
+    return _significant(p, digits, zeros=True) + "%"
 
 
 def probability(x: Any) -> str:
@@ -284,3 +293,8 @@ def pct(x: Any, digits: int = 3, *, missing: str = MISSING) -> str:
 def xml_number(x: Any) -> str:
     """A figure in JUnit text: :func:`figure`."""
     return figure(x)
+
+
+def listed(parts: list[str]) -> str:
+    """Phrases joined as a sentence lists them: ``a``, ``a and b``, ``a, b and c``."""
+    return parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]

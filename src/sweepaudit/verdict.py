@@ -13,7 +13,7 @@ import math
 from collections.abc import Callable
 from typing import NamedTuple
 
-from .format import interval, level, number, percent, probability, pvalue, pvalue_floor, statistic, whole
+from .format import interval, level, listed, number, percent, probability, pvalue, pvalue_floor, statistic, whole
 from .policy import Policy
 from .results import BaselineComparison, Check, Evidence, Verdict
 
@@ -88,23 +88,18 @@ def summary(verdict: Verdict) -> str:
     if not required:
         return "No-go: no required check ran, so nothing supports a go."
     if failed:
-        found = _listed([MEASURES[c.id].failed if c.id in MEASURES else f"{c.id} failed" for c in failed])
-        return (f"No-go: {whole(len(failed))} of {_plural(len(required), 'required check')} failed: "
+        found = listed([MEASURES[c.id].failed if c.id in MEASURES else f"{c.id} failed" for c in failed])
+        return (f"No-go, with {whole(len(failed))} of {_plural(len(required), 'required check')} failed: "
                 f"{found}.")
     weighty = sorted((c for c in required if c.id in MEASURES), key=lambda c: _WEIGHT.index(c.id)
                      if c.id in _WEIGHT else len(_WEIGHT))
-    found = _listed([MEASURES[c.id].passed for c in weighty[:3]])
-    return f"Go: all {_plural(len(required), 'required check')} passed: {found}."
+    found = listed([MEASURES[c.id].passed for c in weighty[:3]])
+    return f"Go, with all {_plural(len(required), 'required check')} passed: {found}."
 
 
 # The checks a go rests on most, first: what the one sentence of a go names.
 _WEIGHT = ("deflated_sharpe", "data_snooping", "overfitting", "mean_interval", "family_tails", "track_record",
            "baseline_drift", "parameter_surface", "plausible_returns", "enough_windows")
-
-
-def _listed(parts: list[str]) -> str:
-    """``a``, ``a and b``, ``a, b and c``."""
-    return parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]
 
 
 def _plural(count: int, word: str, words: str | None = None) -> str:

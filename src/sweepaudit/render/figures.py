@@ -33,9 +33,10 @@ __all__ = [
     "CHECK_NAMES",
     "WORDS",
     "words",
+    "counted",
 ]
 
-_STEP = re.compile(r"([^.\[\]]+)|\[(\d+)\]")
+_STEP = re.compile(r"([^.\[\]]+)|\[(\d+)\]|\[\"([^\"]*)\"\]")
 
 
 class Figures:
@@ -46,11 +47,12 @@ class Figures:
         self.used: dict[str, list[str]] = {}
 
     def get(self, path: str, default: Any = None) -> Any:
-        """The value at ``path`` (dots for keys, ``[i]`` for list items); ``default`` when absent."""
+        """The value at ``path`` (dots for keys, ``[i]`` for list items, ``["0.05"]`` for a key with a
+        dot); ``default`` when absent."""
         node: Any = self.doc
-        for key, index in _STEP.findall(path):
+        for key, index, quoted in _STEP.findall(path):
             try:
-                node = node[int(index)] if index else node[key]
+                node = node[int(index)] if index else node[quoted or key]
             except (KeyError, IndexError, TypeError):
                 return default
         return node
@@ -141,6 +143,17 @@ WORDS: dict[str, dict[str, str]] = {
 def words(kind: str, value: object) -> str:
     """An option value in words (as given when it has none)."""
     return WORDS.get(kind, {}).get(str(value), fmt.MISSING if value is None else str(value))
+
+
+def counted(f: Figures) -> str:
+    """``6 of 8 required checks passed (2 failed); 1 of 2 advisory checks passed (1 failed)``."""
+    text = (f"{f.whole('summary.required_passed')} of {f.whole('summary.required')} required "
+            f"check{'s' if f.get('summary.required') != 1 else ''} passed ({f.whole('summary.required_failed')} failed)")
+    if f.get("summary.advisory"):
+        text += (f"; {f.whole('summary.advisory_passed')} of {f.whole('summary.advisory')} advisory "
+                 f"check{'s' if f.get('summary.advisory') != 1 else ''} passed ({f.whole('summary.advisory_failed')} "
+                 "failed)")
+    return text
 
 
 # ---------------------------------------------------------------------------------------------
@@ -298,22 +311,22 @@ def alternative_row(f: Figures, path: str) -> AlternativeRow:
         setting=f.text(f"{path}.setting_words"), verdict="GO" if a["verdict"] == "go" else "NO-GO",
         flips=a["flips"], moved="; ".join(filter(None, (_moved(f, f"{path}.checks[{j}]")
                                                          for j in range(len(a["checks"]))))) or "nothing",
-        recomputed=f.text(f"{path}.recomputed"),
+        recomputed=f.get(f"{path}.recomputed") or "",
     )
 
 
 def _moved(f: Figures, path: str) -> str:
-    """``deflated Sharpe probability 0.286 -> 0.318 against at least 0.794: fails`` for one reached check."""
+    """``deflated Sharpe probability from 0.286 to 0.318, needs at least 0.794: fails`` for one reached check."""
     c = f.get(path)
     if c["value"] is None and c["as_audited"]["value"] is None and c["passed"] == c["as_audited"]["passed"]:
         return ""  # nothing to compare (a test that found nothing to judge either way)
     audited = {k["id"]: k for k in f.get("checks") or []}.get(c["id"], {})
     kind, measure, when = audited.get("value_kind"), audited.get("measure") or c["id"], audited.get("passes_when") or ""
     before_value, after_value = f.styled(f"{path}.as_audited.value", kind), f.styled(f"{path}.value", kind)
-    value = f"{after_value} (unchanged)" if before_value == after_value else f"{before_value} -> {after_value}"
+    value = f"{after_value} (unchanged)" if before_value == after_value else f"from {before_value} to {after_value}"
     bar = f.styled(f"{path}.threshold", kind, threshold=True)
     before = f.styled(f"{path}.as_audited.threshold", kind, threshold=True)
-    against = f" against {when} {bar}" + (f" (was {before})" if before != bar else "") if c["threshold"] is not None else ""
+    against = f", needs {when} {bar}" + (f" (was {before})" if before != bar else "") if c["threshold"] is not None else ""
     was = c["as_audited"]["passed"]
     state = ("passes" if c["passed"] else "fails") if was in (None, c["passed"]) else (
         "now passes" if c["passed"] else "now fails")

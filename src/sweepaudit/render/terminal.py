@@ -29,7 +29,7 @@ from rich.padding import Padding
 from rich.table import Table
 from rich.text import Text
 
-from .figures import Figures, alternative_row, alternative_rows, check_rows, key_figures, words
+from .figures import Figures, alternative_row, alternative_rows, check_rows, counted, key_figures, words
 
 __all__ = ["render_terminal", "terminal_console", "offscreen_console", "terminal_text", "text_row", "indented",
            "bullets"]
@@ -78,11 +78,7 @@ def _head(f: Figures) -> list[RenderableType]:
     if f.get("preliminary"):
         lines.append(Text("PRELIMINARY: " + f.text("summary.preliminary_reason") + ".", style=_WARN))
     lines.append(Text(summary.get("sentence") or ""))
-    counted = f"{f.whole('summary.required_passed')} of {f.whole('summary.required')} required checks passed"
-    if summary.get("advisory"):
-        counted += (f"; {f.whole('summary.advisory_failed')} of {f.whole('summary.advisory')} advisory "
-                    + ("check failed" if summary.get("advisory_failed") == 1 else "checks failed"))
-    lines.append(Text(counted + "."))
+    lines.append(Text(counted(f) + "."))
     lines += [Text.assemble(("selected configuration: ", "bold"), f.text("selected.configuration")),
               Text("chosen as: " + f.text("selected.rule"), style="dim")]
     # Returns that do not look like returns stand on the first screen, passed or not.

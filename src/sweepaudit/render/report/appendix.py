@@ -122,12 +122,21 @@ def _sharpe_details(f: Figures, material: FigureMaterial | None) -> Section | No
             tuple((name, f.pvalue(f"{h}.{m}.pvalue"), f.sharpe(f"{h}.{m}.sharpe"), f.sharpe(f"{h}.{m}.sharpe_annualized"),
                    f.percent(f"{h}.{m}.haircut"))
                   for m, name in (("bonferroni", "Bonferroni"), ("holm", "Holm"), ("bhy", "Benjamini-Hochberg-Yekutieli"))),
-            caption=(f"Haircut Sharpe ratio (Harvey and Liu 2015): t = {f.sharpe(f'{h}.t_statistic')}, p = "
-                     f"{f.pvalue(f'{h}.pvalue')}, {f.number(f'{h}.tests', 6)} tests"),
+            caption=(f"Haircut Sharpe ratio: t = {f.sharpe(f'{h}.t_statistic')}, p {_p(f.pvalue(f'{h}.pvalue'))}, "
+                     f"{f.number(f'{h}.tests', 6)} tests"),
         ))
     return Section("sharpe_details", "C. The Sharpe ratio in detail", facts=facts, tables=tuple(tables),
                    meaning=("The reported figures use the long-run variance (serial dependence counted); the "
-                            "published iid formulas are beside them.",))
+                            "published iid formulas are beside them. The haircut Sharpe ratio adjusts the "
+                            "selected configuration's p-value for the number of tests and reads it back as a Sharpe "
+                            "ratio.",),
+                   references=("Harvey, C. R. and Liu, Y. (2015). Backtesting. Journal of Portfolio Management 42(1), "
+                               "13-28 (the haircut Sharpe ratio).",))
+
+
+def _p(text: str) -> str:
+    """``= 0.0123`` or ``< 0.001``: a p-value after its letter."""
+    return text if text.startswith("<") else f"= {text}"
 
 
 _SCALES = (("spa_long_run", "stepm_long_run"), ("spa_studentized", "stepm_studentized"),
@@ -145,7 +154,8 @@ def _snooping_details(f: Figures, material: FigureMaterial | None) -> Section | 
             continue
         rows.append((words("scale", f.get(f"{a}.scale")), f.sharpe(f"{a}.statistic"), f.pvalue(f"{a}.pvalue"),
                      f.pvalue(f"{a}.pvalue_lower"), f.pvalue(f"{a}.pvalue_upper"),
-                     f.count(f"{b}.significant"), f.whole(f"{b}.steps"), f.sharpe(f"{b}.selected_statistic"),
+                     f"{f.count(f'{b}.significant')} at {f.number(f'{b}.level')}", f.whole(f"{b}.steps"),
+                     f"{f.sharpe(f'{b}.selected_statistic')} ({f.sharpe(f'{b}.selected_critical_value')})",
                      ", ".join(f.sharpe(f"{b}.critical_values[{j}]") for j in range(len(f.get(f"{b}.critical_values"))))))
         marks.append("selected" if f.get(f"{a}.scale") == f.get(f"{s}.scale") else "")
     names = f.get(f"{s}.stepm.significant") or []
@@ -165,7 +175,7 @@ def _snooping_details(f: Figures, material: FigureMaterial | None) -> Section | 
             f.text(f"{s}.stepm.significant[{i}]") for i in range(len(names))) or "none"),
     )
     columns = ("scale", "SPA statistic", "SPA p-value", "lower", "upper", "StepM keeps", "steps",
-               "selected statistic", "critical values by step")
+               "selected statistic (its critical value)", "critical values by step")
     return Section("snooping_details", "D. The data-snooping tests under every scale", facts=facts,
                    tables=(Table(columns, tuple(rows), marks=tuple(marks), wide=True,
                                  caption="One row per scale; the marked row gates"),))
@@ -176,7 +186,7 @@ def _cscv_details(f: Figures, material: FigureMaterial | None) -> Section | None
     if not f.has(o):
         return None
     logits = f.get(f"{o}.logits") or {}
-    quantiles = Table(tuple(f"{q} quantile" for q in logits), (tuple(f.sharpe(f"{o}.logits.{q}") for q in logits),),
+    quantiles = Table(tuple(f"{q} quantile" for q in logits), (tuple(f.sharpe(f'{o}.logits["{q}"]') for q in logits),),
                       caption="The split logits (above zero: the winner stays in the top half)")
     dom, dia = f"{o}.stochastic_dominance", f"{o}.diagnosis"
     facts = (
@@ -227,7 +237,7 @@ def _policy(f: Figures, material: FigureMaterial | None) -> Section:
         else:
             shown = f.number(path)
         rows.append((key, shown))
-    return Section("policy", "G. The policy applied", facts=(("from", f.text("policy_source")),),
+    return Section("policy", "I. The policy applied", facts=(("from", f.text("policy_source")),),
                    tables=(Table(("policy key", "value"), tuple(rows)),))
 
 
@@ -238,12 +248,27 @@ def _baseline_moves(f: Figures, material: FigureMaterial | None) -> Section | No
     rows = tuple((m["key"], f.number(f"baseline.moved[{i}].before"), f.number(f"baseline.moved[{i}].after"),
                   f.number(f"baseline.moved[{i}].change")) for i, m in enumerate(moved))
     changed = tuple((c["id"], f"{c['before']} -> {c['after']}") for c in f.get("baseline.checks_changed") or [])
-    return Section("baseline_moves", "H. Every figure that moved since the baseline", facts=changed,
+    return Section("baseline_moves", "J. Every figure that moved since the baseline", facts=changed,
                    meaning=("Each figure of the audit that differs from the baseline's, by its key in the audit "
                             "document; the gated ones are in the section on the baseline.",),
                    tables=(Table(("figure (key in the audit document)", "before", "after", "change"), rows,
                                  collapsed=len(rows) > FOLD_ROWS,
                                  caption=f"{f.count('baseline.moved')} figures moved"),))
+
+
+def _alternatives(f: Figures, material: FigureMaterial | None) -> Section | None:
+    if not f.has("sensitivity"):
+        return None
+    paths = [f"sensitivity.alternatives[{i}]" for i in range(len(f.get("sensitivity.alternatives") or []))]
+    if f.has("sensitivity.control"):
+        paths.append("sensitivity.control")
+    rows = tuple((f"{f.text(f'{p}.question')}: {f.text(f'{p}.setting_words')}", f.text(f"{p}.recomputed"),
+                  f.whole(f"{p}.resamples") if f.has(f"{p}.resamples") else "the audit's own")
+                 for p in paths)
+    return Section("alternatives", "H. How each alternative verdict was computed",
+                   meaning=("Choices that only change which figures the verdict reads re-read the same evidence; the "
+                            "others run again only what they reach, new resamples drawn from the audit's seed.",),
+                   tables=(Table(("alternative", "what ran again", "resamples"), rows),))
 
 
 #: The appendix in reading order; a function may return None to leave its part out.
@@ -254,6 +279,7 @@ APPENDIX: tuple[Callable[[Figures, "FigureMaterial | None"], "Section | None"], 
     _snooping_details,
     _cscv_details,
     _resampling_details,
+    _alternatives,
     _policy,
     _baseline_moves,
 )

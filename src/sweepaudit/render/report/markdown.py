@@ -11,14 +11,11 @@ from collections.abc import Mapping
 from urllib.parse import quote
 
 from ..safe import visible
-from .model import Report, Section, Table
+from .model import STATES, Report, Section, Table
 
 __all__ = ["render_markdown", "escape"]
 
 _SPECIAL = re.compile(r"([\\`*_\[\]|#~])")
-_STATE = {"passed": "PASS", "failed": "FAIL", "advisory": "ADVISORY"}
-
-
 def escape(text: object) -> str:
     """Markdown-safe text: one line (control characters as visible escapes, see
     :func:`~sweepaudit.render.safe.visible`), pipes and emphasis characters escaped, HTML
@@ -58,7 +55,7 @@ def _figures(s: Section, figures_dir: str, file_names: Mapping[str, str]) -> lis
 def _section(s: Section, figures_dir: str, file_names: Mapping[str, str]) -> list[str]:
     lines = [f'<a id="{s.id}"></a>', "", f"## {escape(s.title)}", ""]
     if s.answer:
-        state = f"**{_STATE[s.state]}** " if s.state else ""
+        state = f"**{STATES[s.state]}** " if s.state else ""
         lines += [f"{state}{escape(s.answer)}", ""]
     if s.absent:
         lines += [line for n in s.notes for line in (f"> {escape(n)}", "")]

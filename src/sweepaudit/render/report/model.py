@@ -10,7 +10,12 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-__all__ = ["Figure", "Table", "Section", "KeyRow", "Report"]
+__all__ = ["Figure", "Table", "Section", "KeyRow", "Report", "STATES"]
+
+#: How a section's answer is marked, by its state: a check's outcome, or whether the verdict holds
+#: under the alternative choices (the same words in HTML and Markdown).
+STATES = {"passed": "PASS", "failed": "FAIL", "advisory": "ADVISORY", "holds": "HOLDS", "fragile": "FRAGILE",
+          "hangs": "HANGS ON A CHOICE"}
 
 
 @dataclass(frozen=True)
@@ -50,7 +55,7 @@ class Section:
     id: str
     title: str
     answer: str = ""  # the finding, in one or two sentences
-    state: str = ""  # "passed", "failed", "advisory" or "" (no check): how the answer is marked
+    state: str = ""  # a key of STATES, or "" (nothing to mark): how the answer is marked
     meaning: tuple[str, ...] = ()  # how to read it, in plain words
     facts: tuple[tuple[str, str], ...] = ()  # label, value
     tables: tuple[Table, ...] = ()

@@ -27,7 +27,7 @@ from matplotlib.colors import LinearSegmentedColormap
 from matplotlib.figure import Figure as MplFigure
 from matplotlib.patches import Patch, Rectangle
 
-from ...format import figure, level, pct
+from ...format import figure, level, pct, probability
 from ...results import DeflatedCurve, FigureMaterial
 from ..safe import visible
 from .model import Figure
@@ -441,11 +441,11 @@ def deflated_by_trials(doc: dict, curve: DeflatedCurve | None) -> Figure | None:
         ax.axhline(0.95, color=PALETTE["steel"], linestyle=":", linewidth=1.2, label="0.95 (conventional level)")
         ax.axvline(used, color=PALETTE["rust"], linestyle="--", linewidth=1.2)
         ax.plot(used, at_used, linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
-                markeredgecolor=PALETTE["ink"], label=f"trials counted: {figure(used)} -> {figure(at_used)}")
+                markeredgecolor=PALETTE["ink"], label=f"{figure(used)} trials counted: {probability(at_used)}")
         if curve.effective_trials is not None:
             eff, at_eff = curve.effective_trials, curve.at_effective_trials
             ax.plot(eff, at_eff, linestyle="none", marker="s", markersize=7, markerfacecolor=PALETTE["paper"],
-                    markeredgecolor=PALETTE["ink"], label=f"effective trials: {figure(eff)} -> {figure(at_eff)}")
+                    markeredgecolor=PALETTE["ink"], label=f"{figure(eff)} effective trials: {probability(at_eff)}")
         ax.set_xscale("log")
         ax.set_ylim(-0.02, 1.02)
         ax.set_xlabel("number of trials assumed (log scale)")

@@ -17,8 +17,9 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
+from ... import format as fmt
 from ...results import FigureMaterial
-from ..figures import Figures, alternative_row, alternative_rows, check_rows, key_figures, words
+from ..figures import Figures, alternative_row, alternative_rows, check_rows, counted, key_figures, words
 from . import plots
 from .appendix import APPENDIX
 from .model import Figure, KeyRow, Report, Section, Table
@@ -40,13 +41,18 @@ def _state(f: Figures, check_id: str) -> str:
     return ("passed" if c["passed"] else "failed") if c["required"] else "advisory"
 
 
-def _outcome(f: Figures, check_id: str) -> str:
-    """``Passed: ...`` / ``Failed: ...``: a check's outcome in words, for a section's answer."""
-    c = _check(f, check_id)
-    if c is None:
-        return ""
-    word = ("Passed" if c["passed"] else "Failed") + ("" if c["required"] else " (advisory)")
-    return f"{word}: {c.get('outcome') or c['id']}."
+def _outcome(f: Figures, *check_ids: str) -> str:
+    """``Passed: ... and ...`` / ``Failed: ...``: checks' outcomes in words, for a section's answer.
+
+    Checks with the same outcome share one word (``Passed: a and b.``), so no word is said twice.
+    """
+    groups: dict[str, list[str]] = {}
+    for check_id in check_ids:
+        c = _check(f, check_id)
+        if c is not None:
+            word = ("Passed" if c["passed"] else "Failed") + ("" if c["required"] else " (advisory)")
+            groups.setdefault(word, []).append(c.get("outcome") or c["id"])
+    return " ".join(f"{word}: {fmt.listed(found)}." for word, found in groups.items())
 
 
 def _absent(section_id: str, title: str, block: str, meaning: str, references: tuple[str, ...] = ()) -> Section:
@@ -75,7 +81,7 @@ def _checks_section(f: Figures, material: FigureMaterial | None) -> Section:
     return Section(
         "checks",
         "Why: each check and what it found",
-        answer=_counted(f) + ".",
+        answer=counted(f) + ".",
         meaning=("The verdict is GO only when every required check passes; an advisory check is shown but does "
                  "not change the verdict. Each check holds one figure to a bar set by the policy.",),
         tables=(Table(("check (policy name)", "result", "figure", "bar", "reason"), tuple(rows),
@@ -162,7 +168,7 @@ def _sharpe_section(f: Figures, material: FigureMaterial | None) -> Section:
                "and the length of the record. Every setting ever tried counts as a trial, not only this sweep's.")
     if not f.has("results.sharpe"):
         return _absent("sharpe", title, "Sharpe inference", meaning, _SHARPE_REFS)
-    answer = " ".join(x for x in (_outcome(f, "deflated_sharpe"), _outcome(f, "track_record")) if x)
+    answer = _outcome(f, "deflated_sharpe", "track_record")
     curve = material.deflation_curve if material is not None else None
     figs = (plots.deflated_by_trials(f.doc, curve),) if curve is not None else ()
     return Section(
@@ -270,8 +276,8 @@ def _tails_section(f: Figures, material: FigureMaterial | None) -> Section:
         ("a stress window: at least this share of the configurations take one", f.percent(f"{t}.share")),
         ("stress windows; escaped by the selected configuration",
          f"{f.count(f'{t}.stress_windows')}; {f.whole(f'{t}.escaped')}"),
-        ("mean excess return a window, as observed -> charged",
-         f"{f.percent(f'{t}.mean_observed')} -> {f.percent(f'{t}.mean_adjusted')}"),
+        ("mean excess return a window, as observed; charged with the family's losses",
+         f"{f.percent(f'{t}.mean_observed')}; {f.percent(f'{t}.mean_adjusted')}"),
         ("charged record's statistic against the selection-adjusted bar",
          f"{f.sharpe(f'{t}.statistic')} against {f.sharpe(f'{t}.critical_value')}"),
     )
@@ -330,7 +336,8 @@ def _what_if_section(f: Figures, material: FigureMaterial | None) -> Section:
                         "differ by their choice, not by the number of resamples."))
     return Section(
         "what_if", title, answer=f.text("sensitivity.summary"),
-        state="failed" if f.get("sensitivity.flipped_by") else "passed", meaning=(meaning,),
+        state=("fragile" if f.get("verdict") == "go" else "hangs") if f.get("sensitivity.flipped_by") else "holds",
+        meaning=(meaning,),
         tables=(Table(("choice", "as audited", "alternative", "verdict", "what moved"), tuple(rows),
                       marks=tuple(marks), caption="One choice changed at a time"),),
         notes=tuple(notes),
@@ -426,15 +433,6 @@ def _key_rows(f: Figures) -> tuple[KeyRow, ...]:
     return tuple(KeyRow(k.label, k.per_window, k.annualized or "", k.note) for k in key_figures(f))
 
 
-def _counted(f: Figures) -> str:
-    text = f"{f.whole('summary.required_passed')} of {f.whole('summary.required')} required checks passed"
-    if f.get("summary.advisory"):
-        failed = f.get("summary.advisory_failed")
-        text += (f"; {f.whole('summary.advisory_failed')} of {f.whole('summary.advisory')} advisory "
-                 + ("check failed" if failed == 1 else "checks failed"))
-    return text
-
-
 def build_report(doc: dict, material: FigureMaterial | None = None) -> Report:
     """The report from the audit JSON document and (for figures) their raw material.
 
@@ -450,7 +448,7 @@ def build_report(doc: dict, material: FigureMaterial | None = None) -> Report:
         title=f"Sweep audit: {f.text('input.path')}",
         verdict=f.get("verdict"),
         sentence=f.text("summary.sentence"),
-        counted=_counted(f),
+        counted=counted(f),
         preliminary=f.text("summary.preliminary_reason") if f.get("preliminary") else None,
         selected=f.text("selected.configuration"),
         rule=f.text("selected.rule"),
