@@ -39,7 +39,7 @@ def _configurations(f: Figures, material: FigureMaterial | None) -> Section:
         rows.append(tuple(row))
         marks.append("selected" if c["configuration"] == selected else "")
     return Section(
-        "every_configuration", "A. Every configuration",
+        "every_configuration", "Every configuration",
         meaning=(f"Each configuration's mean excess return and Sharpe ratio with their "
                  f"{f.level('settings.confidence')} intervals; the selected one is marked.",),
         tables=(Table(tuple(columns), tuple(rows), caption=f"{f.whole('input.configurations')} configurations",
@@ -69,7 +69,7 @@ def _deflated_variants(f: Figures, material: FigureMaterial | None) -> Section |
     columns = ("trial variance", "expected maximum", "trials", "N", "trial Sharpe variance", "luck benchmark a window",
                "annualized", "statistic", "long-run ratio", "probability")
     return Section(
-        "deflated_variants", "B. The deflated Sharpe ratio under every choice",
+        "deflated_variants", "The deflated Sharpe ratio under every choice",
         meaning=("One row per combination of the trial Sharpe variance, the expected maximum of N trials and the "
                  "trial count; the marked rows are the audit's own choice. The check holds the marked probability "
                  f"to the calibrated level {f.probability(f'{d}.calibrated_level')} (or the policy's fixed level).",),
@@ -125,7 +125,7 @@ def _sharpe_details(f: Figures, material: FigureMaterial | None) -> Section | No
             caption=(f"Haircut Sharpe ratio: t = {f.sharpe(f'{h}.t_statistic')}, p {_p(f.pvalue(f'{h}.pvalue'))}, "
                      f"{f.number(f'{h}.tests', 6)} tests"),
         ))
-    return Section("sharpe_details", "C. The Sharpe ratio in detail", facts=facts, tables=tuple(tables),
+    return Section("sharpe_details", "The Sharpe ratio in detail", facts=facts, tables=tuple(tables),
                    meaning=("The reported figures use the long-run variance (serial dependence counted); the "
                             "published iid formulas are beside them. The haircut Sharpe ratio adjusts the "
                             "selected configuration's p-value for the number of tests and reads it back as a Sharpe "
@@ -164,7 +164,7 @@ def _snooping_details(f: Figures, material: FigureMaterial | None) -> Section | 
          f"{f.sharpe(f'{s}.reality_check.statistic')}; {f.pvalue(f'{s}.reality_check.pvalue')}; "
          f"{f.text(f'{s}.reality_check.best')}"),
         ("the check reads", f"{words('gating', f.get(f'{s}.gating'))}: {f.pvalue(f'{s}.gating_pvalue')}"),
-        ("smallest p-value the resamples can give", f.number(f"{s}.pvalue_floor")),
+        ("smallest p-value the resamples can give (one in resamples + 1)", f.number(f"{s}.pvalue_floor", 2)),
         ("p-values count the observed statistic", words("counting", f.get(f"{s}.counting"))),
         ("StepM recentring", words("recentring", f.get(f"{s}.stepm.recentring"))),
         ("selected configuration: long-run variance ratio; AR(1) coefficient; degrees of freedom",
@@ -176,7 +176,7 @@ def _snooping_details(f: Figures, material: FigureMaterial | None) -> Section | 
     )
     columns = ("scale", "SPA statistic", "SPA p-value", "lower", "upper", "StepM keeps", "steps",
                "selected statistic (its critical value)", "critical values by step")
-    return Section("snooping_details", "D. The data-snooping tests under every scale", facts=facts,
+    return Section("snooping_details", "The data-snooping tests under every scale", facts=facts,
                    tables=(Table(columns, tuple(rows), marks=tuple(marks), wide=True,
                                  caption="One row per scale; the marked row gates"),))
 
@@ -201,7 +201,7 @@ def _cscv_details(f: Figures, material: FigureMaterial | None) -> Section | None
         ("diagnosis; passes", f"{words('case', f.get(f'{dia}.case'))}; {f.number(f'{dia}.passed')}"),
         ("the rule's reading", f.text(f"{dia}.reason")),
     )
-    return Section("cscv_details", "E. CSCV diagnostics", facts=facts, tables=(quantiles,))
+    return Section("cscv_details", "CSCV diagnostics", facts=facts, tables=(quantiles,))
 
 
 def _resampling_details(f: Figures, material: FigureMaterial | None) -> Section:
@@ -223,7 +223,7 @@ def _resampling_details(f: Figures, material: FigureMaterial | None) -> Section:
              f"{f.sharpe(f'{c}.ar_coefficient')}; {f.percent(f'{c}.predicted_share')}"),
             ("lengthened to keep enough of the long-run variance", f.number(f"{c}.lengthened")),
         ]
-    return Section("resampling", "F. Resampling", facts=tuple(facts))
+    return Section("resampling", "Resampling", facts=tuple(facts))
 
 
 def _policy(f: Figures, material: FigureMaterial | None) -> Section:
@@ -237,7 +237,7 @@ def _policy(f: Figures, material: FigureMaterial | None) -> Section:
         else:
             shown = f.number(path)
         rows.append((key, shown))
-    return Section("policy", "I. The policy applied", facts=(("from", f.text("policy_source")),),
+    return Section("policy", "The policy applied", facts=(("from", f.text("policy_source")),),
                    tables=(Table(("policy key", "value"), tuple(rows)),))
 
 
@@ -248,7 +248,7 @@ def _baseline_moves(f: Figures, material: FigureMaterial | None) -> Section | No
     rows = tuple((m["key"], f.number(f"baseline.moved[{i}].before"), f.number(f"baseline.moved[{i}].after"),
                   f.number(f"baseline.moved[{i}].change")) for i, m in enumerate(moved))
     changed = tuple((c["id"], f"{c['before']} -> {c['after']}") for c in f.get("baseline.checks_changed") or [])
-    return Section("baseline_moves", "J. Every figure that moved since the baseline", facts=changed,
+    return Section("baseline_moves", "Every figure that moved since the baseline", facts=changed,
                    meaning=("Each figure of the audit that differs from the baseline's, by its key in the audit "
                             "document; the gated ones are in the section on the baseline.",),
                    tables=(Table(("figure (key in the audit document)", "before", "after", "change"), rows,
@@ -265,7 +265,7 @@ def _alternatives(f: Figures, material: FigureMaterial | None) -> Section | None
     rows = tuple((f"{f.text(f'{p}.question')}: {f.text(f'{p}.setting_words')}", f.text(f"{p}.recomputed"),
                   f.whole(f"{p}.resamples") if f.has(f"{p}.resamples") else "the audit's own")
                  for p in paths)
-    return Section("alternatives", "H. How each alternative verdict was computed",
+    return Section("alternatives", "How each alternative verdict was computed",
                    meaning=("Choices that only change which figures the verdict reads re-read the same evidence; the "
                             "others run again only what they reach, new resamples drawn from the audit's seed.",),
                    tables=(Table(("alternative", "what ran again", "resamples"), rows),))

@@ -27,7 +27,7 @@ from matplotlib.colors import LinearSegmentedColormap
 from matplotlib.figure import Figure as MplFigure
 from matplotlib.patches import Patch, Rectangle
 
-from ...format import figure, level, pct, probability
+from ...format import figure, level, pct, probability, statistic
 from ...results import DeflatedCurve, FigureMaterial
 from ..safe import visible
 from .model import Figure
@@ -356,7 +356,7 @@ def logit_histogram(doc: dict, material: FigureMaterial) -> Figure | None:
         # bins with an edge at zero, so a bar never straddles the line
         edges = np.arange(math.floor(min(lo, 0) / step) * step, max(hi, 0) + 2 * step, step)
         ax.hist(values[values <= 0], bins=edges, color=PALETTE["rust"], hatch="///", edgecolor=PALETTE["ink"],
-                linewidth=0.4, label=f"at or below zero: {figure(share)} of splits (probability of overfitting)")
+                linewidth=0.4, label=f"at or below zero: {probability(share)} of splits (probability of overfitting)")
         ax.hist(values[values > 0], bins=edges, color=PALETTE["mist"], edgecolor=PALETTE["ink"], linewidth=0.4,
                 label="above zero: the in-sample winner stays in the top half")
         ax.axvline(0, color=PALETTE["ink"], linestyle="--", linewidth=1.2)
@@ -403,7 +403,7 @@ def degradation_scatter(doc: dict, material: FigureMaterial) -> Figure | None:
         if slope is not None and intercept is not None:
             grid = np.linspace(x.min(), x.max(), 50)
             ax.plot(grid, intercept + slope * grid, color=PALETTE["rust"], linestyle="--", linewidth=2,
-                    label=f"degradation: out = {figure(intercept)} {'-' if slope < 0 else '+'} {figure(abs(slope))} x in")
+                    label=f"degradation: out = {statistic(intercept)} {'-' if slope < 0 else '+'} {statistic(abs(slope))} x in")
         ax.axhline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
         ax.set_xlabel(f"in sample: {unit}")
         ax.set_ylabel(f"out of sample: {unit}")

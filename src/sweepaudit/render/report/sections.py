@@ -16,6 +16,8 @@ not produce gives a section that says so; a figure whose raw material is absent 
 from __future__ import annotations
 
 from collections.abc import Callable
+from dataclasses import replace
+from string import ascii_uppercase
 
 from ... import format as fmt
 from ...results import FigureMaterial
@@ -204,7 +206,7 @@ def _snooping_section(f: Figures, material: FigureMaterial | None) -> Section:
             ("Hansen's SPA, upper bound", f.sharpe(f"{spa}.statistic"), f.pvalue(f"{spa}.pvalue_upper")))
     names = f.get(f"{s}.stepm.significant") or []
     named = "; ".join(f.text(f"{s}.stepm.significant[{i}]") for i in range(min(len(names), _STEPM_NAMED)))
-    more = " and more (appendix D)" if len(names) > _STEPM_NAMED else ""
+    more = " and more (in the appendix, the data-snooping tests under every scale)" if len(names) > _STEPM_NAMED else ""
     beat = "configuration beats" if len(names) == 1 else "configurations beat"
     notes = [
         f"StepM at {f.number(f'{s}.stepm.level')}: {f.count(f'{s}.stepm.significant')} {beat} the benchmark "
@@ -279,7 +281,8 @@ def _tails_section(f: Figures, material: FigureMaterial | None) -> Section:
         ("mean excess return a window, as observed; charged with the family's losses",
          f"{f.percent(f'{t}.mean_observed')}; {f.percent(f'{t}.mean_adjusted')}"),
         ("charged record's statistic against the selection-adjusted bar",
-         f"{f.sharpe(f'{t}.statistic')} against {f.sharpe(f'{t}.critical_value')}"),
+         f"{f.sharpe(f'{t}.statistic')} against {f.sharpe(f'{t}.critical_value')}" if f.has(f"{t}.statistic")
+         else f"nothing to charge (no stress window); the bar is {f.sharpe(f'{t}.critical_value')}"),
     )
     notes = ("Stress windows: " + ", ".join(f.text(f"{t}.stress_windows[{i}]") for i in range(len(windows))) + ".",
              ) if windows else ()
@@ -402,7 +405,7 @@ def _data_section(f: Figures, material: FigureMaterial | None) -> Section:
         "data",
         "What was audited, and how to reproduce it",
         meaning=("Each value is one window's excess return (strategy minus benchmark) of one configuration. The "
-                 "fingerprint identifies the exact data audited. The command below, run with the same tool version "
+                 "fingerprint identifies the exact data audited. The command above, run with the same tool version "
                  f"({tool}) on the same data, recomputes every figure of this report.",),
         facts=tuple(_data_facts(f)),
         code=f.text("reproduce.command") if command else None,
@@ -441,7 +444,8 @@ def build_report(doc: dict, material: FigureMaterial | None = None) -> Report:
     """
     f = Figures(doc)
     sections = tuple(s for s in (fn(f, material) for fn in SECTIONS) if s is not None)
-    appendix = tuple(s for s in (fn(f, material) for fn in APPENDIX) if s is not None)
+    present = (s for s in (fn(f, material) for fn in APPENDIX) if s is not None)
+    appendix = tuple(replace(s, title=f"{letter}. {s.title}") for letter, s in zip(ascii_uppercase, present))
     flips = tuple(r.short for r in alternative_rows(f) if r.flips) if f.has("sensitivity") else ()
     level = f"{f.level('settings.confidence')} {words('interval_method', f.get('settings.interval_method'))} intervals"
     return Report(
