@@ -10,8 +10,13 @@ power. Beside the verdict, on the same sweeps:
   size under autocorrelated nulls is shown too);
 * the verdict under alternative choices, re-decided from the same evidence: the deflated Sharpe
   check at the paper's fixed 0.95, or advisory; CSCV required; SPA / StepM unscaled or scaled by
-  the bootstrap standard deviation; the iid Sharpe variance; without the family-tails check; and
-  the previous release's defaults together. This is the trade-off table behind the defaults.
+  the bootstrap standard deviation; the iid Sharpe variance; without the family-tails check; the
+  previous release's defaults together; the walk-forward or the decay check required. This is the
+  trade-off table behind the defaults;
+* the evidence over time: how often the advisory ``edge_decay`` check flags a decayed edge and how
+  often the ``walk_forward`` check passes, on every family, and the live / dead pair (an edge that
+  came alive in the second half, and the very same sweeps reversed in time: an edge that has died),
+  audited sweep by sweep in both directions.
 
 All data are synthetic. Weekly windows (52 a year), per-window volatility 1% unless a family says
 otherwise.
@@ -79,6 +84,10 @@ SCENARIOS: tuple[tuple[str, int, int], ...] = (
     ("quiet_edge", 50, 208),
     ("grid_plateau_dependent", 100, 208),
     ("grid_plateau_fat_tailed", 100, 208),
+    ("grid_plateau_persistent", 100, 208),
+    ("late_edge", 100, 208),
+    ("dead_edge", 100, 208),
+    ("dead_edge_dependent", 100, 208),
     ("one_edge", 50, 1000),
     ("edge_plateau", 50, 260),
     ("several_edges", 50, 260),
@@ -89,7 +98,14 @@ SMOKE_SCENARIOS: tuple[tuple[str, int, int], ...] = (
     ("persistent_grid", 36, 156),
     ("grid_plateau", 36, 156),
     ("quiet_edge", 20, 156),
+    ("late_edge", 36, 156),
+    ("dead_edge", 36, 156),
 )
+
+#: Families simulated from the same seeds as a partner, so each sweep is its partner's read backwards.
+PAIRED: dict[str, str] = {"dead_edge": "late_edge"}
+#: Per-sweep outcomes kept for the paired families (the pair table compares them sweep by sweep).
+PER_SWEEP = ("go", "edge_decay_failed", "walk_forward_passed")
 
 FAMILY = {f.name: f for f in FAMILIES}
 
@@ -105,6 +121,8 @@ VARIANTS: dict[str, str] = {
     "no_tails": "without the family-tails check",
     "previous": "the previous defaults together: unscaled snooping on its p-value alone, DSR at 0.95 "
     "on the iid variance, CSCV required, iid minimum track record, no family-tails check",
+    "walk_forward_required": "the walk-forward check required (its mean above zero out of sample)",
+    "edge_decay_required": "the decay check required (no significant fall of the recent mean)",
 }
 
 
@@ -138,6 +156,8 @@ def _variants(evidence, verdict, policy) -> dict[str, bool]:
         "previous": go({"data_snooping": snooping("none", stepm=False),
                         "deflated_sharpe": inf.deflated_iid.probability >= 0.95, "track_record": track_iid},
                        add=("overfitting",), drop=("family_tails",)),
+        "walk_forward_required": go({}, add=("walk_forward",)),
+        "edge_decay_required": go({}, add=("edge_decay",)),
     }
     return out
 
@@ -154,6 +174,7 @@ def run_scenario(job: tuple[int, str, int, int, int, int, int]) -> dict:
     counts = {name: 0 for name in VARIANTS}
     failures: dict[str, list[int]] = {}
     bonferroni = picked = 0
+    outcomes: dict[str, list[int]] = {key: [] for key in PER_SWEEP}
     gc.freeze()  # statsmodels' Holm adjustment collects garbage on every call (see calibration.py)
     try:
         for i, child in enumerate(children):
@@ -171,6 +192,10 @@ def run_scenario(job: tuple[int, str, int, int, int, int, int]) -> dict:
                 failures[c.id][1] += 1
             bonferroni += bonferroni_max_t(x, level=policy.significance).rejected
             picked += planted is not None and evidence.selected_index in planted
+            passed = {c.id: c.passed for c in verdict.checks}
+            for key, value in zip(PER_SWEEP, (verdict.decision == "go", not passed.get("edge_decay", True),
+                                              passed.get("walk_forward", False))):
+                outcomes[key].append(int(value))
     finally:
         gc.unfreeze()
     rate = lambda events, total=sweeps: vars(binomial_rate(int(events), int(total)))  # noqa: E731
@@ -189,6 +214,7 @@ def run_scenario(job: tuple[int, str, int, int, int, int, int]) -> dict:
         "variants": {name: rate(v) for name, v in counts.items()},
         "checks": [{"id": cid, "required": bool(f[2]), "failure": rate(f[0], f[1])} for cid, f in failures.items()],
         "planted_selected": rate(picked) if planted is not None else None,
+        "per_sweep": outcomes if family in PAIRED or family in PAIRED.values() else None,
     }
 
 
@@ -234,6 +260,77 @@ def findings(rows: list[dict], level: float) -> list[str]:
                 out.append(f"Power below the Bonferroni max-t test's beyond Monte Carlo error: {_where(r)}: "
                            f"{_pct(go)}% against {_pct(yard)}%.")
     return out
+
+
+#: Families whose mean changes over time by design: neither a constant edge nor a null for the decay
+#: check (the regime family switches sign; the late and dead edges start or stop).
+CHANGING = ("regime", "late_edge", "dead_edge", "dead_edge_dependent")
+
+
+def _check_rate(r: dict, check_id: str, passed: bool = False) -> dict | None:
+    """How often a check failed (or passed) in a scenario's sweeps, as a rate with its Monte Carlo error."""
+    for c in r["checks"]:
+        if c["id"] == check_id:
+            f = c["failure"]
+            events = f["trials"] - f["events"] if passed else f["events"]
+            return vars(binomial_rate(int(events), int(f["trials"])))
+    return None
+
+
+def time_findings(rows: list[dict], level: float) -> list[str]:
+    """The evidence-over-time targets, stated from the figures."""
+    out = []
+    for r in rows:
+        if r["family"] in PAIRED:
+            flagged = _check_rate(r, "edge_decay")
+            out.append(f"`edge_decay` flags the dead edge in {_pct(flagged)}% of {_where(r)} sweeps (target: at "
+                       "least 80%).")
+    steady = [(r, _check_rate(r, "edge_decay")) for r in rows if r["family"] not in CHANGING]
+    steady = [(r, f) for r, f in steady if f is not None]
+    if steady:
+        r, f = max(steady, key=lambda pair: pair[1]["rate"])
+        out.append(f"Highest `edge_decay` flag rate over the {len(steady)} scenarios whose edge (or its absence) is "
+                   f"constant in time: {_where(r)}: {_pct(f)}% (target: at most {100 * level:g}%).")
+    nulls = [(r, _check_rate(r, "walk_forward", passed=True)) for r in rows
+             if r["kind"] == "null" and r["family"] != "regime"]
+    nulls = [(r, f) for r, f in nulls if f is not None]
+    if nulls:
+        r, f = max(nulls, key=lambda pair: pair[1]["rate"])
+        out.append(f"Highest `walk_forward` pass rate over the {len(nulls)} null scenarios whose dependence is short "
+                   f"against the sample: {_where(r)}: {_pct(f)}% (target: at most {100 * level:g}%).")
+    return out
+
+
+def pair_table(rows: list[dict]) -> list[str]:
+    """The live / dead pairs audited sweep by sweep: do the verdicts and the two time checks tell them apart?"""
+    lines = [
+        "| pair | N | T | sweeps | identical verdicts % | go % (live / dead) | `edge_decay` flags % (live / dead) "
+        "| `walk_forward` passes % (live / dead) | go % with `edge_decay` required (live / dead) |",
+        "|---|---:|---:|---:|---:|---:|---:|---:|---:|",
+    ]
+    for dead in rows:
+        live = next((r for r in rows if r["family"] == PAIRED.get(dead["family"])
+                     and (r["configurations"], r["windows"]) == (dead["configurations"], dead["windows"])), None)
+        if live is None or not live.get("per_sweep") or not dead.get("per_sweep"):
+            continue
+        same = np.mean(np.array(live["per_sweep"]["go"]) == np.array(dead["per_sweep"]["go"]))
+        both = lambda f: f"{_pct(f(live), se=False)} / {_pct(f(dead), se=False)}"  # noqa: E731
+        lines.append(
+            f"| {live['family']} / {dead['family']} | {dead['configurations']} | {dead['windows']} | {dead['sweeps']} | "
+            f"{100 * same:.1f} | {both(lambda r: r['go'])} | {both(lambda r: _check_rate(r, 'edge_decay'))} | "
+            f"{both(lambda r: _check_rate(r, 'walk_forward', passed=True))} | "
+            f"{both(lambda r: r['variants']['edge_decay_required'])} |"
+        )
+    return lines
+
+
+def time_table(rows: list[dict]) -> list[str]:
+    lines = ["| family | kind | N | T | `edge_decay` flags % | `walk_forward` passes % |",
+             "|---|---|---:|---:|---:|---:|"]
+    for r in rows:
+        lines.append(f"| {r['family']} | {r['kind']} | {r['configurations']} | {r['windows']} | "
+                     f"{_pct(_check_rate(r, 'edge_decay'))} | {_pct(_check_rate(r, 'walk_forward', passed=True))} |")
+    return lines
 
 
 def _check_table(rows: list[dict], kind: str, ids: list[str], required: dict[str, bool]) -> list[str]:
@@ -324,6 +421,23 @@ def markdown(doc: dict) -> str:
         "",
         *_variant_table(rows),
         "",
+        "## The evidence over time: the decay and walk-forward checks",
+        "",
+        "Both checks are advisory by default. `edge_decay` fails (flags) when the recent half of the selected "
+        "configuration's record earned significantly less than the half before it; `walk_forward` passes when "
+        "the record of re-picking the best configuration before every window has a mean above zero beyond "
+        "chance. On a null family a `walk_forward` pass is a false alarm; on a family whose edge is constant in "
+        "time an `edge_decay` flag is one.",
+        "",
+        *[f"- {s}" for s in time_findings(rows, level)],
+        "",
+        "The live / dead pair: each `dead_edge` sweep is the `late_edge` sweep of the same seed read backwards, "
+        "so every full-sample figure is the same in both; the two time checks are what can tell them apart.",
+        "",
+        *pair_table(rows),
+        "",
+        *time_table(rows),
+        "",
         "## Families",
         "",
     ]
@@ -359,6 +473,15 @@ def _run(jobs: list[tuple], workers: int) -> list[dict]:
     return rows  # type: ignore[return-value]
 
 
+def _seed_index(scenarios, i: int) -> int:
+    """The index a scenario's seed is drawn from: its partner's for a paired family (the same sweeps), its
+    own otherwise. Indices count over the full list, so a subset run with --only draws the same sweeps."""
+    family, n, t = scenarios[i]
+    family = PAIRED.get(family, family)
+    full = SCENARIOS if (family, n, t) in SCENARIOS else scenarios
+    return full.index((family, n, t)) if (family, n, t) in full else i
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--sweeps", type=int, default=None, help="simulated sweeps per scenario (default 200)")
@@ -378,7 +501,7 @@ def main(argv: list[str] | None = None) -> int:
     output = args.output_dir if args.output_dir is not None else (None if args.smoke or args.only else ROOT / "docs")
     words = ["python", "benchmarks/calibration.py"] + (["--smoke"] if args.smoke else [])
     words += ["--sweeps", str(sweeps), "--resamples", str(resamples), "--seed", str(args.seed)]
-    jobs = [(i, f, n, t, sweeps, resamples, args.seed) for i, (f, n, t) in enumerate(scenarios)]
+    jobs = [(_seed_index(scenarios, i), f, n, t, sweeps, resamples, args.seed) for i, (f, n, t) in enumerate(scenarios)]
     commit = _git("rev-parse", "--short", "HEAD")
     start = time.perf_counter()
     rows = _run(jobs, args.jobs)

@@ -18,24 +18,15 @@ from __future__ import annotations
 
 import argparse
 import os
-import statistics
 import tempfile
-import time
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
+from timing import median_seconds  # benchmarks/timing.py, beside this script
+
 from sweepaudit import load_sweep
-
-
-def _median_seconds(fn, repeats: int) -> float:
-    times = []
-    for _ in range(repeats):
-        started = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - started)
-    return statistics.median(times)
 
 
 def _files(folder: Path, n: int, t: int) -> dict[str, Path]:
@@ -88,8 +79,8 @@ def main() -> None:
         print(f"load average {os.getloadavg()[0]:.2f}; {args.configurations:,} configurations x "
               f"{args.windows:,} windows; median of {args.repeats}")
         for name, floor, reader in cases:
-            base = _median_seconds(floor, args.repeats)
-            full = _median_seconds(reader, args.repeats)
+            base = median_seconds(floor, args.repeats)
+            full = median_seconds(reader, args.repeats)
             print(f"{name:>22}: pandas {base:7.3f} s, load_sweep {full:7.3f} s, ratio {full / base:5.2f}")
 
 

@@ -241,6 +241,39 @@ def test_json_follows_the_contract(tmp_path):
         assert {"configuration", "mean", "sharpe"} <= set(c)
 
 
+def test_json_and_terminal_show_the_evidence_over_time(tmp_path):
+    # The fixture file itself is the oracle: its weekly windows, read here with pandas.
+    out = tmp_path / "audit.json"
+    result = run("audit", EDGE, "--seed", 3, *FAST, "--json", out)
+    doc = _strict_json(out.read_text())
+    weeks = sorted(pd.read_csv(EDGE)["week_ending"].unique())
+    walk, st = doc["results"]["walk_forward"], doc["results"]["stability"]
+    assert (walk["warmup"], walk["lookback"], walk["windows"], walk["first_window"]) == (52, None, 156, weeks[52])
+    assert {"mean", "mean_annualized", "sharpe", "sharpe_annualized", "pick_changes", "pick_change_rate",
+            "distinct_picks", "most_picked", "selected_share", "selected_same_windows", "persistence", "stress",
+            "test"} <= set(walk)
+    assert walk["mean"]["low"] <= walk["mean"]["estimate"] <= walk["mean"]["high"]
+    assert [(p["first_window"], p["last_window"], p["windows"]) for p in st["thirds"]] == [
+        (weeks[0], weeks[69], 70), (weeks[70], weeks[138], 69), (weeks[139], weeks[207], 69)]
+    assert (st["early"]["windows"], st["recent"]["first_window"], st["rolling"]["windows"]) == (104, weeks[104], 52)
+    assert set(st["recent"]["mean"]) == {"estimate", "low", "high"}
+    assert {"difference", "standard_error", "statistic", "degrees_of_freedom", "pvalue"} <= set(st["change"])
+    checks = {c["id"]: c for c in doc["checks"]}
+    assert checks["walk_forward"]["value"] == walk["test"]["pvalue"] and not checks["walk_forward"]["required"]
+    assert checks["edge_decay"]["value"] == st["change"]["pvalue"] and not checks["edge_decay"]["required"]
+    text = " ".join(result.stdout.split())
+    assert "Is the edge still alive?" in text and "Re-picking the winner: walk-forward record" in text
+    assert doc["results"]["time_meaning"].startswith("Over time, the edge") and doc["results"]["time_meaning"] in text
+    assert [p["period"] for p in st["thirds"]] == ["first third", "middle third", "last third"]
+    assert len(st["rolling"]["sharpe"]) == 208 - 52 + 1 and st["rolling"]["first_window"] == weeks[51]
+    rows = result.stdout.splitlines()
+    bars = rows[next(i for i, row in enumerate(rows) if "thirds marked |:" in row) + 1].strip()
+    # 60 bars for 157 rolling values (each bar about 2.6 of them) and a | before the bar holding the first
+    # stretch of the middle and of the last third (the stretches ending at windows 70 and 139, 0-based).
+    assert len(bars) == 62 and bars.count("|") == 2 and set(bars) <= set("▁▂▃▄▅▆▇█|")
+    assert bars.index("|") == (70 - 51) * 60 // 157 and bars.rindex("|") == (139 - 51) * 60 // 157 + 1
+
+
 def test_same_seed_same_bytes_other_seed_other_bytes(tmp_path):
     paths = [tmp_path / f"{i}.json" for i in range(3)]
     for path, seed in zip(paths, (5, 5, 6)):
@@ -289,6 +322,38 @@ def test_select_judges_the_named_configuration(tmp_path):
 def test_select_unknown_name_is_exit_2():
     _assert_one_line_error(run("audit", EDGE, *FAST, "--select", "entry_z=9.0, holding_weeks=1"),
                            "no configuration named 'entry_z=9.0, holding_weeks=1'")
+
+
+@pytest.mark.parametrize("request_", ["holding_weeks=8, entry_z=1.0", "entry_z=1,holding_weeks=8",
+                                      "  holding_weeks = 8.00 , entry_z=1.0 "])
+def test_select_matches_parameter_values_in_any_order(tmp_path, request_):
+    out = tmp_path / "audit.json"
+    result = run("audit", EDGE, *FAST, "--select", request_, "--json", out)
+    assert result.exit_code in (0, 1), result.stderr
+    doc = _strict_json(out.read_text())
+    # The exact name is judged and reproduced, whatever form the request took.
+    assert doc["selected"]["configuration"] == "entry_z=1.0, holding_weeks=8"
+    assert "--select 'entry_z=1.0, holding_weeks=8'" in doc["reproduce"]["command"]
+
+
+def test_select_without_a_match_lists_the_nearest_names(tmp_path):
+    result = run("audit", EDGE, *FAST, "--select", "holding_weeks=8, entry_z=9", "--json", tmp_path / "a.json")
+    _assert_one_line_error(result, "nearest: 'entry_z=")
+    nearest = result.stderr.split("nearest: ")[1]
+    assert nearest.count("holding_weeks=8") >= 3  # the configurations sharing the value given come first
+    assert not (tmp_path / "a.json").exists()
+    inspected = run("inspect", EDGE, "--select", "holding_weeks=8,entry_z=1.0")
+    assert inspected.exit_code == 0, inspected.stderr
+
+
+def test_strategy_label_errors_are_exit_2(tmp_path):
+    _assert_one_line_error(run("audit", EDGE, *FAST, "--strategy", "a\x1bb".encode().decode("unicode_escape")),
+                           "--strategy must not contain control or format characters")
+    _assert_one_line_error(run("audit", EDGE, *FAST, "--strategy", " "), "--strategy must be a name of 1 to 100 characters")
+    policy = tmp_path / "policy.toml"
+    policy.write_text("strategy = 5\n")
+    _assert_one_line_error(run("audit", EDGE, *FAST, "--policy", policy),
+                           f"{policy}: strategy must be a name of 1 to 100 characters; got 5")
 
 
 def test_standard_input(tmp_path):

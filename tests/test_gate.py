@@ -58,14 +58,16 @@ def test_cli_ledger_round_trip_and_duplicate_sweeps(tmp_path):
     doc = audit_with_ledger(a)  # the same sweep again: recorded, no new trials
     assert doc["ledger"]["trials_counted"] == 3 and not doc["ledger"]["new_sweep"]
     assert doc["ledger"]["sweeps_recorded"] == 1 and doc["ledger"]["records_before"] == 1
-    doc = audit_with_ledger(b)
-    assert doc["ledger"]["trials_counted"] == 8 and doc["ledger"]["sweeps_recorded"] == 2
+    doc = audit_with_ledger(b)  # other data, the grid widened from lookback 10-30 to 10-50: two new trials
+    assert doc["ledger"]["trials_counted"] == 5 and doc["ledger"]["sweeps_recorded"] == 2
+    assert doc["ledger"]["trials_added"] == 2 and doc["ledger"]["trials_before"] == 3
     doc = audit_with_ledger(b, "--trials", "20")
     assert doc["ledger"]["trials_used"] == 20 and doc["settings"]["trials"] == 20
     assert "--trials 20" in doc["reproduce"]["command"]
     records = [json.loads(line) for line in ledger.read_text().splitlines()]
     assert [r["configurations"] for r in records] == [3, 3, 5, 5]
-    assert [r["trials"] for r in records] == [3, 3, 8, 20]
+    assert [r["trials"] for r in records] == [3, 3, 5, 20]
+    assert [r["trials_added"] for r in records] == [3, 0, 2, 0]
     first = records[0]
     assert set(first) >= {"fingerprint", "configurations", "windows", "date", "selected", "verdict", "version", "input"}
     assert first["windows"] == 60 and first["input"] == str(a) and first["date"].endswith("Z")

@@ -20,12 +20,12 @@ SRC = ROOT / "src" / "sweepaudit"
 #: Layer of each top-level module or subpackage of sweepaudit ("" is the package root, __init__.py).
 #: A module may import from its own layer or below, never above.
 LAYERS: dict[int, tuple[str, ...]] = {
-    0: ("_version", "errors", "validate", "format", "readfile"),
+    0: ("_version", "errors", "validate", "format", "readfile", "names"),
     1: ("sweep", "resample", "policy", "results"),
     2: ("read", "simulate", "ledger"),
     3: ("engine",),
     4: ("methods",),
-    5: ("audit",),
+    5: ("audit", "streamed"),
     6: ("baseline",),
     7: ("verdict", "sensitivity"),
     8: ("document",),

@@ -137,6 +137,12 @@ VALIDATION_CASES = [
      ["mean_interval cannot be both required and disabled"]),
     ({"baseline_probability_margin": -0.01}, ["baseline_probability_margin must be >= 0.0", "got -0.01"]),
     ({"baseline_pvalue_margin": 1.5}, ["baseline_pvalue_margin must be <= 1.0", "got 1.5"]),
+    ({"walk_forward_warmup": 1}, ["walk_forward_warmup must be 0 (automatic) or at least 2", "got 1"]),
+    ({"walk_forward_lookback": 1}, ["walk_forward_lookback must be 0 (all earlier windows) or at least 2", "got 1"]),
+    ({"walk_forward_lookback": -3}, ["walk_forward_lookback must be >= 0", "got -3"]),
+    ({"walk_forward_warmup": 52.5}, ["walk_forward_warmup must be a whole number", "52.5"]),
+    ({"recent_share": 1.0}, ["recent_share must be < 1.0", "got 1.0"]),
+    ({"recent_share": 0}, ["recent_share must be > 0.0", "got 0"]),
 ]
 
 

@@ -6,8 +6,11 @@ External / theory checks:
   optimum b = (2 G^2 / D_SB)^(1/3) n^(1/3) with G = sum |k| R(k), D_SB = 2 g(0)^2 (their eq. 6 and
   the stationary-bootstrap constants of their section 3; D_SB unchanged by the Patton, Politis and
   White 2009 correction). For AR(1) with coefficient phi this is (2 phi / (1 - phi^2))^(2/3) n^(1/3).
-- resampled means equal arch's own means on the very same indices (arch.bootstrap, reference library).
-Internal consistency: chunking never changes the draws; weights sum to T; replayed indices.
+- resampled means equal arch's own means on the very same indices (arch.bootstrap, reference library);
+- the Politis-White lengths equal arch.bootstrap.optimal_block_length's to the last bit (reference
+  library, on the S&P 500 returns of arch.data and simulated AR(1) columns).
+Internal consistency: chunking never changes the draws; weights sum to T; replayed indices; the
+weights built from the blocks count the indices drawn from the same random numbers.
 """
 
 import numpy as np
@@ -21,6 +24,8 @@ from sweepaudit.resample import (
     draw_resamples,
     indices_to_weights,
     resampled_moments,
+    indices_to_counts,
+    politis_white_lengths,
 )
 
 
@@ -169,3 +174,42 @@ def test_moment_chunk_bounds():
     assert moment_chunk(2000) == 2048
     assert moment_chunk(10) == 4096
     assert moment_chunk(10**6) == 256
+
+
+def test_politis_white_lengths_equal_arch_to_the_last_bit():
+    """Reference library: ``arch.bootstrap.optimal_block_length`` (Politis and White 2004 with the
+    Patton et al. 2009 correction) on the S&P 500 returns shipped in ``arch.data`` (an open data
+    set), their absolute values (strong dependence), simulated AR(1) columns and a short series."""
+    from arch.bootstrap import optimal_block_length
+    from arch.data import sp500
+
+    returns = sp500.load()["Adj Close"].pct_change().dropna().to_numpy()
+    rng = np.random.default_rng(11)
+    ar = np.zeros((1500, 6))
+    noise = rng.standard_normal((1500, 6))
+    for t in range(1, 1500):
+        ar[t] = np.array([0.0, 0.2, 0.4, 0.6, 0.8, 0.95]) * ar[t - 1] + noise[t]
+    for data in (returns[:, None], np.abs(returns)[:, None], ar, ar[:30]):
+        table = optimal_block_length(data)
+        stationary, circular = politis_white_lengths(data)
+        np.testing.assert_array_equal(stationary, table["stationary"].to_numpy())
+        np.testing.assert_array_equal(circular, table["circular"].to_numpy())
+
+
+def test_drawn_counts_equal_the_counts_of_the_drawn_indices():
+    """Internal consistency: the weights built from the blocks (a difference array) count the
+    indices drawn from the same random numbers, for every bootstrap, wrapping blocks included."""
+    for kind, block in (("stationary", 10.3), ("stationary", 1.0), ("stationary", 150.0), ("circular", 7),
+                        ("moving-block", 7), ("circular", 40)):
+        resamples = draw_resamples(200, count=300, kind=kind, block_length=block, seed=4)
+        counted = np.concatenate([indices_to_counts(i, 200) for i in resamples.index_chunks(128)])
+        np.testing.assert_array_equal(np.concatenate(list(resamples.count_chunks(128))), counted)
+
+
+def test_no_seed_draws_fresh_entropy_once():
+    """Without a seed the resamples still regenerate identically (every block of a streamed audit
+    must see the same ones), and two definitions differ."""
+    a = draw_resamples(50, count=20, block_length=3.0, seed=None)
+    b = draw_resamples(50, count=20, block_length=3.0, seed=None)
+    np.testing.assert_array_equal(a.indices(), a.indices())
+    assert a.seed is not None and a.seed != b.seed

@@ -27,7 +27,9 @@ from sweepaudit.simulate import (
     hill_columns,
     neighbour_correlation,
     simulate_crashes,
+    simulate_dead_edge,
     simulate_dependent_grid,
+    simulate_late_edge,
     simulate_leveraged,
     simulate_quiet_edge,
     simulate_regime,
@@ -210,3 +212,17 @@ def test_the_calibration_module_re_exports_the_simulators():
     # The README's examples import them from sweepaudit.calibration.
     for name in ("simulate_normal", "simulate_neighbour_grid", "simulate_one_edge", "FAMILIES", "plant_edge"):
         assert getattr(calibration, name) is globals()[name]
+
+
+def test_late_edge_earns_only_from_its_start_and_the_dead_edge_is_the_same_sweep_reversed():
+    x = simulate_late_edge(rng(41), 36, 20000, annual_sharpe=3.0, start=0.5)
+    cells = grid_block_columns(36, 3)
+    edge = 3.0 / math.sqrt(52) * 0.01
+    se = 0.01 / math.sqrt(10000)
+    assert np.abs(x[:10000].mean(axis=0)).max() < 4.5 * se  # nothing before the start
+    late = x[10000:].mean(axis=0)
+    assert np.allclose(late[cells], edge, atol=4.5 * se)
+    assert np.abs(np.delete(late, cells)).max() < 4.5 * se
+    assert np.array_equal(simulate_dead_edge(rng(42), 36, 300), simulate_late_edge(rng(42), 36, 300)[::-1])
+    with pytest.raises(InputError, match="start must lie in \\[0, 1\\); got 1.2"):
+        simulate_late_edge(rng(0), 9, 50, start=1.2)

@@ -9,7 +9,7 @@ from __future__ import annotations
 import pytest
 
 from sweepaudit import AuditSettings, audit, verdict
-from sweepaudit.format import interval
+from sweepaudit.format import interval, p_is
 from sweepaudit.policy import policy_from_mapping
 from sweepaudit.results import Check
 from sweepaudit import sweep_from_array
@@ -72,3 +72,49 @@ def test_mean_interval_fails_alone_without_an_edge():
 
 def test_baseline_drift_is_absent_without_a_baseline(small_results):
     assert "baseline_drift" not in [c.id for c in small_results.verdict.checks]
+
+
+# --------------------------------------------------------------------------- the evidence over time
+
+def _late_edge_sweep(reverse: bool):
+    from sweepaudit.simulate import simulate_late_edge
+
+    import numpy as np
+
+    x = simulate_late_edge(np.random.default_rng(2), 36, 208)
+    return sweep_from_array(x[::-1] if reverse else x, periods_per_year=52)
+
+
+def test_a_dead_edge_fails_edge_decay_and_the_live_one_passes():
+    # The very same sweep read forwards (an edge that came alive) and backwards (one that has died).
+    live = audit(_late_edge_sweep(False), settings=AuditSettings(resamples=300, seed=3))
+    dead = audit(_late_edge_sweep(True), settings=AuditSettings(resamples=300, seed=3))
+    by_id = lambda r: {c.id: c for c in r.verdict.checks}  # noqa: E731
+    assert by_id(live)["edge_decay"].passed and not by_id(dead)["edge_decay"].passed
+    assert not by_id(dead)["edge_decay"].required  # advisory by default: the verdict does not change
+    decay = by_id(dead)["edge_decay"]
+    assert decay.threshold == 0.05 and decay.value <= 0.05
+    assert "significantly worse than the early evidence" in decay.reason
+    assert p_is(decay.value) in decay.reason and "0.0000" not in decay.reason  # p < 0.0001, never 0.0000
+    assert "not significantly worse" in by_id(live)["edge_decay"].reason
+    # Full-sample figures cannot tell the two apart; required, the decay check does.
+    assert dead.sharpe.observed == pytest.approx(live.sharpe.observed)
+    strict = policy_from_mapping({"required": ["edge_decay"]})
+    assert audit(_late_edge_sweep(True), settings=AuditSettings(resamples=300, seed=3), policy=strict).verdict.decision == "no-go"
+    assert audit(_late_edge_sweep(False), settings=AuditSettings(resamples=300, seed=3), policy=strict).verdict.decision == "go"
+
+
+def test_walk_forward_check_reports_the_record_and_can_be_required():
+    sweep = sweep_from_array(synthetic_returns(windows=200, edges=(0.004, 0.0, 0.0, 0.0), seed=8), periods_per_year=52)
+    r = audit(sweep, settings=AuditSettings(resamples=300))
+    check = next(c for c in r.verdict.checks if c.id == "walk_forward")
+    walk = r.evidence.walk_forward
+    assert r.walk_forward is walk and r.stability is r.evidence.stability  # readable from the result too
+    assert check.passed and not check.required and check.value == walk.pvalue and check.threshold == 0.05
+    assert "from window '51' on (150 windows" in check.reason and "the selection procedure itself earns" in check.reason
+    noise = sweep_from_array(synthetic_returns(windows=200, edges=(0.0, 0.0, 0.0, 0.0), seed=9), periods_per_year=52)
+    required = policy_from_mapping({"required": ["walk_forward"]})
+    r = audit(noise, settings=AuditSettings(resamples=300), policy=required)
+    assert r.verdict.decision == "no-go"
+    (reason,) = r.verdict.reasons
+    assert reason.startswith("walk_forward: ") and "not clearly above zero" in reason

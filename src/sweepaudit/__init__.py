@@ -4,8 +4,11 @@ Public API (stable names):
 
 - :func:`load_sweep`, :class:`LoadOptions`, :class:`Sweep`, :func:`sweep_from_array`
 - :func:`inspect` (-> :class:`Inspection`: how an input is read, without an audit)
-- :func:`audit` (-> :class:`AuditResult`: the :class:`Evidence`, the :class:`Verdict` and the JSON
-  document), :class:`AuditSettings`, :class:`Policy`
+- :func:`audit` (-> :class:`AuditResult`: the :class:`Evidence`, the :class:`Verdict`, the JSON
+  document, and the ways to show them: a short repr, a notebook view, the report, the figures),
+  :class:`AuditSettings`, :class:`Policy`
+- :func:`calibrate` (-> :class:`CalibrationResult`: the false-go rate and the power of the verdict
+  on sweeps shaped like this one)
 - :func:`draw_resamples`, :func:`resampled_moments` (the shared resampling engine)
 - :func:`probabilistic_sharpe`, :func:`deflated_sharpe`, :func:`expected_max_sharpe`,
   :func:`minimum_track_record`, :func:`sharpe_inference`, :func:`effective_trials`,
@@ -15,7 +18,7 @@ Public API (stable names):
 """
 
 from ._version import __version__
-from .api import audit, inspect
+from .api import AuditResult, CalibrationResult, audit, calibrate, inspect
 from .errors import (
     DegenerateDataError,
     InputError,
@@ -34,7 +37,7 @@ from .methods.snooping import reality_check, stepwise_superior, superior_predict
 from .policy import DEFAULT_POLICY, Policy
 from .read import LoadOptions, load_sweep, sweep_from_array
 from .resample import Resamples, draw_resamples, resampled_moments
-from .results import AuditResult, AuditSettings, Evidence, Inspection, Verdict
+from .results import AuditSettings, Evidence, Inspection, Verdict
 from .sweep import Sweep
 
 # The result type's name before the verdict left the evidence; kept so existing imports work.
@@ -44,6 +47,8 @@ __all__ = [
     "__version__",
     "AuditResult",
     "AuditResults",
+    "CalibrationResult",
+    "calibrate",
     "Evidence",
     "Verdict",
     "AuditSettings",

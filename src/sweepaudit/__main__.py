@@ -2,4 +2,5 @@
 
 from .cli import main
 
-main()
+if __name__ == "__main__":  # Dask's worker processes import this module again: run only as the program
+    main()

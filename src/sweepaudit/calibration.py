@@ -41,6 +41,7 @@ from .audit import gather_evidence
 from .errors import InputError
 from .methods.snooping import bonferroni_max_t
 from .policy import DEFAULT_POLICY, Policy
+from .engine import InProcess, executor_for
 from .resample import GENERATION_GROUP, Resamples, automatic_block_length, draw_resamples
 from .results import AuditSettings, BlockSeries, CheckRate, Rate, SweepCalibration, VerdictCalibration
 from .simulate import *  # noqa: F403  (re-exported: the calibration study's families and simulators)
@@ -108,9 +109,10 @@ def _run_audits(
     planted: Sequence[int] | None,
     seed: int,
     progress: Callable[[int], None] | None,
+    executor=None,
 ) -> VerdictCalibration:
     decisions, selected, outcomes, required, yardstick = _audit_each(
-        sweeps, count, audit_seeds, settings, policy, progress
+        sweeps, count, audit_seeds, settings, policy, progress, executor
     )
     ids = tuple(required)
     failed = np.full((count, len(ids)), np.nan)
@@ -133,29 +135,29 @@ def _run_audits(
     )
 
 
-def _audit_each(sweeps, count, audit_seeds, settings, policy, progress):
-    """Audit each sweep (its own seed) and decide its verdict: decisions, selections, check failures."""
+def _audit_each(sweeps, count, audit_seeds, settings, policy, progress, executor=None):
+    """Audit each sweep (its own seed) and decide its verdict: decisions, selections, check failures.
+
+    ``executor`` (:func:`sweepaudit.engine.executor_for`) runs the audits, each a task of its own
+    (Dask workers, or in process); the figures do not depend on where they ran.
+    """
     decisions = np.zeros(count, dtype=bool)
     yardstick = np.zeros(count, dtype=bool)
     selected = np.zeros(count, dtype=np.int64)
     outcomes: list[dict[str, bool]] = []
     required: dict[str, bool] = {}
+    work = ((sweep, replace(settings, seed=int(audit_seeds[i])), policy)
+            for i, sweep in zip(range(count), sweeps))
     # statsmodels' Holm adjustment (used by the haircut) runs a full gc.collect() on every call,
     # which costs a third of a small audit when the heap holds pandas and scipy; freezing the
     # objects alive now takes them out of those collections. Undone afterwards.
     gc.freeze()
     try:
-        for i, sweep in enumerate(sweeps):
-            if i >= count:
-                break
-            evidence = gather_evidence(sweep, settings=replace(settings, seed=int(audit_seeds[i])), policy=policy)
-            verdict = decide(evidence, policy)
-            decisions[i] = verdict.decision == "go"
-            yardstick[i] = bonferroni_max_t(sweep.returns, level=policy.significance).rejected
-            selected[i] = evidence.selected_index
-            outcomes.append({c.id: not c.passed for c in verdict.checks})
-            for c in verdict.checks:
-                required.setdefault(c.id, c.required)
+        for i, (decision, rejected, index, outcome, kinds) in enumerate((executor or InProcess()).each(_one_audit, work)):
+            decisions[i], yardstick[i], selected[i] = decision, rejected, index
+            outcomes.append(outcome)
+            for cid, is_required in kinds.items():
+                required.setdefault(cid, is_required)
             if progress is not None:
                 progress(len(outcomes))
     finally:
@@ -163,6 +165,16 @@ def _audit_each(sweeps, count, audit_seeds, settings, policy, progress):
     if len(outcomes) != count:
         raise InputError(f"the simulation yielded {len(outcomes)} sweeps; {count} were asked for")
     return decisions, selected, outcomes, required, yardstick
+
+
+def _one_audit(work: tuple[Sweep, AuditSettings, Policy]) -> tuple[bool, bool, int, dict[str, bool], dict[str, bool]]:
+    """One simulated sweep's audit and verdict, reduced to what the rates count (a pure task)."""
+    sweep, settings, policy = work
+    evidence = gather_evidence(sweep, settings=settings, policy=policy)
+    verdict = decide(evidence, policy)
+    return (verdict.decision == "go", bool(bonferroni_max_t(sweep.returns, level=policy.significance).rejected),
+            int(evidence.selected_index), {c.id: not c.passed for c in verdict.checks},
+            {c.id: c.required for c in verdict.checks})
 
 
 def _check_settings(settings: AuditSettings | None, resamples: int | None) -> AuditSettings:
@@ -369,6 +381,8 @@ def calibrate_sweep(
     seed: int = 0,
     block_series: BlockSeries = "average",
     progress: Callable[[int, int], None] | None = None,
+    scheduler: str | None = None,
+    workers: int | None = None,
 ) -> SweepCalibration:
     """False-go rate of the verdict on null sweeps shaped like ``sweep``, and power against ``edge``.
 
@@ -392,6 +406,9 @@ def calibrate_sweep(
         Series for the null sweeps' automatic block length (see :func:`null_like`).
     progress : callable, optional
         ``progress(done, total)`` after each audit (total = sweeps, or 2 * sweeps with an edge).
+    scheduler, workers : optional
+        Run the simulated sweeps' audits on a Dask cluster (a scheduler address, or a local cluster
+        of this many worker processes), one task per audit; the figures are the same.
 
     Notes
     -----
@@ -412,18 +429,23 @@ def calibrate_sweep(
     nulls = null_like(sweep, count=count, seed=null_seed, block_series=block_series, selected=k)
     seeds = _audit_seeds(audit_seed, count)
     total = count * (2 if edge > 0 else 1)
-    null = _run_audits(
-        nulls.sweeps(), count=count, audit_seeds=seeds, settings=settings, policy=policy, planted=None,
-        seed=seed, progress=(lambda done: progress(done, total)) if progress else None,
-    )
-    power = per_window = None
-    if edge > 0:
-        sd = float(nulls.centred[:, k].std(ddof=1))
-        per_window = per_window_edge(float(edge), float(sweep.periods_per_year), sd) if sd > 0 else 0.0
-        power = _run_audits(
-            _edged(nulls, k, per_window), count=count, audit_seeds=seeds, settings=settings, policy=policy,
-            planted=[k], seed=seed, progress=(lambda done: progress(count + done, total)) if progress else None,
+    executor = executor_for(scheduler, workers)
+    try:
+        null = _run_audits(
+            nulls.sweeps(), count=count, audit_seeds=seeds, settings=settings, policy=policy, planted=None,
+            seed=seed, progress=(lambda done: progress(done, total)) if progress else None, executor=executor,
         )
+        power = per_window = None
+        if edge > 0:
+            sd = float(nulls.centred[:, k].std(ddof=1))
+            per_window = per_window_edge(float(edge), float(sweep.periods_per_year), sd) if sd > 0 else 0.0
+            power = _run_audits(
+                _edged(nulls, k, per_window), count=count, audit_seeds=seeds, settings=settings, policy=policy,
+                planted=[k], seed=seed, progress=(lambda done: progress(count + done, total)) if progress else None,
+                executor=executor,
+            )
+    finally:
+        executor.close()
     return SweepCalibration(
         sweep=sweep, observed=decide(real, policy).decision, selected_index=k, configuration=sweep.configurations[k],
         null=null, power=power, edge_annual_sharpe=float(edge), edge_per_window=per_window,

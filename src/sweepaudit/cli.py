@@ -414,6 +414,11 @@ def audit_command(
         typer.Option(metavar="N", help="Trials the deflated Sharpe ratio counts (at least the configurations, "
                      "at most 10^15; 1e6 is accepted); with --ledger the larger count wins."),
     ] = None,
+    strategy: Annotated[
+        Optional[str],
+        typer.Option(help="The strategy's label in the trial ledger (a trial is a configuration of a strategy); "
+                          "default: the policy's strategy key."),
+    ] = None,
     report_paths: Annotated[
         Optional[list[Path]], typer.Option(
             "--report", help="Write the audit report here: .md (Markdown) or .html; repeat for several reports.")
@@ -422,6 +427,19 @@ def audit_command(
         bool, typer.Option("--sensitivity/--no-sensitivity",
                            help="Re-decide the verdict under each reasonable alternative choice (what would change it).")
     ] = True,
+    memory_budget: Annotated[
+        Optional[int],
+        typer.Option(help="Working memory in MiB (default 768, the policy's): beyond it the audit streams over "
+                          "blocks of configurations, with the same figures."),
+    ] = None,
+    scheduler: Annotated[
+        Optional[str],
+        typer.Option(help="Dask scheduler address: run the blocks of configurations on that cluster "
+                          "(default: $SWEEPAUDIT_SCHEDULER; none: in process)."),
+    ] = None,
+    workers: Annotated[
+        Optional[int], typer.Option(help="Start a local Dask cluster of this many worker processes for the audit.")
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing; use the exit status.")] = False,
 ) -> None:
     """Audit the per-window excess returns of a parameter sweep and print a go / no-go verdict.
@@ -435,6 +453,8 @@ def audit_command(
       cat sweep.csv | sweepaudit audit - --units percent --quick
 
       sweepaudit audit sweep.csv --policy policy.toml --junit checks.xml --baseline last.json --ledger trials.jsonl
+
+      sweepaudit audit large.parquet --workers 2 --memory-budget 2048
     """
     started = time.perf_counter()
     outputs: Outputs = [(what, path) for what, path in (("JSON file", json_path), ("JUnit file", junit_path))
@@ -450,6 +470,13 @@ def audit_command(
         for key, value in (("confidence", confidence), ("resamples", resamples)):
             if value is not None:
                 policy_from_mapping({key: value}, source=f"--{key}")
+        policy = loaded.policy
+        if memory_budget is not None:
+            policy = policy.replace(memory_budget=_option_budget(memory_budget))
+        if workers is not None:
+            validate.whole_number(workers, "--workers", minimum=1)
+        if strategy is not None:
+            validate.label(strategy, "--strategy")
         baseline_document = read_baseline(baseline_path) if baseline_path is not None else None
         sweep = inputs.load()
         if declared is not None:
@@ -461,15 +488,23 @@ def audit_command(
         with _progress(quiet, "resampling") as (progress, done):
             publish = functools.partial(_published, outputs=outputs, started=started, quiet=quiet, before_print=done)
             result = audit(
-                sweep, settings=settings, policy=loaded.policy, policy_source=loaded.source,
+                sweep, settings=settings, policy=policy, policy_source=loaded.source,
+                scheduler=scheduler, workers=workers,
                 baseline=baseline_document, baseline_path=str(baseline_path) if baseline_path is not None else None,
-                ledger=ledger_path, trials=declared, progress=progress, publish=publish, sensitivity=sensitivity,
+                ledger=ledger_path, trials=declared, strategy=strategy, progress=progress, publish=publish,
+                sensitivity=sensitivity,
                 command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source,
-                                                           sensitivity=sensitivity),
+                                                           strategy=strategy, sensitivity=sensitivity),
             )
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
     raise typer.Exit(EXIT_GO if result.verdict.decision == "go" else EXIT_NO_GO)
+
+
+def _option_budget(mib: int) -> int:
+    """``--memory-budget`` within the policy key's range."""
+    policy_from_mapping({"memory_budget": mib}, source="--memory-budget")
+    return mib
 
 
 def _check_audit_outputs(inputs: SweepInput, outputs: Outputs, **files: Optional[Path]) -> None:
@@ -509,7 +544,8 @@ def _published(result: AuditResult, *, outputs: Outputs, started: float, quiet: 
     rendered = {"JSON file": lambda path: dumps(document),
                 "JUnit file": lambda path: audit_to_junit(document, elapsed=time.perf_counter() - started)}
     files = [(path, what, rendered[what](path)) for what, path in outputs if what != "report"]
-    reports = [_for_report(render_report, path, document, result.figures) for what, path in outputs if what == "report"]
+    reports = [_for_report(render_report, path, document, result.figure_material)
+               for what, path in outputs if what == "report"]
     terminal = None if quiet else terminal_text(document)
     written = []
     with Transaction() as staged:
@@ -529,8 +565,9 @@ def _published(result: AuditResult, *, outputs: Outputs, started: float, quiet: 
 
 
 def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults",
-                      sensitivity: bool = True) -> str:
-    """The canonical command that reproduces every figure of this audit (output options left out)."""
+                      strategy: str | None = None, sensitivity: bool = True) -> str:
+    """The canonical command that reproduces every figure of this audit (output options left out;
+    ``--strategy`` kept, since with a ledger it decides the trials counted)."""
     words = ["sweepaudit", "audit", *SweepInput(evidence.sweep.path, options, None).words(evidence.sweep.path)]
     if policy_source != "defaults":
         # A policy found in a pyproject.toml applies only from that folder: name it.
@@ -546,6 +583,8 @@ def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source
         words += ["--select", s.selected]
     if s.trials is not None:
         words += ["--trials", str(s.trials)]
+    if strategy is not None:
+        words += ["--strategy", strategy.strip()]
     if not sensitivity:
         words.append("--no-sensitivity")
     return " ".join(shlex.quote(w) for w in words)
@@ -661,6 +700,12 @@ def calibrate_command(
         typer.Option(metavar="N", help="Trials the deflated Sharpe ratio counts (at least the configurations), as for audit."),
     ] = None,
     json_path: Annotated[Optional[Path], typer.Option("--json", help="Write the calibration JSON here.")] = None,
+    scheduler: Annotated[
+        Optional[str], typer.Option(help="Dask scheduler address: run the audits on that cluster (default: $SWEEPAUDIT_SCHEDULER).")
+    ] = None,
+    workers: Annotated[
+        Optional[int], typer.Option(help="Run the audits on a local Dask cluster of this many worker processes.")
+    ] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
 ) -> None:
     """Estimate how often the verdict says go on null sweeps shaped like this one, and its power.
@@ -686,6 +731,8 @@ def calibrate_command(
         validate.at_least(edge, "--edge", 0, what="0 (an annualized Sharpe ratio)")
         validate.whole_number(seed, "--seed", minimum=0)
         declared = _count(trials, "--trials")
+        if workers is not None:
+            validate.whole_number(workers, "--workers", minimum=1)
         loaded = resolve_policy(policy_path)
         sweep = inputs.load()
         if declared is not None:
@@ -693,7 +740,8 @@ def calibrate_command(
         settings = AuditSettings(seed=seed, resamples=resamples, selected=inputs.select, trials=declared)
         with _progress(quiet, "auditing simulated sweeps") as (progress, done):
             result = calibrate_sweep(sweep, sweeps=sweeps, edge=edge, settings=settings, resamples=resamples,
-                                     policy=loaded.policy, seed=seed, progress=progress)
+                                     policy=loaded.policy, seed=seed, progress=progress,
+                                     scheduler=scheduler, workers=workers)
         words = ["sweepaudit", "calibrate", *inputs.words(sweep.path)]
         if inputs.select is not None:
             words += ["--select", inputs.select]

@@ -19,7 +19,7 @@ from typing import Any
 import numpy as np
 
 from ._version import AUDIT_SCHEMA, CALIBRATION_SCHEMA, INSPECT_SCHEMA, __version__
-from .format import pvalue_floor, whole
+from .format import number, percent, pvalue_floor, whole
 from .methods.surface import parameter_grid
 from .policy import Policy
 from .results import (
@@ -237,7 +237,8 @@ def _bootstrap_block(evidence: Evidence) -> dict:
     k = evidence.selected_index
     iv = evidence.intervals
     sharpe_factor = math.sqrt(ppy) if ppy else None
-    params = sweep.parameters.reset_index(drop=True).to_dict("records") or [{}] * sweep.n_configurations
+    listed = _listed(evidence)
+    params = _parameter_rows(sweep, listed)
     return {
         "selected": {
             "mean": _interval(iv.mean[k]),
@@ -248,15 +249,60 @@ def _bootstrap_block(evidence: Evidence) -> dict:
         "long_run_share": {"median": evidence.bootstrap_share, "lowest_decile": evidence.bootstrap_share_low},
         "configurations": [
             {
-                "configuration": name,
-                "parameters": params[j],
+                "configuration": sweep.configurations[j],
+                "parameters": row,
                 "mean": _interval(iv.mean[j]),
                 "sharpe": _interval(iv.sharpe[j]),
                 "sharpe_annualized": _interval(iv.sharpe[j], sharpe_factor),
             }
-            for j, name in enumerate(sweep.configurations)
+            for j, row in zip(listed, params)
         ],
+        "listing": _listing(evidence, listed),
     }
+
+
+def _listed(evidence: Evidence) -> np.ndarray:
+    """The configurations the JSON lists, in sweep order: every one up to the policy's
+    ``listed_configurations``; beyond it the selected one and the best and the worst by Sharpe ratio
+    (half each), so a million-configuration audit does not write hundreds of MB."""
+    n = evidence.sweep.n_configurations
+    limit = evidence.policy.listed_configurations
+    if n <= limit:
+        return np.arange(n)
+    order = np.argsort(np.where(np.isfinite(evidence.sharpe_ratios), evidence.sharpe_ratios, -np.inf), kind="stable")
+    bottom, top = order[: limit // 2], order[n - (limit - limit // 2):]
+    keep = np.concatenate([bottom, top])
+    if evidence.selected_index not in keep:  # a named selection: it takes the place of the lowest of the best
+        keep = np.append(keep[keep != top[0]], evidence.selected_index)
+    return np.sort(keep)
+
+
+def _parameter_rows(sweep, listed: np.ndarray) -> list[dict]:
+    table = sweep.parameters.reset_index(drop=True)
+    if table.shape[1] == 0:
+        return [{}] * len(listed)
+    return table.iloc[listed].to_dict("records")
+
+
+def _listing(evidence: Evidence, listed: np.ndarray) -> dict:
+    """Which configurations ``configurations`` lists, and a summary of every configuration's intervals."""
+    iv = evidence.intervals
+    n = evidence.sweep.n_configurations
+    rule = ("every configuration" if len(listed) == n else
+            f"the selected configuration and the best and the worst by Sharpe ratio, {len(listed):,} in all "
+            f"(policy key listed_configurations)")
+    mean_low = np.array([i.low for i in iv.mean], dtype=float)
+    sharpe = np.array([i.estimate for i in iv.sharpe], dtype=float)
+    return {
+        "listed": int(len(listed)),
+        "of": int(n),
+        "rule": rule,
+        "mean_interval_above_zero": int(np.count_nonzero(mean_low > 0)),
+        "sharpe_quantiles": {f"{q:g}": float(v) for q, v in zip(_SUMMARY_LEVELS, np.nanquantile(sharpe, _SUMMARY_LEVELS))},
+    }
+
+
+_SUMMARY_LEVELS = (0.0, 0.05, 0.25, 0.5, 0.75, 0.95, 1.0)
 
 
 def _surface_block(evidence: Evidence) -> dict:
@@ -285,6 +331,13 @@ def results_document(evidence: Evidence) -> dict:
         out["overfitting"] = _overfitting_block(evidence)
     if evidence.tails is not None and evidence.tails.stress.applicable:
         out["tails"] = _tails_block(evidence)
+    if evidence.walk_forward is not None:
+        out["walk_forward"] = _walk_forward_block(evidence)
+    if evidence.stability is not None:
+        out["stability"] = _stability_block(evidence)
+    meaning = _time_meaning(out, evidence.policy.significance, evidence.sweep.periods_per_year)
+    if meaning is not None:
+        out["time_meaning"] = meaning
     return _clean(out)
 
 
@@ -461,6 +514,135 @@ def _tails_block(evidence: Evidence) -> dict:
         "critical_value": test.critical_value,
         "passed": test.passed,
     }
+
+
+def _mean_and_sharpe(iv, mean: float, sharpe: float, ppy: float | None) -> dict:
+    """A record's mean and Sharpe ratio, per window and annualized: intervals when the audit has them,
+    plain numbers otherwise."""
+    root = math.sqrt(ppy) if ppy else None
+    if iv is None:
+        return {"mean": mean, "mean_annualized": mean * ppy if ppy else None,
+                "sharpe": sharpe, "sharpe_annualized": sharpe * root if root else None}
+    return {"mean": _interval(iv.mean[0]), "mean_annualized": _interval(iv.mean[0], ppy),
+            "sharpe": _interval(iv.sharpe[0]), "sharpe_annualized": _interval(iv.sharpe[0], root)}
+
+
+def _walk_forward_block(evidence: Evidence) -> dict:
+    walk = evidence.walk_forward
+    sweep = evidence.sweep
+    names = sweep.configurations
+    ppy = sweep.periods_per_year
+    return {
+        "rule": "highest Sharpe ratio on the earlier windows, re-picked before every window",
+        "warmup": walk.warmup,
+        "lookback": walk.lookback,
+        "first_window": sweep.windows[walk.warmup],
+        "windows": walk.windows,
+        **_mean_and_sharpe(walk.intervals, walk.mean, walk.sharpe, ppy),
+        "pick_changes": walk.pick_changes,
+        "pick_change_rate": walk.pick_change_rate,
+        "distinct_picks": walk.distinct_picks,
+        "most_picked": names[walk.most_picked],
+        "most_picked_share": walk.most_picked_share,
+        "last_pick": names[int(walk.picks[-1])],
+        "selected_share": walk.selected_share,
+        "selected_same_windows": {
+            "mean": walk.selected_mean,
+            "mean_annualized": walk.selected_mean * ppy if ppy else None,
+            "sharpe": walk.selected_sharpe,
+            "sharpe_annualized": walk.selected_sharpe * math.sqrt(ppy) if ppy else None,
+        },
+        "persistence": {"ar_coefficient": walk.persistence, "mean_prediction": walk.persistence_gain},
+        "stress": {"windows": walk.stress_windows, "expected_windows": walk.stress_windows_expected,
+                   "mean_charge": walk.stress_charge},
+        "test": {
+            "mean_tested": walk.tested_mean,
+            "statistic": walk.statistic,
+            "degrees_of_freedom": walk.degrees_of_freedom,
+            "pvalue": walk.pvalue,
+        },
+    }
+
+
+def _period(evidence: Evidence, period, iv=None, name: str = "") -> dict:
+    windows = evidence.sweep.windows
+    return {
+        "period": name,
+        "first_window": windows[period.start],
+        "last_window": windows[period.stop - 1],
+        "start": period.start,
+        "windows": period.windows,
+        **_mean_and_sharpe(iv, period.mean, period.sharpe, evidence.sweep.periods_per_year),
+        "t_ratio": period.t_ratio,
+        "degrees_of_freedom": period.degrees_of_freedom,
+    }
+
+
+def _stability_block(evidence: Evidence) -> dict:
+    st = evidence.stability
+    ppy = evidence.sweep.periods_per_year
+    root = math.sqrt(ppy) if ppy else None
+    return {
+        "configuration": evidence.selected,
+        "thirds": [_period(evidence, p, name=f"{which} third")
+                   for p, which in zip(st.thirds, ("first", "middle", "last"))],
+        "recent_share": st.recent_share,
+        "early": _period(evidence, st.early, st.early_intervals, "before the recent period"),
+        "recent": _period(evidence, st.recent, st.recent_intervals, "recent period"),
+        "change": {
+            "difference": st.difference,
+            "difference_annualized": st.difference * ppy if ppy else None,
+            "standard_error": st.standard_error,
+            "statistic": st.statistic,
+            "degrees_of_freedom": st.degrees_of_freedom,
+            "pvalue": st.pvalue,
+            "long_run_ratio": st.long_run_ratio,
+        },
+        "rolling": {
+            "windows": st.rolling_windows,
+            "first_window": evidence.sweep.windows[st.rolling_windows - 1],
+            "sharpe": st.rolling_sharpe,
+            "last_sharpe": st.rolling_sharpe[-1],
+            "last_sharpe_annualized": st.rolling_sharpe[-1] * root if root else None,
+            "lowest_sharpe": st.rolling_lowest,
+            "lowest_sharpe_annualized": st.rolling_lowest * root if root else None,
+            "highest_sharpe": st.rolling_highest,
+            "highest_sharpe_annualized": st.rolling_highest * root if root else None,
+            "share_above_zero": st.rolling_share_positive,
+        },
+    }
+
+
+def _mean_words(block: dict, ppy: float | None) -> str:
+    """A period's mean as a percentage, a year when the periods per year are known, else per window."""
+    value = block["mean_annualized"] if ppy else block["mean"]
+    value = value["estimate"] if isinstance(value, dict) else value
+    return f"{percent(value)} a year" if ppy else f"{percent(value)} per window"
+
+
+def _time_meaning(results: dict, level: float, ppy: float | None) -> str | None:
+    """One sentence on what the decay test and the walk-forward record mean together (figures of the
+    two blocks, in words); None when the audit examined neither."""
+    clauses = []
+    st, walk = results.get("stability"), results.get("walk_forward")
+    if st is not None:
+        figures = (f"{_mean_words(st['recent'], ppy)} in the recent period against "
+                   f"{_mean_words(st['early'], ppy)} before it")
+        if st["change"]["pvalue"] <= level:
+            clauses.append(f"the edge has faded ({figures}, a fall beyond chance at the {number(level, 6)} level)")
+        elif st["change"]["difference"] < 0:
+            clauses.append(f"the edge earned less of late but not beyond chance ({figures})")
+        else:
+            clauses.append(f"the edge shows no sign of fading ({figures})")
+    if walk is not None:
+        earned = _mean_words(walk, ppy)
+        if walk["test"]["pvalue"] <= level:
+            clauses.append(f"re-picking the winner as the windows came would have earned {earned} out of sample, "
+                           "above zero beyond chance")
+        else:
+            clauses.append(f"re-picking the winner as the windows came earned {earned} out of sample, not clearly "
+                           "above zero")
+    return "Over time, " + "; ".join(clauses) + "." if clauses else None
 
 
 def _overfitting_block(evidence: Evidence) -> dict:
@@ -648,7 +830,9 @@ def baseline_block(comparison: BaselineComparison) -> dict[str, Any]:
 
 
 def ledger_block(tally: LedgerTally, *, declared: int | None, used: int | None, note: str | None) -> dict:
-    """The JSON ``ledger`` block."""
+    """The JSON ``ledger`` block: the count (``trials_counted``: distinct configurations of each
+    strategy, plus the records counted by data fingerprint), what this audit added, the trials of
+    each strategy label, and the data fingerprint kept for the audit trail."""
     return {
         "path": tally.path,
         "fingerprint": tally.fingerprint,
@@ -659,6 +843,14 @@ def ledger_block(tally: LedgerTally, *, declared: int | None, used: int | None, 
         "trials_declared": declared,
         "trials_used": used,
         "note": note,
+        "strategy": tally.strategy,
+        "counted_by": "configuration" if tally.by_configuration else "fingerprint",
+        "trials_before": tally.trials_before,
+        "trials_added": tally.trials_added,
+        "fingerprint_records": tally.fingerprint_records,
+        "fingerprint_trials": tally.fingerprint_trials,
+        "strategies": [{"strategy": label, "trials": count} for label, count in tally.strategies],
+        "grid": tally.grid,
     }
 
 
@@ -670,7 +862,7 @@ def figure_material(evidence: Evidence) -> FigureMaterial:
     overfit = evidence.overfitting
     return FigureMaterial(
         selected_index=k,
-        mean_distribution=evidence.intervals.mean_distribution[:, k],
+        mean_distribution=evidence.intervals.mean_distribution_of(k),
         returns=sweep.returns,
         dates=sweep.dates,
         sharpe_grid=parameter_grid(sweep.parameters, evidence.sharpe_ratios, selected=k),
@@ -680,6 +872,8 @@ def figure_material(evidence: Evidence) -> FigureMaterial:
         split_statistic=None if overfit is None else overfit.statistic,
         deflation_curve=evidence.deflation_curve,
         surface=evidence.surface,
+        walk_forward=evidence.walk_forward,
+        stability=evidence.stability,
     )
 
 
@@ -759,4 +953,5 @@ def calibration_document(
         "power": power,
         "null": null,
         "command": command,
+        "caution": CAUTION,
     }

@@ -54,6 +54,7 @@ __all__ = [
     "figure",
     "styled",
     "listed",
+    "p_is",
     "STYLES",
     # the same styles under their earlier names
     "sig",
@@ -298,3 +299,9 @@ def xml_number(x: Any) -> str:
 def listed(parts: list[str]) -> str:
     """Phrases joined as a sentence lists them: ``a``, ``a and b``, ``a, b and c``."""
     return parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]
+
+
+def p_is(x: Any, floor: float | None = None) -> str:
+    """A p-value after its letter: ``p = 0.0123``, or ``p < 0.001`` at the floor (:func:`pvalue`)."""
+    text = pvalue(x, floor)
+    return f"p {text}" if text.startswith(("<", ">")) else f"p = {text}"

@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 from .document import ledger_block
 from .errors import InputError
-from .ledger import MAX_TRIALS, Ledger, ledger_record, open_ledger, sweep_fingerprint
+from .ledger import MAX_TRIALS, Ledger, ledger_record, open_ledger, sweep_fingerprint, tally_note, trial_keys
 from .methods.inference import declared_trials
 from .results import LedgerTally
 from .sweep import Sweep
@@ -41,12 +41,12 @@ def trials_to_count(
             return None, None
         return declared, f"{declared} trials declared with --trials"
     if declared is None:
-        return tally.trials, f"{tally.trials} trials counted by the ledger {tally.path}"
+        return tally.trials, tally_note(tally)
     used = max(declared, tally.trials)
     source = "--trials" if declared >= tally.trials else "the ledger"
     return used, (
         f"{used} trials: the larger of --trials ({declared}) and the ledger's count ({tally.trials}), "
-        f"from {source}"
+        f"from {source}; {tally_note(tally)}"
     )
 
 
@@ -64,6 +64,8 @@ class TrialCount:
         The declared count, as given.
     tally : LedgerTally or None
         What the ledger said before this audit.
+    keys : tuple of str or None
+        The sweep's configuration keys as recorded (None: counted by its data fingerprint).
     """
 
     trials: int | None
@@ -71,6 +73,7 @@ class TrialCount:
     declared: int | None
     tally: LedgerTally | None = None
     _ledger: Ledger | None = None
+    keys: tuple[str, ...] | None = None
 
     def block(self) -> dict | None:
         """The JSON ``ledger`` block, or None without a ledger."""
@@ -90,6 +93,9 @@ class TrialCount:
             verdict=verdict,
             input_path=sweep.path,
             trials=self.trials,
+            strategy=self.tally.strategy,
+            keys=self.keys,
+            tally=self.tally,
         ))
 
 
@@ -101,20 +107,24 @@ class TrialCount:
 
 @contextmanager
 def counted_trials(
-    sweep: Sweep, *, ledger: str | os.PathLike | None = None, declared: int | None = None
+    sweep: Sweep, *, ledger: str | os.PathLike | None = None, declared: int | None = None,
+    strategy: str | None = None,
 ) -> Iterator[TrialCount]:
     """The trials of an audit of ``sweep``, the ledger (when given) locked until the block ends.
 
-    A declaration below the sweep's configurations is refused before the ledger is opened.
+    ``strategy`` labels the configurations in the ledger (a trial is a configuration of a
+    strategy). A declaration below the sweep's configurations is refused before the ledger is opened.
     """
     trials_to_count(sweep.n_configurations, declared=declared)
     if ledger is None:
         trials, note = trials_to_count(sweep.n_configurations, declared=declared)
         yield TrialCount(trials, note, declared)
         return
+    keys = trial_keys(sweep)
     with open_ledger(ledger) as book:
         tally = book.tally(
-            fingerprint=sweep_fingerprint(sweep.returns, sweep.configurations), configurations=sweep.n_configurations
+            fingerprint=sweep_fingerprint(sweep.returns, sweep.configurations), configurations=sweep.n_configurations,
+            keys=keys, strategy=strategy,
         )
         trials, note = trials_to_count(sweep.n_configurations, declared=declared, tally=tally)
-        yield TrialCount(trials, note, declared, tally, book)
+        yield TrialCount(trials, note, declared, tally, book, keys)

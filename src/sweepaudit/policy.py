@@ -24,7 +24,8 @@ from dataclasses import dataclass, field, fields, replace
 from pathlib import Path
 from typing import Any
 
-from .errors import PolicyError
+from . import validate
+from .errors import InputError, PolicyError
 from .readfile import explained, read_bytes
 
 __all__ = [
@@ -52,6 +53,8 @@ CHECK_IDS: tuple[str, ...] = (
     "overfitting",
     "data_snooping",
     "family_tails",
+    "walk_forward",
+    "edge_decay",
     "parameter_surface",
 )
 
@@ -76,6 +79,7 @@ def _f(
     source: str | None = None,
     check_ids: bool = False,
     even: bool = False,
+    label: bool = False,
 ):
     return field(
         default=default,
@@ -92,6 +96,8 @@ def _f(
             "check_ids": check_ids,
             # A whole number that must be even.
             "even": even,
+            # A name (validate.label): no default value to take the type from.
+            "label": label,
         },
     )
 
@@ -120,13 +126,25 @@ class Policy:
         Check ids that must pass for a go; a check (one of :data:`CHECK_IDS`) not listed is advisory.
     disabled : tuple of str
         Check ids left out entirely.
+    memory_budget : int
+        Working memory of an audit in MiB (beyond the sweep): the ``B x N`` resampled moments are
+        kept at once within it, or the audit streams over blocks of configurations.
+    listed_configurations : int
+        Configurations whose intervals the audit JSON lists one by one (beyond it: the selected one,
+        the best and the worst, and a summary of all).
+    walk_forward_warmup, walk_forward_lookback : int
+        The walk-forward record's first window and each pick's training windows (0: a quarter of the
+        windows; all earlier windows).
+    recent_share : float
+        The share of the windows, at the end, that the ``edge_decay`` check compares with the rest.
     baseline_interval_margin, baseline_probability_margin, baseline_pvalue_margin : float
         How far a gated figure may worsen against a ``--baseline`` audit before the
         ``baseline_drift`` check fails (see :mod:`sweepaudit.baseline`).
     """
 
     significance: float = _f(
-        0.05, "familywise level of the data-snooping tests (conventional 5%)", low=0.0, high=0.5, low_open=True
+        0.05, "familywise level of the data-snooping tests, and the level of the walk_forward and edge_decay "
+        "tests (conventional 5%)", low=0.0, high=0.5, low_open=True
     )
     confidence: float = _f(
         0.95, "two-sided level of the bootstrap confidence intervals (conventional 95%)", low=0.5, high=1.0, high_open=True
@@ -262,6 +280,45 @@ class Policy:
         low=0.0, high=1.0, low_open=True,
         source="sweepaudit's choice (README: the family's tails)",
     )
+    memory_budget: int = _f(
+        768,
+        "working memory of an audit in MiB, beyond the sweep itself: above it the audit streams over "
+        "blocks of configurations (the same figures; README: scale and performance)",
+        low=16, high=10**8,
+        source="sweepaudit's choice: 768 MiB keeps 10,000 resamples of 1,500 configurations in memory, and an "
+        "audit of 100,000 configurations x 2,000 windows under 3 GB with its returns",
+    )
+    listed_configurations: int = _f(
+        10_000,
+        "the audit JSON lists every configuration's intervals up to this many configurations; beyond it "
+        "the selected one, the best and worst by Sharpe ratio (this many in all) and a summary",
+        low=10, high=10**9,
+        source="sweepaudit's choice: about 5 MB of JSON",
+    )
+    walk_forward_warmup: int = _f(
+        0,
+        "walk_forward check: windows before the first pick of the walk-forward record (0: automatic, a "
+        "quarter of the windows; otherwise at least 2)",
+        low=0, high=10**9,
+        source="sweepaudit's choice: a quarter of the windows leaves three quarters as the out-of-sample "
+        "record and rests the first picks on a year of a four-year weekly sweep",
+    )
+    walk_forward_lookback: int = _f(
+        0,
+        "walk_forward check: each pick looks at the trailing this many windows (0: all earlier windows; "
+        "otherwise at least 2), as when a parameter is re-tuned on a rolling window",
+        low=0, high=10**9,
+        source="sweepaudit's choice: all earlier windows, the steadiest pick; set it to the training window "
+        "of your own re-tuning",
+    )
+    recent_share: float = _f(
+        0.5,
+        "edge_decay check: share of the windows, at the end, that form the recent period compared with "
+        "the windows before it (each period keeps at least 8 windows)",
+        low=0.0, high=1.0, low_open=True, high_open=True,
+        source="sweepaudit's choice on simulation evidence: the even split is the most powerful against a "
+        "change in the middle of the record (docs/validation.md)",
+    )
     required: tuple[str, ...] = _f(
         ("enough_windows", "plausible_returns", "mean_interval", "deflated_sharpe", "track_record", "overfitting",
          "data_snooping", "family_tails", "baseline_drift"),
@@ -297,6 +354,13 @@ class Policy:
         high=1.0,
         source="sweepaudit's choice, a judgement call: small against the conventional 5% level",
     )
+    strategy: str | None = _f(
+        None,
+        "trial ledger: the strategy's label; a trial is a configuration of a strategy, so two strategies "
+        "sharing a ledger count their configurations apart even when their names coincide (--strategy "
+        "overrides it)",
+        label=True,
+    )
 
     def replace(self, **changes: Any) -> Policy:
         return policy_from_mapping({**_as_mapping(self), **changes})
@@ -319,6 +383,10 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
             raise PolicyError(f"{source}: unknown key {key!r}; known keys are {', '.join(known)}")
     clean = {key: _checked(known[key], value, source) for key, value in values.items()}
     policy = replace(Policy(), **clean)
+    for key, zero in (("walk_forward_warmup", "automatic"), ("walk_forward_lookback", "all earlier windows")):
+        if getattr(policy, key) == 1:
+            raise PolicyError(f"{source}: {key} must be 0 ({zero}) or at least 2: a Sharpe ratio needs "
+                              "two windows; got 1")
     both = sorted(set(policy.required) & set(policy.disabled))
     if both:
         raise PolicyError(
@@ -331,6 +399,11 @@ def policy_from_mapping(values: dict[str, Any], *, source: str = "policy") -> Po
 def _checked(f: Any, value: Any, source: str) -> Any:
     """One policy value, of the field's type and within its range."""
     key, meta, default = f.name, f.metadata, f.default
+    if meta.get("label"):
+        try:
+            return None if value is None else validate.label(value, key)
+        except InputError as exc:
+            raise PolicyError(f"{source}: {exc}") from None
     if isinstance(default, bool):
         if not isinstance(value, bool):
             raise PolicyError(f"{source}: {key} must be true or false; got {value!r}")

@@ -20,7 +20,7 @@ Politis, D. N. and White, H. (2004). Automatic block-length selection for the de
 from __future__ import annotations
 
 import math
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from typing import Literal, get_args
 
@@ -34,7 +34,9 @@ __all__ = [
     "Resamples",
     "ResampledMoments",
     "automatic_block_length",
+    "politis_white_lengths",
     "draw_resamples",
+    "indices_to_counts",
     "moment_chunk",
     "resampled_moments",
 ]
@@ -100,6 +102,22 @@ class Resamples:
             for start in range(0, self.count, chunk):
                 yield self._indices[start : start + chunk]
             return
+        yield from self._generated(chunk, _draw_indices)
+
+    def count_chunks(self, chunk: int = GENERATION_GROUP) -> Iterator[np.ndarray]:
+        """Yield ``b x T`` counts as float64: how often each window is drawn in each resample.
+
+        The counts come straight from the blocks (a difference array per resample), without
+        listing every drawn index, from the same random numbers as :meth:`index_chunks`.
+        """
+        if self._indices is not None:
+            for idx in self.index_chunks(chunk):
+                yield indices_to_weights(idx, self.windows)
+            return
+        yield from self._generated(chunk, _draw_counts)
+
+    def _generated(self, chunk: int, draw) -> Iterator[np.ndarray]:
+        """Rows of ``draw(rng, size, T, kind, block_length)`` over the generation groups, in chunks."""
         groups = math.ceil(self.count / GENERATION_GROUP)
         children = np.random.SeedSequence(self.seed).spawn(groups)
         buffer: list[np.ndarray] = []
@@ -107,7 +125,7 @@ class Resamples:
         for g, child in enumerate(children):
             size = min(GENERATION_GROUP, self.count - g * GENERATION_GROUP)
             rng = np.random.default_rng(child)
-            buffer.append(_draw_indices(rng, size, self.windows, self.kind, self.block_length))
+            buffer.append(draw(rng, size, self.windows, self.kind, self.block_length))
             buffered += size
             while buffered >= chunk:
                 block = np.concatenate(buffer) if len(buffer) > 1 else buffer[0]
@@ -123,8 +141,7 @@ class Resamples:
 
         Each row sums to T, so ``weights @ x / T`` is the resampled mean of ``x``.
         """
-        for idx in self.index_chunks(chunk):
-            yield indices_to_weights(idx, self.windows)
+        yield from self.count_chunks(chunk)
 
     def indices(self) -> np.ndarray:
         """All ``B x T`` indices at once (for tests and small problems)."""
@@ -132,11 +149,15 @@ class Resamples:
 
 
 def indices_to_weights(indices: np.ndarray, windows: int) -> np.ndarray:
-    """Count how often each window appears in each row of a ``b x T`` index array."""
+    """Count how often each window appears in each row of a ``b x T`` index array (as float64)."""
+    return indices_to_counts(indices, windows).astype(np.float64)
+
+
+def indices_to_counts(indices: np.ndarray, windows: int) -> np.ndarray:
+    """Count how often each window appears in each row of a ``b x T`` index array (as int64)."""
     b = indices.shape[0]
     flat = indices + windows * np.arange(b, dtype=np.int64)[:, None]
-    counts = np.bincount(flat.ravel(), minlength=b * windows)
-    return counts.reshape(b, windows).astype(np.float64)
+    return np.bincount(flat.ravel(), minlength=b * windows).reshape(b, windows)
 
 
 def _draw_indices(
@@ -152,9 +173,17 @@ def _draw_indices(
         new_block = rng.random((size, windows)) < p
         new_block[:, 0] = True
         starts = rng.integers(0, windows, size=(size, windows))
-        last_start = np.maximum.accumulate(np.where(new_block, t, 0), axis=1)
-        start_value = np.take_along_axis(starts, last_start, axis=1)
-        return (start_value + (t - last_start)) % windows
+        # The position of the block each window belongs to (int32 halves the memory traffic), then
+        # its start read through flat indices (faster than take_along_axis); a block wraps around
+        # the end at most once, since start and offset are both below T.
+        position = np.where(new_block, t.astype(np.int32), np.int32(0))
+        np.maximum.accumulate(position, axis=1, out=position)
+        offset = t.astype(np.int32) - position
+        position += (np.arange(size, dtype=np.int32) * np.int32(windows))[:, None]
+        index = np.take(starts.ravel(), position.astype(np.int64, copy=False))
+        index += offset
+        index[index >= windows] -= windows
+        return index
     length = int(block_length)
     blocks = math.ceil(windows / length)
     offsets = np.arange(length, dtype=np.int64)
@@ -167,14 +196,105 @@ def _draw_indices(
     return idx.reshape(size, blocks * length)[:, :windows]
 
 
-def automatic_block_length(series: np.ndarray, kind: BootstrapKind = "stationary") -> float:
-    """Politis and White (2004) automatic block length, with the Patton et al. (2009) correction.
+def _draw_counts(
+    rng: np.random.Generator, size: int, windows: int, kind: str, block_length: float
+) -> np.ndarray:
+    """:func:`_draw_indices` as counts per window, from the blocks: each block of start s and length
+    m adds one to windows s .. s + m - 1 (wrapping for the stationary and circular bootstraps),
+    written as +1 at s and -1 at s + m in a difference array, then summed along the row."""
+    if kind == "stationary":
+        new_block = rng.random((size, windows)) < 1.0 / block_length
+        new_block[:, 0] = True
+        starts = rng.integers(0, windows, size=(size, windows))
+        rows, columns = np.nonzero(new_block)
+        first = starts[rows, columns]
+        following = np.empty_like(columns)
+        following[:-1] = columns[1:]
+        following[np.append(rows[1:] != rows[:-1], True)] = windows
+        return _counts_from_blocks(size, windows, rows, first, following - columns)
+    length = int(block_length)
+    blocks = math.ceil(windows / length)
+    if kind == "circular":
+        first = rng.integers(0, windows, size=(size, blocks))
+    else:  # moving-block: blocks inside the sample
+        first = rng.integers(0, windows - length + 1, size=(size, blocks))
+    lengths = np.full((size, blocks), length, dtype=np.int64)
+    lengths[:, -1] = windows - (blocks - 1) * length  # the last block is cut at T
+    rows = np.repeat(np.arange(size), blocks)
+    return _counts_from_blocks(size, windows, rows, first.ravel(), lengths.ravel())
 
-    Uses ``arch.bootstrap.optimal_block_length`` rather than rewriting it. The result is clipped to
-    ``[1, T / 2]``; circular and moving-block lengths are rounded up to a whole number.
+
+def _counts_from_blocks(size: int, windows: int, rows, first, lengths) -> np.ndarray:
+    """Counts per window of blocks (row, first window, length), wrapping past the end once."""
+    width = windows + 1
+    end = first + lengths
+    wraps = end > windows
+    base = rows * width
+    plus = np.concatenate([base + first, base[wraps]])
+    minus = np.concatenate([base + np.minimum(end, windows), base[wraps] + end[wraps] - windows])
+    # One bincount of +1 and -1 weights; its float64 sums of small integers are exact.
+    signs = np.concatenate([np.ones(plus.size), np.full(minus.size, -1.0)])
+    diff = np.bincount(np.concatenate([plus, minus]), weights=signs, minlength=size * width)
+    return np.cumsum(diff.reshape(size, width), axis=1)[:, :windows]
+
+
+def politis_white_lengths(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Politis and White (2004) automatic block lengths of each column, with the Patton, Politis and
+    White (2009) correction: ``(stationary, circular)``, unclipped below (NaN for a constant column).
+
+    ``b = (2 g^2 / d)^(1/3) T^(1/3)`` with ``g = sum_k h(k/m) |k| gamma_k``, ``d = c sigma^4``,
+    ``sigma^2 = sum_k h(k/m) gamma_k`` over ``|k| <= m``, the flat-top kernel ``h(x) = min(1, 2(1 - |x|))``,
+    ``c = 2`` (stationary) or ``4/3`` (circular) (Politis and White 2004, eqs. 9-13; the constant of
+    the stationary case as corrected by Patton et al. 2009). The bandwidth ``m`` is twice the first lag
+    after which ``k_n = max(5, log10 T)`` autocorrelations in a row lie within
+    ``2 sqrt(log10 T / T)`` (Politis and White 2004, section 3.2), at most ``sqrt(T) + k_n``; the
+    length is capped at ``min(3 sqrt(T), T / 3)``. These tuning rules and the order of every sum are
+    those of ``arch.bootstrap.optimal_block_length`` (documented there as Patton's), so the lengths
+    agree with it to the last bit (``tests/test_resample.py``) without importing arch, whose import
+    costs more than a second.
     """
-    from arch.bootstrap import optimal_block_length
+    x = np.asarray(x, dtype=np.float64)
+    columns = x[:, None] if x.ndim == 1 else x
+    out = np.array([_politis_white(np.asarray(col)) for col in columns.T])
+    return out[:, 0], out[:, 1]
 
+
+def _politis_white(x: np.ndarray) -> tuple[float, float]:
+    nobs = x.shape[0]
+    eps = x - x.mean(0)
+    b_max = np.ceil(min(3 * np.sqrt(nobs), nobs / 3))
+    kn = max(5, int(np.log10(nobs)))
+    m_max = int(np.ceil(np.sqrt(nobs))) + kn
+    band = 2 * np.sqrt(np.log10(nobs) / nobs)
+    acv = np.zeros(m_max + 1)
+    abs_acorr = np.zeros(m_max + 1)
+    first: int | None = None
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for i in range(m_max + 1):
+            v1 = eps[i + 1 :] @ eps[i + 1 :]
+            v2 = eps[: -(i + 1)] @ eps[: -(i + 1)]
+            cross = eps[i:] @ eps[: nobs - i]
+            acv[i] = cross / nobs
+            abs_acorr[i] = np.abs(cross) / np.sqrt(v1 * v2)
+            if first is None and i >= kn and np.all(abs_acorr[i - kn : i] < band):
+                first = i - kn
+        m = min(2 * max(first, 1) if first is not None else m_max, m_max)
+        g = 0.0
+        long_run = acv[0]
+        for k in range(1, m + 1):
+            weight = 1 if k / m <= 1 / 2 else 2 * (1 - k / m)
+            g += 2 * weight * k * acv[k]
+            long_run += 2 * weight * acv[k]
+        stationary = ((2 * g**2) / (2 * long_run**2)) ** (1 / 3) * nobs ** (1 / 3)
+        circular = ((2 * g**2) / (4 / 3 * long_run**2)) ** (1 / 3) * nobs ** (1 / 3)
+    return min(stationary, b_max), min(circular, b_max)
+
+
+def automatic_block_length(series: np.ndarray, kind: BootstrapKind = "stationary") -> float:
+    """Politis and White (2004) automatic block length, with the Patton et al. (2009) correction
+    (:func:`politis_white_lengths`). The result is clipped to ``[1, T / 2]``; circular and
+    moving-block lengths are rounded up to a whole number.
+    """
     x = np.asarray(series, dtype=np.float64)
     if x.ndim != 1 or len(x) < 8:
         raise DegenerateDataError(
@@ -182,9 +302,8 @@ def automatic_block_length(series: np.ndarray, kind: BootstrapKind = "stationary
         )
     if np.std(x) == 0:
         raise DegenerateDataError("the automatic block length needs a non-constant series")
-    table = optimal_block_length(x)
-    column = "stationary" if kind == "stationary" else "circular"
-    value = float(table[column].iloc[0])
+    stationary, circular = politis_white_lengths(x)
+    value = float((stationary if kind == "stationary" else circular)[0])
     if not np.isfinite(value):
         value = 1.0
     value = min(max(value, 1.0), len(x) / 2)
@@ -219,7 +338,8 @@ def draw_resamples(
         Mean block length for the stationary bootstrap; the fixed block length otherwise (a whole
         number). Must lie in ``[1, T]``.
     seed : int or None
-        Seed of the random generator; ``None`` draws fresh entropy (not reproducible).
+        Seed of the random generator; ``None`` draws fresh entropy once (not reproducible from the
+        call, but the returned definition regenerates the same resamples every time).
     """
     validate.choice(kind, "kind", BOOTSTRAP_KINDS)
     windows = validate.whole_number(windows, "windows")
@@ -232,6 +352,10 @@ def draw_resamples(
         raise InputError(f"the {kind} bootstrap needs a whole block length; got {block_length}")
     if seed is not None:
         seed = validate.whole_number(seed, "seed", minimum=0)
+    else:
+        # Fresh entropy, drawn once: every consumer (each block of configurations, each worker)
+        # must regenerate the same resamples.
+        seed = int(np.random.SeedSequence().entropy)
     return Resamples(windows=windows, count=count, kind=kind, block_length=float(block_length), seed=seed)
 
 
@@ -262,10 +386,24 @@ class ResampledMoments:
         return np.maximum(self.second - self.mean**2, 0.0) * (t / (t - 1))
 
     def sharpe(self) -> np.ndarray:
-        """Resampled Sharpe ratios per window; NaN where a resample has zero variance."""
-        sd = np.sqrt(self.variance())
+        """Resampled Sharpe ratios per window; NaN where a resample has zero variance.
+
+        The same operations as ``mean / sqrt(variance())``, in place in one ``B x N`` buffer.
+        """
+        if self.second is None:
+            raise InputError("these resampled moments kept only the means (a streamed audit)")
+        t = self.windows
+        out = np.multiply(self.mean, self.mean)
+        np.subtract(self.second, out, out=out)
+        np.maximum(out, 0.0, out=out)
+        out *= t / (t - 1)
+        np.sqrt(out, out=out)
+        zero = out == 0
         with np.errstate(divide="ignore", invalid="ignore"):
-            return np.where(sd > 0, self.mean / np.where(sd > 0, sd, 1.0), np.nan)
+            np.divide(self.mean, out, out=out)
+        if zero.any():
+            out[zero] = np.nan
+        return out
 
 
 def resampled_moments(
@@ -274,6 +412,8 @@ def resampled_moments(
     *,
     chunk: int = GENERATION_GROUP,
     progress=None,
+    weights: Iterable[np.ndarray] | None = None,
+    threads: int = 1,
 ) -> ResampledMoments:
     """Resampled means and second moments of every column: ``weights @ returns / T`` in chunks.
 
@@ -287,6 +427,17 @@ def resampled_moments(
         Resamples per matrix product (memory knob only; never changes a figure).
     progress : callable, optional
         Called with the number of resamples finished after each chunk.
+    weights : iterable of ndarray, optional
+        The resamples' weights in chunks of ``chunk`` rows, when the caller keeps them drawn
+        (default: ``resamples.weight_chunks(chunk)``).
+    threads : int
+        Chunks multiplied at once, each on its own thread (call with BLAS limited to one thread).
+
+    Notes
+    -----
+    Each chunk's rows are computed by one single-threaded product, and a row of ``weights @ x``
+    does not depend on the other rows in the call, so the figures are the same bits whatever the
+    number of threads (a multi-threaded BLAS call may split a product so that they are not).
     """
     x = np.ascontiguousarray(returns, dtype=np.float64)
     if x.ndim != 2 or x.shape[0] != resamples.windows:
@@ -297,17 +448,46 @@ def resampled_moments(
     mean = np.empty((resamples.count, n))
     second = np.empty((resamples.count, n))
     x2 = x * x
-    done = 0
-    for weights in resamples.weight_chunks(chunk):
-        b = weights.shape[0]
-        np.matmul(weights, x, out=mean[done : done + b])
-        np.matmul(weights, x2, out=second[done : done + b])
-        done += b
-        if progress is not None:
-            progress(done)
+
+    def product(done: int, w: np.ndarray) -> int:
+        b = w.shape[0]
+        np.matmul(w, x, out=mean[done : done + b])
+        np.matmul(w, x2, out=second[done : done + b])
+        return done + b
+
+    chunks = resamples.weight_chunks(chunk) if weights is None else weights
+    if threads <= 1:
+        done = 0
+        for w in chunks:
+            done = product(done, w)
+            if progress is not None:
+                progress(done)
+    else:
+        _in_threads(product, chunks, int(threads), progress)
     mean /= t
     second /= t
     return ResampledMoments(mean=mean, second=second, windows=t)
+
+
+def _in_threads(product, chunks: Iterable[np.ndarray], threads: int, progress) -> None:
+    """``product(first row, weights)`` for every chunk, at most ``threads`` chunks at once (numpy
+    releases the GIL inside a product; the next chunk is drawn meanwhile)."""
+    from concurrent.futures import FIRST_COMPLETED, ThreadPoolExecutor, wait
+
+    with ThreadPoolExecutor(max_workers=threads) as pool:
+        running: set = set()
+        done = 0
+        for w in chunks:
+            if len(running) >= threads:
+                finished, running = wait(running, return_when=FIRST_COMPLETED)
+                for f in finished:
+                    f.result()
+            running.add(pool.submit(product, done, w))
+            done += w.shape[0]
+            if progress is not None:
+                progress(done)
+        for f in running:
+            f.result()
 
 
 def moment_chunk(windows: int) -> int:

@@ -36,9 +36,10 @@ Counting = Literal["include-observed", "strict-share"]
 StepRecentring = Literal["upper", "consistent"]
 BlockSeries = Literal["average", "selected"]
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Interval:
-    """A point estimate with a two-sided confidence interval."""
+    """A point estimate with a two-sided confidence interval (slots: an audit keeps two per
+    configuration, a million for a sweep of half a million)."""
 
     estimate: float
     low: float
@@ -59,7 +60,8 @@ class BootstrapIntervals:
         Per configuration, per window (mean excess return as a fraction; Sharpe ratio per window).
     mean_distribution, sharpe_distribution : ndarray, shape (B, N)
         The resampled statistics (kept so a user can change the level without resampling, with
-        :func:`sweepaudit.methods.bootstrap_ci.at_level`).
+        :func:`sweepaudit.methods.bootstrap_ci.at_level`); after a streamed audit only the columns
+        in ``distribution_columns``.
     confidence : float
     method : {"studentized", "percentile", "basic"}
     degenerate_resamples : int
@@ -67,6 +69,9 @@ class BootstrapIntervals:
     mean_standard_error, sharpe_standard_error, degrees_of_freedom : ndarray or None
         Long-run standard errors of each configuration's mean and Sharpe ratio and the long-run
         estimate's degrees of freedom, the scale of the studentized intervals.
+    distribution_columns : tuple of int, optional
+        The configurations whose distributions are kept, when not all are (a streamed audit keeps
+        the selected one's: ``B x N`` would not fit its memory budget); None: all.
     """
 
     mean: tuple[Interval, ...]
@@ -79,6 +84,20 @@ class BootstrapIntervals:
     mean_standard_error: np.ndarray | None = None
     sharpe_standard_error: np.ndarray | None = None
     degrees_of_freedom: np.ndarray | None = None
+    distribution_columns: tuple[int, ...] | None = None
+
+    def mean_distribution_of(self, column: int) -> np.ndarray:
+        """The resampled means of one configuration (shape (B,))."""
+        return self.mean_distribution[:, self._position(column)]
+
+    def sharpe_distribution_of(self, column: int) -> np.ndarray:
+        """The resampled Sharpe ratios of one configuration (shape (B,))."""
+        return self.sharpe_distribution[:, self._position(column)]
+
+    def _position(self, column: int) -> int:
+        if self.distribution_columns is None:
+            return column
+        return self.distribution_columns.index(column)
 
     @property
     def mean_estimates(self) -> np.ndarray:
@@ -589,6 +608,45 @@ class CscvResult:
     warnings: tuple[str, ...]
 
 
+@dataclass(frozen=True, eq=False)
+class CscvBlockWinners:
+    """Each CSCV split's best configuration within a column block, or over the sweep once combined
+    (:func:`sweepaudit.methods.cscv.cscv_block_winners`). Arrays have one entry per split.
+
+    Attributes
+    ----------
+    in_sample, column, out_of_sample, t_statistic : ndarray
+        The best in-sample statistic, its (sweep-wide) column, that column's out-of-sample
+        statistic and its in-sample t-statistic.
+    constant : int
+        Configurations with zero-variance half-samples (for the warning).
+    """
+
+    in_sample: np.ndarray
+    column: np.ndarray
+    out_of_sample: np.ndarray
+    t_statistic: np.ndarray
+    constant: int
+
+
+@dataclass(frozen=True, eq=False)
+class CscvBlockRanks:
+    """One column block's second CSCV pass (:func:`sweepaudit.methods.cscv.cscv_block_ranks`).
+
+    Attributes
+    ----------
+    below, equal : ndarray, shape (C,)
+        The block's out-of-sample values below and equal to each split winner's.
+    pooled : dict
+        Counts and sums of the block's out-of-sample values between the winners' values (the
+        stochastic-dominance figures), their total and how many are not finite.
+    """
+
+    below: np.ndarray
+    equal: np.ndarray
+    pooled: dict
+
+
 @dataclass(frozen=True)
 class OverfittingDiagnosis:
     """Result of :func:`overfitting_diagnosis`.
@@ -784,6 +842,52 @@ class StepwiseResult:
         the last step's when it was never rejected."""
         step = int(self.rejected_at_step[column])
         return self.critical_values[step - 1] if step else self.critical_values[-1]
+
+
+@dataclass(frozen=True, eq=False)
+class NullDraws:
+    """One column block's per-resample maxima of the recentred null draws under one draw scale.
+
+    Attributes
+    ----------
+    lower, consistent, upper : ndarray, shape (B,)
+        ``max_k (mean*_{k,b} - g(mean_k)) * scale_k`` over the block's columns for Hansen's (2005,
+        eq. 9) three recentrings, not yet floored at zero.
+    top_values, top_columns : ndarray, shape (B, K)
+        The K largest consistent draws of each resample and their (0-based, sweep-wide) columns,
+        for StepM's later steps; a column of -1 pads a block of fewer than K columns.
+    """
+
+    lower: np.ndarray
+    consistent: np.ndarray
+    upper: np.ndarray
+    top_values: np.ndarray
+    top_columns: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class SnoopingBlock:
+    """What one column block contributes to the data-snooping tests (see
+    :func:`sweepaudit.methods.snooping.snooping_block`).
+
+    Attributes
+    ----------
+    start : int
+        The block's first column.
+    variance_of_mean : ndarray, shape (n,)
+        Bootstrap variance (divisor B) of each column's resampled mean.
+    relevant : ndarray of bool, shape (n,)
+        Hansen's consistent rule: the columns kept at their mean in the consistent recentring.
+    studentized, unscaled : NullDraws
+        The null draws divided by ``omega_k / sqrt(n)`` (the "long-run" and "bootstrap" scales; None
+        when not asked for) and multiplied by ``sqrt(n)`` only (the "none" scale).
+    """
+
+    start: int
+    variance_of_mean: np.ndarray
+    relevant: np.ndarray
+    studentized: NullDraws | None
+    unscaled: NullDraws
 
 
 @dataclass(frozen=True, eq=False)
@@ -983,6 +1087,174 @@ class TailTest:
     passed: bool
 
 
+@dataclass(frozen=True, eq=False)
+class WalkForward:
+    """The walk-forward record of picking the winner: for each window after a warm-up, the
+    configuration with the highest Sharpe ratio on the windows before it, and its excess return there.
+
+    Attributes
+    ----------
+    warmup : int
+        Windows before the first pick: the record starts at window ``warmup`` (0-based).
+    lookback : int or None
+        Trailing windows each pick looks at; None: all earlier windows.
+    picks : ndarray of int, shape (n,)
+        The configuration picked for each window of the record.
+    record : ndarray, shape (n,)
+        Its excess return in that window: the out-of-sample record of the selection procedure.
+    selected_record : ndarray, shape (n,)
+        The selected configuration's excess returns over the same windows (the pick of hindsight).
+    mean, sharpe : float
+        Mean excess return and Sharpe ratio (ddof = 1) of the record, per window.
+    pick_changes : int
+        Windows of the record whose pick differs from the previous window's.
+    distinct_picks : int
+        Configurations picked at least once.
+    pick_change_rate : float
+        ``pick_changes`` over the record's windows less one.
+    selected_share : float
+        Share of the record's windows whose pick was the selected configuration.
+    most_picked : int
+        The configuration picked most often (the lowest column among equals).
+    most_picked_share : float
+        Share of the record's windows it was picked in.
+    selected_mean, selected_sharpe : float
+        The selected configuration's mean and Sharpe ratio over the same windows.
+    persistence : float
+        The AR(1) coefficient whose prediction ``persistence * returns[t - 1, pick]`` is taken out of
+        the record before the test.
+    persistence_gain : float
+        Mean of that prediction over the record: what the picks' own last returns foretold.
+    stress_windows : int
+        The family's stress windows inside the record.
+    stress_windows_expected : float
+        The stress windows the record would hold at the whole sample's rate.
+    stress_charge : float
+        Mean per window of the losses charged: in the record's stress windows, and for the ones it
+        holds fewer than expected.
+    tested : ndarray, shape (n,)
+        The series the test reads: the charged record minus the persistence prediction.
+    tested_mean : float
+        Its mean per window.
+    statistic, degrees_of_freedom, pvalue : float
+        The tested series' mean over its long-run standard error, the long-run estimate's equivalent
+        degrees of freedom, and the one-sided p-value (Student's t) against a mean at or below zero.
+    intervals : BootstrapIntervals or None
+        The record's mean and Sharpe ratio intervals from the audit's shared resamples.
+    """
+
+    warmup: int
+    lookback: int | None
+    picks: np.ndarray
+    record: np.ndarray
+    selected_record: np.ndarray
+    mean: float
+    sharpe: float
+    pick_changes: int
+    distinct_picks: int
+    pick_change_rate: float
+    selected_share: float
+    most_picked: int
+    most_picked_share: float
+    selected_mean: float
+    selected_sharpe: float
+    persistence: float
+    persistence_gain: float
+    stress_windows: int
+    stress_windows_expected: float
+    stress_charge: float
+    tested: np.ndarray
+    tested_mean: float
+    statistic: float
+    degrees_of_freedom: float
+    pvalue: float
+    intervals: BootstrapIntervals | None = None
+
+    @property
+    def windows(self) -> int:
+        """Windows in the record."""
+        return int(self.record.size)
+
+
+@dataclass(frozen=True)
+class SubPeriod:
+    """One stretch of a configuration's record: windows ``start`` to ``stop - 1`` (0-based).
+
+    Attributes
+    ----------
+    start, stop : int
+    mean, sharpe : float
+        Mean excess return and Sharpe ratio (ddof = 1), per window.
+    t_ratio : float
+        The mean over its long-run standard error (:func:`~sweepaudit.methods.longrun.long_run_variance`).
+    degrees_of_freedom : float
+        The long-run estimate's equivalent degrees of freedom (read the t-ratio against Student's t).
+    """
+
+    start: int
+    stop: int
+    mean: float
+    sharpe: float
+    t_ratio: float
+    degrees_of_freedom: float
+
+    @property
+    def windows(self) -> int:
+        return self.stop - self.start
+
+
+@dataclass(frozen=True, eq=False)
+class EdgeStability:
+    """Is the selected configuration's edge still alive? Its record over time.
+
+    Attributes
+    ----------
+    thirds : tuple of SubPeriod
+        The record cut into three contiguous thirds (the first ``T mod 3`` one window longer).
+    early, recent : SubPeriod
+        The windows before the recent period, and the last ``recent_share`` of the windows.
+    recent_share : float
+    difference : float
+        Recent mean minus early mean, per window.
+    standard_error : float
+        Its long-run standard error: ``omega * sqrt(1 / n_early + 1 / n_recent)``, omega^2 the long-run
+        variance of the record demeaned within each period.
+    statistic, degrees_of_freedom, pvalue : float
+        ``difference / standard_error``, the long-run estimate's degrees of freedom, and the one-sided
+        p-value (Student's t) of a recent mean this far below the early one if the mean never changed.
+    long_run_ratio : float
+        ``omega^2 / sigma^2`` of the demeaned record (1 without serial correlation).
+    rolling_windows : int
+        Length of the trailing window of the rolling figures.
+    rolling_mean, rolling_sharpe : ndarray, shape (T - rolling_windows + 1,)
+        Mean and Sharpe ratio (ddof = 1) over the trailing windows; entry i covers windows i to
+        i + rolling_windows - 1 (NaN where the record is flat).
+    rolling_lowest, rolling_highest, rolling_share_positive : float
+        The rolling Sharpe ratio's extremes and the share of its values above zero.
+    early_intervals, recent_intervals : BootstrapIntervals or None
+        The two periods' mean and Sharpe ratio intervals from the audit's shared resamples.
+    """
+
+    thirds: tuple[SubPeriod, ...]
+    early: SubPeriod
+    recent: SubPeriod
+    recent_share: float
+    difference: float
+    standard_error: float
+    statistic: float
+    degrees_of_freedom: float
+    pvalue: float
+    long_run_ratio: float
+    rolling_windows: int
+    rolling_mean: np.ndarray
+    rolling_sharpe: np.ndarray
+    rolling_lowest: float
+    rolling_highest: float
+    rolling_share_positive: float
+    early_intervals: BootstrapIntervals | None = None
+    recent_intervals: BootstrapIntervals | None = None
+
+
 @dataclass(frozen=True)
 class AuditSettings:
     """Every knob that changes a figure.
@@ -1102,6 +1374,11 @@ class Evidence:
         Its 10th percentile over the configurations.
     tails : TailTest or None
         The family-stress test of the selected configuration (None for a single configuration).
+    walk_forward : WalkForward or None
+        The walk-forward record of re-picking the winner (None for a single configuration or when
+        the warm-up leaves too short a record).
+    stability : EdgeStability or None
+        The selected configuration's edge over time (None for a record too short to cut).
     """
 
     sweep: Sweep
@@ -1126,6 +1403,8 @@ class Evidence:
     bootstrap_share: float | None = None
     bootstrap_share_low: float | None = None
     tails: TailTest | None = None
+    walk_forward: WalkForward | None = None
+    stability: EdgeStability | None = None
 
     @property
     def selected(self) -> str:
@@ -1392,7 +1671,14 @@ class LedgerEntry:
 
 @dataclass(frozen=True)
 class LedgerTally:
-    """What the ledger says about the trials of this sweep.
+    """What the ledger says about the trials of this audit.
+
+    A trial is a configuration (its key: name and parameter values, see :mod:`sweepaudit.names`)
+    of a strategy (an optional label). Records that name no configurations (written before the
+    ledger counted configurations, or of a sweep whose configuration names were generated) are
+    counted by their data fingerprint instead: each distinct fingerprint its configurations once,
+    unless a record that names configurations, or this audit, has the same fingerprint (then they
+    are those configurations). See :func:`sweepaudit.ledger.tally_trials`.
 
     Attributes
     ----------
@@ -1400,15 +1686,36 @@ class LedgerTally:
     records : int
         Records in the ledger before this audit.
     sweeps_before : int
-        Distinct fingerprints in the ledger before this audit.
+        Distinct data fingerprints in the ledger before this audit.
     fingerprint : str
-        This sweep's fingerprint.
+        This sweep's data fingerprint.
     configurations : int
         This sweep's configurations.
     new_sweep : bool
-        Whether this fingerprint was not yet recorded.
+        Whether this fingerprint was not yet recorded (the same data was never audited).
     trials : int
-        Sum of configurations over distinct fingerprints, this sweep included.
+        The trials counted once this audit is recorded (never below ``configurations``).
+    strategy : str or None
+        This audit's strategy label.
+    by_configuration : bool
+        Whether this audit's trials are counted by configuration (False: its configuration names
+        were generated, so its data fingerprint counts, as for old records).
+    trials_before : int
+        The ledger's count before this audit (its old records identified by this audit's data
+        fingerprint when they match it).
+    trials_added : int
+        ``trials - trials_before``: the configurations of this sweep not tried before.
+    fingerprint_records : int
+        Records counted by their data fingerprint (they name no configurations).
+    fingerprint_trials : int
+        The trials those records add: the configurations of each distinct fingerprint no record
+        naming configurations explains.
+    strategies : tuple of (str or None, int)
+        The trials of each strategy label once this audit is recorded, labels in order (None first).
+    grid : str or None
+        The digest of this sweep's configuration keys (None when counted by fingerprint).
+    grid_recorded : bool
+        Whether the ledger already lists that grid (this audit's record then names it by digest).
     """
 
     path: str
@@ -1418,6 +1725,15 @@ class LedgerTally:
     configurations: int
     new_sweep: bool
     trials: int
+    strategy: str | None = None
+    by_configuration: bool = False
+    trials_before: int = 0
+    trials_added: int = 0
+    fingerprint_records: int = 0
+    fingerprint_trials: int = 0
+    strategies: tuple[tuple[str | None, int], ...] = ()
+    grid: str | None = None
+    grid_recorded: bool = False
 
     @property
     def sweeps_recorded(self) -> int:
@@ -1601,6 +1917,10 @@ class FigureMaterial:
         The deflated Sharpe probability against the number of trials.
     surface : PeakShape or None
         The parameter-surface result, for the report's words on which part of the rule held.
+    walk_forward : WalkForward or None
+        The walk-forward record and the selected configuration's over the same windows.
+    stability : EdgeStability or None
+        The rolling figures and the sub-periods they are drawn against.
     """
 
     selected_index: int
@@ -1614,18 +1934,22 @@ class FigureMaterial:
     split_statistic: str | None = None
     deflation_curve: DeflatedCurve | None = None
     surface: PeakShape | None = None
+    walk_forward: WalkForward | None = None
+    stability: EdgeStability | None = None
 
 
 def _evidence(name: str, doc: str) -> property:
     return property(lambda self: getattr(self.evidence, name), doc=doc)
 
 
-@dataclass(frozen=True, eq=False)
+@dataclass(frozen=True, eq=False, repr=False)
 class AuditResult:
     """One audit, end to end: the evidence, the verdict on it and the JSON document of both.
 
-    Returned by :func:`sweepaudit.audit`. The evidence's fields are also readable here directly
-    (``result.sharpe`` is ``result.evidence.sharpe``).
+    The data of an audit; :func:`sweepaudit.audit` returns :class:`sweepaudit.api.AuditResult`,
+    which adds the ways to show and write it (a short ``repr``, the notebook view, the report, the
+    figures, the terminal view). The evidence's fields are also readable here directly
+    (``result.sharpe`` is ``result.evidence.sharpe``): each method's typed result.
 
     Attributes
     ----------
@@ -1634,7 +1958,7 @@ class AuditResult:
         Decided once, the baseline comparison included.
     document : dict
         The audit JSON (schema ``sweepaudit.audit/1``).
-    figures : FigureMaterial
+    figure_material : FigureMaterial
         The raw material of the report's figures.
     baseline : BaselineComparison or None
         The comparison with a baseline audit, when one was given.
@@ -1645,7 +1969,7 @@ class AuditResult:
     evidence: Evidence
     verdict: Verdict
     document: dict
-    figures: FigureMaterial
+    figure_material: FigureMaterial
     baseline: BaselineComparison | None = None
     sensitivity: Sensitivity | None = None
 
@@ -1656,16 +1980,87 @@ class AuditResult:
     selected_index = _evidence("selected_index", "The column of the configuration judged.")
     selection_rule = _evidence("selection_rule", "Why that configuration was judged.")
     resamples = _evidence("resamples", "The shared bootstrap resamples.")
-    intervals = _evidence("intervals", "Every configuration's bootstrap intervals.")
+    intervals = _evidence("intervals", "Every configuration's bootstrap intervals (BootstrapIntervals).")
     sharpe_ratios = _evidence("sharpe_ratios", "Every configuration's per-window Sharpe ratio.")
-    sharpe = _evidence("sharpe", "The selection-adjusted Sharpe inference.")
-    haircut = _evidence("haircut", "The haircut Sharpe ratio.")
-    overfitting = _evidence("overfitting", "The CSCV result.")
-    overfitting_diagnosis = _evidence("overfitting_diagnosis", "The CSCV diagnosis.")
-    snooping = _evidence("snooping", "The data-snooping tests.")
-    surface = _evidence("surface", "The parameter surface around the selected cell.")
+    sharpe = _evidence("sharpe", "The selection-adjusted Sharpe inference (SharpeInference): PSR, DSR, track record.")
+    haircut = _evidence("haircut", "The haircut Sharpe ratio (HaircutSharpe).")
+    overfitting = _evidence("overfitting", "The CSCV result (CscvResult): PBO, degradation, dominance.")
+    overfitting_diagnosis = _evidence("overfitting_diagnosis", "The CSCV diagnosis (OverfittingDiagnosis).")
+    snooping = _evidence("snooping", "The data-snooping tests (Snooping): reality check, SPA, StepM.")
+    surface = _evidence("surface", "The parameter surface around the selected cell (PeakShape).")
+    tails = _evidence("tails", "The family-stress test of the selected configuration (TailTest).")
+    long_run = _evidence("long_run", "Every configuration's long-run variance (LongRunVariance).")
+    deflation_curve = _evidence("deflation_curve", "The deflated probability against the trials (DeflatedCurve).")
+    block_choice = _evidence("block_choice", "How the block length was chosen (BlockLengthChoice).")
+    walk_forward = _evidence("walk_forward", "The walk-forward record of re-picking the winner (WalkForward).")
+    stability = _evidence("stability", "The selected configuration's edge over time (EdgeStability).")
     warnings = _evidence("warnings", "What the reader should weigh.")
     confidence = _evidence("confidence", "The interval level.")
+
+    @property
+    def decision(self) -> str:
+        """``"go"`` or ``"no-go"``."""
+        return self.verdict.decision
+
+    @property
+    def checks(self) -> tuple[Check, ...]:
+        """Every check the verdict ran, in display order."""
+        return self.verdict.checks
+
+    def check(self, check_id: str) -> Check:
+        """One check of the verdict, by id."""
+        for c in self.verdict.checks:
+            if c.id == check_id:
+                return c
+        raise InputError(f"no check {check_id!r} in this audit; checks are {', '.join(c.id for c in self.checks)}")
+
+    def __repr__(self) -> str:
+        return f"<{type(self).__name__}: {self.verdict.decision}, selected {self.evidence.selected!r}>"
+
+
+@dataclass(frozen=True, eq=False, repr=False)
+class CalibrationResult:
+    """A calibration of the verdict on sweeps shaped like one, and its JSON document.
+
+    The data; :func:`sweepaudit.calibrate` returns :class:`sweepaudit.api.CalibrationResult`,
+    which adds the ways to show it.
+
+    Attributes
+    ----------
+    calibration : SweepCalibration
+        The false-go rate, the power and each check's failure rates, with their raw material.
+    document : dict
+        The calibration JSON (schema ``sweepaudit.calibration/1``).
+    """
+
+    calibration: SweepCalibration
+    document: dict
+
+    @property
+    def false_go(self) -> Rate:
+        """The go rate on null sweeps: the false-go rate."""
+        return self.calibration.null.go
+
+    @property
+    def power(self) -> Rate | None:
+        """The go rate with the edge planted (None when the edge was 0)."""
+        return None if self.calibration.power is None else self.calibration.power.go
+
+    @property
+    def null(self) -> VerdictCalibration:
+        return self.calibration.null
+
+    @property
+    def sweep(self) -> Sweep:
+        return self.calibration.sweep
+
+    @property
+    def configuration(self) -> str:
+        """The configuration the audit selected in the real sweep (the edge is planted there)."""
+        return self.calibration.configuration
+
+    def __repr__(self) -> str:
+        return f"<{type(self).__name__}: false-go rate {self.false_go.rate:.3f} over {self.false_go.trials} sweeps>"
 
 
 @dataclass(frozen=True, eq=False)

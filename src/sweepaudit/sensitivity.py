@@ -196,7 +196,7 @@ def _shifts(reached: tuple[str, ...], before: Verdict, after: Verdict) -> tuple[
 
 
 def _alternative(choice: Choice, setting: str, evidence: Evidence, verdict: Verdict,
-                 baseline: BaselineComparison | None, resamples: int) -> Alternative:
+                 baseline: BaselineComparison | None, resamples: int, memory_budget: int | None) -> Alternative:
     """The verdict re-decided with one choice changed."""
     policy, fields = choice.change(evidence, setting)
     policy = policy or evidence.policy
@@ -205,7 +205,7 @@ def _alternative(choice: Choice, setting: str, evidence: Evidence, verdict: Verd
         fields = {**(fields or {}), "resamples": resamples}
     if fields:
         settings = replace(settings, **fields)
-    again = decide(reassess(evidence, policy=policy, settings=settings), policy, baseline)
+    again = decide(reassess(evidence, policy=policy, settings=settings, memory_budget=memory_budget), policy, baseline)
     return Alternative(
         choice=choice.id, question=choice.question,
         as_audited=choice.current(evidence), setting=setting,
@@ -219,10 +219,10 @@ def _alternative(choice: Choice, setting: str, evidence: Evidence, verdict: Verd
 
 
 def _control(evidence: Evidence, verdict: Verdict, baseline: BaselineComparison | None,
-             resamples: int) -> Alternative:
+             resamples: int, memory_budget: int | None) -> Alternative:
     """The audit's own choices with ``resamples`` resamples (same seed)."""
     settings = replace(evidence.settings, resamples=resamples)
-    again = decide(reassess(evidence, settings=settings), evidence.policy, baseline)
+    again = decide(reassess(evidence, settings=settings, memory_budget=memory_budget), evidence.policy, baseline)
     count = number(evidence.resamples.count)
     return Alternative(
         choice="resamples", question="number of resamples", as_audited=str(evidence.resamples.count),
@@ -258,6 +258,7 @@ def what_would_change(
     *,
     baseline: BaselineComparison | None = None,
     resamples: int = ALTERNATIVE_RESAMPLES,
+    memory_budget: int | None = None,
 ) -> Sensitivity:
     """Re-decide the verdict under each reasonable alternative choice, one choice at a time.
 
@@ -270,6 +271,9 @@ def what_would_change(
     resamples : int
         Resamples of the alternatives that need new ones (bootstrap kind, block length); the
         audit's own count when that is smaller.
+    memory_budget : int, optional
+        Bytes of working memory for the alternatives that resample (as for the audit); beyond it
+        they stream, as the audit did.
 
     Returns
     -------
@@ -277,12 +281,12 @@ def what_would_change(
     """
     count = min(int(resamples), evidence.resamples.count)
     alternatives = tuple(
-        _alternative(choice, setting, evidence, verdict, baseline, count)
+        _alternative(choice, setting, evidence, verdict, baseline, count, memory_budget)
         for choice in CHOICES
         if getattr(evidence, choice.needs) is not None
         for setting in choice.alternatives(evidence)
     )
-    control = _control(evidence, verdict, baseline, count) if count < evidence.resamples.count else None
+    control = _control(evidence, verdict, baseline, count, memory_budget) if count < evidence.resamples.count else None
     flipped = tuple(a.id for a in alternatives if a.flips)
     return Sensitivity(
         decision=verdict.decision, alternatives=alternatives,

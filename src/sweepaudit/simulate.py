@@ -62,6 +62,8 @@ __all__ = [
     "simulate_quiet_edge",
     "grid_block_columns",
     "hill_columns",
+    "simulate_late_edge",
+    "simulate_dead_edge",
 ]
 
 # Typical scale of per-window excess returns over a benchmark: 1% a week is about 7% a year of
@@ -654,6 +656,42 @@ def simulate_quiet_edge(
     return x
 
 
+def simulate_late_edge(
+    rng: np.random.Generator,
+    n_configurations: int,
+    n_windows: int,
+    *,
+    annual_sharpe: float = 3.0,
+    start: float = 0.5,
+    width: int = 3,
+    phi: float = 0.0,
+    periods_per_year: float = DEFAULT_PERIODS_PER_YEAR,
+    volatility: float = DEFAULT_VOLATILITY,
+) -> np.ndarray:
+    """Alternative: an edge that came alive. A ``width`` x ``width`` plateau at the centre of a
+    correlated grid earns ``annual_sharpe`` from window ``round(start * n_windows)`` on, nothing before.
+
+    The null part is :func:`simulate_dependent_grid` (``phi`` for AR(1) windows). Over the whole
+    sample the plateau earns ``annual_sharpe * (1 - start)``: with the defaults, the full-sample
+    figures of a constant edge of annualized Sharpe 1.5.
+    """
+    if not (isinstance(start, (int, float)) and 0 <= start < 1):
+        raise InputError(f"start must lie in [0, 1); got {start!r}")
+    x = simulate_dependent_grid(rng, n_configurations, n_windows, phi=phi, volatility=volatility)
+    first = int(round(start * x.shape[0]))
+    x[first:] = plant_edge(x[first:], grid_block_columns(x.shape[1], width), annual_sharpe=annual_sharpe,
+                           periods_per_year=periods_per_year, volatility=volatility)
+    return x
+
+
+def simulate_dead_edge(rng: np.random.Generator, n_configurations: int, n_windows: int, **options) -> np.ndarray:
+    """Alternative: an edge that has died. :func:`simulate_late_edge` reversed in time, so with the same
+    generator state it is the very same sweep read backwards: the plateau earned its edge in the first
+    windows and nothing since. Every full-sample figure is the same as the late edge's.
+    """
+    return np.ascontiguousarray(simulate_late_edge(rng, n_configurations, n_windows, **options)[::-1])
+
+
 @dataclass(frozen=True)
 class Family:
     """A family of synthetic sweeps with known truth.
@@ -768,6 +806,28 @@ FAMILIES: tuple[Family, ...] = (
         "hill", "alternative", simulate_hill,
         "2-D grid; a smooth hill of edges peaking at annualized Sharpe 2.0 (spread 1.5 grid steps)",
         planted=lambda n: hill_columns(n, 1.5),
+    ),
+    Family(
+        "grid_plateau_persistent", "alternative",
+        lambda rng, n, t: simulate_grid_plateau(rng, n, t, phi=0.5),
+        "2-D grid, AR(1) windows (phi = 0.5); a 3 x 3 plateau shares annualized Sharpe 2.0, constant in time",
+        planted=lambda n: grid_block_columns(n, 3),
+    ),
+    Family(
+        "late_edge", "alternative", simulate_late_edge,
+        "2-D grid; a 3 x 3 plateau earns annualized Sharpe 3.0 in the second half only (an edge that came alive)",
+        planted=lambda n: grid_block_columns(n, 3),
+    ),
+    Family(
+        "dead_edge", "alternative", simulate_dead_edge,
+        "the late_edge sweeps reversed in time: the plateau earned annualized Sharpe 3.0 in the first half "
+        "only (an edge that has died)",
+        planted=lambda n: grid_block_columns(n, 3),
+    ),
+    Family(
+        "dead_edge_dependent", "alternative", lambda rng, n, t: simulate_dead_edge(rng, n, t, phi=0.3),
+        "dead_edge with AR(1) windows, phi = 0.3",
+        planted=lambda n: grid_block_columns(n, 3),
     ),
     Family(
         "quiet_edge", "alternative", simulate_quiet_edge,

@@ -10,6 +10,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import InputError
+from .names import configuration_key, nearest_names
 
 __all__ = ["Sweep", "Units", "UNIT_SCALE", "MIN_WINDOWS", "Plausibility"]
 
@@ -118,25 +119,76 @@ class Sweep:
     def n_configurations(self) -> int:
         return self.returns.shape[1]
 
+    @cached_property
+    def _parameter_keys(self) -> tuple[str, ...]:
+        """Each configuration's key from its parameter values (two may coincide)."""
+        table = self.parameters
+        tabled = (table is not None and len(table.columns) > 0 and table.index.is_unique
+                  and set(table.index) == set(self.configurations))
+        if not tabled:
+            return tuple(configuration_key(n) for n in self.configurations)
+        rows = table.reindex(list(self.configurations)).to_dict(orient="records")
+        return tuple(configuration_key(n, r) for n, r in zip(self.configurations, rows))
+
+    @cached_property
+    def configuration_keys(self) -> tuple[str, ...]:
+        """The key of each configuration (:func:`sweepaudit.names.configuration_key`): its parameter
+        values from the parameter table, in any order and spacing, numbers as numbers.
+
+        When two configurations of this sweep share a key (``lookback=20`` and ``lookback=20.0``),
+        every configuration is keyed by its name instead, so a key always names one configuration.
+        """
+        keys = self._parameter_keys
+        if len(set(keys)) == len(keys):
+            return keys
+        spaced = tuple(configuration_key(n, {}) for n in self.configurations)
+        return spaced if len(set(spaced)) == len(spaced) else self.configurations
+
     def index_of(self, configuration: str) -> int:
-        """Column of a configuration, by exact name."""
-        try:
+        """Column of a configuration: by its exact name, or by its parameter values in any order and
+        spacing, numbers compared as numbers (``"entry_z=1.50,train_days=21"`` finds
+        ``"train_days=21, entry_z=1.5"``).
+
+        Raises
+        ------
+        InputError
+            When none matches, naming the nearest configurations.
+        """
+        if configuration in self.configurations:
             return self.configurations.index(configuration)
-        except ValueError:
-            close = [c for c in self.configurations if configuration.lower() in c.lower()][:3]
-            hint = f"; did you mean {', '.join(map(repr, close))}?" if close else ""
-            raise InputError(f"no configuration named {configuration!r} in the sweep{hint}") from None
+        if not isinstance(configuration, str):
+            raise InputError(f"a configuration is named by a string; got {configuration!r}")
+        key = configuration_key(configuration)
+        hits = [k for k, c in enumerate(self._parameter_keys) if c == key]
+        if len(hits) == 1:
+            return hits[0]
+        shown = ", ".join(repr(n if len(n) <= 80 else n[:77] + "...") for n in (
+            [self.configurations[k] for k in hits][:5] or
+            nearest_names(configuration, self.configurations, self._parameter_keys)))
+        if hits:  # configurations named apart with the same values (lookback=20 and lookback=20.0)
+            raise InputError(f"{configuration!r} matches {len(hits)} configurations by its values: {shown}; "
+                             "give the exact name")
+        raise InputError(
+            f"no configuration named {configuration!r} in the sweep (parameter values match in any order, "
+            f"numbers as numbers); nearest: {shown}"
+        )
 
     @cached_property
     def plausibility(self) -> Plausibility:
         """The largest move in one window and the largest annualized volatility (computed once)."""
         r = self.returns
-        size = np.abs(r)
-        t, k = np.unravel_index(int(np.argmax(size)), size.shape)
-        sd = r.std(axis=0, ddof=1) if self.n_windows > 1 else np.zeros(self.n_configurations)
+        # Column reductions only, a block of columns at a time: no T x N temporary for a large sweep.
+        # The largest |value| is the first in row-major order, as numpy.argmax of |r| would find it.
+        column_size = np.maximum(r.max(axis=0), -r.min(axis=0))
+        largest = float(column_size.max())
+        t, k = min((int(np.argmax(np.abs(r[:, c]) == largest)), int(c)) for c in np.flatnonzero(column_size == largest))
+        if self.n_windows > 1:
+            sd = np.concatenate([r[:, a:a + 4096].std(axis=0, ddof=1) for a in range(0, self.n_configurations, 4096)])
+        else:
+            sd = np.zeros(self.n_configurations)
         v = int(np.argmax(sd))
         vol = float(sd[v] * np.sqrt(self.periods_per_year)) if self.periods_per_year else None
-        return Plausibility(float(size[t, k]), self.configurations[k], self.windows[t], vol, self.configurations[v])
+        return Plausibility(largest, self.configurations[k], self.windows[t], vol, self.configurations[v])
 
     def frame(self) -> pd.DataFrame:
         """The returns as a DataFrame (windows x configurations)."""

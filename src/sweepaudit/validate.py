@@ -11,6 +11,7 @@ function passes its Python argument (``"periods_per_year"``); the command line p
 from __future__ import annotations
 
 import math
+import unicodedata
 from collections.abc import Sequence
 from typing import Any
 
@@ -28,6 +29,7 @@ __all__ = [
     "whole_number",
     "periods_per_year",
     "choice",
+    "label",
     "returns_matrix",
     "returns_series",
     "nonconstant",
@@ -145,6 +147,24 @@ def choice(value: Any, name: str, allowed: Sequence[str]) -> str:
     if not isinstance(value, str) or value not in allowed:
         raise InputError(f"{name} must be one of {', '.join(allowed)}; got {value!r}")
     return value
+
+
+#: The longest label (a strategy's name) accepted.
+LABEL_LIMIT = 100
+
+
+def label(value: Any, name: str) -> str:
+    """A short name (a strategy label): a string of 1 to :data:`LABEL_LIMIT` characters once stripped
+    of surrounding white space, with no control, format or line-separator character (which could
+    disguise one label as another or drive a terminal)."""
+    if not isinstance(value, str) or not value.strip() or len(value.strip()) > LABEL_LIMIT:
+        shown = repr(value) if not isinstance(value, str) or len(value) <= LABEL_LIMIT else repr(value[:40] + "...")
+        raise InputError(f"{name} must be a name of 1 to {LABEL_LIMIT} characters; got {shown}")
+    text = value.strip()
+    bad = next((c for c in text if unicodedata.category(c) in ("Cc", "Cf", "Zl", "Zp")), None)
+    if bad is not None:
+        raise InputError(f"{name} must not contain control or format characters; got {text!r} (U+{ord(bad):04X})")
+    return text
 
 
 def _numeric_array(value: Any, name: str) -> np.ndarray:

@@ -13,7 +13,7 @@ import math
 from collections.abc import Callable
 from typing import NamedTuple
 
-from .format import interval, level, listed, number, percent, probability, pvalue, pvalue_floor, statistic, whole
+from .format import interval, level, listed, number, p_is, percent, probability, pvalue, pvalue_floor, statistic, whole
 from .policy import Policy
 from .results import BaselineComparison, Check, Evidence, Verdict
 
@@ -75,6 +75,14 @@ MEASURES: dict[str, Measure] = {
     "parameter_surface": Measure(
         "grid neighbours' mean Sharpe ratio", "statistic", "at least",
         "the selected cell is not an isolated peak", "the selected cell is an isolated peak"),
+    "walk_forward": Measure(
+        "walk-forward record's p-value (mean above zero)", "pvalue", "at most",
+        "re-picking the winner as the windows came earned out of sample",
+        "re-picking the winner as the windows came has not been shown to earn out of sample"),
+    "edge_decay": Measure(
+        "p-value of the recent period's fall", "pvalue", "above",
+        "the recent evidence is not significantly worse than the early evidence",
+        "the edge has faded in the recent period"),
 }
 
 
@@ -99,7 +107,7 @@ def summary(verdict: Verdict) -> str:
 
 # The checks a go rests on most, first: what the one sentence of a go names.
 _WEIGHT = ("deflated_sharpe", "data_snooping", "overfitting", "mean_interval", "family_tails", "track_record",
-           "baseline_drift", "parameter_surface", "plausible_returns", "enough_windows")
+           "walk_forward", "edge_decay", "baseline_drift", "parameter_surface", "plausible_returns", "enough_windows")
 
 
 def _plural(count: int, word: str, words: str | None = None) -> str:
@@ -422,6 +430,62 @@ def _family_tails(evidence: Evidence, policy: Policy, baseline: BaselineComparis
         reason = (f"{selected!r} {escaped}; {charged}, and its edge no longer clears the selection-adjusted bar "
                   f"{bar}: its record may owe its edge to missing crashes its siblings took (the peso problem).")
     return Check("family_tails", test.passed, test.statistic, test.critical_value, reason)
+
+
+def _window_label(evidence: Evidence, position: int) -> str:
+    return str(evidence.sweep.windows[position])
+
+
+@check("walk_forward")
+def _walk_forward(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    walk = evidence.walk_forward
+    if walk is None:
+        return None
+    alpha = policy.significance
+    ok = walk.pvalue <= alpha
+    looks = "all earlier windows" if walk.lookback is None else f"the {whole(walk.lookback)} windows before it"
+    record = (
+        f"Re-picking the configuration with the best Sharpe ratio on {looks} and trading it in the next window, "
+        f"from window {_window_label(evidence, walk.warmup)!r} on ({_plural(walk.windows, 'window')}, the pick "
+        f"changing {_plural(walk.pick_changes, 'time')}), earned {percent(walk.mean)} a window"
+    )
+    adjust = f"with what the picks' last returns foretold (AR(1) coefficient {statistic(walk.persistence)}) taken out"
+    if walk.stress_charge > 0:
+        adjust += (f" and the family's stress losses charged ({_plural(walk.stress_windows, 'stress window')} in the "
+                   f"record, {number(walk.stress_windows_expected, 3)} at the whole sample's rate; "
+                   f"{percent(walk.stress_charge)} a window)")
+    test = f"t = {statistic(walk.statistic)}, one-sided {p_is(walk.pvalue)}"
+    if ok:
+        reason = (f"{record}; {adjust}, its mean is above zero ({test}, at or below the policy's {number(alpha)}): "
+                  "the selection procedure itself earns out of sample.")
+    else:
+        reason = (f"{record}; {adjust}, its mean is not clearly above zero ({test}, above the policy's "
+                  f"{number(alpha)}): picking the winner as one goes has not been shown to pay out of sample.")
+    return Check("walk_forward", ok, walk.pvalue, alpha, reason)
+
+
+@check("edge_decay")
+def _edge_decay(evidence: Evidence, policy: Policy, baseline: BaselineComparison | None) -> Check | None:
+    st = evidence.stability
+    if st is None:
+        return None
+    alpha = policy.significance
+    ok = st.pvalue > alpha
+    periods = (
+        f"the recent {_plural(st.recent.windows, 'window')} (from {_window_label(evidence, st.recent.start)!r}) "
+        f"average {percent(st.recent.mean)} a window against {percent(st.early.mean)} over the "
+        f"{whole(st.early.windows)} before"
+    )
+    test = (f"change {percent(st.difference)} a window, t = {statistic(st.statistic)} against the long-run standard "
+            f"error, one-sided {p_is(st.pvalue)}")
+    if ok:
+        reason = (f"For {evidence.selected!r}, {periods} ({test}, above the policy's {number(alpha)}): the recent "
+                  "evidence is not significantly worse than the early evidence.")
+    else:
+        reason = (f"For {evidence.selected!r}, {periods} ({test}, at or below the policy's {number(alpha)}): the "
+                  "recent evidence is significantly worse than the early evidence, so the edge may have decayed; "
+                  "the full-sample figures describe a past that may not last.")
+    return Check("edge_decay", ok, st.pvalue, alpha, reason)
 
 
 @check("parameter_surface")

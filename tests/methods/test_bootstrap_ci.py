@@ -7,14 +7,19 @@ External / theory checks:
   1994; Kunsch 1989): the iid bootstrap ignores the long-run variance factor (1 + phi)/(1 - phi);
 - the interval for the mean agrees with arch's StationaryBootstrap.conf_int (reference library) on the
   same data within Monte Carlo error, and exactly on the very same indices.
-Internal consistency: basic = reflected percentile; re-levelling from kept distributions.
+Internal consistency: basic = reflected percentile; re-levelling from kept distributions; the
+intervals of a part of a series (``part_intervals``) against a literal loop over the replayed indices
+and the whole-series intervals; theory: a part of n iid windows has a mean of standard deviation
+sigma / sqrt(n).
 """
+
+from dataclasses import replace
 
 import numpy as np
 import pytest
 
 from sweepaudit.errors import InputError
-from sweepaudit.methods.bootstrap_ci import at_level, bootstrap_intervals, interval
+from sweepaudit.methods.bootstrap_ci import at_level, bootstrap_intervals, interval, part_columns, part_intervals
 from sweepaudit.resample import Resamples, automatic_block_length, draw_resamples, resampled_moments
 
 
@@ -165,3 +170,53 @@ def test_interval_helper_drops_non_finite_and_validates():
         bootstrap_intervals(np.ones((10, 1)) + np.arange(10)[:, None], m, method="bca")
     with pytest.raises(InputError, match="disagree in shape"):
         bootstrap_intervals(np.ones((10, 2)), m)
+
+
+# ------------------------------------------------------------------------------------- parts of a series
+
+
+def test_part_covering_every_window_gives_the_whole_series_intervals():
+    x = np.random.default_rng(21).normal(0.001, 0.01, 150)
+    r = draw_resamples(150, count=499, block_length=4.0, seed=3)
+    parts = [(x, np.ones(150, dtype=bool))]
+    (part,) = part_intervals(parts, resampled_moments(part_columns(parts), r))
+    whole = bootstrap_intervals(x[:, None], resampled_moments(x[:, None], r))
+    assert np.allclose(part.mean_distribution, whole.mean_distribution, rtol=1e-12, atol=1e-15)
+    for a, b in ((part.mean[0], whole.mean[0]), (part.sharpe[0], whole.sharpe[0])):
+        assert (a.low, a.high) == pytest.approx((b.low, b.high), rel=1e-9)
+
+
+def test_part_moments_are_the_drawn_windows_inside_the_part():
+    # A literal loop over the replayed indices: each resample's mean over the draws that land in the part.
+    x = np.random.default_rng(22).normal(0.0, 0.01, 90)
+    mask = np.arange(90) >= 60
+    r = draw_resamples(90, count=200, block_length=5.0, seed=4)
+    parts = [(x, mask)]
+    moments = resampled_moments(part_columns(parts), r)
+    (part,) = part_intervals(parts, moments, method="percentile")
+    literal = []
+    for idx in r.indices():
+        inside = idx[mask[idx]]
+        if inside.size >= 2:
+            literal.append(x[inside].mean())
+    assert np.allclose(part.mean_distribution[:, 0], literal, rtol=1e-10, atol=1e-15)
+    assert part.mean[0].estimate == pytest.approx(x[60:].mean())
+
+
+def test_part_interval_width_is_the_part_length_width():
+    # Theory: the part's mean over n of T iid windows has standard deviation sigma / sqrt(n).
+    x = np.random.default_rng(23).normal(0.0, 0.01, 400)
+    mask = np.arange(400) < 100
+    moments = resampled_moments(part_columns([(x, mask)]), draw_resamples(400, count=2000, block_length=1.0, seed=5))
+    (part,) = part_intervals([(x, mask)], moments, method="percentile")
+    assert part.mean_distribution.std() == pytest.approx(x[:100].std() / 10, rel=0.1)
+
+
+def test_part_errors():
+    x = np.zeros(20)
+    with pytest.raises(InputError, match=r"mask must have the series' 20 windows; got shape \(19,\)"):
+        part_columns([(x, np.ones(19, dtype=bool))])
+    moments = resampled_moments(part_columns([(x + np.arange(20), np.ones(20, dtype=bool))]),
+                                draw_resamples(20, count=10, block_length=1.0, seed=0))
+    with pytest.raises(InputError, match="part_intervals needs resampled second moments"):
+        part_intervals([(x, np.ones(20, dtype=bool))], replace(moments, second=None))

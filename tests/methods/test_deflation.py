@@ -27,9 +27,11 @@ from scipy import stats
 from sweepaudit.errors import DegenerateDataError, InputError
 from sweepaudit.methods.deflation import (
     EULER_MASCHERONI,
+    correlation_gram_block,
     deflated_by_trials,
     deflated_sharpe,
     effective_trials,
+    effective_trials_from_gram,
     expected_max_sharpe,
     expected_max_standard_normal,
     li_ji_effective_trials,
@@ -250,6 +252,23 @@ def test_eigenvalues_and_average_correlation_against_numpy():
         assert result.value("li_ji") == result.li_ji
         assert result.value("nyholt") == result.nyholt
         assert result.value("average_correlation") == result.from_average_correlation
+
+
+def test_effective_trials_from_gram_blocks_equal_the_whole_matrix():
+    """Internal consistency: the T x T Gram matrix summed over column blocks (the streamed audit's
+    route) gives the eigenvalues of the N x N correlation matrix (N < T) and of the whole T x T one
+    (N > T), within rounding."""
+    rng = np.random.default_rng(5)
+    for windows, n in ((60, 25), (30, 70)):
+        x = rng.standard_normal((windows, n)) + 0.5 * rng.standard_normal((windows, 1))
+        whole = effective_trials(x)
+        pieces = [correlation_gram_block(x[:, a:a + 9]) for a in range(0, n, 9)]
+        blocked = effective_trials_from_gram(sum(p[0] for p in pieces), sum(p[1] for p in pieces), n)
+        np.testing.assert_allclose(blocked.eigenvalues, whole.eigenvalues, rtol=1e-9, atol=1e-9)
+        assert blocked.eigenvalues.shape == (n,)
+        assert blocked.average_correlation == pytest.approx(whole.average_correlation, rel=1e-9)
+        assert blocked.li_ji == pytest.approx(whole.li_ji, rel=1e-9)
+        assert blocked.nyholt == pytest.approx(whole.nyholt, rel=1e-9)
 
 
 def test_effective_trials_handles_large_sweeps():

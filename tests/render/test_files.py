@@ -54,7 +54,7 @@ def versions():
     """Two audits of the same sweep with different seeds: the old and the new outputs."""
     sweep = sweep_from_array(synthetic_returns(), periods_per_year=52)
     old, new = (audit(sweep, settings=AuditSettings(resamples=200, seed=s)) for s in (1, 2))
-    return old, new, render_report("r.md", old.document, old.figures), render_report("r.md", new.document, new.figures)
+    return old, new, render_report("r.md", old.document, old.figure_material), render_report("r.md", new.document, new.figure_material)
 
 
 def _outputs(folder: Path) -> list[tuple[str, Path]]:
@@ -65,7 +65,7 @@ def _old_state(folder: Path, versions) -> dict[str, bytes]:
     """The folder as a previous run and the user left it; returns every file's bytes."""
     old, _, old_report, _ = versions
     folder.mkdir(exist_ok=True)
-    write_report(folder / "r.md", old.document, old.figures)
+    write_report(folder / "r.md", old.document, old.figure_material)
     (folder / "a.json").write_text(dumps(old.document))
     (folder / "a.xml").write_text("<old/>")
     (folder / "trials.jsonl").write_text('{"fingerprint": "' + "e" * 64 + '", "configurations": 2}\n')
@@ -236,9 +236,9 @@ def test_a_markdown_report_never_touches_what_it_did_not_write(versions, tmp_pat
     for name, data in USER_FILES.items():
         if name.startswith("r_figures/"):
             (tmp_path / name).write_bytes(data)
-    write_report(tmp_path / "r.md", old.document, old.figures)
+    write_report(tmp_path / "r.md", old.document, old.figure_material)
     first = set(_linked_figures((tmp_path / "r.md").read_bytes()))
-    write_report(tmp_path / "r.md", new.document, new.figures)
+    write_report(tmp_path / "r.md", new.document, new.figure_material)
     second = set(_linked_figures((tmp_path / "r.md").read_bytes()))
     users = {Path(n).name for n in USER_FILES if n.startswith("r_figures/")}
     assert {p.name for p in folder.iterdir()} == users | second | {MANIFEST}
@@ -251,7 +251,7 @@ def test_a_file_in_the_figures_folders_place_is_refused_and_kept(versions, tmp_p
     old = versions[0]
     (tmp_path / "r_figures").write_text("precious")
     with pytest.raises(Exception, match="a file of that name exists"):
-        write_report(tmp_path / "r.md", old.document, old.figures)
+        write_report(tmp_path / "r.md", old.document, old.figure_material)
     assert sorted(p.name for p in tmp_path.iterdir()) == ["r_figures"]
     assert (tmp_path / "r_figures").read_text() == "precious"
     result = run(["audit", str(write_wide(tmp_path / "s.csv", synthetic_returns())), "--quick",
@@ -267,7 +267,7 @@ def test_a_figure_name_taken_by_a_user_file_is_refused(versions, tmp_path):
     taken = next(iter(rendered.figures))
     (folder / taken).write_text("the user's own file")
     with pytest.raises(OutputError, match="was not written by sweepaudit"):
-        write_report(tmp_path / "r.md", old.document, old.figures)
+        write_report(tmp_path / "r.md", old.document, old.figure_material)
     assert [p.name for p in folder.iterdir()] == [taken] and not (tmp_path / "r.md").exists()
 
 
@@ -278,7 +278,7 @@ def test_a_forged_manifest_cannot_make_it_delete(versions, tmp_path):
     (tmp_path / "keep.txt").write_text("outside")
     (folder / MANIFEST).write_text('{"schema": "sweepaudit.figures/1", "files": {"../keep.txt": "' + "0" * 64 + '"}}')
     with pytest.raises(Exception, match="not a list of figures written by sweepaudit"):
-        write_report(tmp_path / "r.md", old.document, old.figures)
+        write_report(tmp_path / "r.md", old.document, old.figure_material)
     assert (tmp_path / "keep.txt").read_text() == "outside"
 
 

@@ -66,7 +66,7 @@ def edge_audit():
     sweep = load_sweep(str(EDGE), LoadOptions())
     result = audit(sweep, settings=AuditSettings(seed=7, resamples=400),
                    command="sweepaudit audit fixtures/demo_edge_long.csv --seed 7")
-    return result.document, result.figures
+    return result.document, result.figure_material
 
 
 @pytest.fixture(scope="module")
@@ -82,7 +82,7 @@ def written(edge_audit, tmp_path_factory):
 def fragile_audit():
     result = audit(load_sweep(str(FRAGILE), LoadOptions()), settings=AuditSettings(seed=7, resamples=1000))
     assert result.sensitivity.fragile
-    return result.document, result.figures
+    return result.document, result.figure_material
 
 
 def _shown(name: str, text: str) -> str:
@@ -196,9 +196,10 @@ def test_both_formats_show_what_the_report_holds(edge_audit, written, name):
 # the first screen and the sections
 # ---------------------------------------------------------------------------------------------
 
-SECTION_IDS = ("checks", "what_if", "returns", "sharpe", "snooping", "overfitting", "tails", "surface", "data")
+SECTION_IDS = ("checks", "what_if", "returns", "sharpe", "snooping", "overfitting", "tails", "time", "surface",
+               "data")
 APPENDIX_IDS = ("every_configuration", "deflated_variants", "sharpe_details", "snooping_details", "cscv_details",
-                "resampling", "alternatives", "policy")
+                "resampling", "time_details", "alternatives", "policy")
 
 
 @pytest.mark.parametrize("name", ["edge.html", "edge.md"])
@@ -288,6 +289,24 @@ def test_the_choices_that_flip_the_verdict_are_marked(fragile_audit, tmp_path):
     assert md.count("| **NO-GO** |") == 2
 
 
+def test_the_time_section_says_what_the_evidence_over_time_means(edge_audit, written, tmp_path):
+    doc, material = edge_audit
+    sentence = doc["results"]["time_meaning"]
+    assert sentence.startswith("Over time, the edge")
+    section = next(s for s in build_report(doc, material).sections if s.id == "time")
+    assert section.state == "advisory" and sentence in section.answer
+    assert {fig.name for fig in section.figures} == {"edge_over_time", "walk_forward_curve"}
+    for name in ("edge.html", "edge.md"):
+        text = (written / name).read_text()
+        assert _shown(name, sentence) in text
+        assert _shown(name, "Is the edge still alive? The evidence over time") in text
+    # One block without the other: only its own rows and figure.
+    results = {k: v for k, v in doc["results"].items() if k != "walk_forward"}
+    section = next(s for s in build_report({**doc, "results": results}, material).sections if s.id == "time")
+    assert not [row for row in section.tables[0].rows if "walk-forward" in row[0]]
+    assert {fig.name for fig in section.figures} == {"edge_over_time"}
+
+
 def test_absent_method_blocks_are_said_absent_and_have_no_figure(edge_audit, tmp_path):
     doc, material = edge_audit
     bare_doc = {**doc, "results": {"bootstrap": doc["results"]["bootstrap"]}}
@@ -295,7 +314,7 @@ def test_absent_method_blocks_are_said_absent_and_have_no_figure(edge_audit, tmp
     write_report(tmp_path / "edge.md", bare_doc, material)
     write_report(tmp_path / "edge.html", bare_doc, bare)
     for text in ((tmp_path / "edge.md").read_text(), (tmp_path / "edge.html").read_text()):
-        for what in ("Sharpe inference", "data-snooping", "CSCV", "family-tails"):
+        for what in ("Sharpe inference", "data-snooping", "CSCV", "family-tails", "time-structure"):
             assert f"Not computed in this audit (the audit has no {what} figures)" in text
     assert _figure_names(tmp_path / "edge.md") == {"bootstrap_mean", "cumulative_excess", "sharpe_surface"}
 
@@ -319,7 +338,7 @@ def test_html_is_self_contained_and_script_free(written):
     assert not re.search(r"""(src|href)\s*=\s*["'](?!data:|#)""", html)
     assert "url(" not in html and "@import" not in html
     imgs = [a for t, a in _tags(html) if t == "img"]
-    assert len(imgs) == 7
+    assert len(imgs) == 9
     for a in imgs:
         assert a["src"].startswith("data:image/svg+xml;base64,")
         svg = base64.b64decode(a["src"].split(",", 1)[1])
@@ -332,7 +351,7 @@ def test_html_is_self_contained_and_script_free(written):
 def test_markdown_links_every_figure_relatively(written):
     md = (written / "edge.md").read_text()
     links = re.findall(r"!\[[^\]]*\]\(([^)]+)\)", md)
-    assert len(links) == 7
+    assert len(links) == 9
     for link in links:
         assert not link.startswith("/") and link.startswith("edge_figures/")
         assert (written / link).is_file()
@@ -362,7 +381,7 @@ def hostile(tmp_path_factory):
     frame.to_csv(csv, index=False)
     result = audit(load_sweep(str(csv), LoadOptions()), settings=AuditSettings(seed=1, resamples=200),
                    command=f"sweepaudit audit '{csv}'")
-    doc, material = result.document, result.figures
+    doc, material = result.document, result.figure_material
     assert doc["selected"]["configuration"] == HOSTILE
     write_report(folder / "r.html", doc, material)
     write_report(folder / "r.md", doc, material)
@@ -491,8 +510,8 @@ def test_several_reports_in_one_run_and_the_lines_that_say_so(tmp_path):
     assert result.exit_code in (0, 1), result.stderr
     assert all(p.is_file() for p in paths) and "--resamples 200" in paths[0].read_text()
     wrote = [line for line in result.stderr.splitlines() if line.startswith("wrote ")]
-    assert wrote == [f"wrote {paths[0]}", f"wrote {paths[1]} (and 7 figures in {tmp_path / 'b_figures'})",
-                     f"wrote {paths[2]} (and 7 figures in {tmp_path / 'c_figures'})", f"wrote {tmp_path / 'a.json'}"]
+    assert wrote == [f"wrote {paths[0]}", f"wrote {paths[1]} (and 9 figures in {tmp_path / 'b_figures'})",
+                     f"wrote {paths[2]} (and 9 figures in {tmp_path / 'c_figures'})", f"wrote {tmp_path / 'a.json'}"]
     assert "wrote" not in result.stdout
     quiet = CliRunner().invoke(app, [*args, "--quiet"])
     assert quiet.exit_code == result.exit_code and quiet.stderr == "" and quiet.stdout == ""
@@ -532,7 +551,7 @@ def test_report_names_an_isolated_peak_and_not_a_plateau():
     for res, expected in ((lone, True), (plateau, False)):
         assert res.selected == "fast=2, slow=20"
         assert res.surface.neighbours == 4 and res.surface.isolated is expected
-        section = next(s for s in build_report(res.document, res.figures).sections if s.id == "surface")
+        section = next(s for s in build_report(res.document, res.figure_material).sections if s.id == "surface")
         assert section.answer == ("Failed (advisory): the selected cell is an isolated peak." if expected
                                   else "Passed (advisory): the selected cell is not an isolated peak.")
         assert ("isolated peak", "yes" if expected else "no") in section.tables[0].rows
@@ -555,7 +574,7 @@ def test_ranking_of_many_configurations_thins_labels():
 
     res = audit(sweep_from_array(rng.normal(0, 0.01, (60, 1000))), settings=AuditSettings(seed=1, resamples=100),
                 sensitivity=False)
-    fig = plots.sharpe_ranking(res.document, res.figures)
+    fig = plots.sharpe_ranking(res.document, res.figure_material)
     root = ET.fromstring(fig.svg)
     texts = [e.text for e in root.iter() if e.tag.endswith("text") and e.text]
     assert sum(bool(re.fullmatch(r"config \d+", t)) for t in texts) == 1  # only the selected one is named
@@ -617,14 +636,15 @@ def test_html_report_renders_in_a_real_browser(edge_audit, written, tmp_path):
     match = re.search(r'<pre id="probe">([^<]*)</pre>', dom)
     assert match, "the probe did not run"
     *sizes, appendix = match.group(1).split()
-    assert len(sizes) == 7
+    assert len(sizes) == 9
     for size in sizes:
         natural, shown = size.split("@")
         nw, nh = (int(v) for v in natural.split("x"))
         sw, sh = (int(v) for v in shown.split("x"))
         assert nw > 100 and nh > 100 and sw > 100 and sh > 100, size
-    # The first screen and the sections, before the appendix, at 1,280 px: measured 7,400 px.
-    assert int(appendix.split("@")[1]) < 9_000
+    # The first screen and the sections, before the appendix, at 1,280 px: measured 9,830 px with the
+    # evidence over time (the report before this layout: 16,466 px, everything included).
+    assert int(appendix.split("@")[1]) < 11_000
 
 
 def _pdf_pages(pdf: bytes) -> int:
@@ -636,17 +656,17 @@ def _pdf_pages(pdf: bytes) -> int:
     return pages
 
 
-#: Pages the demo reports print to on A4: measured 12 (edge, fragile) and 13 (noise) with 42
-#: configurations, no section heading left at the foot of a page; the bound leaves room for a longer
-#: warning or an extra table row, not for a section that no longer fits its figure.
-MAX_PAGES = 15
+#: Pages the demo reports print to on A4: measured 14 for each (edge, noise, fragile; 42 configurations,
+#: 8 of them pages of sections, 6 of appendix), no section heading left at the foot of a page; the bound
+#: leaves room for a longer warning or a few table rows, not for a section that no longer fits its figure.
+MAX_PAGES = 16
 
 
 @pytest.fixture(scope="module")
 def noise_audit():
     result = audit(load_sweep(str(NOISE), LoadOptions()), settings=AuditSettings(seed=7, resamples=400))
     assert result.verdict.decision == "no-go"
-    return result.document, result.figures
+    return result.document, result.figure_material
 
 
 @pytest.mark.browser

@@ -1,15 +1,13 @@
-"""The in-process executor of the block pipeline: the shared resampled moments and the intervals.
+"""The in-process executor of the block pipeline, and the in-memory moments of a small audit.
 
 Every bootstrap-based method of an audit consumes one :class:`~sweepaudit.resample.ResampledMoments`
 computed here, ``weights @ returns / T`` chunk by chunk (Politis and Romano 1994 for the stationary
-bootstrap's weights). When the ``B x N`` moments fit ``memory_budget`` they are computed for all
-configurations at once; otherwise the configurations are streamed in blocks: each block's moments
-(the same resamples, regenerated from the seed) give that block's statistics exactly as in memory,
-and only small per-block summaries are kept: the resampled means in float64 (the data-snooping tests
-need only them, reduced over configurations block by block) and the resampled Sharpe ratios in
-float32 (relative rounding 6e-8, far below bootstrap noise; they only serve re-levelling intervals
-and plots). The per-block statistic is a pure function passed in, so another executor (a later
-Dask one) can run the same tasks on blocks elsewhere.
+bootstrap's weights). When the ``B x N`` moments fit the memory budget,
+:func:`moments_and_intervals` computes them for all configurations at once. Otherwise the audit
+streams: :class:`InProcess` runs a pure per-block task on each block of configurations in turn, the
+block's moments computed from the same resamples (their weights drawn once and kept), and the caller
+combines the tasks' small summaries. :class:`~sweepaudit.engine.cluster.DaskCluster` runs the same
+tasks on Dask workers.
 
 References
 ----------
@@ -18,20 +16,17 @@ Politis, D. N. and Romano, J. P. (1994). The stationary bootstrap. JASA 89(428),
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
+from typing import Any
 
 import numpy as np
 
 from ..resample import ResampledMoments, Resamples, moment_chunk, resampled_moments
 from ..results import BootstrapIntervals
+from .blocks import WeightTable, block_moments
+from .threads import free_cores, single_threaded
 
-__all__ = ["MEMORY_BUDGET", "BLOCK_BUDGET", "IntervalFunction", "moments_and_intervals"]
-
-# Above this many bytes for the B x N resampled means, second moments and Sharpe ratios held at
-# once in float64, the audit streams over blocks of configurations instead.
-MEMORY_BUDGET = 4 * 2**30
-# Bytes of float64 B x n temporaries one block of configurations may use in the streamed path.
-BLOCK_BUDGET = 1_500 * 2**20
+__all__ = ["IntervalFunction", "InProcess", "moments_and_intervals"]
 
 #: The per-block statistic: ``intervals(returns_block, moments_block) -> BootstrapIntervals``.
 IntervalFunction = Callable[[np.ndarray, ResampledMoments], BootstrapIntervals]
@@ -43,10 +38,10 @@ def moments_and_intervals(
     resamples: Resamples,
     *,
     intervals: IntervalFunction,
-    memory_budget: int | None = None,
     progress: Progress | None = None,
+    threads: int | None = None,
 ) -> tuple[ResampledMoments, BootstrapIntervals]:
-    """The shared resampled moments of every configuration and the intervals computed from them.
+    """The shared resampled moments of every configuration at once and the intervals from them.
 
     Parameters
     ----------
@@ -55,66 +50,71 @@ def moments_and_intervals(
     resamples : Resamples
         The audit's resamples (drawn once).
     intervals : callable
-        The intervals of a block of configurations from its moments (pure; see module docstring).
-    memory_budget : int, optional
-        Bytes the full ``B x N`` moments may take before streaming (default :data:`MEMORY_BUDGET`).
+        The intervals of the configurations from their moments.
     progress : callable, optional
         ``progress(done, total)`` in resamples.
-
-    Returns
-    -------
-    (ResampledMoments, BootstrapIntervals)
-        In the streamed case the moments keep only the means (``second`` is None).
+    threads : int, optional
+        Threads for the products, each running single-threaded BLAS on its own chunk of resamples
+        (default: :func:`~sweepaudit.engine.threads.free_cores`; the figures do not depend on it).
     """
-    budget = MEMORY_BUDGET if memory_budget is None else memory_budget
-    t, n = returns.shape
     b = resamples.count
-    if 3 * b * n * 8 <= budget:
+    with single_threaded():
         moments = resampled_moments(
-            returns, resamples, chunk=moment_chunk(t), progress=(lambda done: progress(done, b)) if progress else None
+            returns, resamples, chunk=moment_chunk(returns.shape[0]), threads=threads or free_cores(),
+            progress=(lambda done: progress(done, b)) if progress else None,
         )
-        return moments, intervals(returns, moments)
-    return _streamed(returns, resamples, intervals, progress)
+    return moments, intervals(returns, moments)
 
 
-def _streamed(returns, resamples, intervals: IntervalFunction, progress: Progress | None):
-    """Configurations in blocks of at most BLOCK_BUDGET bytes of float64 temporaries."""
-    t, n = returns.shape
-    b = resamples.count
-    width = max(1, min(n, BLOCK_BUDGET // (5 * 8 * b)))
-    mean = np.empty((b, n), dtype=np.float64)
-    sharpe = np.empty((b, n), dtype=np.float32)
-    degenerate = np.zeros(b, dtype=bool)
-    mean_iv: list = []
-    sharpe_iv: list = []
-    scales: list[list[np.ndarray]] = [[], [], []]
-    block_iv = None
-    for start in range(0, n, width):
-        cols = slice(start, min(n, start + width))
-        block = resampled_moments(returns[:, cols], resamples, chunk=moment_chunk(t))
-        block_iv = intervals(returns[:, cols], block)
-        mean[:, cols] = block_iv.mean_distribution
-        sharpe[:, cols] = block_iv.sharpe_distribution
-        degenerate |= ~np.isfinite(block_iv.sharpe_distribution).all(axis=1)
-        mean_iv += block_iv.mean
-        sharpe_iv += block_iv.sharpe
-        for kept, part in zip(scales, (block_iv.mean_standard_error, block_iv.sharpe_standard_error,
-                                       block_iv.degrees_of_freedom)):
-            if part is not None:
-                kept.append(part)
-        del block
-        if progress is not None:
-            progress(round(b * cols.stop / n), b)
-    combined = BootstrapIntervals(
-        mean=tuple(mean_iv),
-        sharpe=tuple(sharpe_iv),
-        mean_distribution=mean,
-        sharpe_distribution=sharpe,
-        confidence=block_iv.confidence,
-        method=block_iv.method,
-        degenerate_resamples=int(degenerate.sum()),
-        mean_standard_error=np.concatenate(scales[0]) if scales[0] else None,
-        sharpe_standard_error=np.concatenate(scales[1]) if scales[1] else None,
-        degrees_of_freedom=np.concatenate(scales[2]) if scales[2] else None,
-    )
-    return ResampledMoments(mean=mean, second=None, windows=t), combined
+class InProcess:
+    """Runs the block tasks in this process, one block after another (the default executor).
+
+    A task is ``task(block, start)`` or, with resamples, ``task(block, moments, start)``: a pure
+    function of the block's returns (and their resampled moments) to a small summary.
+    """
+
+    name = "in-process"
+
+    def __init__(self, *, threads: int | None = None) -> None:
+        self.threads = threads
+        self._table: WeightTable | None = None
+
+    def _weights(self, resamples: Resamples, keep: bool) -> WeightTable | None:
+        if not keep:
+            return None
+        if self._table is None or self._table.resamples != resamples or self._table.resamples.seed is None:
+            self._table = WeightTable(resamples)
+        return self._table
+
+    def map(
+        self,
+        matrix: np.ndarray,
+        blocks: list[tuple[int, int]],
+        task: Callable[..., Any],
+        *,
+        resamples: Resamples | None = None,
+        keep_weights: bool = True,
+        progress: Callable[[int], None] | None = None,
+    ) -> Iterator[Any]:
+        """Each block's summary, in block order; ``progress(columns done)`` after each block."""
+        table = self._weights(resamples, keep_weights) if resamples is not None else None
+        threads = self.threads or free_cores()
+        for start, stop in blocks:
+            block = matrix[:, start:stop]
+            if resamples is None:
+                yield task(block, start)
+            else:
+                with single_threaded():
+                    moments = block_moments(block, resamples, table, threads)
+                yield task(block, moments, start)
+            if progress is not None:
+                progress(stop)
+
+    def each(self, function: Callable[[Any], Any], items) -> Iterator[Any]:
+        """``function(item)`` for every item, in order (for independent work such as the audits of
+        a calibration)."""
+        for item in items:
+            yield function(item)
+
+    def close(self) -> None:
+        self._table = None

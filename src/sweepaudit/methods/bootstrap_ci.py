@@ -41,7 +41,15 @@ from ..results import BootstrapIntervals, Interval, IntervalMethod, LongRunVaria
 from .longrun import long_run_variance
 from .sharpe import variance_numerator
 
-__all__ = ["INTERVAL_METHODS", "bootstrap_intervals", "interval", "at_level", "long_run_standard_errors"]
+__all__ = [
+    "INTERVAL_METHODS",
+    "bootstrap_intervals",
+    "interval",
+    "at_level",
+    "long_run_standard_errors",
+    "part_columns",
+    "part_intervals",
+]
 
 INTERVAL_METHODS: tuple[str, ...] = get_args(IntervalMethod)
 
@@ -82,10 +90,17 @@ def _quantiles(distribution: np.ndarray, q: list[float]) -> np.ndarray:
 
 def _studentized(estimates, distribution, standard_error, degrees_of_freedom, q) -> np.ndarray:
     """Bootstrap-t bounds: the standardised draws' quantiles on the t-scale, times the long-run SE."""
-    draws = np.where(np.isfinite(distribution), distribution, np.nan)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        z = (draws - estimates) / np.nanstd(draws, axis=0)
-    zq = np.nanquantile(z, q, axis=0)
+    if np.isfinite(distribution).all():
+        # Without non-finite draws the nan-aware reductions are the plain ones (the same bits; the
+        # column-by-column nanquantile costs a Python call per configuration).
+        with np.errstate(invalid="ignore", divide="ignore"):
+            z = (distribution - estimates) / np.std(distribution, axis=0)
+        zq = np.quantile(z, q, axis=0) if np.isfinite(z).all() else np.nanquantile(z, q, axis=0)
+    else:
+        draws = np.where(np.isfinite(distribution), distribution, np.nan)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            z = (draws - estimates) / np.nanstd(draws, axis=0)
+        zq = np.nanquantile(z, q, axis=0)
     tq = stats.t.ppf(stats.norm.cdf(zq), degrees_of_freedom)
     return np.stack([estimates - tq[1] * standard_error, estimates - tq[0] * standard_error])
 
@@ -187,6 +202,11 @@ def at_level(
 
     No resampling: the distributions of ``intervals`` are reused (Efron and Tibshirani 1993, ch. 13).
     """
+    if intervals.distribution_columns is not None:
+        raise InputError(
+            "these intervals kept the bootstrap distributions of the selected configuration only (a streamed "
+            "audit); audit again with a larger memory_budget to re-level every configuration"
+        )
     scale = None
     if intervals.mean_standard_error is not None:
         scale = (intervals.mean_standard_error, intervals.sharpe_standard_error, intervals.degrees_of_freedom)
@@ -199,3 +219,65 @@ def at_level(
         method or intervals.method,
         scale,
     )
+
+
+def part_columns(parts) -> np.ndarray:
+    """The ``T x 2k`` matrix ``[y_1 m_1, m_1, y_2 m_2, m_2, ...]`` for parts ``(y_j, m_j)``: a series and
+    a mask of the windows that belong to the part.
+
+    The audit's shared resamples (:func:`sweepaudit.resample.resampled_moments`) turn it into every
+    part's resampled moments at the cost of ``2k`` more columns (see :func:`part_intervals`).
+    """
+    columns = []
+    for series, mask in parts:
+        y = validate.returns_series(series, "series")
+        m = np.asarray(mask, dtype=bool)
+        if m.shape != y.shape:
+            raise InputError(f"mask must have the series' {y.size} windows; got shape {m.shape}")
+        columns += [np.where(m, y, 0.0), m.astype(np.float64)]
+    return np.column_stack(columns)
+
+
+def part_intervals(parts, moments: ResampledMoments, *, confidence: float = 0.95,
+                   method: IntervalMethod = "studentized") -> tuple[BootstrapIntervals, ...]:
+    """Intervals for the mean and Sharpe ratio of each part of a series, from resampled moments of
+    :func:`part_columns`.
+
+    In resample b the windows drawn inside part j give its resampled mean
+    ``mean*_b(y m) / mean*_b(m)`` and second moment ``mean*_b(y^2 m) / mean*_b(m)`` (the block
+    bootstrap restricted to the part: a random number of windows, in blocks cut at the part's ends).
+    The intervals then follow :func:`bootstrap_intervals` on the part's own windows (for
+    ``"studentized"``, the part's own long-run standard errors). Resamples that drew fewer than two
+    of the part's windows are left out.
+
+    Parameters
+    ----------
+    parts : sequence of (series, mask)
+        As given to :func:`part_columns`.
+    moments : ResampledMoments
+        Resampled moments of ``part_columns(parts)``, with second moments.
+    confidence, method
+        As for :func:`bootstrap_intervals`.
+
+    Returns
+    -------
+    tuple of BootstrapIntervals
+        One per part, each for a single column.
+    """
+    if moments.second is None:
+        raise InputError("part_intervals needs resampled second moments")
+    out = []
+    t = moments.windows
+    for j, (series, mask) in enumerate(parts):
+        m = np.asarray(mask, dtype=bool)
+        share = moments.mean[:, 2 * j + 1]
+        kept = share * t >= 2.0
+        denominator = share[kept]
+        part = ResampledMoments(
+            mean=(moments.mean[kept, 2 * j] / denominator)[:, None],
+            second=(moments.second[kept, 2 * j] / denominator)[:, None],
+            windows=int(m.sum()),
+        )
+        values = np.asarray(series, dtype=np.float64)[m][:, None]
+        out.append(bootstrap_intervals(values, part, confidence=confidence, method=method))
+    return tuple(out)

@@ -74,9 +74,9 @@ import numpy as np
 
 from .. import validate
 from ..errors import DegenerateDataError, InputError, SweepAuditWarning
-from ..results import CscvResult, SplitStatistic
+from ..results import CscvBlockRanks, CscvBlockWinners, CscvResult, SplitStatistic
 
-__all__ = ["cscv"]
+__all__ = ["cscv", "cscv_layout", "cscv_block_winners", "combine_winners", "cscv_block_ranks", "cscv_from_blocks"]
 
 
 _STATISTICS: tuple[str, ...] = get_args(SplitStatistic)
@@ -332,17 +332,26 @@ def _splits(matrix: np.ndarray, halves: _HalfStatistics, used: int, requested: i
              if combinations * configurations * 8 <= _CACHE_BYTES else None)
     step = max(1, _rows_per_chunk(configurations) // 2)
     winners = _winners(halves, indicator, step, cache)
+    if cache is not None:
+        chunks = (cache[i:i + step] for i in range(0, combinations, step))
+    else:
+        chunks = (halves(indicator[i:i + step]) for i in range(0, combinations, step))
+    points = np.unique(winners.out_of_sample)
+    pooled = _pooled(points, chunks, combinations * configurations)
+    del cache
+    return _read_off(winners, points, pooled, windows, configurations, used, requested, halves.statistic, messages)
+
+
+def _read_off(winners, points, pooled, windows, configurations, used, requested, statistic, messages) -> CscvResult:
+    """The figures CSCV reads off every split's winner and the pooled out-of-sample values."""
+    indicator = _split_indicator(used)
+    combinations = indicator.shape[0]
     relative = winners.rank / (configurations + 1)
     logits = np.log(relative / (1.0 - relative))
     quantiles = {q: float(v) for q, v in zip(_LOGIT_QUANTILE_LEVELS,
                                              np.quantile(logits, _LOGIT_QUANTILE_LEVELS))}
     slope, intercept, r_squared = _degradation(winners.in_sample, winners.out_of_sample, messages)
-    if cache is not None:
-        chunks = (cache[i:i + step] for i in range(0, combinations, step))
-    else:
-        chunks = (halves(indicator[i:i + step]) for i in range(0, combinations, step))
-    dominance = _dominance(winners.out_of_sample, chunks, combinations * configurations)
-    del cache
+    dominance = _dominance_figures(winners.out_of_sample, points, pooled, combinations * configurations)
     if dominance["second_order_dominance"] is None:
         messages.append(
             "second-order dominance and the pooled out-of-sample mean not computed: some "
@@ -360,7 +369,7 @@ def _splits(matrix: np.ndarray, halves: _HalfStatistics, used: int, requested: i
         in_sample_t_statistic=winners.t_statistic,
         median_out_of_sample=float(np.median(winners.out_of_sample)),
         null_probability_of_overfitting=0.5 if configurations % 2 == 0 else (configurations + 1) / (2 * configurations),
-        statistic=halves.statistic, partitions=used, partitions_requested=requested, combinations=combinations,
+        statistic=statistic, partitions=used, partitions_requested=requested, combinations=combinations,
         windows=windows, configurations=configurations, block_bounds=_block_bounds(windows, used),
         block_rule=_BLOCK_RULE, warnings=tuple(messages), **dominance,
     )
@@ -429,13 +438,9 @@ def _degradation(in_sample: np.ndarray, out_of_sample: np.ndarray, messages: lis
     return slope, float(y.mean()) - slope * float(x.mean()), (sxy * sxy / (sxx * syy) if syy > 0 else 0.0)
 
 
-def _dominance(selected_oos, chunks, pooled_size) -> dict:
-    """Stochastic dominance of the selected out-of-sample statistic over the pooled one.
-
-    Every half-sample is out-of-sample for exactly one split, so the pooled sample is the
-    statistic of every configuration on every half-sample (``chunks`` yields them).
-    """
-    points = np.unique(selected_oos)  # sorted; may include +-inf
+def _pooled(points: np.ndarray, chunks, pooled_size: int) -> dict:
+    """How the pooled values fall among the selected values: counts and sums per slot (a sum over
+    chunks, so column blocks add up)."""
     counts = np.zeros(points.size + 1)
     sums = np.zeros(points.size + 1)
     pooled_total = 0.0
@@ -451,6 +456,12 @@ def _dominance(selected_oos, chunks, pooled_size) -> dict:
             pooled_total += values.sum()
         else:
             pooled_nonfinite += int(values.size - finite.sum())
+    return {"counts": counts, "sums": sums, "total": pooled_total, "nonfinite": pooled_nonfinite}
+
+
+def _dominance_figures(selected_oos: np.ndarray, points: np.ndarray, pooled: dict, pooled_size: int) -> dict:
+    """First- and second-order dominance from the pooled counts (see the module Notes)."""
+    counts, sums = pooled["counts"], pooled["sums"]
     # F_pooled(x_k) = share of pooled values <= x_k, i.e. with slot <= k.
     pooled_cdf = np.cumsum(counts)[:-1] / pooled_size
     selected_cdf = np.searchsorted(np.sort(selected_oos), points, side="right") / selected_oos.size
@@ -458,13 +469,13 @@ def _dominance(selected_oos, chunks, pooled_size) -> dict:
 
     second: float | None = None
     pooled_mean: float | None = None
-    if pooled_nonfinite == 0 and np.all(np.isfinite(selected_oos)):
+    if pooled["nonfinite"] == 0 and np.all(np.isfinite(selected_oos)):
         # E[(x - X)^+] = x F(x) - E[X 1{X <= x}] at every selected value, plus x -> inf.
         pooled_lpm = points * pooled_cdf - np.cumsum(sums)[:-1] / pooled_size
         sel_sorted = np.sort(selected_oos)
         sel_partial = np.cumsum(sel_sorted)[np.searchsorted(sel_sorted, points, side="right") - 1]
         selected_lpm = points * selected_cdf - sel_partial / selected_oos.size
-        pooled_mean = pooled_total / pooled_size
+        pooled_mean = pooled["total"] / pooled_size
         gaps = np.append(selected_lpm - pooled_lpm, pooled_mean - float(np.mean(selected_oos)))
         # Rounding in the partial sums: differences below this scale count as ties.
         scale = 1e-12 * max(1.0, float(np.max(np.abs(points))))
@@ -519,3 +530,142 @@ class _SlotFinder:
         exact = np.flatnonzero(self.shared[bins])
         slot[exact] = np.searchsorted(self.points, values[exact], side="left")
         return slot
+
+
+# --------------------------------------------------------------------------------------------------
+# CSCV over column blocks: every figure from two passes of per-block summaries
+
+
+def cscv_layout(windows: int, *, partitions: int = 16, statistic: SplitStatistic = "sharpe") -> tuple[int, list[str]]:
+    """The partitions CSCV uses for ``windows`` windows (see the module Notes) and the message saying
+    why it used fewer than asked, for :func:`cscv_block_winners` and :func:`cscv_from_blocks`."""
+    statistic = validate.choice(statistic, "statistic", _STATISTICS)
+    _validate(np.zeros((max(int(windows), 1), 2)), partitions, statistic)  # the same argument checks
+    messages: list[str] = []
+    return _partitions_used(int(windows), int(partitions), statistic, messages), messages
+
+
+def _block_halves(block: np.ndarray, used: int, statistic: str) -> tuple[_HalfStatistics, np.ndarray, int]:
+    matrix = np.asarray(block, dtype=np.float64)
+    halves = _HalfStatistics(matrix, _block_bounds(matrix.shape[0], used), statistic)
+    return halves, _split_indicator(used), max(1, _rows_per_chunk(matrix.shape[1]) // 2)
+
+
+def _paired_rows(combinations: int, step: int):
+    """Split i and its mirror C - 1 - i share their halves: rows in pairs, chunk by chunk."""
+    half = combinations // 2
+    for start in range(0, half, step):
+        first = np.arange(start, min(start + step, half))
+        count = first.size
+        yield count, np.concatenate([first, combinations - 1 - first]), np.concatenate(
+            [np.arange(count, 2 * count), np.arange(count)])
+
+
+def cscv_block_winners(block: np.ndarray, *, partitions: int, statistic: SplitStatistic, start: int = 0) -> CscvBlockWinners:
+    """Each split's best configuration within one column block (first pass of a blocked CSCV).
+
+    Parameters
+    ----------
+    block : ndarray, shape (T, n)
+        The block's returns.
+    partitions : int
+        The partitions CSCV uses (:func:`cscv_layout`).
+    statistic : {"sharpe", "mean"}
+    start : int
+        The block's first column in the sweep.
+    """
+    halves, indicator, step = _block_halves(block, partitions, statistic)
+    combinations = indicator.shape[0]
+    out = CscvBlockWinners(*(np.empty(combinations, dtype=d) for d in (float, np.int64, float, float)),
+                           constant=int(halves.constant_columns.size))
+    for _, rows, mirror in _paired_rows(combinations, step):
+        values = halves(indicator[rows])
+        best = np.argmax(values, axis=1)  # first maximum: lowest index wins ties
+        out.in_sample[rows] = values[np.arange(rows.size), best]
+        out.column[rows] = best + start
+        out.out_of_sample[rows] = values[mirror, best]
+        out.t_statistic[rows] = halves.t_statistic(indicator[rows], best)
+    return out
+
+
+def combine_winners(parts: list[CscvBlockWinners]) -> CscvBlockWinners:
+    """The sweep's winner of every split from the blocks' (in column order: ties go to the lower column)."""
+    first = parts[0]
+    out = CscvBlockWinners(first.in_sample.copy(), first.column.copy(), first.out_of_sample.copy(),
+                           first.t_statistic.copy(), constant=sum(p.constant for p in parts))
+    for part in parts[1:]:
+        better = part.in_sample > out.in_sample
+        for name in ("in_sample", "column", "out_of_sample", "t_statistic"):
+            getattr(out, name)[better] = getattr(part, name)[better]
+    return out
+
+
+def cscv_block_ranks(
+    block: np.ndarray, *, partitions: int, statistic: SplitStatistic, target: np.ndarray, points: np.ndarray,
+    pooled_size: int,
+) -> CscvBlockRanks:
+    """Second pass of a blocked CSCV: how one block's out-of-sample values rank against each split's
+    winner, and how they fall among the winners' values (for the dominance figures).
+
+    Parameters
+    ----------
+    block : ndarray, shape (T, n)
+    partitions, statistic
+        As for :func:`cscv_block_winners`.
+    target : ndarray, shape (C,)
+        The winner's out-of-sample value of every split (:func:`combine_winners`).
+    points : ndarray
+        ``numpy.unique(target)``.
+    pooled_size : int
+        C times the sweep's configurations.
+    """
+    halves, indicator, step = _block_halves(block, partitions, statistic)
+    combinations = indicator.shape[0]
+    below, equal = np.zeros(combinations), np.zeros(combinations)
+
+    def values_counted():
+        # Every half-sample once (split i and its mirror), counted against the winners on the way.
+        for count, rows, _ in _paired_rows(combinations, step):
+            values = halves(indicator[rows])
+            for own, other in ((slice(0, count), slice(count, None)), (slice(count, None), slice(0, count))):
+                wanted = target[rows[own], None]
+                below[rows[own]] = np.count_nonzero(values[other] < wanted, axis=1)
+                equal[rows[own]] = np.count_nonzero(values[other] == wanted, axis=1)
+            yield values
+
+    pooled = _pooled(points, values_counted(), pooled_size)
+    return CscvBlockRanks(below, equal, pooled)
+
+
+def _add_pooled(a: dict, b: dict) -> dict:
+    return {key: a[key] + b[key] for key in a}
+
+
+def cscv_from_blocks(
+    winners: CscvBlockWinners, ranks: list[CscvBlockRanks], *, windows: int, configurations: int,
+    partitions: int, requested: int, statistic: SplitStatistic, messages: list[str],
+) -> CscvResult:
+    """The :func:`cscv` result from the two passes' summaries (the same figures; the pooled mean to
+    rounding, its sum being taken block by block).
+
+    ``messages`` are :func:`cscv_layout`'s; the warnings are emitted here, as :func:`cscv` does.
+    """
+    messages = list(messages)
+    if winners.constant:
+        messages.append(
+            f"{winners.constant} configuration(s) have at least {partitions // 2} blocks "
+            "of identical windows; a half-sample with zero variance gets Sharpe ratio +inf, "
+            "-inf or 0 by the sign of its constant value"
+        )
+    below = np.sum([r.below for r in ranks], axis=0)
+    equal = np.sum([r.equal for r in ranks], axis=0)
+    pooled = ranks[0].pooled
+    for part in ranks[1:]:
+        pooled = _add_pooled(pooled, part.pooled)
+    chosen = _Winners(selected=winners.column, in_sample=winners.in_sample, out_of_sample=winners.out_of_sample,
+                      rank=below + (equal + 1) / 2.0, t_statistic=winners.t_statistic)
+    points = np.unique(winners.out_of_sample)
+    result = _read_off(chosen, points, pooled, windows, configurations, partitions, requested, statistic, messages)
+    for message in messages:
+        warnings.warn(message, SweepAuditWarning, stacklevel=2)
+    return result

@@ -44,6 +44,8 @@ __all__ = [
     "max_trials_for_deflated_sharpe",
     "deflated_by_trials",
     "effective_trials",
+    "correlation_gram_block",
+    "effective_trials_from_gram",
     "trials_from_average_correlation",
     "nyholt_effective_trials",
     "li_ji_effective_trials",
@@ -498,12 +500,40 @@ def effective_trials(returns: object) -> EffectiveTrials:
         return EffectiveTrials(1, 1.0, 1.0, 1.0, 1.0, np.array([1.0]))
     # Off-diagonal sum of the correlation matrix = ||row sums of Z||^2 - N, without forming it.
     total = float(np.sum(z.sum(axis=1) ** 2))
-    average = (total - n) / (n * (n - 1))
-    average = float(np.clip(average, -1.0, 1.0))
     if n <= windows:
         eigenvalues = np.linalg.eigvalsh(z.T @ z)
     else:
         eigenvalues = np.concatenate([np.linalg.eigvalsh(z @ z.T), np.zeros(n - windows)])
+    return _effective(total, eigenvalues, n)
+
+
+def correlation_gram_block(block: object) -> tuple[np.ndarray, np.ndarray]:
+    """One column block's share of the effective trials: ``Z_b Z_b'`` (T x T) and the row sums of
+    ``Z_b``, with ``Z`` the standardised columns over ``sqrt(T - 1)`` (sums over blocks give the
+    whole sweep's; see :func:`effective_trials_from_gram`)."""
+    array = _matrix(block)
+    z = _standardised(array) / math.sqrt(array.shape[0] - 1)
+    return z @ z.T, z.sum(axis=1)
+
+
+def effective_trials_from_gram(gram: np.ndarray, row_sums: np.ndarray, configurations: int) -> EffectiveTrials:
+    """:func:`effective_trials` from the summed :func:`correlation_gram_block` of every column block.
+
+    ``Z Z'`` (T x T) has the non-zero eigenvalues of the correlation matrix ``Z'Z`` (N x N); when
+    N < T its remaining T - N eigenvalues are zero up to rounding and the N largest are kept.
+    """
+    n = int(configurations)
+    if n == 1:
+        return EffectiveTrials(1, 1.0, 1.0, 1.0, 1.0, np.array([1.0]))
+    eigenvalues = np.linalg.eigvalsh(gram)
+    windows = gram.shape[0]
+    eigenvalues = np.sort(eigenvalues)[::-1][:n] if n <= windows else np.concatenate([eigenvalues, np.zeros(n - windows)])
+    return _effective(float(np.sum(row_sums**2)), eigenvalues, n)
+
+
+def _effective(total: float, eigenvalues: np.ndarray, n: int) -> EffectiveTrials:
+    average = (total - n) / (n * (n - 1))
+    average = float(np.clip(average, -1.0, 1.0))
     eigenvalues = np.sort(np.clip(eigenvalues, 0.0, None))[::-1]
     return EffectiveTrials(
         configurations=n,

@@ -73,7 +73,7 @@ from .sharpe import (
     serial_correlation_standard_error,
 )
 
-__all__ = ["sharpe_inference", "declared_trials"]
+__all__ = ["sharpe_inference", "sharpe_inference_of_family", "declared_trials", "Family", "family_of"]
 
 
 @dataclass(frozen=True)
@@ -182,17 +182,43 @@ def _track_record(
     return track, None if periods is None else track / periods
 
 
-def _deflation(array: np.ndarray, sharpes: np.ndarray, declared: int, method: EffectiveTrialsMethod, trial_ratio: float,
-               detail: EffectiveTrials | None = None):
+def _deflation(family: Family, declared: int, method: EffectiveTrialsMethod, trial_ratio: float):
     """Effective trials, the trial Sharpe variance of each mode and the trial count of each choice."""
-    n = array.shape[1]
-    if detail is None:
-        detail = effective_trials(array)
+    n = family.sharpes.size
+    detail: EffectiveTrials = family.effective
     effective = detail.value(method) + (declared - n)
-    variances: dict[str, float] = {"null": trial_sharpe_variance(array, mode="null", long_run_ratio=trial_ratio)}
+    q = validate.positive_number(trial_ratio, "long_run_ratio")
+    # trial_sharpe_variance(mode="null"): q / (T - 1) (constant columns were refused with the family)
+    variances: dict[str, float] = {"null": q / (family.windows - 1)}
     if n >= 2:
-        variances["empirical"] = float(np.var(sharpes, ddof=1))
+        variances["empirical"] = float(np.var(family.sharpes, ddof=1))
     return detail, effective, variances, {"declared": float(declared), "effective": effective}
+
+
+@dataclass(frozen=True, eq=False)
+class Family:
+    """What the inference needs of the whole sweep: every configuration's Sharpe ratio, the selected
+    configuration's series and higher moments, and the effective trials (from the full matrix by
+    :func:`sharpe_inference`, or from column blocks by the audit's streamed path)."""
+
+    windows: int
+    sharpes: np.ndarray
+    series: np.ndarray
+    skewness: float
+    kurtosis: float
+    effective: EffectiveTrials
+
+
+def family_of(array: np.ndarray, index: int, effective: EffectiveTrials | None = None) -> Family:
+    """The :class:`Family` of a full T x N matrix (``effective``: its effective trials, when already known)."""
+    moments = return_moments(array)
+    trial_sharpe_variance(array, mode="null")  # refuses constant columns with its message
+    if effective is not None and effective.configurations != array.shape[1]:
+        raise InputError(f"effective must come from the same {array.shape[1]} configurations; got "
+                         f"{effective.configurations}")
+    return Family(array.shape[0], np.asarray(moments.sharpe, dtype=float), array[:, index],
+                  float(np.asarray(moments.skewness)[index]), float(np.asarray(moments.kurtosis)[index]),
+                  effective_trials(array) if effective is None else effective)
 
 
 def sharpe_inference(
@@ -270,10 +296,34 @@ def sharpe_inference(
         raise InputError("variance_mode='empirical' needs at least 2 configurations; got 1")
     alpha = validate.probability(significance, "significance")
     scale = _scale(array, long_run, chosen.sharpe_variance, index)
-    if effective is not None and effective.configurations != n:
-        raise InputError(f"effective must come from the same {n} configurations; got {effective.configurations}")
-    return _infer(array, index, declared, periods, chosen, scale, benchmark=benchmark, confidence=confidence,
-                  alpha=alpha, effective=effective)
+    family = family_of(array, index, effective)
+    return _infer(family, index, declared, periods, chosen, scale, benchmark=benchmark, confidence=confidence, alpha=alpha)
+
+
+def sharpe_inference_of_family(
+    family: Family,
+    *,
+    selected: int,
+    long_run: LongRunVariance,
+    trials: int | None = None,
+    periods_per_year: float | None = None,
+    confidence: float = 0.95,
+    variance_mode: VarianceMode = "null",
+    trials_for_deflation: TrialCount = "declared",
+    sharpe_variance: SharpeVariance = "long-run",
+    significance: float = 0.05,
+) -> SharpeInference:
+    """:func:`sharpe_inference` from a :class:`Family` gathered block by block (the same figures;
+    the options not named here keep their defaults)."""
+    n = family.sharpes.size
+    index = validate.column_index(selected, "selected", n)
+    declared = declared_trials(trials, n)
+    periods = validate.periods_per_year(periods_per_year)
+    chosen = _choices(variance_mode, "approximate", trials_for_deflation, "li_ji", "square_root", sharpe_variance)
+    ratio = long_run.ratio
+    scale = _Scale(float(ratio[index]), float(np.median(ratio))) if chosen.sharpe_variance == "long-run" else _Scale(1.0, 1.0)
+    alpha = validate.probability(significance, "significance")
+    return _infer(family, index, declared, periods, chosen, scale, benchmark=0.0, confidence=confidence, alpha=alpha)
 
 
 def _scale(array: np.ndarray, long_run: LongRunVariance | None, mode: SharpeVariance, index: int) -> _Scale:
@@ -289,27 +339,23 @@ def _scale(array: np.ndarray, long_run: LongRunVariance | None, mode: SharpeVari
     return _Scale(float(ratio[index]), float(np.median(ratio))) if mode == "long-run" else _Scale(1.0, 1.0)
 
 
-def _infer(array, index, declared, periods, chosen: _Choices, scale: _Scale, *, benchmark, confidence, alpha,
-           effective: EffectiveTrials | None = None) -> SharpeInference:
+def _infer(family: Family, index, declared, periods, chosen: _Choices, scale: _Scale, *, benchmark, confidence, alpha) -> SharpeInference:
     """The inference on validated inputs (see :func:`sharpe_inference`)."""
-    windows = array.shape[0]
-    moments = return_moments(array)
-    sharpes = np.asarray(moments.sharpe, dtype=float)
+    windows = family.windows
+    sharpes = family.sharpes
     observed = float(sharpes[index])
-    skewness = float(np.asarray(moments.skewness)[index])
-    kurtosis = float(np.asarray(moments.kurtosis)[index])
+    skewness = family.skewness
+    kurtosis = family.kurtosis
     notes: list[str] = []
     square_root_factor = None if periods is None else math.sqrt(periods)
-    serial_factor = _serial_factor(array[:, index], periods, notes)
+    serial_factor = _serial_factor(family.series, periods, notes)
     if chosen.annualization == "serial_correlation" and periods is not None and serial_factor is None:
         raise InputError(
             "annualization='serial_correlation' needs a whole number of periods per year and more windows than "
             f"periods per year; got periods_per_year={periods:g} with {windows} windows"
         )
     factor = square_root_factor if chosen.annualization == "square_root" else serial_factor
-    detail, effective, variances, counts = _deflation(
-        array, sharpes, declared, chosen.effective_trials_method, scale.trial, effective
-    )
+    detail, effective, variances, counts = _deflation(family, declared, chosen.effective_trials_method, scale.trial)
     variants = _variants(observed, windows, skewness, kurtosis, variances, counts, scale.selected)
     headline = next(v.result for v in variants if (v.variance_mode, v.expected_maximum, v.trial_count)
                     == (chosen.variance_mode, chosen.expected_maximum, chosen.trials_for_deflation))
@@ -328,7 +374,7 @@ def _infer(array, index, declared, periods, chosen: _Choices, scale: _Scale, *, 
         annualization=chosen.annualization, annualization_factor=factor, square_root_factor=square_root_factor,
         serial_correlation_factor=serial_factor, observations=windows, periods_per_year=periods,
         skewness=skewness, kurtosis=kurtosis, standard_error=psr.standard_error,
-        standard_error_serial_correlation=serial_correlation_standard_error(array[:, index]),
+        standard_error_serial_correlation=serial_correlation_standard_error(family.series),
         probabilistic=psr, deflated=headline, trials=declared, effective_trials=effective,
         effective_trials_detail=detail, trial_sharpe_variance=variances[chosen.variance_mode],
         trial_sharpe_variance_null=variances["null"], trial_sharpe_variance_empirical=variances.get("empirical"),

@@ -44,6 +44,7 @@ import numpy as np
 from scipy import special
 
 from ..errors import DegenerateDataError, InputError
+from ..resample import politis_white_lengths
 from ..results import BlockLengthChoice, LongRunVariance
 
 __all__ = [
@@ -53,6 +54,8 @@ __all__ = [
     "normal_scores",
     "bootstrap_variance_ratio",
     "family_block_length",
+    "family_sample",
+    "block_length_of_sample",
 ]
 
 #: Largest absolute AR(1) coefficient used to prewhiten (Andrews and Monahan 1992 bound it away
@@ -211,11 +214,8 @@ def bootstrap_variance_ratio(ar_coefficient: float, block_length: float, kind: s
 
 
 def _automatic_lengths(x: np.ndarray, kind: str) -> np.ndarray:
-    from arch.bootstrap import optimal_block_length
-
-    table = optimal_block_length(x)
-    column = "stationary" if kind == "stationary" else "circular"
-    values = table[column].to_numpy(dtype=np.float64)
+    stationary, circular = politis_white_lengths(x)
+    values = stationary if kind == "stationary" else circular
     return np.where(np.isfinite(values), values, 1.0)
 
 
@@ -245,16 +245,40 @@ def family_block_length(
     t, n = x.shape
     if not 0 <= selected < n:
         raise InputError(f"selected must be a column index between 0 and {n - 1}; got {selected!r}")
+    columns = family_sample(n, selected, sample)
+    average = x.mean(axis=1, keepdims=True) if n > 1 else None
+    return block_length_of_sample(x[:, columns], columns, selected=selected, average=average, kind=kind,
+                                  min_share=min_share)
+
+
+def family_sample(configurations: int, selected: int, sample: int = 256) -> np.ndarray:
+    """The columns :func:`family_block_length` examines: all, or ``sample`` spread evenly plus the
+    selected one."""
+    n = int(configurations)
     if n <= sample:
-        columns = np.arange(n)
-    else:
-        columns = np.unique(np.append(np.linspace(0, n - 1, sample).round().astype(int), selected))
-    examined = x[:, columns]
+        return np.arange(n)
+    return np.unique(np.append(np.linspace(0, n - 1, sample).round().astype(int), selected))
+
+
+def block_length_of_sample(
+    examined: np.ndarray,
+    columns: np.ndarray,
+    *,
+    selected: int,
+    average: np.ndarray | None,
+    kind: str = "stationary",
+    min_share: float = MIN_BOOTSTRAP_SHARE,
+) -> BlockLengthChoice:
+    """:func:`family_block_length` from the examined columns (:func:`family_sample`) and the
+    cross-sectional average series (``T x 1``; None for a single configuration): what the audit's
+    streamed path gathers block by block."""
+    examined = _matrix(examined)
+    t = examined.shape[0]
     lengths = _automatic_lengths(examined, kind)
     own = float(lengths[int(np.flatnonzero(columns == selected)[0])])
     quantile = float(np.quantile(lengths, 0.75))
-    average = float(_automatic_lengths(x.mean(axis=1, keepdims=True), kind)[0]) if n > 1 else own
-    length = max(own, quantile, average, 1.0)
+    average_length = float(_automatic_lengths(_matrix(average), kind)[0]) if average is not None else own
+    length = max(own, quantile, average_length, 1.0)
     phi = float(np.median(long_run_variance(examined).ar_coefficient))
     share = bootstrap_variance_ratio(phi, length, kind)
     lengthened = False
@@ -278,7 +302,7 @@ def family_block_length(
         length=float(length),
         selected=own,
         family_quantile=quantile,
-        average_series=average,
+        average_series=average_length,
         configurations_examined=int(columns.size),
         ar_coefficient=phi,
         predicted_share=float(share),

@@ -112,7 +112,9 @@ from ..results import (
     Counting,
     LongRunVariance,
     MaxTTest,
+    NullDraws,
     RealityCheck,
+    SnoopingBlock,
     SnoopingScale,
     StepRecentring,
     StepwiseResult,
@@ -126,8 +128,13 @@ __all__ = [
     "StepRecentring",
     "StepwiseResult",
     "SuperiorPredictiveAbility",
+    "STEP_CANDIDATES",
+    "block_maximum",
     "bonferroni_max_t",
     "observed_statistics",
+    "snooping_block",
+    "snooping_from_blocks",
+    "stored_further_pass",
     "reality_check",
     "stepwise_superior",
     "superior_predictive_ability",
@@ -436,86 +443,13 @@ def superior_predictive_ability(
     if scaled:
         _check_constant(x)
     estimate = _long_run(x, long_run) if scale == "long-run" else None
-    omega, relevant, nulls = _spa_nulls(_stored_blocks(np.asarray(m.mean), block), mean, t, m.mean.shape[0], scaled)
+    blocks = [snooping_block(piece, mean[cols], t, start=cols.start, top=0, studentize=scaled)
+              for cols, piece in _stored_blocks(np.asarray(m.mean), block)()]
+    omega = np.sqrt(t * np.concatenate([b.variance_of_mean for b in blocks]))
+    relevant = np.concatenate([b.relevant for b in blocks])
+    draws = _merged([b.studentized if scaled else b.unscaled for b in blocks], 0)
     statistics = observed_statistics(mean, t, scale, omega, estimate)
-    statistic = max(float(statistics.max()), 0.0)
-    return SuperiorPredictiveAbility(
-        statistic=statistic,
-        pvalue=_pvalue(nulls["consistent"], statistic, counting),
-        pvalue_lower=_pvalue(nulls["lower"], statistic, counting),
-        pvalue_upper=_pvalue(nulls["upper"], statistic, counting),
-        omega=omega, relevant=relevant, scale=scale,
-        null_lower=nulls["lower"], null_consistent=nulls["consistent"], null_upper=nulls["upper"],
-        counting=counting, statistics=statistics,
-    )
-
-
-def _spa_nulls(source: Callable[[], ColumnBlocks], mean: np.ndarray, t: int, count: int, studentize: bool):
-    """omega, the relevant configurations and the three null maxima, in one pass over the column blocks."""
-    n = mean.size
-    omega = np.empty(n)
-    relevant = np.empty(n, dtype=bool)
-    nulls = {name: np.full(count, -np.inf) for name in ("lower", "consistent", "upper")}
-    for cols, piece in source():
-        order, block_omega, keep, maxima = _spa_block(piece, mean[cols], t, studentize, cols.start)
-        omega[cols.start + order] = block_omega
-        relevant[cols.start + order] = keep
-        for name, values in zip(("lower", "consistent", "upper"), maxima):
-            np.maximum(nulls[name], values, out=nulls[name])
-    for name in nulls:
-        np.maximum(nulls[name], 0.0, out=nulls[name])
-    return omega, relevant, nulls
-
-
-def _spa_block(piece: np.ndarray, mu: np.ndarray, t: int, studentize: bool, first_column: int):
-    """One column block of the SPA: its omega, relevant columns and per-resample maxima.
-
-    The block's columns are ordered [mean >= 0 | threshold <= mean < 0 | mean < threshold]: the
-    recentred draws are then A = (mean* - mean) * scale or B = mean* * scale on contiguous column
-    ranges, and the three maxima need two passes instead of three. The Fortran-ordered copy also
-    sums each column's variance the same way whatever the block width, so column blocks never
-    change a figure (not even the last bit).
-    """
-    root_n = math.sqrt(t)
-    order = np.argsort(mu < 0, kind="stable")
-    sorted_piece = np.asfortranarray(piece[:, order])
-    variance_of_mean = np.var(sorted_piece, axis=0)
-    block_omega = np.sqrt(t * variance_of_mean)
-    if studentize:
-        _check_omega(block_omega[np.argsort(order)], first_column)
-        scale = root_n / block_omega
-    else:
-        scale = np.full(piece.shape[1], root_n)
-    mu_sorted = mu[order]
-    keep = mu_sorted >= -np.sqrt(variance_of_mean * _consistent_factor(t))
-    # within the negative part, relevant columns (near zero) first
-    start = piece.shape[1] - int(np.count_nonzero(mu_sorted < 0))
-    tail = np.argsort(~keep[start:], kind="stable")
-    order[start:] = order[start:][tail]
-    sorted_piece[:, start:] = sorted_piece[:, start:][:, tail]
-    for values in (variance_of_mean, block_omega, scale, mu_sorted, keep):
-        values[start:] = values[start:][tail]
-    cut = start + int(np.count_nonzero(keep[start:]))
-    return order, block_omega, keep, _spa_maxima(sorted_piece, mu_sorted, scale, start, cut)
-
-
-def _spa_maxima(sorted_piece, mu_sorted, scale, start: int, cut: int):
-    """Per-resample maxima of the lower, consistent and upper recentred draws of one ordered block."""
-    count, width = sorted_piece.shape
-    a_draws = sorted_piece - mu_sorted
-    a_draws *= scale
-    upper = a_draws.max(axis=1)
-    none = np.full(count, -np.inf)
-    positive_part = a_draws[:, :start].max(axis=1) if start else none
-    near_part = a_draws[:, start:cut].max(axis=1) if cut > start else none
-    del a_draws
-    b_draws = sorted_piece[:, start:] * scale[start:]
-    near_zero = b_draws[:, : cut - start].max(axis=1) if cut > start else none
-    far_zero = b_draws[:, cut - start :].max(axis=1) if width > cut else none
-    # lower: g = max(mean, 0); consistent: g = mean if relevant else 0; upper: g = mean
-    lower = np.maximum(positive_part, np.maximum(near_zero, far_zero))
-    consistent = np.maximum(np.maximum(positive_part, near_part), far_zero)
-    return lower, consistent, upper
+    return _spa_result(statistics, draws, omega, relevant, scale, counting)
 
 
 def stepwise_superior(
@@ -648,3 +582,262 @@ def bonferroni_max_t(returns: np.ndarray, *, level: float = 0.05) -> MaxTTest:
     best = int(np.argmax(ratios))
     critical = float(stats.norm.isf(alpha / n))
     return MaxTTest(float(ratios[best]), best, critical, alpha, bool(ratios[best] > critical))
+
+
+# --------------------------------------------------------------------------------------------------
+# the audit's fused pass: every test from one pass over column blocks
+
+
+#: Largest consistent draws kept per resample and block for StepM's later steps. A further pass over
+#: the blocks is needed only for resamples whose kept draws all belong to rejected configurations.
+STEP_CANDIDATES = 8
+
+#: ``further(keep, centre, scale) -> (B,)``: the exact maxima of the consistent draws over the
+#: columns still in play (``keep``), from one more pass over the blocks (StepM's later steps).
+FurtherPass = Callable[[np.ndarray, np.ndarray, np.ndarray], np.ndarray]
+
+
+def snooping_block(
+    resampled_mean: np.ndarray, mean: np.ndarray, windows: int, *, start: int = 0, top: int = STEP_CANDIDATES,
+    studentize: bool = True,
+) -> SnoopingBlock:
+    """One column block's share of the reality check, the SPA and StepM under every scale.
+
+    Parameters
+    ----------
+    resampled_mean : ndarray, shape (B, n)
+        The block's resampled means (the audit's shared resamples).
+    mean : ndarray, shape (n,)
+        The block's sample means.
+    windows : int
+        T.
+    start : int
+        The block's first column in the sweep (for messages and the kept columns).
+    top : int
+        Consistent draws kept per resample for StepM's later steps (0: none).
+    studentize : bool
+        Also the draws divided by the bootstrap standard deviation (which must then be positive for
+        every column); without, ``studentized`` is None.
+
+    Returns
+    -------
+    SnoopingBlock
+
+    Notes
+    -----
+    Hansen (2005), eqs. 6 and 9; Romano and Wolf (2005), Algorithm 3.1. The block's columns are
+    ordered [mean >= 0 | threshold <= mean < 0 | mean < threshold]: the recentred draws are then
+    ``A = (mean* - mean) * scale`` or ``B = mean* * scale`` on contiguous column ranges, and the three
+    maxima need two passes instead of three. The Fortran-ordered copy sums each column's variance the
+    same way whatever the block width, so column blocks never change a figure (not even the last
+    bit), and the per-resample maxima combine over blocks with ``numpy.maximum`` exactly
+    (:func:`snooping_from_blocks`). :func:`superior_predictive_ability` reads the same draws.
+    """
+    t = int(windows)
+    mu = np.asarray(mean, dtype=np.float64)
+    order = np.argsort(mu < 0, kind="stable")
+    sorted_piece = np.asfortranarray(resampled_mean[:, order])
+    variance_of_mean = np.var(sorted_piece, axis=0)
+    omega = np.sqrt(t * variance_of_mean)
+    mu_sorted = mu[order]
+    keep = mu_sorted >= -np.sqrt(variance_of_mean * _consistent_factor(t))
+    first_negative = mu.size - int(np.count_nonzero(mu_sorted < 0))
+    tail = np.argsort(~keep[first_negative:], kind="stable")
+    order[first_negative:] = order[first_negative:][tail]
+    sorted_piece[:, first_negative:] = sorted_piece[:, first_negative:][:, tail]
+    for values in (variance_of_mean, omega, mu_sorted, keep):
+        values[first_negative:] = values[first_negative:][tail]
+    cut = first_negative + int(np.count_nonzero(keep[first_negative:]))
+    back = np.argsort(order)
+    root_n = math.sqrt(t)
+    draws = {"studentized": None}
+    scales = [("unscaled", np.full(mu.size, root_n))]
+    if studentize:
+        _check_omega(omega[back], start)
+        scales.insert(0, ("studentized", root_n / omega))
+    for name, scale in scales:
+        draws[name] = _null_draws(sorted_piece, mu_sorted, scale, first_negative, cut, order + start, top)
+    return SnoopingBlock(start, variance_of_mean[back], keep[back], draws["studentized"], draws["unscaled"])
+
+
+def _null_draws(sorted_piece, mu_sorted, scale, start: int, cut: int, columns: np.ndarray, top: int) -> NullDraws:
+    """Maxima of the three recentrings and the largest consistent draws of one ordered block."""
+    count, width = sorted_piece.shape
+    none = np.full(count, -np.inf)
+    draws = sorted_piece - mu_sorted  # A = (mean* - mean) * scale: the upper recentring
+    draws *= scale
+    upper = draws.max(axis=1)
+    positive_part = draws[:, :start].max(axis=1) if start else none
+    near_part = draws[:, start:cut].max(axis=1) if cut > start else none
+    negative = sorted_piece[:, start:] * scale[start:]  # B = mean* * scale: recentred at zero
+    near_zero = negative[:, : cut - start].max(axis=1) if cut > start else none
+    far_zero = negative[:, cut - start:].max(axis=1) if width > cut else none
+    lower = np.maximum(positive_part, np.maximum(near_zero, far_zero))
+    consistent = np.maximum(np.maximum(positive_part, near_part), far_zero)
+    draws[:, cut:] = negative[:, cut - start:]  # now the consistent draws of every column
+    del negative
+    if top == 0:
+        values, kept = np.empty((count, 0)), np.empty((count, 0), dtype=np.int64)
+    elif width > top:
+        position = np.argpartition(draws, width - top, axis=1)[:, width - top:]
+        values = np.take_along_axis(draws, position, axis=1)
+        kept = columns[position]
+    else:
+        values = np.full((count, top), -np.inf)
+        kept = np.full((count, top), -1, dtype=np.int64)
+        values[:, :width] = draws
+        kept[:, :width] = columns
+    return NullDraws(lower, consistent, upper, values, kept)
+
+
+def _merged(parts: list[NullDraws], top: int) -> NullDraws:
+    """The blocks' draws combined: maxima by ``numpy.maximum``, the K largest draws over all blocks."""
+    first = parts[0]
+    lower, consistent, upper = (first.lower.copy(), first.consistent.copy(), first.upper.copy())
+    values, columns = first.top_values, first.top_columns
+    for part in parts[1:]:
+        np.maximum(lower, part.lower, out=lower)
+        np.maximum(consistent, part.consistent, out=consistent)
+        np.maximum(upper, part.upper, out=upper)
+        values = np.concatenate([values, part.top_values], axis=1)
+        columns = np.concatenate([columns, part.top_columns], axis=1)
+        if values.shape[1] > 4 * top:
+            values, columns = _largest(values, columns, top)
+    values, columns = _largest(values, columns, top)
+    return NullDraws(lower, consistent, upper, values, columns)
+
+
+def _largest(values: np.ndarray, columns: np.ndarray, top: int) -> tuple[np.ndarray, np.ndarray]:
+    """The ``top`` largest values of each row (any order) with their columns."""
+    if values.shape[1] <= top:
+        return values, columns
+    position = np.argpartition(values, values.shape[1] - top, axis=1)[:, values.shape[1] - top:]
+    return np.take_along_axis(values, position, axis=1), np.take_along_axis(columns, position, axis=1)
+
+
+def snooping_from_blocks(
+    mean: np.ndarray,
+    windows: int,
+    blocks: list[SnoopingBlock],
+    *,
+    long_run: LongRunVariance,
+    level: float,
+    further: FurtherPass,
+    counting: Counting = "include-observed",
+    top: int = STEP_CANDIDATES,
+) -> tuple[RealityCheck, dict[str, SuperiorPredictiveAbility], dict[str, StepwiseResult]]:
+    """The reality check, SPA under every scale and StepM (consistent recentring) under every scale.
+
+    The same figures as :func:`reality_check`, :func:`superior_predictive_ability` and
+    :func:`stepwise_superior` (``recentring="consistent"``) on the same resampled means, from the
+    blocks of :func:`snooping_block` (one pass). StepM's later steps read the kept largest draws;
+    ``further`` is called only for resamples whose kept draws are all rejected.
+
+    Parameters
+    ----------
+    mean : ndarray, shape (N,)
+        Sample means of every configuration.
+    windows : int
+        T.
+    blocks : list of SnoopingBlock
+        In column order, covering every configuration once.
+    long_run : LongRunVariance
+        The audit's long-run variance (the "long-run" scale's statistics).
+    level : float
+        StepM's familywise error rate.
+    further : callable
+        The exact maxima over the kept columns, from a further pass (see :data:`FurtherPass`).
+    counting : {"include-observed", "strict-share"}
+    top : int
+        Consistent draws kept per resample (the value the blocks were built with).
+    """
+    t = int(windows)
+    root_n = math.sqrt(t)
+    variance_of_mean = np.concatenate([b.variance_of_mean for b in blocks])
+    relevant = np.concatenate([b.relevant for b in blocks])
+    omega = np.sqrt(t * variance_of_mean)
+    nulls = {name: _merged([getattr(b, name) for b in blocks], top) for name in ("studentized", "unscaled")}
+    unscaled = nulls["unscaled"]
+    check = RealityCheck(
+        statistic=root_n * float(mean.max()), pvalue=_pvalue(unscaled.upper, root_n * float(mean.max()), counting),
+        null_distribution=unscaled.upper, best=int(np.argmax(mean)), counting=counting,
+    )
+    threshold = -np.sqrt(variance_of_mean * _consistent_factor(t))
+    centre = np.where(mean >= threshold, mean, 0.0)
+    spa, stepm = {}, {}
+    for scale in SCALES:
+        draws = nulls["unscaled" if scale == "none" else "studentized"]
+        statistics = observed_statistics(mean, t, scale, omega, long_run if scale == "long-run" else None)
+        spa[scale] = _spa_result(statistics, draws, omega, relevant, scale, counting)
+        draw_scale = np.full(mean.size, root_n) if scale == "none" else root_n / omega
+        rejected_at, critical_values, null_maxima = _step_down_kept(
+            draws, statistics, level, counting, lambda keep, s=draw_scale: further(keep, centre, s)
+        )
+        stepm[scale] = StepwiseResult(
+            significant=tuple(int(k) for k in np.flatnonzero(rejected_at)), level=level, scale=scale,
+            steps=len(critical_values), critical_values=tuple(critical_values), statistics=statistics, omega=omega,
+            rejected_at_step=rejected_at, null_maxima=tuple(null_maxima), recentring="consistent", counting=counting,
+        )
+    return check, spa, stepm
+
+
+def _spa_result(statistics, draws: NullDraws, omega, relevant, scale, counting) -> SuperiorPredictiveAbility:
+    floored = {name: np.maximum(getattr(draws, name), 0.0) for name in ("lower", "consistent", "upper")}
+    statistic = max(float(statistics.max()), 0.0)
+    return SuperiorPredictiveAbility(
+        statistic=statistic,
+        pvalue=_pvalue(floored["consistent"], statistic, counting),
+        pvalue_lower=_pvalue(floored["lower"], statistic, counting),
+        pvalue_upper=_pvalue(floored["upper"], statistic, counting),
+        omega=omega, relevant=relevant, scale=scale,
+        null_lower=floored["lower"], null_consistent=floored["consistent"], null_upper=floored["upper"],
+        counting=counting, statistics=statistics,
+    )
+
+
+def _step_down_kept(draws: NullDraws, statistics, level, counting, further):
+    """:func:`_step_down` on the kept largest draws: step j's null is, per resample, the largest kept
+    draw of a configuration not yet rejected; resamples whose kept draws are all rejected take the
+    exact maximum from ``further``."""
+    n = statistics.size
+    rejected_at = np.zeros(n, dtype=np.int64)
+    critical_values: list[float] = []
+    null_maxima: list[np.ndarray] = []
+    exact = None
+    while True:
+        remaining = rejected_at == 0
+        if not remaining.any():
+            break
+        if not critical_values:
+            null = draws.consistent
+        else:
+            in_play = np.append(remaining, True)[draws.top_columns]  # column -1 pads: -inf, harmless
+            null = np.where(in_play, draws.top_values, -np.inf).max(axis=1)
+            lost = ~in_play.any(axis=1)
+            if lost.any():
+                exact = further(remaining)
+                null[lost] = exact[lost]
+        critical = _critical_value(null, level, counting)
+        critical_values.append(critical)
+        null_maxima.append(null)
+        new = remaining & (statistics > critical)
+        if not new.any():
+            break
+        rejected_at[new] = len(critical_values)
+    return rejected_at, critical_values, null_maxima
+
+
+def stored_further_pass(resampled_mean: np.ndarray, column_block: int = COLUMN_BLOCK) -> FurtherPass:
+    """:data:`FurtherPass` over a stored ``B x N`` matrix of resampled means."""
+    source = _stored_blocks(np.asarray(resampled_mean), column_block)
+
+    def further(keep: np.ndarray, centre: np.ndarray, scale: np.ndarray) -> np.ndarray:
+        return _maximum_over_blocks(source, centre, scale, keep, resampled_mean.shape[0])
+
+    return further
+
+
+def block_maximum(resampled_mean: np.ndarray, centre: np.ndarray, scale: np.ndarray, keep: np.ndarray) -> np.ndarray:
+    """``max_k (mean*_{k,b} - centre_k) * scale_k`` over one block's kept columns, per resample."""
+    return _maximum_over_blocks(_stored_blocks(resampled_mean, resampled_mean.shape[1] or 1),
+                                centre, scale, keep, resampled_mean.shape[0])

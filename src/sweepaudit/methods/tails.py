@@ -40,7 +40,7 @@ from ..errors import InputError
 from ..results import FamilyStress, TailTest
 from .longrun import long_run_variance, normal_scores
 
-__all__ = ["family_stress", "tail_test", "STRESS_THRESHOLD", "STRESS_SHARE", "MIN_FAMILY"]
+__all__ = ["family_stress", "stress_block", "family_stress_from_blocks", "stress_charges", "tail_test", "STRESS_THRESHOLD", "STRESS_SHARE", "MIN_FAMILY"]
 
 #: A loss beyond this many robust standard deviations counts as a large loss.
 STRESS_THRESHOLD = 4.0
@@ -91,15 +91,26 @@ def family_stress(
     if n < MIN_FAMILY:
         return FamilyStress(np.zeros(0, dtype=np.int64), empty, empty, empty, 0, own.copy(),
                             float(own.mean()), float(own.mean()), threshold, share, False)
+    median, scale = _robust_scale(x)
+    z = (x - median) / scale
+    stressed = np.flatnonzero(np.mean(z < -threshold, axis=1) >= share)
+    family = z[stressed].mean(axis=1)
+    return _charged(own, float(median[selected]), float(scale[selected]), stressed, family, threshold, share)
+
+
+def _robust_scale(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Each column's median and robust standard deviation (1.4826 MAD; Hampel 1974)."""
     median = np.median(x, axis=0)
     scale = _MAD_TO_SD * np.median(np.abs(x - median), axis=0)
     # A configuration that is flat most of the time has a zero MAD: fall back to its deviation.
     scale = np.where(scale > 0, scale, x.std(axis=0))
     scale = np.where(scale > 0, scale, 1.0)
-    z = (x - median) / scale
-    stressed = np.flatnonzero(np.mean(z < -threshold, axis=1) >= share)
-    family = z[stressed].mean(axis=1)
-    charge = median[selected] + scale[selected] * family
+    return median, scale
+
+
+def _charged(own, median, scale, stressed, family, threshold, share) -> FamilyStress:
+    """The selected record charged with the family's average standardised loss in stress windows."""
+    charge = median + scale * family
     observed = own[stressed]
     charged = np.minimum(observed, charge)
     adjusted = own.copy()
@@ -117,6 +128,44 @@ def family_stress(
         share=float(share),
         applicable=True,
     )
+
+
+def stress_block(block, *, threshold: float = STRESS_THRESHOLD) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """One column block's share of :func:`family_stress`: per window, how many of its configurations
+    lost more than ``threshold`` robust standard deviations and the sum of their standardised
+    returns; and each configuration's median and robust scale.
+
+    Returns
+    -------
+    (below, total, median, scale) : ndarrays, shapes (T,), (T,), (n,), (n,)
+    """
+    x = np.asarray(block, dtype=np.float64)
+    median, scale = _robust_scale(x)
+    z = (x - median) / scale
+    return np.count_nonzero(z < -threshold, axis=1).astype(np.float64), z.sum(axis=1), median, scale
+
+
+def family_stress_from_blocks(
+    below: np.ndarray, total: np.ndarray, own: np.ndarray, median: float, scale: float, *,
+    configurations: int, threshold: float = STRESS_THRESHOLD, share: float = STRESS_SHARE,
+) -> FamilyStress:
+    """:func:`family_stress` from the summed :func:`stress_block` of every column block (the same
+    figures; the family's mean standardised loss to rounding, its sum being taken block by block).
+
+    Parameters
+    ----------
+    below, total : ndarray, shape (T,)
+        Summed over the blocks.
+    own : ndarray, shape (T,)
+        The selected configuration's returns; ``median`` and ``scale`` its robust centre and scale.
+    configurations : int
+        N.
+    """
+    if configurations < MIN_FAMILY:
+        raise InputError(f"the blocked family-stress rule needs at least {MIN_FAMILY} configurations")
+    stressed = np.flatnonzero(below / configurations >= share)
+    return _charged(np.asarray(own, dtype=np.float64), median, scale, stressed, total[stressed] / configurations,
+                    threshold, share)
 
 
 def tail_test(stress: FamilyStress, *, critical_value: float) -> TailTest:
@@ -147,3 +196,37 @@ def tail_test(stress: FamilyStress, *, critical_value: float) -> TailTest:
     ratio = math.sqrt(charged.shape[0]) * float(charged.mean()) / math.sqrt(float(estimate.variance[0]))
     statistic = float(normal_scores(np.array([ratio]), estimate.degrees_of_freedom)[0])
     return TailTest(stress, statistic, float(critical_value), bool(statistic > critical_value))
+
+
+def stress_charges(returns, stress: FamilyStress, columns) -> np.ndarray:
+    """What :func:`family_stress` charges in each stress window, for a configuration named per window.
+
+    The walk-forward record (:mod:`sweepaudit.methods.walkforward`) holds a different configuration
+    in each window; it is charged by the same rule as the selected configuration: in stress window
+    ``stress.windows[i]`` the configuration ``columns[i]`` loses at least the family's average
+    standardised loss there, in its own median and robust scale.
+
+    Parameters
+    ----------
+    returns : array_like, shape (T, N)
+        The sweep the stress windows were found in.
+    stress : FamilyStress
+        From :func:`family_stress` on ``returns``.
+    columns : array_like of int, shape (len(stress.windows),)
+        The configuration to charge in each stress window.
+
+    Returns
+    -------
+    ndarray
+        The charge (a return level; the record keeps its own return when that is lower).
+    """
+    x = np.asarray(returns, dtype=np.float64)
+    cols = np.asarray(columns, dtype=np.int64)
+    if cols.shape != stress.windows.shape:
+        raise InputError(f"columns must name one configuration per stress window ({stress.windows.size}); "
+                         f"got {cols.size}")
+    if cols.size == 0:
+        return np.zeros(0)
+    unique, where = np.unique(cols, return_inverse=True)
+    median, scale = _robust_scale(x[:, unique])
+    return median[where] + scale[where] * stress.family_loss

@@ -108,7 +108,11 @@ def _parse(data: bytes, kind: str, label: str, options: LoadOptions) -> pd.DataF
 def _parquet(data: bytes) -> pd.DataFrame:
     """A Parquet file; index columns stored by pandas (a DatetimeIndex, say) become columns again,
     so a window index is found like any window column."""
-    frame = pd.read_parquet(io.BytesIO(data))
+    return parquet_frame(pd.read_parquet(io.BytesIO(data)))
+
+
+def parquet_frame(frame: pd.DataFrame) -> pd.DataFrame:
+    """A frame pandas read from Parquet, its index columns made columns again (see :func:`_parquet`)."""
     index_columns: list[str] = []
     if not isinstance(frame.index, pd.RangeIndex) or frame.index.name is not None:
         names = [n if n is not None else ("date" if isinstance(frame.index, pd.DatetimeIndex) else "index")

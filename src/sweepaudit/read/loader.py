@@ -24,6 +24,7 @@ import pandas as pd
 from ..errors import InputError
 from ..sweep import UNIT_SCALE, Sweep
 from .aggregate import aggregate_windows
+from .blocks import read_wide_parquet
 from .build import Built, benchmark_from_file, long_matrix, wide_matrix
 from .checks import check_matrix, coverage, refuse_level_excess, refuse_levels, refuse_whole_number_columns
 from .dates import periods_per_year
@@ -71,7 +72,12 @@ def load_sweep(
     if isinstance(source, (str, os.PathLike)):
         if dates is not None or configurations is not None:
             raise InputError("dates and configurations go with an array; a file names its own")
-        frame, label, digest = read_table(os.fspath(source), opt)
+        path = os.fspath(source)
+        if path.lower().endswith((".parquet", ".pq")):
+            sweep = read_wide_parquet(path, opt, _read)
+            if sweep is not None:
+                return sweep
+        frame, label, digest = read_table(path, opt)
         return _read(frame, label, digest, opt)
     if isinstance(source, pd.DataFrame):
         if dates is not None or configurations is not None:
@@ -198,6 +204,9 @@ def _reading(frame, built: Built, layout, window_col, opt: LoadOptions, aggregat
         "thousands": attrs.get("thousands"),
         "index_columns": attrs.get("index_columns", []),
         "rows": int(len(frame)),
+        # "generated": config 1, config 2, ... (an array without names): the trial ledger counts such
+        # a sweep by its data fingerprint, since the names say nothing about what was tried.
+        "configuration_names": attrs.get("configuration_names", "given"),
         "layout": layout,
         "window_column": window_col,
         "window_form": built.reading.form if built.reading is not None else (

@@ -60,6 +60,8 @@ def _flatten_columns(columns: pd.MultiIndex) -> tuple[list[str], pd.DataFrame]:
 def frame_table(data: pd.DataFrame) -> InMemory:
     """A DataFrame as the reader's table: a meaningful index becomes the window column."""
     frame = data.copy(deep=False)
+    # Columns 0, 1, 2, ... (a DataFrame made from an array) name no configuration.
+    generated = isinstance(frame.columns, pd.RangeIndex)
     parameters = None
     if isinstance(frame.columns, pd.MultiIndex):
         names, parameters = _flatten_columns(frame.columns)
@@ -84,7 +86,8 @@ def frame_table(data: pd.DataFrame) -> InMemory:
     dupes = frame.columns[frame.columns.duplicated()].tolist()
     if dupes:
         raise InputError("two columns share this name", path=FRAME_LABEL, column=dupes[0])
-    frame.attrs = {"reading": {"kind": "DataFrame", "index_columns": [window] if window else []}}
+    frame.attrs = {"reading": {"kind": "DataFrame", "index_columns": [window] if window else [],
+                               "configuration_names": "generated" if generated else "given"}}
     return InMemory(frame, FRAME_LABEL, window, parameters, index_labels)
 
 
@@ -116,7 +119,8 @@ def array_table(values, dates=None, configurations=None) -> InMemory:
     dupes = frame.columns[frame.columns.duplicated()].tolist()
     if dupes:
         raise InputError("two configurations share this name", path=ARRAY_LABEL, column=dupes[0])
-    frame.attrs = {"reading": {"kind": "array", "index_columns": []}}
+    frame.attrs = {"reading": {"kind": "array", "index_columns": [],
+                               "configuration_names": "generated" if configurations is None else "given"}}
     labels = [cell_label(v) for v in dates] if dates is not None else None
     return InMemory(frame, ARRAY_LABEL, window, None, labels, kind="array")
 

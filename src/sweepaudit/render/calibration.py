@@ -81,8 +81,9 @@ def render_calibration(document: dict, console: Console | None = None) -> None:
             f"The false-go rate is above {level(significance)} beyond Monte Carlo error: under this policy the verdict "
             "says go too often on sweeps like this one."
         )
-    say("Reproduce:")
-    say(document["command"], indent=2)
+    if document["command"]:  # a calibration run from Python has no command line to show
+        say("Reproduce:")
+        say(document["command"], indent=2)
 
 
 def calibration_text(document: dict) -> str:

@@ -34,6 +34,7 @@ __all__ = [
     "WORDS",
     "words",
     "counted",
+    "headline",
 ]
 
 _STEP = re.compile(r"([^.\[\]]+)|\[(\d+)\]|\[\"([^\"]*)\"\]")
@@ -76,6 +77,10 @@ class Figures:
     def pvalue(self, path: str) -> str:
         return self._show(path, fmt.pvalue(self.get(path), self.pvalue_floor()))
 
+    def p_is(self, path: str) -> str:
+        """``p = 0.0123`` or ``p < 0.001``: a p-value after its letter."""
+        return self._show(path, fmt.p_is(self.get(path), self.pvalue_floor()))
+
     def whole(self, path: str) -> str:
         return self._show(path, fmt.whole(self.get(path)))
 
@@ -106,6 +111,12 @@ class Figures:
         for part in ("estimate", "low", "high"):
             self._show(f"{path}.{part}", text)
         return text
+
+    def estimate(self, path: str, *, as_percent: bool = False) -> str:
+        """An interval block as ``estimate [low, high]``; a plain figure (no interval computed) alone."""
+        if isinstance(self.get(path), dict):
+            return self.interval(path, as_percent=as_percent)
+        return self.percent(path) if as_percent else self.sharpe(path)
 
     def pvalue_floor(self) -> float | None:
         """The smallest p-value the audit's resamples can give."""
@@ -194,6 +205,15 @@ def key_figures(f: Figures) -> list[KeyFigure]:
     return rows
 
 
+def headline(doc: dict) -> tuple[tuple[str, str], ...]:
+    """The first screen's key figures as ``(label, value)`` pairs (the notebook view's table)."""
+    out = []
+    for k in key_figures(Figures(doc)):
+        value = k.per_window + (f"; annualized {k.annualized}" if k.annualized else "")
+        out.append((k.label, value + (f" ({k.note})" if k.note else "")))
+    return tuple(out)
+
+
 def _bar(f: Figures, index: int | None) -> str:
     """``needs at least 0.794`` for a check's threshold; empty when the check did not run."""
     if index is None:
@@ -220,6 +240,8 @@ CHECK_NAMES = {
     "data_snooping": "beats the luck of the best of N",
     "family_tails": "did not escape the family's crashes",
     "parameter_surface": "not an isolated peak",
+    "walk_forward": "re-picking the winner earns",
+    "edge_decay": "the edge has not faded",
 }
 
 

@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import io
 
+import numpy as np
 from rich.console import Console, Group, RenderableType
 from rich.padding import Padding
 from rich.table import Table
@@ -202,6 +203,99 @@ def _method_parts(f: Figures) -> list[RenderableType]:
                       ("overfitting", _overfitting), ("tails", _tails)):
         if f.has(f"results.{key}"):
             parts += [part(f), Text("")]
+    parts += _time(f)
+    return parts
+
+
+_BARS = "\u2581\u2582\u2583\u2584\u2585\u2586\u2587\u2588"
+_SPARK_WIDTH = 60
+
+
+def _sparkline(values: list, marks: list[int]) -> str:
+    """The rolling Sharpe ratio as one line of bars (means of equal runs of values), a ``|`` where a
+    sub-period starts; positions in ``marks`` index ``values``."""
+    finite = np.array([np.nan if v is None else v for v in values], dtype=float)
+    width = min(_SPARK_WIDTH, finite.size)
+    edges = np.linspace(0, finite.size, width + 1).round().astype(int)
+    with np.errstate(all="ignore"):
+        means = np.array([np.nanmean(finite[a:b]) if np.isfinite(finite[a:b]).any() else np.nan
+                          for a, b in zip(edges[:-1], edges[1:])])
+    low, high = np.nanmin(means), np.nanmax(means)
+    span = high - low if high > low else 1.0
+    bars = [" " if not np.isfinite(m) else _BARS[int(round((m - low) / span * (len(_BARS) - 1)))] for m in means]
+    for mark in sorted({int(np.searchsorted(edges, m, side="right")) - 1 for m in marks if 0 < m < finite.size},
+                       reverse=True):
+        bars.insert(mark, "|")
+    return "".join(bars)
+
+
+def _stability(f: Figures) -> list[RenderableType]:
+    """The selected configuration's record period by period, the decay test, the rolling line."""
+    st, annual = "results.stability", f.annual
+    suffix, unit = ("_annualized", "annualized") if annual else ("", "a window")
+    # Window labels are the user's strings: they sit in a later column, never in the title.
+    t = Table(title=Text(f"Is the edge still alive? The selected configuration over time ({unit})"),
+              title_justify="left")
+    for column in ("period", "windows", "from / to", "mean excess return", "Sharpe ratio", "t (long-run)"):
+        t.add_column(column)
+    for p in [f"{st}.thirds[{i}]" for i in range(len(f.get(f"{st}.thirds") or []))] + [f"{st}.early", f"{st}.recent"]:
+        text_row(t, f.text(f"{p}.period"), f.whole(f"{p}.windows"),
+                 f"{f.text(f'{p}.first_window')} / {f.text(f'{p}.last_window')}",
+                 f.estimate(f"{p}.mean{suffix}", as_percent=True), f.estimate(f"{p}.sharpe{suffix}"),
+                 f.sharpe(f"{p}.t_ratio"))
+    c, r = f"{st}.change", f"{st}.rolling"
+    t.caption = Text(f"Recent minus earlier mean: {f.percent(f'{c}.difference{suffix}')} "
+                     f"{'a year' if annual else 'a window'}, t = {f.sharpe(f'{c}.statistic')} against the long-run "
+                     f"standard error, one-sided {f.p_is(f'{c}.pvalue')}.")
+    t.caption_justify = "left"
+    parts: list[RenderableType] = [t]
+    values = f.get(f"{r}.sharpe") or []
+    if any(v is not None for v in values):
+        start = f.get(f"{r}.windows") - 1  # the first value ends at this window
+        marks = [p["start"] - start for p in (f.get(f"{st}.thirds") or [])[1:]]
+        parts.append(indented(
+            Text(f"Rolling {f.whole(f'{r}.windows')}-window Sharpe ratio ({unit}): last "
+                 f"{f.sharpe(f'{r}.last_sharpe{suffix}')}, lowest {f.sharpe(f'{r}.lowest_sharpe{suffix}')}, highest "
+                 f"{f.sharpe(f'{r}.highest_sharpe{suffix}')}, above zero {f.percent(f'{r}.share_above_zero')} of "
+                 "the time; thirds marked |:"),
+            Text(_sparkline(values, marks), no_wrap=True, overflow="crop")))
+    return parts
+
+
+def _walk_forward(f: Figures) -> Table:
+    w, annual = "results.walk_forward", f.annual
+    suffix, unit = ("_annualized", "annualized") if annual else ("", "a window")
+    looks = "all earlier windows" if not f.has(f"{w}.lookback") else f"the {f.whole(f'{w}.lookback')} windows before"
+    same = f"{w}.selected_same_windows"
+    rows = [
+        ("first window traded", f.text(f"{w}.first_window")),
+        (f"mean excess return ({unit})", f.estimate(f"{w}.mean{suffix}", as_percent=True)),
+        (f"Sharpe ratio ({unit})", f.estimate(f"{w}.sharpe{suffix}")),
+        ("the selected configuration, same windows",
+         f"{f.percent(f'{same}.mean{suffix}')}, Sharpe ratio {f.sharpe(f'{same}.sharpe{suffix}')}"),
+        ("picks", f"changed {f.whole(f'{w}.pick_changes')} times ({f.percent(f'{w}.pick_change_rate')} of windows), "
+                  f"{f.whole(f'{w}.distinct_picks')} configurations; the selected one "
+                  f"{f.percent(f'{w}.selected_share')} of the time"),
+        ("most picked / last picked", f"{f.text(f'{w}.most_picked')} ({f.percent(f'{w}.most_picked_share')}) / "
+                                      f"{f.text(f'{w}.last_pick')}"),
+        ("test of the mean", f"t = {f.sharpe(f'{w}.test.statistic')}, one-sided {f.p_is(f'{w}.test.pvalue')} "
+                             f"(persistence {f.sharpe(f'{w}.persistence.ar_coefficient')} taken out: "
+                             f"{f.percent(f'{w}.persistence.mean_prediction')} a window; stress charge "
+                             f"{f.percent(f'{w}.stress.mean_charge')} a window)"),
+    ]
+    return _facts(f"Re-picking the winner: walk-forward record (best Sharpe ratio on {looks}, "
+                  f"{f.whole(f'{w}.windows')} windows)", rows)
+
+
+def _time(f: Figures) -> list[RenderableType]:
+    """The edge over time and the walk-forward record, with one sentence on what they mean."""
+    parts: list[RenderableType] = []
+    if f.has("results.stability"):
+        parts += _stability(f) + [Text("")]
+    if f.has("results.walk_forward"):
+        parts += [_walk_forward(f), Text("")]
+    if f.has("results.time_meaning"):
+        parts += [indented(Text(f.text("results.time_meaning"), style="italic")), Text("")]
     return parts
 
 
@@ -314,7 +408,8 @@ _MOVES_SHOWN = 8
 
 
 def _ledger_part(f: Figures) -> RenderableType:
-    state = "new (recorded now)" if f.get("ledger.new_sweep") else "already recorded (no trials added)"
+    state = ("new (recorded now)" if f.get("ledger.new_sweep") else "already recorded (no trials added)"
+             if not f.get("ledger.trials_added") else "already recorded")
     lines = [Text(f"{f.text('ledger.path')}: this sweep is {state}; {f.whole('ledger.sweeps_recorded')} distinct "
                   f"sweeps recorded, {f.whole('ledger.trials_counted')} trials counted")]
     if f.has("ledger.note"):

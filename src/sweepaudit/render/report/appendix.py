@@ -39,11 +39,31 @@ def _configurations(f: Figures, material: FigureMaterial | None) -> Section:
         rows.append(tuple(row))
         marks.append("selected" if c["configuration"] == selected else "")
     return Section(
-        "every_configuration", "Every configuration",
+        "every_configuration", "Every configuration", facts=_listing(f),
         meaning=(f"Each configuration's mean excess return and Sharpe ratio with their "
                  f"{f.level('settings.confidence')} intervals; the selected one is marked.",),
         tables=(Table(tuple(columns), tuple(rows), caption=f"{f.whole('input.configurations')} configurations",
                       collapsed=len(rows) > FOLD_ROWS, marks=tuple(marks), wide=len(columns) > 5),),
+    )
+
+
+def _key(path: str, key: str) -> str:
+    """``path.key``, or ``path["key"]`` for a key with a dot in it (``0.05``)."""
+    return f'{path}["{key}"]' if "." in key else f"{path}.{key}"
+
+
+def _listing(f: Figures) -> tuple[tuple[str, str], ...]:
+    """Which configurations the table lists, and a summary of all of them."""
+    li = "results.bootstrap.listing"
+    if not f.has(li):
+        return ()
+    q = f"{li}.sharpe_quantiles"
+    levels = list(f.get(q) or {})
+    return (
+        ("configurations in the table", f"{f.whole(f'{li}.listed')} of {f.whole(f'{li}.of')}: {f.text(f'{li}.rule')}"),
+        ("configurations whose mean interval lies above zero", f.whole(f"{li}.mean_interval_above_zero")),
+        ("Sharpe ratio a window over all configurations, at the quantiles " + ", ".join(levels),
+         ", ".join(f.sharpe(_key(q, k)) for k in levels)),
     )
 
 
@@ -122,7 +142,7 @@ def _sharpe_details(f: Figures, material: FigureMaterial | None) -> Section | No
             tuple((name, f.pvalue(f"{h}.{m}.pvalue"), f.sharpe(f"{h}.{m}.sharpe"), f.sharpe(f"{h}.{m}.sharpe_annualized"),
                    f.percent(f"{h}.{m}.haircut"))
                   for m, name in (("bonferroni", "Bonferroni"), ("holm", "Holm"), ("bhy", "Benjamini-Hochberg-Yekutieli"))),
-            caption=(f"Haircut Sharpe ratio: t = {f.sharpe(f'{h}.t_statistic')}, p {_p(f.pvalue(f'{h}.pvalue'))}, "
+            caption=(f"Haircut Sharpe ratio: t = {f.sharpe(f'{h}.t_statistic')}, {f.p_is(f'{h}.pvalue')}, "
                      f"{f.number(f'{h}.tests', 6)} tests"),
         ))
     return Section("sharpe_details", "The Sharpe ratio in detail", facts=facts, tables=tuple(tables),
@@ -132,11 +152,6 @@ def _sharpe_details(f: Figures, material: FigureMaterial | None) -> Section | No
                             "ratio.",),
                    references=("Harvey, C. R. and Liu, Y. (2015). Backtesting. Journal of Portfolio Management 42(1), "
                                "13-28 (the haircut Sharpe ratio).",))
-
-
-def _p(text: str) -> str:
-    """``= 0.0123`` or ``< 0.001``: a p-value after its letter."""
-    return text if text.startswith("<") else f"= {text}"
 
 
 _SCALES = (("spa_long_run", "stepm_long_run"), ("spa_studentized", "stepm_studentized"),
@@ -256,6 +271,95 @@ def _baseline_moves(f: Figures, material: FigureMaterial | None) -> Section | No
                                  caption=f"{f.count('baseline.moved')} figures moved"),))
 
 
+def _period_row(f: Figures, p: str, annual: bool) -> tuple[str, ...]:
+    row = (f.text(f"{p}.period"), f"{f.text(f'{p}.first_window')} to {f.text(f'{p}.last_window')}",
+           f"{f.whole(f'{p}.windows')} (from {f.whole(f'{p}.start')})", f.estimate(f"{p}.mean", as_percent=True),
+           f.estimate(f"{p}.sharpe"))
+    if annual:
+        row += (f.estimate(f"{p}.mean_annualized", as_percent=True), f.estimate(f"{p}.sharpe_annualized"))
+    return row + (f"{f.sharpe(f'{p}.t_ratio')} ({f.number(f'{p}.degrees_of_freedom')})",)
+
+
+def _stability_facts(f: Figures) -> list[tuple[str, str]]:
+    st, c, r = "results.stability", "results.stability.change", "results.stability.rolling"
+    return [
+        ("configuration examined", f.text(f"{st}.configuration")),
+        ("recent period: share of the record", f.percent(f"{st}.recent_share")),
+        ("change a window (annualized); its long-run standard error", f"{f.percent(f'{c}.difference')} "
+         f"({f.percent(f'{c}.difference_annualized')}); {f.number(f'{c}.standard_error')}"),
+        ("decay test: t-ratio; degrees of freedom; one-sided p-value; long-run variance ratio",
+         f"{f.sharpe(f'{c}.statistic')}; {f.number(f'{c}.degrees_of_freedom')}; {f.pvalue(f'{c}.pvalue')}; "
+         f"{f.number(f'{c}.long_run_ratio')}"),
+        (f"rolling {f.whole(f'{r}.windows')}-window Sharpe ratio (first ending {f.text(f'{r}.first_window')}): "
+         "last; lowest; highest (annualized)",
+         f"{f.sharpe(f'{r}.last_sharpe')} ({f.sharpe(f'{r}.last_sharpe_annualized')}); "
+         f"{f.sharpe(f'{r}.lowest_sharpe')} ({f.sharpe(f'{r}.lowest_sharpe_annualized')}); "
+         f"{f.sharpe(f'{r}.highest_sharpe')} ({f.sharpe(f'{r}.highest_sharpe_annualized')})"),
+        ("rolling Sharpe ratio: share of stretches above zero", f.percent(f"{r}.share_above_zero")),
+    ]
+
+
+def _walk_facts(f: Figures, annual: bool) -> list[tuple[str, str]]:
+    w = "results.walk_forward"
+    same = f"{w}.selected_same_windows"
+    facts = [
+        ("walk-forward rule", f.text(f"{w}.rule")),
+        ("warm-up windows; look-back (windows)", f"{f.whole(f'{w}.warmup')}; "
+         + (f.whole(f"{w}.lookback") if f.has(f"{w}.lookback") else "all earlier windows")),
+        ("record from; windows", f"{f.text(f'{w}.first_window')}; {f.whole(f'{w}.windows')}"),
+        ("mean excess return a window; Sharpe ratio", f"{f.estimate(f'{w}.mean', as_percent=True)}; "
+         f"{f.estimate(f'{w}.sharpe')}"),
+        ("changes of pick (share of windows); configurations picked",
+         f"{f.whole(f'{w}.pick_changes')} ({f.percent(f'{w}.pick_change_rate')}); {f.whole(f'{w}.distinct_picks')}"),
+        ("most picked (share of windows); last pick", f"{f.text(f'{w}.most_picked')} "
+         f"({f.percent(f'{w}.most_picked_share')}); {f.text(f'{w}.last_pick')}"),
+        ("share of windows the selected configuration was picked", f.percent(f"{w}.selected_share")),
+        ("the selected configuration over the same windows: mean; Sharpe ratio",
+         f"{f.percent(f'{same}.mean')}; {f.sharpe(f'{same}.sharpe')}"),
+        ("what the picks' last returns foretold: AR(1) coefficient; mean taken out",
+         f"{f.sharpe(f'{w}.persistence.ar_coefficient')}; {f.percent(f'{w}.persistence.mean_prediction')}"),
+        ("stress windows in the record (at the whole sample's rate); charge a window",
+         f"{f.whole(f'{w}.stress.windows')} ({f.number(f'{w}.stress.expected_windows', 3)}); "
+         f"{f.percent(f'{w}.stress.mean_charge')}"),
+        ("mean tested; t-ratio; degrees of freedom; one-sided p-value",
+         f"{f.percent(f'{w}.test.mean_tested')}; {f.sharpe(f'{w}.test.statistic')}; "
+         f"{f.number(f'{w}.test.degrees_of_freedom')}; {f.pvalue(f'{w}.test.pvalue')}"),
+    ]
+    if annual:
+        facts += [("annualized: mean; Sharpe ratio", f"{f.estimate(f'{w}.mean_annualized', as_percent=True)}; "
+                   f"{f.estimate(f'{w}.sharpe_annualized')}"),
+                  ("the selected configuration over the same windows, annualized: mean; Sharpe ratio",
+                   f"{f.percent(f'{same}.mean_annualized')}; {f.sharpe(f'{same}.sharpe_annualized')}")]
+    return facts
+
+
+def _time_details(f: Figures, material: FigureMaterial | None) -> Section | None:
+    st, w = "results.stability", "results.walk_forward"
+    if not (f.has(st) or f.has(w)):
+        return None
+    annual = f.annual
+    tables, facts = [], []
+    if f.has(st):
+        paths = [f"{st}.thirds[{i}]" for i in range(len(f.get(f"{st}.thirds") or []))] + [f"{st}.early", f"{st}.recent"]
+        columns = ("period", "from and to", "windows (first index)", "mean a window", "Sharpe ratio a window")
+        columns += ("mean annualized", "Sharpe ratio annualized") if annual else ()
+        tables.append(Table(columns + ("t-ratio (degrees of freedom)",),
+                            tuple(_period_row(f, p, annual) for p in paths), wide=True,
+                            caption="The selected configuration's record, period by period (intervals for the two "
+                                    "periods the decay test compares)"))
+        facts += _stability_facts(f)
+        r = f"{st}.rolling"
+        values = [f.sharpe(f"{r}.sharpe[{i}]") for i in range(len(f.get(f"{r}.sharpe") or []))]
+        # The figure's raw numbers: folded in HTML and left out of print, shown in Markdown.
+        tables.append(Table(("Sharpe ratio a window, ten stretches a row",),
+                            tuple((", ".join(values[i:i + 10]),) for i in range(0, len(values), 10)), collapsed=True,
+                            caption=f"The rolling Sharpe ratio, stretch by stretch from the one ending "
+                                    f"{f.text(f'{r}.first_window')}"))
+    if f.has(w):
+        facts += _walk_facts(f, annual)
+    return Section("time_details", "The evidence over time in detail", facts=tuple(facts), tables=tuple(tables))
+
+
 def _alternatives(f: Figures, material: FigureMaterial | None) -> Section | None:
     if not f.has("sensitivity"):
         return None
@@ -279,6 +383,7 @@ APPENDIX: tuple[Callable[[Figures, "FigureMaterial | None"], "Section | None"], 
     _snooping_details,
     _cscv_details,
     _resampling_details,
+    _time_details,
     _alternatives,
     _policy,
     _baseline_moves,

@@ -21,8 +21,8 @@ __all__ = ["render_html"]
 _NUMBER = re.compile(r"^([<>] )?-?[0-9][0-9,.]*(e[-+][0-9]+)?%?( \[[^\]]*\])?$|^n/a$")
 
 
-#: A table of more rows than this may break across printed pages (about a third of an A4 page at 7.8 pt);
-#: a shorter one moves whole to the next page.
+#: A list of facts of more rows than this may break across printed pages (about a third of an A4
+#: page at 7.8 pt; tables say so themselves: :attr:`Table.long`); a shorter one moves whole.
 LONG_ROWS = 20
 
 

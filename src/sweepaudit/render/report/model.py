@@ -9,6 +9,7 @@ texts shown), so a test can hold the report to the document.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
 
 __all__ = ["Figure", "Table", "Section", "KeyRow", "Report", "STATES"]
 
@@ -27,6 +28,8 @@ class Figure:
     caption: str  # what the figure shows and how to read it
     alt: str
     svg: bytes
+    # The matplotlib Figure the SVG was saved from (``AuditResult.figures()`` hands it out).
+    plot: Any = field(default=None, compare=False, repr=False)
 
 
 @dataclass(frozen=True)
@@ -46,6 +49,12 @@ class Table:
 
     def mark(self, row: int) -> str:
         return self.marks[row] if row < len(self.marks) else ""
+
+    @property
+    def long(self) -> bool:
+        """More than about a third of a printed A4 page (20 rows, or 1,500 characters of cells): it may
+        break across pages; a shorter table moves whole to the next page."""
+        return len(self.rows) > 20 or sum(len(cell) for row in self.rows for cell in row) > 1500
 
 
 @dataclass(frozen=True)

@@ -1,5 +1,9 @@
 """The report's figures, drawn with matplotlib's object API on the Agg/SVG canvases (no GUI, no pyplot).
 
+No backend is chosen: a ``Figure`` made without pyplot has no GUI canvas, and saving it as SVG
+switches to the SVG canvas for that call. So importing sweepaudit in a notebook leaves the
+notebook's own backend (inline, widget) as it was.
+
 Every function takes the audit JSON document and the raw material it plots
 (:class:`~sweepaudit.results.FigureMaterial`) and returns a :class:`~sweepaudit.render.report.model.Figure`
 (SVG bytes with ``svg.fonttype: none``, so text stays text and files stay small; dense point clouds are
@@ -19,9 +23,6 @@ from dataclasses import dataclass
 from typing import Any
 
 import matplotlib
-
-matplotlib.use("Agg")  # never a GUI, even where a display exists
-
 import numpy as np
 from matplotlib.colors import LinearSegmentedColormap
 from matplotlib.figure import Figure as MplFigure
@@ -41,6 +42,8 @@ __all__ = [
     "degradation_scatter",
     "deflated_by_trials",
     "cumulative_excess",
+    "edge_over_time",
+    "walk_forward_curve",
 ]
 
 PALETTE = {
@@ -104,7 +107,7 @@ def _figure(name: str, title: str, caption: str, alt: str, draw) -> Figure:
     with matplotlib.rc_context(_STYLE):
         fig = draw()
         svg = _svg(fig)
-    return Figure(name=name, title=title, caption=caption, alt=alt, svg=svg)
+    return Figure(name=name, title=title, caption=caption, alt=alt, svg=svg, plot=fig)
 
 
 def _sharpe_label(doc: dict) -> tuple[str, bool]:
@@ -186,8 +189,10 @@ def _ranked(doc: dict, material: FigureMaterial) -> _Ranked:
     low = np.array([c[key]["low"] if c.get(key) and c[key]["low"] is not None else np.nan for c in configs], dtype=float)
     high = np.array([c[key]["high"] if c.get(key) and c[key]["high"] is not None else np.nan for c in configs], dtype=float)
     order = np.argsort(np.where(np.isfinite(est), est, -np.inf), kind="stable")
-    k = material.selected_index
-    return _Ranked(est, low, high, [c["configuration"] for c in configs], order, k,
+    names = [c["configuration"] for c in configs]
+    # The JSON may list only some configurations (results.bootstrap.listing): find the selected by name.
+    k = names.index(doc["selected"]["configuration"])
+    return _Ranked(est, low, high, names, order, k,
                    int(np.flatnonzero(order == k)[0]), level(doc["settings"]["confidence"]), label)
 
 
@@ -500,5 +505,115 @@ def cumulative_excess(doc: dict, material: FigureMaterial) -> Figure:
         "not compounded), next to the average of every configuration of the sweep. A path that rises "
         "steadily is more convincing than one that owes its total to a few windows.",
         "Line chart of cumulative excess return of the selected configuration over time.",
+        draw,
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# (8) the edge over time: the rolling Sharpe ratio with the sub-periods marked
+# ---------------------------------------------------------------------------------------------
+
+
+def _time_axis(material: FigureMaterial, count: int):
+    """Window end dates when the windows are dated, else window numbers (1-based)."""
+    if material.dates is not None:
+        return material.dates, "window end date"
+    return np.arange(1, count + 1), "window"
+
+
+def _draw_thirds(ax, x, thirds: list[dict], scale: float) -> None:
+    """Each third as a band (hatched every other one, for grey-scale print) with its Sharpe ratio as a level."""
+    for i, part in enumerate(thirds):
+        a, b = part["start"], part["start"] + part["windows"] - 1
+        ax.axvspan(x[a], x[b], facecolor=PALETTE["sand"] if i % 2 == 0 else PALETTE["mist"], alpha=0.35,
+                   hatch="//" if i % 2 else None, edgecolor=PALETTE["ink"], linewidth=0)
+        ax.hlines(part["sharpe"] * scale, x[a], x[b], colors=PALETTE["steel"], linestyles="--", linewidth=1.6,
+                  label="Sharpe ratio of each third" if i == 0 else None)
+
+
+def edge_over_time(doc: dict, material: FigureMaterial) -> Figure | None:
+    """The selected configuration's rolling Sharpe ratio, the thirds shaded with their own Sharpe ratios,
+    and the start of the recent period marked."""
+    st, block = material.stability, doc["results"].get("stability")
+    if st is None or block is None:
+        return None
+    label, annual = _sharpe_label(doc)
+    scale = math.sqrt(doc["input"]["periods_per_year"]) if annual else 1.0
+    length = st.rolling_windows
+    x, axis = _time_axis(material, material.returns.shape[0])
+    ends = x[length - 1:]
+    recent = block["recent"]
+
+    def draw():
+        fig = _new(6.8, 3.6)
+        ax = fig.add_subplot()
+        _draw_thirds(ax, x, block["thirds"], scale)
+        ax.plot(ends, st.rolling_sharpe * scale, color=PALETTE["ink"], linewidth=1.5, linestyle="-",
+                label=f"rolling {length:,}-window Sharpe ratio")
+        ax.axvline(x[recent["start"]], color=PALETTE["rust"], linestyle="-.", linewidth=1.3,
+                   label=f"recent period from {recent['first_window']}")
+        ax.axhline(0, color=PALETTE["rust"], linestyle=":", linewidth=1)
+        ax.set_xlabel(axis)
+        ax.set_ylabel(label)
+        ax.set_title("Is the edge still alive? The selected configuration over time")
+        ax.legend(loc="upper left", ncols=2)
+        ax.set_ylim(top=ax.get_ylim()[1] + 0.35 * (ax.get_ylim()[1] - ax.get_ylim()[0]))
+        return fig
+
+    return _figure(
+        "edge_over_time",
+        "The edge over time",
+        f"The selected configuration's Sharpe ratio over the trailing {length:,} windows ({label}), each point at "
+        "the window that ends its stretch. The shaded bands are the thirds of the record with their own Sharpe "
+        "ratio (dashed); the dash-dot line starts the recent period the decay test compares with the windows "
+        "before it. An edge that has died shows a line that falls and stays near zero.",
+        "Line of the rolling Sharpe ratio over time with the thirds shaded and the recent period marked.",
+        draw,
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# (9) the walk-forward record beside the selected configuration
+# ---------------------------------------------------------------------------------------------
+
+
+def walk_forward_curve(doc: dict, material: FigureMaterial) -> Figure | None:
+    """Cumulative excess return of the walk-forward record and of the selected configuration, same windows."""
+    walk, block = material.walk_forward, doc["results"].get("walk_forward")
+    if walk is None or block is None:
+        return None
+    x, axis = _time_axis(material, material.returns.shape[0])
+    x = x[walk.warmup:]
+    record = np.cumsum(walk.record) * 100
+    held = np.cumsum(walk.selected_record) * 100
+    changed = np.flatnonzero(walk.picks[1:] != walk.picks[:-1]) + 1
+
+    def draw():
+        fig = _new(6.8, 3.4)
+        ax = fig.add_subplot()
+        ax.plot(x, record, color=PALETTE["ink"], linewidth=1.7, linestyle="-",
+                label="walk-forward record (re-picked before each window)")
+        # Drawn second, dashed: visible even where the record held the selected configuration throughout.
+        ax.plot(x, held, color=PALETTE["steel"], linewidth=1.4, linestyle="--",
+                label="selected configuration (chosen with hindsight)")
+        if 0 < changed.size <= 200:
+            ax.plot(x[changed], record[changed], linestyle="none", marker="|", markersize=8,
+                    color=PALETTE["rust"], label=f"pick changed ({changed.size:,})")
+        ax.axhline(0, color=PALETTE["rust"], linestyle=":", linewidth=1)
+        ax.set_xlabel(axis)
+        ax.set_ylabel("cumulative excess return (%, summed)")
+        ax.set_title("Does re-picking the winner pay? The walk-forward record")
+        ax.legend(loc="upper left")
+        return fig
+
+    return _figure(
+        "walk_forward_curve",
+        "Walk-forward record of re-picking the winner",
+        f"The running sum (percent, not compounded) of the excess returns earned by picking, before each window "
+        f"from {block['first_window']} on, the configuration with the best Sharpe ratio so far, next to the "
+        "selected configuration over the same windows. The selected configuration was chosen knowing the whole "
+        "sample; the walk-forward record knew only the past, so the gap between the two lines is part of what "
+        "hindsight added.",
+        "Two cumulative return lines: the walk-forward record and the selected configuration.",
         draw,
     )

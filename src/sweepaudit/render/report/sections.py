@@ -22,11 +22,18 @@ from string import ascii_uppercase
 from ... import format as fmt
 from ...results import FigureMaterial
 from ..figures import Figures, alternative_row, alternative_rows, check_rows, counted, key_figures, words
-from . import plots
 from .appendix import APPENDIX
 from .model import Figure, KeyRow, Report, Section, Table
 
 __all__ = ["SECTIONS", "build_report"]
+
+def _plots():
+    """The figure module, imported on first use: matplotlib takes about a second to import, and an
+    audit without a report draws nothing."""
+    from . import plots
+
+    return plots
+
 
 SectionFunction = Callable[[Figures, "FigureMaterial | None"], Section]
 
@@ -123,7 +130,7 @@ def _returns_section(f: Figures, material: FigureMaterial | None) -> Section:
         tables=(Table(("figure", "per window: estimate [interval]", "annualized: estimate [interval]"), tuple(rows),
                       caption=f"The selected configuration, {level} intervals"),),
         facts=facts,
-        figures=_figures(material, lambda m: plots.bootstrap_mean(f.doc, m), lambda m: plots.cumulative_excess(f.doc, m)),
+        figures=_figures(material, lambda m: _plots().bootstrap_mean(f.doc, m), lambda m: _plots().cumulative_excess(f.doc, m)),
         references=_BOOTSTRAP_REFS,
     )
 
@@ -172,7 +179,7 @@ def _sharpe_section(f: Figures, material: FigureMaterial | None) -> Section:
         return _absent("sharpe", title, "Sharpe inference", meaning, _SHARPE_REFS)
     answer = _outcome(f, "deflated_sharpe", "track_record")
     curve = material.deflation_curve if material is not None else None
-    figs = (plots.deflated_by_trials(f.doc, curve),) if curve is not None else ()
+    figs = (_plots().deflated_by_trials(f.doc, curve),) if curve is not None else ()
     return Section(
         "sharpe", title, answer=answer, state=_state(f, "deflated_sharpe"), meaning=(meaning,),
         tables=(Table(("figure", "value"), tuple(_sharpe_rows(f)), caption="The Sharpe ratio after the search"),),
@@ -221,7 +228,7 @@ def _snooping_section(f: Figures, material: FigureMaterial | None) -> Section:
     return Section(
         "snooping", title, answer=_outcome(f, "data_snooping"), state=_state(f, "data_snooping"), meaning=(meaning,),
         tables=(Table(("test", "statistic", "p-value"), rows, caption="The best configuration against chance"),),
-        notes=tuple(notes), figures=_figures(material, lambda m: plots.sharpe_ranking(f.doc, m)),
+        notes=tuple(notes), figures=_figures(material, lambda m: _plots().sharpe_ranking(f.doc, m)),
         references=_SNOOP_REFS,
     )
 
@@ -255,7 +262,7 @@ def _overfitting_section(f: Figures, material: FigureMaterial | None) -> Section
     return Section(
         "overfitting", title, answer=_outcome(f, "overfitting"), state=_state(f, "overfitting"), meaning=(meaning,),
         tables=(Table(("figure", "value"), rows, caption="CSCV"),),
-        figures=_figures(material, lambda m: plots.logit_histogram(f.doc, m), lambda m: plots.degradation_scatter(f.doc, m)),
+        figures=_figures(material, lambda m: _plots().logit_histogram(f.doc, m), lambda m: _plots().degradation_scatter(f.doc, m)),
         references=_CSCV_REFS,
     )
 
@@ -296,7 +303,7 @@ def _surface_section(f: Figures, material: FigureMaterial | None) -> Section:
     meaning = ("A real edge tends to extend to nearby settings; a lone good setting among weak neighbours is what "
                "selection luck looks like. The rule: an isolated peak is one whose grid neighbours (one step along one "
                "parameter) reach less than half its Sharpe ratio and stay within one standard error of zero.")
-    figs = _figures(material, lambda m: plots.sharpe_surface(f.doc, m))
+    figs = _figures(material, lambda m: _plots().sharpe_surface(f.doc, m))
     if not f.has("results.surface"):
         if not figs:
             return _absent("surface", title, "parameter-grid", meaning)
@@ -315,6 +322,74 @@ def _surface_section(f: Figures, material: FigureMaterial | None) -> Section:
     return Section("surface", title, answer=_outcome(f, "parameter_surface"), state=_state(f, "parameter_surface"),
                    meaning=(meaning,), tables=(Table(("figure", "value"), rows, caption="The parameter grid"),),
                    figures=figs)
+
+
+_TIME_REFS = (
+    "Pesaran, M. H. and Timmermann, A. (1995). Predictability of stock returns: robustness and economic "
+    "significance. Journal of Finance 50(4), 1201-1228 (model selection using only the data available at "
+    "each date).",
+    "Andrews, D. W. K. and Monahan, J. C. (1992). An improved heteroskedasticity and autocorrelation "
+    "consistent covariance matrix estimator. Econometrica 60(4), 953-966.",
+)
+
+
+def _time_rows(f: Figures) -> list[tuple[str, str]]:
+    """The figures the evidence over time rests on (the rest go to the appendix)."""
+    rows: list[tuple[str, str]] = []
+    st, walk = "results.stability", "results.walk_forward"
+    if f.has(st):
+        rows += [
+            (f"mean excess return a window, before the recent period ({f.whole(f'{st}.early.windows')} windows)",
+             f.estimate(f"{st}.early.mean", as_percent=True)),
+            (f"the same, recent period ({f.whole(f'{st}.recent.windows')} windows from "
+             f"{f.text(f'{st}.recent.first_window')})", f.estimate(f"{st}.recent.mean", as_percent=True)),
+            ("change a window; t-ratio (long-run); one-sided p-value",
+             f"{f.percent(f'{st}.change.difference')}; {f.sharpe(f'{st}.change.statistic')}; "
+             f"{f.pvalue(f'{st}.change.pvalue')}"),
+        ]
+    if f.has(walk):
+        rows += [
+            (f"walk-forward record: mean a window ({f.whole(f'{walk}.windows')} windows from "
+             f"{f.text(f'{walk}.first_window')})", f.estimate(f"{walk}.mean", as_percent=True)),
+            ("walk-forward test: t-ratio; one-sided p-value",
+             f"{f.sharpe(f'{walk}.test.statistic')}; {f.pvalue(f'{walk}.test.pvalue')}"),
+            ("walk-forward picks: changes of pick; configurations picked",
+             f"{f.whole(f'{walk}.pick_changes')}; {f.whole(f'{walk}.distinct_picks')}"),
+        ]
+    return rows
+
+
+def _time_section(f: Figures, material: FigureMaterial | None) -> Section:
+    title = "Is the edge still alive? The evidence over time"
+    meaning = (
+        "Every full-sample figure is blind to time: an edge that appeared only recently and one that has died "
+        "get the same mean, Sharpe ratio and p-values. The decay test asks whether the recent period earned less "
+        "than the windows before it, beyond what chance allows under serial dependence. The walk-forward record "
+        "judges the selection procedure rather than the winner chosen with hindsight: before each window after a "
+        "warm-up, the configuration with the best Sharpe ratio so far is picked and its return in that window "
+        "recorded, with what the picks' own last returns foretold taken out and the family's crash losses "
+        "charged."
+    )
+    if not (f.has("results.stability") or f.has("results.walk_forward")):
+        return _absent("time", title, "time-structure", meaning, _TIME_REFS)
+    said = f.text("results.time_meaning") if f.has("results.time_meaning") else ""
+    # The sentence on the evidence over time says what each test found; the outcome adds only which failed.
+    ran = [c for c in (_check(f, "edge_decay"), _check(f, "walk_forward")) if c]
+    failed = [c["id"] for c in ran if not c["passed"]]
+    if failed or not said:
+        head = _outcome(f, *failed) if failed else _outcome(f, "edge_decay", "walk_forward")
+    else:
+        head = "Passed" + ("" if any(c["required"] for c in ran) else " (advisory)") + "."
+    answer = " ".join(x for x in (head, said) if x)
+    states = {_state(f, "edge_decay"), _state(f, "walk_forward")} - {""}
+    state = next((s for s in ("failed", "advisory", "passed") if s in states), "")
+    return Section(
+        "time", title, answer=answer, state=state,
+        meaning=(meaning,), tables=(Table(("figure", "value"), tuple(_time_rows(f)), caption="The edge over time"),),
+        figures=_figures(material, lambda m: _plots().edge_over_time(f.doc, m),
+                         lambda m: _plots().walk_forward_curve(f.doc, m)),
+        references=_TIME_REFS,
+    )
 
 
 def _what_if_section(f: Figures, material: FigureMaterial | None) -> Section:
@@ -422,6 +497,7 @@ SECTIONS: tuple[Callable[[Figures, "FigureMaterial | None"], "Section | None"], 
     _snooping_section,
     _overfitting_section,
     _tails_section,
+    _time_section,
     _surface_section,
     _baseline_section,
     _data_section,

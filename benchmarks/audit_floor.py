@@ -1,0 +1,164 @@
+"""The whole audit against the floor of its two float64 products, measured in the same run.
+
+    python benchmarks/audit_floor.py                       # 1,000 configurations x 2,000 windows, 10,000 resamples
+    python benchmarks/audit_floor.py --busy 4              # the same, then again with 4 busy loops running
+    python benchmarks/audit_floor.py --reference-src ../other/src   # another checkout, same yardstick
+    python benchmarks/audit_floor.py --quick               # 200 x 500, 2,000 resamples
+
+Writes a SYNTHETIC long CSV (one row per configuration and window: week, lookback, band,
+excess_return; correlated normal returns, one configuration with an edge) in a temporary folder,
+then measures, each as the median of ``--runs``:
+
+* the floor: ``weights @ returns`` and ``weights @ returns**2`` for all B x T weights (float64, numpy's
+  default threads), in this process;
+* the whole command, ``python -m sweepaudit audit FILE --json OUT -q`` in a fresh process (imports,
+  reading, audit, JSON), with its peak memory from ``/usr/bin/time -v`` when that exists;
+* ``audit()`` in this process on the sweep already read.
+
+Ratios to the floor are the stable part on a shared machine; the load average is printed beside
+every figure. ``--busy N`` starts N single-process busy loops (ended by this script, by their own
+process ids) and measures everything again under that load. ``--reference-src`` runs the command
+with another checkout's ``src`` first on ``PYTHONPATH``, interleaved with this one.
+"""
+
+from __future__ import annotations
+
+import argparse
+import multiprocessing
+import os
+import re
+import shutil
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+SRC = Path(__file__).resolve().parents[1] / "src"
+
+
+def write_long_csv(path: Path, n: int, t: int) -> None:
+    rng = np.random.default_rng(1)
+    x = 0.01 * (0.6 * rng.standard_normal((t, 1)) + 0.8 * rng.standard_normal((t, n)))
+    x[:, n // 3] += 0.002
+    weeks = pd.date_range("1985-01-04", periods=t, freq="W-FRI").strftime("%Y-%m-%d")
+    rows = int(np.ceil(np.sqrt(n)))
+    look, band = np.arange(n) // rows + 1, np.arange(n) % rows + 1
+    frame = pd.DataFrame({"week": np.tile(weeks, n), "lookback": np.repeat(look, t), "band": np.repeat(band, t),
+                          "excess_return": x.T.ravel()})
+    frame.to_csv(path, index=False, float_format="%.8f")
+
+
+def floor_seconds(n: int, t: int, b: int) -> float:
+    """Both float64 products over all resamples, in chunks of 2,048 as the audit takes them."""
+    rng = np.random.default_rng(0)
+    x = rng.standard_normal((t, n))
+    x2 = x * x
+    weights = rng.poisson(1.0, (min(b, 2048), t)).astype(np.float64)
+    out = np.empty((weights.shape[0], n))
+    start = time.perf_counter()
+    for done in range(0, b, weights.shape[0]):
+        w = weights[: min(weights.shape[0], b - done)]
+        np.matmul(w, x, out=out[: w.shape[0]])
+        np.matmul(w, x2, out=out[: w.shape[0]])
+    return time.perf_counter() - start
+
+
+def command_seconds(csv: Path, out: Path, resamples: int, src: Path) -> tuple[float, float | None]:
+    """Wall seconds and peak resident MB of one audit command in a fresh process."""
+    env = {**os.environ, "PYTHONPATH": str(src)}
+    cmd = [sys.executable, "-m", "sweepaudit", "audit", str(csv), "--seed", "1", "--resamples", str(resamples),
+           "--json", str(out), "-q"]
+    timer = shutil.which("time") or ("/usr/bin/time" if Path("/usr/bin/time").exists() else None)
+    if timer:
+        cmd = [timer, "-v", *cmd]
+    start = time.perf_counter()
+    done = subprocess.run(cmd, env=env, capture_output=True, text=True)
+    elapsed = time.perf_counter() - start
+    if done.returncode not in (0, 1):
+        raise SystemExit(f"the audit command failed ({done.returncode}): {done.stderr.strip()[-500:]}")
+    peak = re.search(r"Maximum resident set size \(kbytes\): (\d+)", done.stderr)
+    return elapsed, (int(peak.group(1)) / 1024 if peak else None)
+
+
+def in_process_seconds(csv: Path, resamples: int) -> float:
+    from sweepaudit import AuditSettings, audit, load_sweep
+
+    sweep = load_sweep(csv)
+    start = time.perf_counter()
+    audit(sweep, settings=AuditSettings(seed=1, resamples=resamples))
+    return time.perf_counter() - start
+
+
+def _busy(stop_at: float) -> None:
+    while time.time() < stop_at:
+        pass
+
+
+def measure(csv: Path, tmp: Path, args, label: str) -> list[tuple]:
+    rows = []
+    floors, commands, peaks, inner, references = [], [], [], [], []
+    for _ in range(args.runs):
+        floors.append(floor_seconds(args.configurations, args.windows, args.resamples))
+        seconds, peak = command_seconds(csv, tmp / "audit.json", args.resamples, SRC)
+        commands.append(seconds)
+        peaks.append(peak)
+        inner.append(in_process_seconds(csv, args.resamples))
+        if args.reference_src:
+            references.append(command_seconds(csv, tmp / "reference.json", args.resamples, Path(args.reference_src))[0])
+    floor = statistics.median(floors)
+    load = os.getloadavg()[0]
+    rows.append((label, "floor: the two float64 products", floor, 1.0, None, load))
+    rows.append((label, "whole command (long CSV -> JSON)", statistics.median(commands),
+                 statistics.median(commands) / floor, max((p for p in peaks if p), default=None), load))
+    rows.append((label, "audit() in process", statistics.median(inner), statistics.median(inner) / floor, None, load))
+    if references:
+        rows.append((label, f"whole command, {args.reference_src}", statistics.median(references),
+                     statistics.median(references) / floor, None, load))
+    return rows
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    ap.add_argument("--configurations", type=int, default=1_000)
+    ap.add_argument("--windows", type=int, default=2_000)
+    ap.add_argument("--resamples", type=int, default=10_000)
+    ap.add_argument("--runs", type=int, default=3)
+    ap.add_argument("--busy", type=int, default=0, help="busy loops for a second measurement under load")
+    ap.add_argument("--reference-src", help="another checkout's src, run with the same yardstick")
+    ap.add_argument("--quick", action="store_true")
+    args = ap.parse_args()
+    if args.quick:
+        args.configurations, args.windows, args.resamples = 200, 500, 2_000
+    sys.path.insert(0, str(SRC))
+    with tempfile.TemporaryDirectory() as folder:
+        tmp = Path(folder)
+        csv = tmp / "sweep_long.csv"
+        write_long_csv(csv, args.configurations, args.windows)
+        print(f"{args.configurations:,} configurations x {args.windows:,} windows, {args.resamples:,} resamples; "
+              f"{os.cpu_count()} cores; median of {args.runs} runs")
+        rows = measure(csv, tmp, args, "as found")
+        if args.busy:
+            stop_at = time.time() + 3600
+            loops = [multiprocessing.Process(target=_busy, args=(stop_at,)) for _ in range(args.busy)]
+            for p in loops:
+                p.start()
+            try:
+                time.sleep(20)  # let the one-minute load average see them
+                rows += measure(csv, tmp, args, f"+{args.busy} busy loops")
+            finally:
+                for p in loops:
+                    p.terminate()
+                    p.join()
+    print("| load | what | median seconds | ratio to floor | peak MB | load average |")
+    print("|---|---|---|---|---|---|")
+    for label, what, seconds, ratio, peak, load in rows:
+        print(f"| {label} | {what} | {seconds:.2f} | x{ratio:.2f} | {'' if peak is None else f'{peak:,.0f}'} | {load:.2f} |")
+
+
+if __name__ == "__main__":
+    main()
