@@ -348,7 +348,7 @@ def _time_parts(evidence: Evidence, settings: AuditSettings, policy: Policy, cha
 def _select(sweep: Sweep, settings: AuditSettings, sharpe: np.ndarray) -> tuple[int, str]:
     if settings.selected is not None:
         return sweep.index_of(settings.selected), "named by the user"
-    return int(np.argmax(sharpe)), "highest full-sample Sharpe ratio (the configuration a researcher would pick)"
+    return int(np.argmax(sharpe)), "highest full-sample Sharpe ratio, the configuration a researcher would pick"
 
 
 def _resamples(

@@ -125,7 +125,8 @@ def _what_if(f: Figures) -> list[RenderableType]:
     if same:
         items.append((Text("same", style="dim"), ("unchanged under " if flips else "")
                       + ", ".join(same) + f" (same seed; new draws: {f.whole('sensitivity.resamples')} resamples)"))
-    return [Text("What would change the verdict", style="bold"), indented(Text(f.text("sensitivity.summary"))),
+    finding = Text(f.text("sensitivity.summary"), style=_WARN if flips else "")
+    return [Text("What would change the verdict", style="bold"), indented(finding),
             bullets(items), Text("")]
 
 
