@@ -112,3 +112,24 @@ def test_the_earlier_names_are_the_same_styles():
     assert f.prob(0.5) == f.probability(0.5) and f.pct(0.0123) == f.percent(0.0123)
     assert f.pct(None, missing="-") == "-" and f.xml_number(0.5) == f.figure(0.5)
     assert math.isclose(f.pvalue_floor(1), 0.5)
+
+
+def test_only_resampled_pvalues_take_the_resampling_floor():
+    """With B = 1,000 resamples a data-snooping p-value cannot go below 1/1001, so the smallest reads
+    '< 0.001'; a t-test's p-value (the walk-forward and decay tests, the haircut) has no such floor
+    and reads '< 0.0001' when it is that small (common practice: report a p-value only to the
+    precision its method has)."""
+    from sweepaudit.format import styled
+    from sweepaudit.render.figures import Figures
+
+    doc = {"settings": {"resamples": 1000},
+           "results": {"snooping": {"pvalue_floor": 1 / 1001, "reality_check": {"pvalue": 1 / 1001}},
+                       "walk_forward": {"test": {"pvalue": 3e-7}},
+                       "stability": {"change": {"pvalue": 0.0004}}}}
+    f = Figures(doc)
+    assert f.pvalue("results.snooping.reality_check.pvalue") == "< 0.001"
+    assert f.p_is("results.walk_forward.test.pvalue") == "p < 0.0001"
+    assert f.pvalue("results.stability.change.pvalue") == "0.0004"
+    assert styled(0.0004, "test_pvalue", floor=1 / 1001) == "0.0004"
+    assert styled(0.0004, "pvalue", floor=1 / 1001) == "< 0.001"
+    assert styled(0.05, "test_pvalue", threshold=True) == "0.05"

@@ -147,3 +147,22 @@ def test_the_command_line_can_skip_it(tmp_path):
 
     doc = json.loads(out.read_text())
     assert "sensitivity" not in doc and doc["reproduce"]["command"].endswith("--no-sensitivity")
+
+
+def test_a_streamed_audit_leaves_out_the_choices_that_would_each_be_a_new_audit(noise):
+    from sweepaudit.engine import budget_for_width
+
+    assert noise.sensitivity.not_examined == ()
+    streamed = audit(noise.sweep, settings=AuditSettings(seed=7, resamples=1500),
+                     memory_budget=budget_for_width(10, noise.sweep.n_windows, 1500))
+    assert streamed.intervals.distribution_columns is not None  # it did stream
+    s = streamed.sensitivity
+    left_out = {c.question for c in CHOICES if c.resampled or c.id == "interval_method"}
+    assert set(s.not_examined) == left_out and len(left_out) == 3
+    assert s.control is None  # the control is a resampled audit too
+    assert not {a.choice for a in s.alternatives} & {"bootstrap", "block_length", "interval_method"}
+    # Every other choice is still re-decided.
+    assert {a.id for a in s.alternatives} == {a.id for a in noise.sensitivity.alternatives
+                                             if a.choice not in {"bootstrap", "block_length", "interval_method"}}
+    assert "Not examined on this streamed audit" in s.summary and "block length" in s.summary
+    assert streamed.document["sensitivity"]["not_examined"] == list(s.not_examined)

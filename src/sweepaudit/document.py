@@ -428,7 +428,8 @@ def sensitivity_block(sensitivity: Sensitivity) -> dict:
     verdict under it, whether it ``flips`` the audit's, the required checks that fail and the
     checks it reaches (value and threshold, beside the audit's own under ``as_audited``);
     ``fragile`` is a go that some alternative flips; ``control`` the audit's own choices with the
-    alternatives' resample count (null when that is the audit's own count).
+    alternatives' resample count (null when that is the audit's own count); ``not_examined`` the
+    choices left out because each would be a whole new audit (after a streamed audit).
     """
     return {
         "verdict": sensitivity.decision,
@@ -438,6 +439,7 @@ def sensitivity_block(sensitivity: Sensitivity) -> dict:
         "resamples": sensitivity.resamples,
         "alternatives": [_alternative_dict(a) for a in sensitivity.alternatives],
         "control": None if sensitivity.control is None else _alternative_dict(sensitivity.control),
+        "not_examined": list(sensitivity.not_examined),
     }
 
 

@@ -252,18 +252,21 @@ STYLES = {
     "return": percent,
     "probability": probability,
     "pvalue": pvalue,
+    "test_pvalue": pvalue,
     "statistic": statistic,
     "number": number,
 }
 
 
 def styled(value: Any, kind: str, *, floor: float | None = None, threshold: bool = False) -> str:
-    """``value`` in the style of ``kind`` (a key of :data:`STYLES`); p-values take their floor.
+    """``value`` in the style of ``kind`` (a key of :data:`STYLES`); resampled p-values take their floor.
 
-    A ``threshold`` of a p-value is a significance level, written as a plain number (``0.05``).
+    ``pvalue`` is a p-value counted from resamples (at most as fine as ``floor``); ``test_pvalue``
+    one read off a distribution (a t-test's), which has no resampling floor. A ``threshold`` of
+    either is a significance level, written as a plain number (``0.05``).
     """
-    if kind == "pvalue":
-        return number(value) if threshold else pvalue(value, floor)
+    if kind in ("pvalue", "test_pvalue"):
+        return number(value) if threshold else pvalue(value, floor if kind == "pvalue" else None)
     return STYLES.get(kind, figure)(value)
 
 

@@ -1537,7 +1537,10 @@ class Sensitivity:
     resamples : int
         Resamples of the alternatives that draw new ones (same seed as the audit).
     summary : str
-        The finding in one sentence.
+        The finding in one sentence (and, when some choices were not examined, a second naming them).
+    not_examined : tuple of str
+        The choices (in words) left out because each would be a whole new audit: after a streamed
+        audit, those that read the resamples again.
     """
 
     decision: Literal["go", "no-go"]
@@ -1547,6 +1550,7 @@ class Sensitivity:
     control: Alternative | None
     resamples: int
     summary: str
+    not_examined: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -20,6 +20,10 @@ This module decides verdicts and computes no statistics: the evidence under each
   methods that read resamples run again. With fewer resamples than the audit, the audit's own
   choices are re-run at that count too (the *control*), so a difference that is only Monte Carlo
   noise shows as such. ``benchmarks/sensitivity_cost.py`` measures the cost.
+* an audit that streamed over blocks of configurations (beyond its memory budget, or on Dask) kept
+  only the selected configuration's bootstrap distributions: the interval method, the bootstrap kind
+  and the block length would each be a whole new streamed audit, so they are left out and named in
+  ``not_examined`` (and the summary), and the verdict is re-decided under the other choices only.
 
 The baseline comparison, when there is one, is the audit's own (the drift check is not
 recomputed).
@@ -234,8 +238,9 @@ def _control(evidence: Evidence, verdict: Verdict, baseline: BaselineComparison 
     )
 
 
-def _summary(verdict: Verdict, alternatives: tuple[Alternative, ...], control: Alternative | None) -> str:
-    """The finding in one sentence."""
+def _summary(verdict: Verdict, alternatives: tuple[Alternative, ...], control: Alternative | None,
+             skipped: tuple[str, ...] = (), configurations: int = 0) -> str:
+    """The finding in one sentence (and what was not examined, in a second)."""
     flips = [a for a in alternatives if a.flips]
     n = len(alternatives)
     word = "go" if verdict.decision == "go" else "no-go"
@@ -243,6 +248,9 @@ def _summary(verdict: Verdict, alternatives: tuple[Alternative, ...], control: A
     if control is not None and control.flips:
         noise = (f" With {control.setting_words} instead of {control.as_audited_words} the verdict itself changes: "
                  "it sits within Monte Carlo noise of its threshold.")
+    if skipped:
+        noise += (f" Not examined on this streamed audit of {number(configurations)} configurations, where each "
+                  f"would be a whole new audit: the {', the '.join(skipped)} (audit again with that option to see).")
     if not flips:
         return f"The {word} holds under every one of the {n} alternative choices.{noise}"
     named = "; ".join(f"the {a.question}: {a.setting_words}" for a in flips)
@@ -280,16 +288,28 @@ def what_would_change(
     Sensitivity
     """
     count = min(int(resamples), evidence.resamples.count)
+    # A streamed audit kept no configuration's distributions but the selected one's: every choice that
+    # reads resamples would be a whole new streamed audit, several times the audit's own cost.
+    streamed = evidence.intervals.distribution_columns is not None
+    present = [c for c in CHOICES if getattr(evidence, c.needs) is not None]
+    skipped = tuple(c.question for c in present if streamed and _rereads_resamples(c))
     alternatives = tuple(
         _alternative(choice, setting, evidence, verdict, baseline, count, memory_budget)
-        for choice in CHOICES
-        if getattr(evidence, choice.needs) is not None
+        for choice in present
+        if choice.question not in skipped
         for setting in choice.alternatives(evidence)
     )
-    control = _control(evidence, verdict, baseline, count, memory_budget) if count < evidence.resamples.count else None
+    control = (_control(evidence, verdict, baseline, count, memory_budget)
+               if count < evidence.resamples.count and not streamed else None)
     flipped = tuple(a.id for a in alternatives if a.flips)
     return Sensitivity(
         decision=verdict.decision, alternatives=alternatives,
         fragile=verdict.decision == "go" and bool(flipped), flipped_by=flipped, control=control,
-        resamples=count, summary=_summary(verdict, alternatives, control),
+        resamples=count, summary=_summary(verdict, alternatives, control, skipped, evidence.sweep.n_configurations),
+        not_examined=skipped,
     )
+
+
+def _rereads_resamples(choice: Choice) -> bool:
+    """Whether the choice needs the resamples again (new ones, or every configuration's kept draws)."""
+    return choice.resampled or choice.id == "interval_method"

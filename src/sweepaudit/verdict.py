@@ -28,7 +28,8 @@ class Measure(NamedTuple):
     """What a check's ``value`` and ``threshold`` are, in words, and what its outcome means.
 
     ``kind`` is the number style (:data:`sweepaudit.format.STYLES`): ``count``, ``windows``,
-    ``return``, ``probability``, ``pvalue``, ``statistic`` or ``number``; ``passes_when`` says how the value
+    ``return``, ``probability``, ``pvalue`` (from resamples), ``test_pvalue`` (from a distribution),
+    ``statistic`` or ``number``; ``passes_when`` says how the value
     must stand against the threshold: ``at least``, ``at most``, ``above`` or ``below``.
     ``passed`` and ``failed`` are the outcome in a few words, for the verdict's one sentence.
     """
@@ -76,11 +77,11 @@ MEASURES: dict[str, Measure] = {
         "grid neighbours' mean Sharpe ratio", "statistic", "at least",
         "the selected cell is not an isolated peak", "the selected cell is an isolated peak"),
     "walk_forward": Measure(
-        "walk-forward record's p-value (mean above zero)", "pvalue", "at most",
+        "walk-forward record's p-value (mean above zero)", "test_pvalue", "at most",
         "re-picking the winner as the windows came earned out of sample",
         "re-picking the winner as the windows came has not been shown to earn out of sample"),
     "edge_decay": Measure(
-        "p-value of the recent period's fall", "pvalue", "above",
+        "p-value of the recent period's fall", "test_pvalue", "above",
         "the recent evidence is not significantly worse than the early evidence",
         "the edge has faded in the recent period"),
 }

@@ -75,11 +75,16 @@ class Figures:
         return self._show(path, fmt.probability(self.get(path)))
 
     def pvalue(self, path: str) -> str:
-        return self._show(path, fmt.pvalue(self.get(path), self.pvalue_floor()))
+        return self._show(path, fmt.pvalue(self.get(path), self._floor_of(path)))
 
     def p_is(self, path: str) -> str:
         """``p = 0.0123`` or ``p < 0.001``: a p-value after its letter."""
-        return self._show(path, fmt.p_is(self.get(path), self.pvalue_floor()))
+        return self._show(path, fmt.p_is(self.get(path), self._floor_of(path)))
+
+    def _floor_of(self, path: str) -> float | None:
+        """The resampling floor for the p-values counted from resamples (the data-snooping tests');
+        None for those read off a distribution (the haircut's, the time tests' t-tests)."""
+        return self.pvalue_floor() if path.startswith("results.snooping") else None
 
     def whole(self, path: str) -> str:
         return self._show(path, fmt.whole(self.get(path)))
