@@ -53,7 +53,7 @@ def _hygiene(text):
 def test_every_check_has_its_measure_in_words():
     assert set(MEASURES) == set(CHECKS)
     for m in MEASURES.values():
-        assert m.kind in ("count", "windows", "return", "probability", "pvalue", "statistic", "number")
+        assert m.kind in ("count", "windows", "return", "probability", "pvalue", "test_pvalue", "statistic", "number")
         assert m.passes_when in ("at least", "at most", "above", "below") and m.passed != m.failed
 
 
