@@ -20,10 +20,9 @@ demo: $(STAMP)
 REPORT_RUN = $(BIN)/sweepaudit audit --seed 7 --quiet
 
 reports: $(STAMP)
-	$(REPORT_RUN) fixtures/demo_edge_long.csv --report reports/demo_edge.html || [ $$? -eq 1 ]
-	$(REPORT_RUN) fixtures/demo_edge_long.csv --report reports/demo_edge.md || [ $$? -eq 1 ]
-	$(REPORT_RUN) fixtures/demo_noise_long.csv --report reports/demo_noise.html || [ $$? -eq 1 ]
-	$(REPORT_RUN) fixtures/demo_noise_long.csv --report reports/demo_noise.md || [ $$? -eq 1 ]
+	$(REPORT_RUN) fixtures/demo_edge_long.csv --report reports/demo_edge.html --report reports/demo_edge.md || [ $$? -eq 1 ]
+	$(REPORT_RUN) fixtures/demo_noise_long.csv --report reports/demo_noise.html --report reports/demo_noise.md || [ $$? -eq 1 ]
+	$(REPORT_RUN) fixtures/demo_fragile_long.csv --report reports/demo_fragile.html --report reports/demo_fragile.md || [ $$? -eq 1 ]
 
 test: $(STAMP)
 	$(BIN)/python -m pytest

@@ -73,7 +73,8 @@ def test_evidence_once_and_verdict_once_with_a_baseline(sweep, monkeypatch, tmp_
 def test_the_result_agrees_with_itself(sweep):
     result = audit(sweep, settings=AuditSettings(seed=1, resamples=200), command=lambda ev: f"seed {ev.settings.seed}")
     assert isinstance(result, AuditResult)
-    assert result.document == audit_document(result.evidence, result.verdict, command="seed 1")
+    assert result.document == audit_document(result.evidence, result.verdict, command="seed 1",
+                                             sensitivity=result.sensitivity)
     assert result.document["reproduce"]["command"] == "seed 1"
     assert result.figure_material.selected_index == result.selected_index == result.evidence.selected_index
     assert result.figure_material.deflation_curve is result.evidence.deflation_curve

@@ -181,7 +181,7 @@ def test_calibrate_verdict_null_low_and_huge_edge_high():
         lambda g: simulate_normal(g, 1, 156), sweeps=20, resamples=199, policy=INTERVAL_ONLY, seed=1
     )
     assert null.go.events <= 4
-    # Annualised Sharpe 6 over three years: t = 6 * sqrt(3) = 10.4, power is 1 to many decimals;
+    # Annualized Sharpe 6 over three years: t = 6 * sqrt(3) = 10.4, power is 1 to many decimals;
     # 18 of 20 leaves room for resampling noise only. Default policy, five configurations.
     edge = calibrate_verdict(
         lambda g: simulate_one_edge(g, 5, 156, annual_sharpe=6.0), sweeps=20, resamples=199, seed=2, planted=[2]
@@ -222,7 +222,7 @@ def test_size_and_power_of_the_mean_interval_against_theory():
         lambda g: simulate_normal(g, 1, 260), sweeps=400, resamples=999, policy=INTERVAL_ONLY, seed=7
     )
     assert null.go.rate <= 0.05
-    # Power: annualised Sharpe 1.5 over five weekly years, t = 1.5 * sqrt(5) = 3.35;
+    # Power: annualized Sharpe 1.5 over five weekly years, t = 1.5 * sqrt(5) = 3.35;
     # normal approximation P(t > 1.96) = Phi(3.35 - 1.96) = 0.92. Band: 3 binomial SE.
     alt = calibrate_verdict(
         lambda g: simulate_one_edge(g, 1, 260, annual_sharpe=1.5), sweeps=400, resamples=999,

@@ -27,7 +27,7 @@ LAYERS: dict[int, tuple[str, ...]] = {
     4: ("methods",),
     5: ("audit", "streamed"),
     6: ("baseline",),
-    7: ("verdict",),
+    7: ("verdict", "sensitivity"),
     8: ("document",),
     9: ("render",),
     10: ("gate", "calibration"),

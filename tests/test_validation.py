@@ -8,7 +8,7 @@ that yardstick its level for any correlation between configurations; it ignores 
 The evidence over time, against the same theory: a 5% test of a change in the mean flags at most 5%
 of sweeps whose edge is constant in time, and a 5% test of the walk-forward record's mean passes at
 most 5% of sweeps in which no configuration has an edge; an edge that stopped halfway must be flagged
-in at least 80% of sweeps (the issue's target; the test's power at annualised Sharpe 3 over two
+in at least 80% of sweeps (the issue's target; the test's power at annualized Sharpe 3 over two
 years of weekly windows is about 0.9 for the configuration judged).
 
 The default suite runs a short smoke; the study's targets run under ``-m slow``.

@@ -50,6 +50,7 @@ from .render.report import build_report, write_report
 from .render.safe import visible_document
 from .render.terminal import render_terminal
 from .results import AuditSettings, BaselineComparison, Evidence, Inspection, Verdict
+from .sensitivity import what_would_change
 from .sweep import Sweep
 from .verdict import decide
 
@@ -194,6 +195,7 @@ def audit(
     scheduler: str | None = None,
     workers: int | None = None,
     publish: Publish | None = None,
+    sensitivity: bool = True,
     **input_options: Any,
 ) -> AuditResult:
     """Audit a sweep: resample once, run every method once, decide the verdict once.
@@ -256,6 +258,9 @@ def audit(
         (an output that fails leaves the ledger unchanged), a failing append reaches the outputs
         (which can roll back), and a failure on leaving (the terminal output) takes the record
         back.
+    sensitivity : bool
+        Re-decide the verdict under each reasonable alternative choice (:mod:`sweepaudit.sensitivity`,
+        the ``sensitivity`` block and ``result.sensitivity``); False skips it.
 
     Returns
     -------
@@ -293,11 +298,13 @@ def audit(
         finally:
             executor.close()
         verdict, comparison = _judge(evidence, policy, baseline, baseline_path)
+        what_if = (what_would_change(evidence, verdict, baseline=comparison, memory_budget=memory_budget)
+                   if sensitivity else None)
         document = audit_document(
             evidence, verdict, command=command(evidence) if callable(command) else command,
-            policy_source=policy_source, baseline=comparison, ledger=count.block(),
+            policy_source=policy_source, baseline=comparison, ledger=count.block(), sensitivity=what_if,
         )
-        result = AuditResult(evidence, verdict, document, figure_material(evidence), comparison)
+        result = AuditResult(evidence, verdict, document, figure_material(evidence), comparison, what_if)
         try:
             with publish(result) if publish is not None else nullcontext():
                 count.record(sweep, selected=evidence.selected, verdict=verdict.decision)
@@ -396,7 +403,7 @@ def calibrate(
     sweeps : int
         Null sweeps to audit (standard error of a 5% rate: 1.5% at 200).
     edge : float
-        Annualised Sharpe ratio of the edge planted in the selected configuration for the power
+        Annualized Sharpe ratio of the edge planted in the selected configuration for the power
         estimate; 0 skips it. Needs the periods per year.
     resamples : int
         Bootstrap resamples per audit.
@@ -421,7 +428,7 @@ def calibrate(
     policy, policy_source = _policy(policy, policy_source)
     validate.at_least(sweeps, "sweeps", 1)
     validate.at_least(resamples, "resamples", 1)
-    validate.at_least(edge, "edge", 0, what="0 (an annualised Sharpe ratio)")
+    validate.at_least(edge, "edge", 0, what="0 (an annualized Sharpe ratio)")
     seed = validate.whole_number(seed, "seed", minimum=0)
     base = settings or AuditSettings()
     sweep = _sweep(data, options, input_options)

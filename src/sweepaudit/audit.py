@@ -11,14 +11,15 @@ from __future__ import annotations
 import functools
 import warnings
 from collections.abc import Callable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, fields, replace
 
 import numpy as np
 
 from . import validate
 from .engine import InProcess, WeightTable, moments_and_intervals, plan_blocks, single_threaded
-from .errors import SweepAuditWarning
-from .methods.bootstrap_ci import bootstrap_intervals, part_columns, part_intervals
+from .errors import InputError, SweepAuditWarning
+from .format import number, percent
+from .methods.bootstrap_ci import at_level, bootstrap_intervals, part_columns, part_intervals
 from .methods.cscv import cscv
 from .methods.deflation import deflated_by_trials
 from .methods.haircut import haircut_sharpe
@@ -39,6 +40,7 @@ from .results import (
     CscvResult,
     DeflatedCurve,
     EdgeStability,
+    EffectiveTrials,
     Evidence,
     LongRunVariance,
     OverfittingDiagnosis,
@@ -50,7 +52,7 @@ from .results import (
 from .streamed import Stream
 from .sweep import Sweep
 
-__all__ = ["gather_evidence"]
+__all__ = ["gather_evidence", "reassess", "RESAMPLING_SETTINGS"]
 
 
 def gather_evidence(
@@ -147,18 +149,11 @@ def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool) -> 
         intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method),
     )
     inference = _inference(sweep, settings, policy, selected, long_run)
-    snooping = overfit = diagnosis = tails = None
-    if sweep.n_configurations >= 2:
-        mean = x.mean(axis=0)
-        blocks = [snooping_block(moments.mean[:, a:a + COLUMN_BLOCK], mean[a:a + COLUMN_BLOCK], sweep.n_windows, start=a)
-                  for a in range(0, sweep.n_configurations, COLUMN_BLOCK)]
-        snooping = _snooping(mean, sweep.n_windows, blocks, policy, long_run, stored_further_pass(moments.mean))
-        overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
-        diagnosis = _diagnosis(overfit, policy)
-        stress = family_stress(x, selected=selected, threshold=policy.stress_threshold, share=policy.stress_share)
-        tails = tail_test(stress, critical_value=snooping.gating_stepm.critical_value_for(selected))
-    variance = (np.concatenate([b.variance_of_mean for b in blocks]) if snooping is not None
-                else np.var(intervals.mean_distribution, axis=0))
+    snooping, variance = _snooping_in_memory(x, moments, intervals, policy, long_run)
+    overfit = diagnosis = tails = None
+    if snooping is not None:
+        overfit, diagnosis = _overfitting(x, policy)
+        tails = _tails(x, selected, snooping, policy)
     return _Parts(sharpe, selected, rule, long_run, resamples, block_source, choice, intervals,
                   variance, inference, snooping, overfit, diagnosis, tails, table)
 
@@ -209,10 +204,155 @@ def _evidence(
     )
 
 
+#: The settings whose change needs new resamples (drawn again from the seed); the interval level
+#: and method re-read the kept bootstrap distributions instead.
+RESAMPLING_SETTINGS = ("seed", "resamples", "bootstrap", "block_length")
+
+# The policy keys each part of the evidence depends on (the others only change what the verdict reads).
+_SHARPE_KEYS = frozenset({"deflation_variance", "deflation_trials", "sharpe_variance", "track_record_confidence",
+                          "significance"})
+_CSCV_KEYS = frozenset({"partitions", "overfitting_statistic"})
+_RULE_KEYS = frozenset({"max_probability_of_overfitting", "max_probability_of_loss", "min_strength_share"})
+_TIME_KEYS = frozenset({"walk_forward_warmup", "walk_forward_lookback", "recent_share", "stress_threshold",
+                        "stress_share"})
+
+
+def reassess(
+    evidence: Evidence,
+    *,
+    policy: Policy | None = None,
+    settings: AuditSettings | None = None,
+    memory_budget: int | None = None,
+) -> Evidence:
+    """The evidence of the same audit under another policy or other resampling settings, re-running
+    only the methods the change reaches.
+
+    What runs again, and what is reused:
+
+    * new resampling settings (:data:`RESAMPLING_SETTINGS`: another bootstrap kind, block length,
+      count or seed), or another significance level (StepM's stepping needs the moments): the
+      resamples are drawn again from the seed and the methods that read them run again (intervals,
+      reality check, SPA, StepM, the family-tails bar, the surface's standard error, the intervals
+      of the walk-forward record and of the two periods). When the new resamples' moments would
+      not fit the memory budget, the whole audit runs again (:func:`gather_evidence`, streamed);
+    * another interval level or method only: the kept bootstrap distributions are re-read
+      (:func:`~sweepaudit.methods.bootstrap_ci.at_level`), no resampling (a streamed audit kept the
+      selected configuration's only: the whole audit runs again);
+    * the Sharpe inference's choices (trial variance, trial count, Sharpe variance): the inference
+      runs again on the audit's long-run variance and effective trials (no eigenvalues again);
+    * the CSCV statistic or partitions: CSCV runs again; only the rule's thresholds: the rule is
+      read again off the same CSCV result;
+    * the stress or time-structure keys: the family-tails test and the time structure run again;
+    * what the verdict only reads (the snooping scale and gating test, the deflated threshold):
+      the same results, relabelled.
+
+    The long-run variance, the haircut and the warnings are the audit's own. The verdict decided on
+    the result equals the one decided on :func:`gather_evidence` under the new policy and settings
+    (``tests/test_sensitivity.py`` checks it for every alternative the sensitivity tries).
+
+    Parameters
+    ----------
+    evidence : Evidence
+        The audit to read again.
+    policy : Policy, optional
+        Default: the audit's own.
+    settings : AuditSettings, optional
+        Default: the audit's own. The selected configuration and the trials cannot change (that is a
+        new audit).
+    memory_budget : int, optional
+        As for :func:`gather_evidence`.
+
+    Returns
+    -------
+    Evidence
+    """
+    policy = policy or evidence.policy
+    settings = settings or evidence.settings
+    if (settings.selected, settings.trials) != (evidence.settings.selected, evidence.settings.trials):
+        raise InputError("reassess keeps the selected configuration and the trials counted; another selection "
+                         "or trial count is a new audit (gather_evidence)")
+    changed = {f.name for f in fields(policy) if getattr(policy, f.name) != getattr(evidence.policy, f.name)}
+    count = settings.resamples if settings.resamples is not None else policy.resamples
+    confidence = settings.confidence if settings.confidence is not None else policy.confidence
+    sweep = evidence.sweep
+    resampling = count != evidence.resamples.count or any(
+        getattr(settings, name) != getattr(evidence.settings, name) for name in RESAMPLING_SETTINGS)
+    parts: dict = {"policy": policy, "settings": settings}
+    moments = None
+    if resampling or ("significance" in changed and evidence.snooping is not None):
+        budget = policy.memory_budget * 2**20 if memory_budget is None else memory_budget
+        if not plan_blocks(sweep.n_configurations, sweep.n_windows, count, budget).in_memory:
+            return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget)
+        with single_threaded():
+            moments = _resampled_parts(evidence, settings, policy, count, confidence, parts)
+    elif (confidence, settings.interval_method) != (evidence.confidence, evidence.intervals.method):
+        if evidence.intervals.distribution_columns is not None:  # a streamed audit kept the selected one's only
+            return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget)
+        parts["intervals"] = at_level(evidence.intervals, confidence, settings.interval_method)
+    if changed & _SHARPE_KEYS and evidence.sharpe is not None:
+        parts["sharpe"] = _inference(sweep, settings, policy, evidence.selected_index, evidence.long_run,
+                                     evidence.sharpe.effective_trials_detail)
+        parts["deflation_curve"] = _curve(parts["sharpe"])
+    if evidence.snooping is not None:
+        parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping")))
+    if changed & _TIME_KEYS or moments is not None:
+        parts.update(_time_parts(evidence, settings, policy, changed, parts, confidence))
+    return replace(evidence, **parts)
+
+
+def _resampled_parts(evidence: Evidence, settings: AuditSettings, policy: Policy, count: int, confidence: float,
+                     parts: dict):
+    """New resamples and what reads them (see :func:`reassess`), into ``parts``; the moments back."""
+    sweep, k = evidence.sweep, evidence.selected_index
+    resamples, source, choice = _resamples(sweep, settings, count, k)
+    moments, intervals = moments_and_intervals(
+        sweep.returns, resamples,
+        intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method),
+    )
+    snooping, variance = _snooping_in_memory(sweep.returns, moments, intervals, policy, evidence.long_run)
+    share, share_low = _bootstrap_share(variance, evidence.long_run)
+    parts.update(
+        resamples=resamples, block_length_source=source, block_choice=choice, intervals=intervals,
+        bootstrap_share=share, bootstrap_share_low=share_low,
+        surface=isolated_peak(sweep.parameters, evidence.sharpe_ratios, selected=k,
+                              sharpe_distribution=intervals.sharpe_distribution_of(k)),
+    )
+    if snooping is not None:
+        parts["snooping"] = snooping
+    return moments
+
+
+def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snooping: Snooping | None) -> dict:
+    """The data-snooping labels, CSCV and the family-tails test under ``policy`` (see :func:`reassess`);
+    ``snooping``: the tests run again on new resamples, if they were."""
+    x, k = evidence.sweep.returns, evidence.selected_index
+    if snooping is None:
+        snooping = replace(evidence.snooping, gating=policy.snooping_test, scale=policy.snooping_scale)
+    parts: dict = {"snooping": snooping, "tails": _tails(x, k, snooping, policy)}
+    if changed & _CSCV_KEYS:
+        parts["overfitting"], parts["overfitting_diagnosis"] = _overfitting(x, policy)
+    elif changed & _RULE_KEYS:
+        parts["overfitting_diagnosis"] = _diagnosis(evidence.overfitting, policy)
+    return parts
+
+
+def _time_parts(evidence: Evidence, settings: AuditSettings, policy: Policy, changed: set[str], parts: dict,
+                confidence: float) -> dict:
+    """The walk-forward record and the edge over time with their intervals, under the new parts."""
+    sweep, k = evidence.sweep, evidence.selected_index
+    walk, stability = evidence.walk_forward, evidence.stability
+    tails = parts.get("tails", evidence.tails)
+    if changed & _TIME_KEYS:
+        walk, stability, _ = _time_structure(sweep, k, policy, evidence.long_run, tails)
+    walk, stability = _time_intervals(sweep.returns[:, k], walk, stability, parts.get("resamples", evidence.resamples),
+                                      confidence, settings.interval_method)
+    return {"walk_forward": walk, "stability": stability}
+
+
 def _select(sweep: Sweep, settings: AuditSettings, sharpe: np.ndarray) -> tuple[int, str]:
     if settings.selected is not None:
         return sweep.index_of(settings.selected), "named by the user"
-    return int(np.argmax(sharpe)), "highest full-sample Sharpe ratio (the configuration a researcher would pick)"
+    return int(np.argmax(sharpe)), "highest full-sample Sharpe ratio, the configuration a researcher would pick"
 
 
 def _resamples(
@@ -233,7 +373,8 @@ def _resamples(
 
 
 def _inference(
-    sweep: Sweep, settings: AuditSettings, policy: Policy, selected: int, long_run: LongRunVariance
+    sweep: Sweep, settings: AuditSettings, policy: Policy, selected: int, long_run: LongRunVariance,
+    effective: EffectiveTrials | None = None,
 ) -> SharpeInference:
     return sharpe_inference(
         sweep.returns,
@@ -246,6 +387,7 @@ def _inference(
         sharpe_variance=policy.sharpe_variance,
         long_run=long_run,
         significance=policy.significance,
+        effective=effective,
     )
 
 
@@ -266,6 +408,32 @@ def _snooping(mean, windows, blocks, policy: Policy, long_run: LongRunVariance, 
         stepm_long_run=stepm["long-run"], stepm_bootstrap=stepm["bootstrap"], stepm_unstudentized=stepm["none"],
         gating=policy.snooping_test, scale=policy.snooping_scale,
     )
+
+
+def _snooping_in_memory(x: np.ndarray, moments, intervals: BootstrapIntervals, policy: Policy,
+                        long_run: LongRunVariance) -> tuple[Snooping | None, np.ndarray]:
+    """The data-snooping tests on the whole matrix's moments (None for one configuration) and each
+    configuration's variance of the resampled means."""
+    if x.shape[1] < 2:
+        return None, np.var(intervals.mean_distribution, axis=0)
+    t, n = x.shape
+    mean = x.mean(axis=0)
+    blocks = [snooping_block(moments.mean[:, a:a + COLUMN_BLOCK], mean[a:a + COLUMN_BLOCK], t, start=a)
+              for a in range(0, n, COLUMN_BLOCK)]
+    snooping = _snooping(mean, t, blocks, policy, long_run, stored_further_pass(moments.mean))
+    return snooping, np.concatenate([b.variance_of_mean for b in blocks])
+
+
+def _overfitting(x: np.ndarray, policy: Policy) -> tuple[CscvResult, OverfittingDiagnosis]:
+    """CSCV and the rule read off it."""
+    overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
+    return overfit, _diagnosis(overfit, policy)
+
+
+def _tails(x: np.ndarray, selected: int, snooping: Snooping, policy: Policy) -> TailTest:
+    """The family-tails test, held to the gating StepM's bar for the selected configuration."""
+    stress = family_stress(x, selected=selected, threshold=policy.stress_threshold, share=policy.stress_share)
+    return tail_test(stress, critical_value=snooping.gating_stepm.critical_value_for(selected))
 
 
 def _diagnosis(overfit: CscvResult, policy: Policy) -> OverfittingDiagnosis:
@@ -355,7 +523,7 @@ def _notes(
     if snooping is not None and selected not in snooping.gating_stepm.significant:
         notes.append(
             f"the selected configuration {sweep.configurations[selected]!r} is not among the "
-            f"configurations StepM finds beating the benchmark at the {policy.significance:g} level"
+            f"configurations StepM finds beating the benchmark at the {number(policy.significance)} level"
         )
     if intervals.degenerate_resamples:
         notes.append(
@@ -364,7 +532,7 @@ def _notes(
         )
     if share_low < 0.8:
         notes.append(
-            f"the resamples reproduce only {share_low:.0%} of the long-run variance for a tenth of the "
+            f"the resamples reproduce only {percent(share_low, 2)} of the long-run variance for a tenth of the "
             "configurations: their bootstrap intervals may be too narrow (the studentized tests and the Sharpe "
             "inference use the long-run variance and are not affected); consider a longer --block-length"
         )

@@ -4,7 +4,7 @@ Two kinds of evidence:
 
 * Families of synthetic sweeps with known truth (the simulators of :mod:`sweepaudit.simulate`,
   re-exported here). Null families have no configuration with an edge, so every "go" is a false
-  go; alternatives plant an edge of a known annualised Sharpe ratio, so the go rate is the power.
+  go; alternatives plant an edge of a known annualized Sharpe ratio, so the go rate is the power.
   :func:`calibrate_verdict` runs the full audit on many of them.
 * Null sweeps shaped like the user's own (:func:`null_like`): the same windows and configurations,
   the same dependence across configurations and time, the edge removed. :func:`calibrate_sweep`
@@ -410,7 +410,7 @@ def calibrate_sweep(
     sweeps : int
         Number of null sweeps (and as many power sweeps when ``edge`` > 0).
     edge : float
-        Annualised Sharpe ratio of the edge planted in the configuration the audit selected in the
+        Annualized Sharpe ratio of the edge planted in the configuration the audit selected in the
         real sweep; 0 skips the power estimate. Needs ``sweep.periods_per_year``.
     settings : AuditSettings, optional
         As for the real audit (``selected``, bootstrap, block length...); seeds are replaced.
@@ -480,10 +480,10 @@ def _check_calibration(sweep: Sweep, sweeps: int, edge: float, seed: int) -> tup
         raise InputError(f"sweep must be a Sweep (see sweep_from_array); got {type(sweep).__name__}")
     count = validate.whole_number(sweeps, "sweeps", minimum=1)
     if not (isinstance(edge, (int, float)) and math.isfinite(edge) and edge >= 0):
-        raise InputError(f"edge must be a non-negative annualised Sharpe ratio; got {edge!r}")
+        raise InputError(f"edge must be a non-negative annualized Sharpe ratio; got {edge!r}")
     if edge > 0 and not sweep.periods_per_year:
         raise InputError(
-            "the power estimate needs the periods per year to turn the annualised edge into a "
+            "the power estimate needs the periods per year to turn the annualized edge into a "
             "per-window mean: load the sweep with periods per year (or dated windows), or set the edge "
             "to 0 to skip power"
         )

@@ -49,7 +49,7 @@ from .render.files import FileStep, Transaction, check_target, write_terminal
 from .render.inspect import inspection_text
 from .render.json import dumps
 from .render.junit import audit_to_junit
-from .render.report import check_report_path, render_report, stage_report
+from .render.report import check_report_path, figures_folder, render_report, stage_report
 from .render.safe import visible
 from .render.terminal import terminal_text
 from .results import AuditResult, AuditSettings, Evidence
@@ -177,13 +177,16 @@ def _real(path: object) -> str:
     return os.path.realpath(os.fspath(path))  # type: ignore[arg-type]
 
 
-def _check_distinct(outputs: dict[str, Optional[Path]], inputs: dict[str, object]) -> None:
+Outputs = list[tuple[str, Path]]  # (what, path): "JSON file", "JUnit file", "report"
+
+
+def _check_distinct(outputs: Outputs, inputs: dict[str, object]) -> None:
     """Refuse an output that would overwrite an input (the sweep, a ledger, ...) or another output."""
     seen: dict[str, str] = {}
     for what, value in inputs.items():
         if value is not None and str(value) != "-":
             seen[_real(value)] = what
-    for what, path in outputs.items():
+    for what, path in outputs:
         if path is None:
             continue
         key = _real(path)
@@ -416,9 +419,14 @@ def audit_command(
         typer.Option(help="The strategy's label in the trial ledger (a trial is a configuration of a strategy); "
                           "default: the policy's strategy key."),
     ] = None,
-    report_path: Annotated[
-        Optional[Path], typer.Option("--report", help="Write the audit report here: .md (Markdown) or .html.")
+    report_paths: Annotated[
+        Optional[list[Path]], typer.Option(
+            "--report", help="Write the audit report here: .md (Markdown) or .html; repeat for several reports.")
     ] = None,
+    sensitivity: Annotated[
+        bool, typer.Option("--sensitivity/--no-sensitivity",
+                           help="Re-decide the verdict under each reasonable alternative choice (what would change it).")
+    ] = True,
     memory_budget: Annotated[
         Optional[int],
         typer.Option(help="Working memory in MiB (default 768, the policy's): beyond it the audit streams over "
@@ -449,7 +457,8 @@ def audit_command(
       sweepaudit audit large.parquet --workers 2 --memory-budget 2048
     """
     started = time.perf_counter()
-    outputs = {"JSON file": json_path, "JUnit file": junit_path, "report": report_path}
+    outputs: Outputs = [(what, path) for what, path in (("JSON file", json_path), ("JUnit file", junit_path))
+                        if path is not None] + [("report", path) for path in report_paths or ()]
     try:
         _check_audit_outputs(inputs, outputs, trial_ledger=ledger_path, baseline=baseline_path, policy_file=policy_path)
         if resamples is not None and quick:
@@ -483,8 +492,9 @@ def audit_command(
                 scheduler=scheduler, workers=workers,
                 baseline=baseline_document, baseline_path=str(baseline_path) if baseline_path is not None else None,
                 ledger=ledger_path, trials=declared, strategy=strategy, progress=progress, publish=publish,
+                sensitivity=sensitivity,
                 command=lambda evidence: reproduce_command(evidence, inputs.options, policy_source=loaded.source,
-                                                           strategy=strategy),
+                                                           strategy=strategy, sensitivity=sensitivity),
             )
     except SweepAuditError as exc:
         raise _fail(str(exc)) from None
@@ -497,49 +507,65 @@ def _option_budget(mib: int) -> int:
     return mib
 
 
-def _check_audit_outputs(inputs: SweepInput, outputs: dict[str, Optional[Path]], **files: Optional[Path]) -> None:
+def _check_audit_outputs(inputs: SweepInput, outputs: Outputs, **files: Optional[Path]) -> None:
     """Every output writable, and none overwriting an input or another output."""
-    for what in ("JSON file", "JUnit file"):
-        if outputs[what] is not None:
-            check_target(outputs[what], what)
-    if outputs["report"] is not None:
-        _for_report(check_report_path, outputs["report"])
+    for what, path in outputs:
+        if what == "report":
+            _for_report(check_report_path, path)
+        else:
+            check_target(path, what)
     _check_distinct(outputs, {"input sweep": inputs.path, "benchmark file": inputs.options.benchmark_file,
                               **{name.replace("_", " "): path for name, path in files.items()}})
 
 
+def _wrote(written: list[str], quiet: bool) -> None:
+    """``wrote PATH`` on standard error for each file written, once every output is in place."""
+    if quiet:
+        return
+    try:
+        for line in written:
+            print(f"wrote {visible(line)}", file=sys.stderr, flush=True)
+    except OSError:
+        pass  # the files are written; a closed standard error changes nothing
+
+
 @contextmanager
-def _published(result: AuditResult, *, outputs: dict[str, Optional[Path]], started: float, quiet: bool,
+def _published(result: AuditResult, *, outputs: Outputs, started: float, quiet: bool,
                before_print: Callable[[], None]) -> Iterator[None]:
     """The audit's outputs as one transaction, around the ledger record (see :func:`sweepaudit.api.audit`).
 
     Everything is rendered in memory, then every file staged, then all committed; the record is
-    appended inside this block; then the terminal text is written. A failure at any point (the
-    append, or standard output) rolls every file back and the record is taken back: the earlier
-    outputs and the ledger stay as they were.
+    appended inside this block; then the terminal text is written, then a ``wrote PATH`` line for
+    each file on standard error. A failure at any point (the append, or standard output) rolls
+    every file back and the record is taken back: the earlier outputs and the ledger stay as they
+    were.
     """
     document = result.document
-    json_path, junit_path, report_path = outputs["JSON file"], outputs["JUnit file"], outputs["report"]
-    files = [(json_path, "JSON file", dumps(document) if json_path else None),
-             (junit_path, "JUnit file",
-              audit_to_junit(document, elapsed=time.perf_counter() - started) if junit_path else None)]
-    report = _for_report(render_report, report_path, document, result.figure_material) if report_path else None
+    rendered = {"JSON file": lambda path: dumps(document),
+                "JUnit file": lambda path: audit_to_junit(document, elapsed=time.perf_counter() - started)}
+    files = [(path, what, rendered[what](path)) for what, path in outputs if what != "report"]
+    reports = [_for_report(render_report, path, document, result.figure_material)
+               for what, path in outputs if what == "report"]
     terminal = None if quiet else terminal_text(document)
+    written = []
     with Transaction() as staged:
-        if report is not None:
+        for report in reports:
             _for_report(stage_report, staged, report)
+            figures = f" (and {len(report.figures)} figures in {figures_folder(report.path)})" if report.figures else ""
+            written.append(f"{report.path}{figures}")
         for path, what, text in files:
-            if path is not None:
-                staged.add(FileStep(path, text, what=what))
+            staged.add(FileStep(path, text, what=what))
+            written.append(str(path))
         staged.commit()
         yield
         before_print()
         if terminal is not None:
             write_terminal(terminal)
+    _wrote(written, quiet)
 
 
 def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source: str = "defaults",
-                      strategy: str | None = None) -> str:
+                      strategy: str | None = None, sensitivity: bool = True) -> str:
     """The canonical command that reproduces every figure of this audit (output options left out;
     ``--strategy`` kept, since with a ledger it decides the trials counted)."""
     words = ["sweepaudit", "audit", *SweepInput(evidence.sweep.path, options, None).words(evidence.sweep.path)]
@@ -559,6 +585,8 @@ def reproduce_command(evidence: Evidence, options: LoadOptions, *, policy_source
         words += ["--trials", str(s.trials)]
     if strategy is not None:
         words += ["--strategy", strategy.strip()]
+    if not sensitivity:
+        words.append("--no-sensitivity")
     return " ".join(shlex.quote(w) for w in words)
 
 
@@ -591,9 +619,9 @@ def inspect_command(
     try:
         if json_path is not None:
             check_target(json_path, "JSON file")
-        _check_distinct({"JSON file": json_path}, {"input sweep": inputs.path,
-                                                    "benchmark file": inputs.options.benchmark_file,
-                                                    "policy file": policy_path})
+        _check_distinct([("JSON file", json_path)] if json_path else [],
+                        {"input sweep": inputs.path, "benchmark file": inputs.options.benchmark_file,
+                         "policy file": policy_path})
         loaded = resolve_policy(policy_path)
         result = inspect_input(inputs.path, options=inputs.options, policy=loaded.policy)
         if inputs.select is not None:
@@ -606,13 +634,15 @@ def inspect_command(
 
 def _json_and_terminal(json_path: Optional[Path], document: dict, terminal: Optional[str]) -> None:
     """A command's JSON file and terminal text as one transaction: the text is written once the
-    file is in place, and a failure writing it puts the previous file back."""
+    file is in place, and a failure writing it puts the previous file back; then ``wrote PATH``
+    on standard error (not when quiet: no terminal text)."""
     with Transaction() as staged:
         if json_path is not None:
             staged.add(FileStep(json_path, dumps(document), what="JSON file"))
         staged.commit()
         if terminal is not None:
             write_terminal(terminal)
+    _wrote([str(json_path)] if json_path is not None else [], quiet=terminal is None)
 
 
 @app.command("policy")
@@ -654,7 +684,7 @@ def calibrate_command(
     inputs: SweepInput,
     sweeps: Annotated[int, typer.Option(help="Null sweeps to audit (standard error of a 5% rate: 1.5% at 200).")] = 200,
     edge: Annotated[
-        float, typer.Option(help="Annualised Sharpe ratio of the edge planted for the power estimate; 0 skips power.")
+        float, typer.Option(help="Annualized Sharpe ratio of the edge planted for the power estimate; 0 skips power.")
     ] = 1.0,
     resamples: Annotated[
         int,
@@ -693,12 +723,12 @@ def calibrate_command(
     try:
         if json_path is not None:
             check_target(json_path, "JSON file")
-        _check_distinct({"JSON file": json_path}, {"input sweep": inputs.path,
-                                                    "benchmark file": inputs.options.benchmark_file,
-                                                    "policy file": policy_path})
+        _check_distinct([("JSON file", json_path)] if json_path else [],
+                        {"input sweep": inputs.path, "benchmark file": inputs.options.benchmark_file,
+                         "policy file": policy_path})
         validate.at_least(sweeps, "--sweeps", 1)
         validate.at_least(resamples, "--resamples", 1)
-        validate.at_least(edge, "--edge", 0, what="0 (an annualised Sharpe ratio)")
+        validate.at_least(edge, "--edge", 0, what="0 (an annualized Sharpe ratio)")
         validate.whole_number(seed, "--seed", minimum=0)
         declared = _count(trials, "--trials")
         if workers is not None:

@@ -19,10 +19,11 @@ from typing import Any
 import numpy as np
 
 from ._version import AUDIT_SCHEMA, CALIBRATION_SCHEMA, INSPECT_SCHEMA, __version__
-from .format import pct, sig
+from .format import number, percent, pvalue_floor, whole
 from .methods.surface import parameter_grid
 from .policy import Policy
 from .results import (
+    Alternative,
     BaselineComparison,
     Evidence,
     FigureMaterial,
@@ -30,16 +31,20 @@ from .results import (
     Interval,
     LedgerTally,
     Rate,
+    Sensitivity,
     SweepCalibration,
     Verdict,
     VerdictCalibration,
 )
 from .sweep import Sweep
+from .verdict import MEASURES, summary
 
 __all__ = [
     "CAUTION",
     "results_document",
     "checks_block",
+    "summary_block",
+    "sensitivity_block",
     "baseline_block",
     "ledger_block",
     "audit_document",
@@ -158,6 +163,7 @@ def _settings_block(evidence: Evidence) -> dict:
         "confidence": evidence.intervals.confidence,
         "interval_method": evidence.intervals.method,
         "trials": evidence.settings.trials,
+        "final_resamples": evidence.policy.resamples,
         "block_length_choice": _block_choice(evidence),
     }
 
@@ -179,18 +185,50 @@ def _block_choice(evidence: Evidence) -> dict | None:
 
 
 def checks_block(verdict: Verdict) -> list[dict]:
-    """The ``checks`` list: one object per check the verdict ran, in display order."""
-    return [
-        {
+    """The ``checks`` list: one object per check the verdict ran, in display order.
+
+    ``measure`` names the figure ``value`` and ``threshold`` hold, ``value_kind`` its number style
+    (``count``, ``windows``, ``return``, ``probability``, ``pvalue``, ``statistic``) and
+    ``passes_when`` how the value must stand against the threshold (``at least``, ``at most``,
+    ``above``, ``below``); ``outcome`` is what the result means, in a few words.
+    """
+    out = []
+    for c in verdict.checks:
+        m = MEASURES.get(c.id)
+        out.append({
             "id": c.id,
             "passed": c.passed,
             "required": c.required,
             "value": c.value,
             "threshold": c.threshold,
             "reason": c.reason,
-        }
-        for c in verdict.checks
-    ]
+            "measure": m.label if m else None,
+            "value_kind": m.kind if m else None,
+            "passes_when": m.passes_when if m else None,
+            "outcome": (m.passed if c.passed else m.failed) if m else None,
+        })
+    return out
+
+
+def summary_block(evidence: Evidence, verdict: Verdict) -> dict:
+    """The ``summary`` block: the verdict in one sentence, the required checks counted, and whether
+    the audit is preliminary (fewer resamples than the policy asks of a final audit, ``--quick``)."""
+    required = [c for c in verdict.checks if c.required]
+    advisory = [c for c in verdict.checks if not c.required]
+    used, final = evidence.resamples.count, evidence.policy.resamples
+    return {
+        "sentence": summary(verdict),
+        "required": len(required),
+        "required_passed": sum(c.passed for c in required),
+        "required_failed": sum(not c.passed for c in required),
+        "advisory": len(advisory),
+        "advisory_passed": sum(c.passed for c in advisory),
+        "advisory_failed": sum(not c.passed for c in advisory),
+        "preliminary": used < final,
+        "preliminary_reason": (
+            f"{whole(used)} resamples, fewer than the {whole(final)} the policy asks of a final audit: "
+            "a first look, to be confirmed by a full run" if used < final else None),
+    }
 
 
 def _bootstrap_block(evidence: Evidence) -> dict:
@@ -311,6 +349,7 @@ def audit_document(
     policy_source: str = "defaults",
     baseline: BaselineComparison | None = None,
     ledger: dict | None = None,
+    sensitivity: Sensitivity | None = None,
 ) -> dict:
     """The whole audit JSON object.
 
@@ -326,7 +365,10 @@ def audit_document(
         The comparison with a baseline audit (the ``baseline`` block).
     ledger : dict, optional
         The trial ledger's block (:func:`ledger_block`) when one was used.
+    sensitivity : Sensitivity, optional
+        What would change the verdict (the ``sensitivity`` block, :func:`sensitivity_block`).
     """
+    head = summary_block(evidence, verdict)
     out = {
         "schema": AUDIT_SCHEMA,
         "tool": {"name": "sweepaudit", "version": __version__},
@@ -334,6 +376,8 @@ def audit_document(
         "settings": _settings_block(evidence),
         "selected": {"configuration": evidence.selected, "rule": evidence.selection_rule},
         "verdict": verdict.decision,
+        "preliminary": head["preliminary"],
+        "summary": head,
         "reasons": list(verdict.reasons),
         "checks": checks_block(verdict),
         "warnings": list(evidence.warnings),
@@ -347,7 +391,56 @@ def audit_document(
         out["baseline"] = baseline_block(baseline)
     if ledger is not None:
         out["ledger"] = ledger
+    if sensitivity is not None:
+        out["sensitivity"] = sensitivity_block(sensitivity)
     return _clean(out)
+
+
+def _alternative_dict(a: Alternative) -> dict:
+    return {
+        "id": a.id,
+        "choice": a.choice,
+        "question": a.question,
+        "as_audited": a.as_audited,
+        "as_audited_words": a.as_audited_words,
+        "setting": a.setting,
+        "setting_words": a.setting_words,
+        "recomputed": a.recomputed,
+        "resamples": a.resamples,
+        "verdict": a.decision,
+        "flips": a.flips,
+        "failed_checks": list(a.failed),
+        "checks": [
+            {
+                "id": c.id, "passed": c.passed, "value": c.value, "threshold": c.threshold,
+                "as_audited": {"passed": c.passed_as_audited, "value": c.value_as_audited,
+                               "threshold": c.threshold_as_audited},
+            }
+            for c in a.checks
+        ],
+    }
+
+
+def sensitivity_block(sensitivity: Sensitivity) -> dict:
+    """The ``sensitivity`` block: the verdict re-decided under each alternative choice.
+
+    ``alternatives`` lists one object per choice changed (``id`` is ``choice:setting``), with the
+    verdict under it, whether it ``flips`` the audit's, the required checks that fail and the
+    checks it reaches (value and threshold, beside the audit's own under ``as_audited``);
+    ``fragile`` is a go that some alternative flips; ``control`` the audit's own choices with the
+    alternatives' resample count (null when that is the audit's own count); ``not_examined`` the
+    choices left out because each would be a whole new audit (after a streamed audit).
+    """
+    return {
+        "verdict": sensitivity.decision,
+        "summary": sensitivity.summary,
+        "fragile": sensitivity.fragile,
+        "flipped_by": list(sensitivity.flipped_by),
+        "resamples": sensitivity.resamples,
+        "alternatives": [_alternative_dict(a) for a in sensitivity.alternatives],
+        "control": None if sensitivity.control is None else _alternative_dict(sensitivity.control),
+        "not_examined": list(sensitivity.not_examined),
+    }
 
 
 def _spa(spa) -> dict:
@@ -399,6 +492,7 @@ def _snooping_block(evidence: Evidence) -> dict:
         "stepm_studentized": _stepm(sn.stepm_bootstrap, names, k),
         "stepm_unstudentized": _stepm(sn.stepm_unstudentized, names, k),
         "selected_survives_stepm": k in sn.gating_stepm.significant,
+        "pvalue_floor": pvalue_floor(evidence.resamples.count),
         "selected_long_run": None if long_run is None else {
             "variance_ratio": long_run.ratio[k],
             "ar_coefficient": long_run.ar_coefficient[k],
@@ -525,7 +619,7 @@ def _mean_words(block: dict, ppy: float | None) -> str:
     """A period's mean as a percentage, a year when the periods per year are known, else per window."""
     value = block["mean_annualized"] if ppy else block["mean"]
     value = value["estimate"] if isinstance(value, dict) else value
-    return f"{pct(value)} a year" if ppy else f"{pct(value)} per window"
+    return f"{percent(value)} a year" if ppy else f"{percent(value)} per window"
 
 
 def _time_meaning(results: dict, level: float, ppy: float | None) -> str | None:
@@ -537,7 +631,7 @@ def _time_meaning(results: dict, level: float, ppy: float | None) -> str | None:
         figures = (f"{_mean_words(st['recent'], ppy)} in the recent period against "
                    f"{_mean_words(st['early'], ppy)} before it")
         if st["change"]["pvalue"] <= level:
-            clauses.append(f"the edge has faded ({figures}, a fall beyond chance at the {sig(level, 6)} level)")
+            clauses.append(f"the edge has faded ({figures}, a fall beyond chance at the {number(level, 6)} level)")
         elif st["change"]["difference"] < 0:
             clauses.append(f"the edge earned less of late but not beyond chance ({figures})")
         else:
@@ -708,6 +802,7 @@ def _sharpe_block(evidence: Evidence) -> dict:
 def _gated_dict(g: GatedMove) -> dict[str, Any]:
     return {
         "key": g.key,
+        "label": g.figure.label,
         "before": g.before,
         "after": g.after,
         "change": g.after - g.before,

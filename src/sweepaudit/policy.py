@@ -119,7 +119,7 @@ class Policy:
         for a manager's minimum track record).
     max_window_return, max_annualized_volatility : float
         Bounds of the ``plausible_returns`` check: the largest absolute excess return in one window
-        (1.0, i.e. 100%) and the largest annualised volatility of excess returns (1.0, i.e. 100% a year).
+        (1.0, i.e. 100%) and the largest annualized volatility of excess returns (1.0, i.e. 100% a year).
     allow_implausible_returns : bool
         Let returns beyond those bounds pass the check (reported all the same).
     required : tuple of str
@@ -165,7 +165,7 @@ class Policy:
     )
     max_annualized_volatility: float = _f(
         1.0,
-        "plausible_returns: the largest annualised volatility of any configuration's excess returns "
+        "plausible_returns: the largest annualized volatility of any configuration's excess returns "
         "(1.0 = 100% a year; judged when the periods per year are known)",
         low=0.0, high=1e6, low_open=True,
         source="sweepaudit's choice: broad equity indices run near 15-20% a year (from memory) and few "

@@ -1452,6 +1452,108 @@ class Verdict:
 
 
 @dataclass(frozen=True)
+class CheckShift:
+    """One check of the verdict re-decided under an alternative choice, beside the audit's own.
+
+    Attributes
+    ----------
+    id : str
+    passed, value, threshold : as in :class:`Check`, under the alternative.
+    passed_as_audited, value_as_audited, threshold_as_audited :
+        The audit's own (None when the check did not run in the audit).
+    """
+
+    id: str
+    passed: bool
+    value: float | None
+    threshold: float | None
+    passed_as_audited: bool | None
+    value_as_audited: float | None
+    threshold_as_audited: float | None
+
+
+@dataclass(frozen=True)
+class Alternative:
+    """The verdict re-decided under one alternative choice an analyst could have made.
+
+    Attributes
+    ----------
+    choice : str
+        Which choice (``"trial_variance"``, ``"block_length"``, ...).
+    question : str
+        The choice in words.
+    as_audited, setting : str
+        The audit's setting and the alternative (policy or option values).
+    as_audited_words, setting_words : str
+        The same in words.
+    recomputed : str
+        What ran again for it, in words ("nothing: the same evidence read another way", ...).
+    resamples : int or None
+        Resamples drawn for it (same seed); None when it reuses the audit's own.
+    decision : {"go", "no-go"}
+    flips : bool
+        Whether ``decision`` differs from the audit's verdict.
+    failed : tuple of str
+        Required checks that fail under it.
+    checks : tuple of CheckShift
+        The checks the choice reaches, and any other whose outcome it changes.
+    """
+
+    choice: str
+    question: str
+    as_audited: str
+    setting: str
+    as_audited_words: str
+    setting_words: str
+    recomputed: str
+    resamples: int | None
+    decision: Literal["go", "no-go"]
+    flips: bool
+    failed: tuple[str, ...]
+    checks: tuple[CheckShift, ...]
+
+    @property
+    def id(self) -> str:
+        """``choice:setting``, e.g. ``trial_variance:empirical``."""
+        return f"{self.choice}:{self.setting}"
+
+
+@dataclass(frozen=True)
+class Sensitivity:
+    """What would change the verdict: the verdict re-decided under each reasonable alternative choice.
+
+    Attributes
+    ----------
+    decision : {"go", "no-go"}
+        The audit's verdict.
+    alternatives : tuple of Alternative
+    fragile : bool
+        A go that at least one alternative turns into a no-go.
+    flipped_by : tuple of str
+        The ids of the alternatives that change the verdict.
+    control : Alternative or None
+        The audit's own choices re-run with the alternatives' resample count (None when that is the
+        audit's own count): how much of a difference is Monte Carlo noise.
+    resamples : int
+        Resamples of the alternatives that draw new ones (same seed as the audit).
+    summary : str
+        The finding in one sentence (and, when some choices were not examined, a second naming them).
+    not_examined : tuple of str
+        The choices (in words) left out because each would be a whole new audit: after a streamed
+        audit, those that read the resamples again.
+    """
+
+    decision: Literal["go", "no-go"]
+    alternatives: tuple[Alternative, ...]
+    fragile: bool
+    flipped_by: tuple[str, ...]
+    control: Alternative | None
+    resamples: int
+    summary: str
+    not_examined: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
 class GatedFigure:
     """A figure the baseline gate watches.
 
@@ -1768,7 +1870,7 @@ class SweepCalibration:
         Audits of the same null sweeps with the edge planted in ``configuration``; None when the
         edge is 0.
     edge_annual_sharpe : float
-        The planted edge as an annualised Sharpe ratio.
+        The planted edge as an annualized Sharpe ratio.
     edge_per_window : float or None
         The per-window mean added: edge / sqrt(periods per year) * sd of the configuration.
     null_block_length : float
@@ -1864,6 +1966,8 @@ class AuditResult:
         The raw material of the report's figures.
     baseline : BaselineComparison or None
         The comparison with a baseline audit, when one was given.
+    sensitivity : Sensitivity or None
+        What would change the verdict (None when the audit was asked to skip it).
     """
 
     evidence: Evidence
@@ -1871,6 +1975,7 @@ class AuditResult:
     document: dict
     figure_material: FigureMaterial
     baseline: BaselineComparison | None = None
+    sensitivity: Sensitivity | None = None
 
     sweep = _evidence("sweep", "The audited sweep.")
     settings = _evidence("settings", "The settings the audit ran with.")

@@ -1,5 +1,5 @@
 """Synthetic sweeps with known truth: null families (no configuration has an edge) and alternatives
-(an edge of a known annualised Sharpe ratio planted in chosen configurations).
+(an edge of a known annualized Sharpe ratio planted in chosen configurations).
 
 Each simulator is ``simulate(rng, n_configurations, n_windows, **options) -> T x N`` fractional excess
 returns drawn from the ``numpy.random.Generator`` it is given (never the global random state). The
@@ -248,7 +248,7 @@ def simulate_neighbour_grid(
 
 
 def per_window_edge(annual_sharpe: float, periods_per_year: float, volatility: float) -> float:
-    """Per-window mean of an edge: annualised Sharpe / sqrt(periods per year) * per-window sd.
+    """Per-window mean of an edge: annualized Sharpe / sqrt(periods per year) * per-window sd.
 
     The square-root-of-time rule for iid windows (Lo 2002, eq. 9 for the iid case).
     """
@@ -312,7 +312,7 @@ def _edged_grid(
 ) -> np.ndarray:
     """The body every alternative shares: the neighbour-grid null, an edge planted in ``columns(N)``.
 
-    ``annual_sharpe`` is the planted edge (annualised Sharpe ratio, with ``periods_per_year``);
+    ``annual_sharpe`` is the planted edge (annualized Sharpe ratio, with ``periods_per_year``);
     ``volatility``, ``length_scale`` and ``common_share`` shape the grid as in
     :func:`simulate_neighbour_grid`.
     """
@@ -521,7 +521,7 @@ def simulate_regime(
 
     A two-state Markov chain (Hamilton 1989) with symmetric switching probability 1 / ``duration``
     per window (mean stay of ``duration`` windows; 104 is two years of weeks) sets a mean of
-    +-``annual_sharpe`` (annualised, per unit of ``volatility``) that every configuration of a
+    +-``annual_sharpe`` (annualized, per unit of ``volatility``) that every configuration of a
     grid-correlated family carries with its own loading between 0.2 and 1. Over a sample shorter
     than a few regimes one sign dominates: no test can tell it from an edge within the sample.
     """
@@ -673,7 +673,7 @@ def simulate_late_edge(
 
     The null part is :func:`simulate_dependent_grid` (``phi`` for AR(1) windows). Over the whole
     sample the plateau earns ``annual_sharpe * (1 - start)``: with the defaults, the full-sample
-    figures of a constant edge of annualised Sharpe 1.5.
+    figures of a constant edge of annualized Sharpe 1.5.
     """
     if not (isinstance(start, (int, float)) and 0 <= start < 1):
         raise InputError(f"start must lie in [0, 1); got {start!r}")
@@ -729,22 +729,22 @@ FAMILIES: tuple[Family, ...] = (
     ),
     Family(
         "one_edge", "alternative", simulate_one_edge,
-        "neighbour grid; the centre configuration earns annualised Sharpe 1.0",
+        "neighbour grid; the centre configuration earns annualized Sharpe 1.0",
         planted=lambda n: [_centre(n)],
     ),
     Family(
         "edge_plateau", "alternative", simulate_edge_plateau,
-        "neighbour grid; 5 neighbouring configurations share annualised Sharpe 1.0",
+        "neighbour grid; 5 neighbouring configurations share annualized Sharpe 1.0",
         planted=lambda n: plateau_columns(n, 5),
     ),
     Family(
         "several_edges", "alternative", simulate_several_edges,
-        "neighbour grid; 3 configurations far apart each earn annualised Sharpe 1.0",
+        "neighbour grid; 3 configurations far apart each earn annualized Sharpe 1.0",
         planted=lambda n: spread_columns(n, 3),
     ),
     Family(
         "short_record", "alternative", simulate_short_record,
-        "neighbour grid, at most two years of windows; one configuration earns annualised Sharpe 2.0",
+        "neighbour grid, at most two years of windows; one configuration earns annualized Sharpe 2.0",
         planted=lambda n: [_centre(n)],
     ),
     Family(
@@ -777,50 +777,50 @@ FAMILIES: tuple[Family, ...] = (
     ),
     Family(
         "crashes", "null", simulate_crashes,
-        "short-volatility grid: premium of annualised Sharpe 1.5, rare shared crashes, slightly negative mean",
+        "short-volatility grid: premium of annualized Sharpe 1.5, rare shared crashes, slightly negative mean",
     ),
     Family(
         "grid_plateau", "alternative", simulate_grid_plateau,
-        "2-D grid; a 3 x 3 plateau at the centre shares annualised Sharpe 2.0",
+        "2-D grid; a 3 x 3 plateau at the centre shares annualized Sharpe 2.0",
         planted=lambda n: grid_block_columns(n, 3),
     ),
     Family(
         "grid_plateau_weaker", "alternative",
         lambda rng, n, t: simulate_grid_plateau(rng, n, t, annual_sharpe=1.5),
-        "2-D grid; a 3 x 3 plateau at the centre shares annualised Sharpe 1.5",
+        "2-D grid; a 3 x 3 plateau at the centre shares annualized Sharpe 1.5",
         planted=lambda n: grid_block_columns(n, 3),
     ),
     Family(
         "grid_plateau_dependent", "alternative",
         lambda rng, n, t: simulate_grid_plateau(rng, n, t, phi=0.3),
-        "2-D grid, AR(1) windows (phi = 0.3); a 3 x 3 plateau shares annualised Sharpe 2.0",
+        "2-D grid, AR(1) windows (phi = 0.3); a 3 x 3 plateau shares annualized Sharpe 2.0",
         planted=lambda n: grid_block_columns(n, 3),
     ),
     Family(
         "grid_plateau_fat_tailed", "alternative",
         lambda rng, n, t: simulate_grid_plateau(rng, n, t, shocks="student_t"),
-        "2-D grid, multivariate Student-t windows; a 3 x 3 plateau shares annualised Sharpe 2.0",
+        "2-D grid, multivariate Student-t windows; a 3 x 3 plateau shares annualized Sharpe 2.0",
         planted=lambda n: grid_block_columns(n, 3),
     ),
     Family(
         "hill", "alternative", simulate_hill,
-        "2-D grid; a smooth hill of edges peaking at annualised Sharpe 2.0 (spread 1.5 grid steps)",
+        "2-D grid; a smooth hill of edges peaking at annualized Sharpe 2.0 (spread 1.5 grid steps)",
         planted=lambda n: hill_columns(n, 1.5),
     ),
     Family(
         "grid_plateau_persistent", "alternative",
         lambda rng, n, t: simulate_grid_plateau(rng, n, t, phi=0.5),
-        "2-D grid, AR(1) windows (phi = 0.5); a 3 x 3 plateau shares annualised Sharpe 2.0, constant in time",
+        "2-D grid, AR(1) windows (phi = 0.5); a 3 x 3 plateau shares annualized Sharpe 2.0, constant in time",
         planted=lambda n: grid_block_columns(n, 3),
     ),
     Family(
         "late_edge", "alternative", simulate_late_edge,
-        "2-D grid; a 3 x 3 plateau earns annualised Sharpe 3.0 in the second half only (an edge that came alive)",
+        "2-D grid; a 3 x 3 plateau earns annualized Sharpe 3.0 in the second half only (an edge that came alive)",
         planted=lambda n: grid_block_columns(n, 3),
     ),
     Family(
         "dead_edge", "alternative", simulate_dead_edge,
-        "the late_edge sweeps reversed in time: the plateau earned annualised Sharpe 3.0 in the first half "
+        "the late_edge sweeps reversed in time: the plateau earned annualized Sharpe 3.0 in the first half "
         "only (an edge that has died)",
         planted=lambda n: grid_block_columns(n, 3),
     ),
@@ -831,7 +831,7 @@ FAMILIES: tuple[Family, ...] = (
     ),
     Family(
         "quiet_edge", "alternative", simulate_quiet_edge,
-        "one configuration at 1% volatility earns annualised Sharpe 2.0 among configurations at 3% with none",
+        "one configuration at 1% volatility earns annualized Sharpe 2.0 among configurations at 3% with none",
         planted=lambda n: [0],
     ),
 )

@@ -26,7 +26,7 @@ MIN_WINDOWS = 8
 @dataclass(frozen=True)
 class Plausibility:
     """The figures that tell returns from something else: the largest move in one window and the
-    largest annualised volatility (what the ``plausible_returns`` check of the verdict judges).
+    largest annualized volatility (what the ``plausible_returns`` check of the verdict judges).
 
     Attributes
     ----------
@@ -175,7 +175,7 @@ class Sweep:
 
     @cached_property
     def plausibility(self) -> Plausibility:
-        """The largest move in one window and the largest annualised volatility (computed once)."""
+        """The largest move in one window and the largest annualized volatility (computed once)."""
         r = self.returns
         # Column reductions only, a block of columns at a time: no T x N temporary for a large sweep.
         # The largest |value| is the first in row-major order, as numpy.argmax of |r| would find it.

@@ -7,8 +7,8 @@ import math
 import numpy as np
 
 # Bailey and Lopez de Prado (2014) numerical example, values from memory (METHODS.md):
-# 100 trials, V = 1/2 for annualised Sharpe ratios, 5 years of daily data at 250 days a year,
-# skewness -3, raw kurtosis 10, annualised SR 2.5.
+# 100 trials, V = 1/2 for annualized Sharpe ratios, 5 years of daily data at 250 days a year,
+# skewness -3, raw kurtosis 10, annualized SR 2.5.
 PAPER = dict(
     sharpe=2.5 / math.sqrt(250),
     observations=1250,

@@ -95,8 +95,8 @@ def test_expected_max_sharpe_paper_formula():
     assert round(expected_max_sharpe(n, trial_sharpe_variance=v), 4) == 0.1132
 
 
-def test_annualised_inputs_change_the_answer():
-    """Feeding annualised SR and V (2.5 and 0.5) instead of per-window values gives another DSR."""
+def test_annualized_inputs_change_the_answer():
+    """Feeding annualized SR and V (2.5 and 0.5) instead of per-window values gives another DSR."""
     wrong = deflated_sharpe(
         2.5, observations=1250, trials=100, trial_sharpe_variance=0.5, skewness=-3.0, kurtosis=10.0
     )

@@ -90,7 +90,7 @@ def test_sharpe_inference_none_fields_carry_warnings():
     assert any("minimum track record undefined" in w for w in result.warnings)
 
 
-def test_sharpe_inference_serial_correlation_annualisation():
+def test_sharpe_inference_serial_correlation_annualization():
     rng = np.random.default_rng(11)
     x = rng.standard_normal((400, 3)) + 0.1
     result = sharpe_inference(x, selected=1, periods_per_year=12, annualization="serial_correlation")

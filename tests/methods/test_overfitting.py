@@ -75,7 +75,7 @@ def test_diagnosis_rule_at_its_thresholds():
     assert diagnose(0.5, 0.3, 0.0, max_probability_of_loss=0.3).case == "shared_edge"
     d = diagnose(0.1, 0.1, 0.0)
     assert d.strength_threshold == pytest.approx(stats.norm.ppf(0.95 ** (1 / 10)))
-    assert "loses out of sample in 10% of splits (at most 20% allowed)" in d.reason
+    assert "loses money out of sample with probability 0.100 (at most 0.200 allowed)" in d.reason
 
 
 def test_diagnosis_errors():

@@ -118,7 +118,7 @@ def test_psr_normal_case_is_lo_standard_error():
 
 
 # --------------------------------------------------------------------------------------------
-# Moments, Sharpe ratio, autocorrelations, annualisation
+# Moments, Sharpe ratio, autocorrelations, annualization
 # --------------------------------------------------------------------------------------------
 
 
@@ -267,7 +267,7 @@ def test_error_constant_returns():
         autocorrelations(np.ones(30), max_lag=2)
 
 
-def test_error_annualisation():
+def test_error_annualization():
     with pytest.raises(InputError, match=r"periods_per_year must be a positive whole number .*got 12.5"):
         annualization_factor(12.5, autocorrelations=np.zeros(12))
     with pytest.raises(InputError, match=r"autocorrelations must hold at least periods_per_year - 1 = 11 values .*got 3"):

@@ -132,7 +132,7 @@ def test_an_edge_that_stopped_halfway_is_flagged_and_one_that_started_is_not():
         live += edge_stability(x).pvalue <= 0.05
         dead += edge_stability(x[::-1]).pvalue <= 0.05
     assert live == 0
-    assert dead >= 0.75 * sweeps  # the test's power at annualised Sharpe 3 over two years: about 0.9
+    assert dead >= 0.75 * sweeps  # the test's power at annualized Sharpe 3 over two years: about 0.9
 
 
 def test_default_rolling_windows():

@@ -11,7 +11,7 @@ Outside references:
   resampling (``resample("ME")``, ``"W-FRI"``, ``"QE"``) and ``prod``, never from the reader's
   output;
 * the calendar (12 months, 52 weeks, 4 quarters, 252 trading days a year) is common practice for
-  annualising; the ISO week calendar is ISO 8601 (Python's ``%G-W%V-%u`` is the oracle).
+  annualizing; the ISO week calendar is ISO 8601 (Python's ``%G-W%V-%u`` is the oracle).
 
 Internal consistency only: the wording of messages (we assert the file, the column, the row and the
 hint a user needs) and the thresholds of the level guard (``read.checks.LEVEL_RATIO``).
@@ -271,12 +271,12 @@ def test_the_policy_may_allow_implausible_returns_and_they_stay_on_the_first_scr
     loose = audit(s, settings=QUICK, policy=Policy(required=("plausible_returns",), allow_implausible_returns=True))
     check = next(c for c in loose.verdict.checks if c.id == "plausible_returns")
     assert loose.verdict.decision == "go" and check.passed and check.reason.startswith("Implausible returns allowed")
-    # In the right units the window bound holds, and the volatility bound judges the annualised figure.
+    # In the right units the window bound holds, and the volatility bound judges the annualized figure.
     right = load_sweep(sweep, window_column="yyyymm", units="percent")
     vol = right.returns.std(axis=0, ddof=1).max() * np.sqrt(12)
     assert right.plausibility.largest_volatility_annualized == pytest.approx(vol)
     tight = audit(right, settings=QUICK, policy=Policy(required=("plausible_returns",), max_annualized_volatility=vol * 0.9))
-    assert tight.verdict.decision == "no-go" and "annualised volatility" in tight.verdict.reasons[0]
+    assert tight.verdict.decision == "no-go" and "annualized volatility" in tight.verdict.reasons[0]
 
 
 # ---------------------------------------------------------------------------------------------

@@ -7,7 +7,7 @@
 * row numbers in error messages are checked against the written file itself: data row ``r`` is
   line ``r + 1`` of the file (the header is line 1), and that line holds the bad cell;
 * periods per year: the calendar (252 trading days, 52 weeks, 12 months, 4 quarters a year) is
-  common practice for annualising.
+  common practice for annualizing.
 
 Internal consistency only: the layout-detection rules (what auto picks for a given file) and the
 wording of the messages (we assert the parts a user needs: file,

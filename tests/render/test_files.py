@@ -57,8 +57,8 @@ def versions():
     return old, new, render_report("r.md", old.document, old.figure_material), render_report("r.md", new.document, new.figure_material)
 
 
-def _outputs(folder: Path) -> dict:
-    return {"JSON file": folder / "a.json", "JUnit file": folder / "a.xml", "report": folder / "r.md"}
+def _outputs(folder: Path) -> list[tuple[str, Path]]:
+    return [("JSON file", folder / "a.json"), ("JUnit file", folder / "a.xml"), ("report", folder / "r.md")]
 
 
 def _old_state(folder: Path, versions) -> dict[str, bytes]:

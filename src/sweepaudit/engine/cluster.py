@@ -93,8 +93,10 @@ class DaskCluster:
                 raise InputError(f"cannot reach the Dask scheduler at {scheduler!r}: {error}") from None
         else:
             count = max(1, int(workers or 1))
+            # The scheduler's HTTP server on a free port: its default (8787) may be taken by another
+            # cluster on the machine, and another audit's local cluster must not collide with it.
             self._cluster = LocalCluster(
-                n_workers=count, threads_per_worker=1, processes=True, dashboard_address=None,
+                n_workers=count, threads_per_worker=1, processes=True, dashboard_address=":0",
                 silence_logs=logging.ERROR,
             )
             self.client = Client(self._cluster)

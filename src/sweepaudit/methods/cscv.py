@@ -24,7 +24,7 @@ Conventions (each one is tested in ``tests/methods/test_cscv.py``):
   none does, the floor) and a ``SweepAuditWarning`` is emitted. Below the floor at two blocks the
   data are refused with ``DegenerateDataError``.
 * Statistic: ``"sharpe"`` is mean / standard deviation (ddof = 1) over the pooled windows of the
-  chosen blocks, per window, not annualised; ``"mean"`` is the pooled mean excess return.
+  chosen blocks, per window, not annualized; ``"mean"`` is the pooled mean excess return.
 * Zero variance (``"sharpe"``): when every window of a half-sample of a configuration has the same
   value ``v``, its Sharpe ratio there is the limit of mean / sd as the sd goes to zero: ``+inf``
   for ``v > 0``, ``-inf`` for ``v < 0`` and ``0`` for ``v = 0`` (no excess return, no edge). Ranks

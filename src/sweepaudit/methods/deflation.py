@@ -195,13 +195,13 @@ def deflated_sharpe(
     Parameters
     ----------
     sharpe : float
-        Observed per-window Sharpe ratio of the selected trial (not annualised).
+        Observed per-window Sharpe ratio of the selected trial (not annualized).
     observations : float
         Windows ``n`` of the selected trial.
     trials : float
         Number of trials ``N`` (at least 1).
     trial_sharpe_variance : float
-        Variance ``V`` of the trials' per-window Sharpe ratios. If a variance of annualised Sharpe
+        Variance ``V`` of the trials' per-window Sharpe ratios. If a variance of annualized Sharpe
         ratios is at hand, divide it by periods per year first.
     skewness, kurtosis : float
         Moments of the selected trial's returns; kurtosis RAW (3 for normal).

@@ -137,7 +137,7 @@ def haircut_sharpe(
     tests : int, optional
         Tests to adjust for (declared trials); default N; fewer than N is an error.
     periods_per_year : float, optional
-        For the annualised figures (``sqrt(q)`` scaling, as in Harvey and Liu's monthly
+        For the annualized figures (``sqrt(q)`` scaling, as in Harvey and Liu's monthly
         ``t_adj * sqrt(12 / T)``).
 
     Returns

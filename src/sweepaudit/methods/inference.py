@@ -1,7 +1,7 @@
 """The selection-adjusted Sharpe inference an audit reports for the configuration it judges.
 
 :func:`sharpe_inference` assembles the estimates of :mod:`sweepaudit.methods.sharpe` (moments,
-standard errors, annualisation, probabilistic Sharpe ratio, minimum track record) and the deflation
+standard errors, annualization, probabilistic Sharpe ratio, minimum track record) and the deflation
 of :mod:`sweepaudit.methods.deflation` (the deflated Sharpe ratio under every combination of
 choices, effective trials) into one :class:`~sweepaudit.results.SharpeInference`.
 
@@ -24,8 +24,8 @@ relies on an estimate from the same data and is only defined for the configurati
 whereas declared trials can include configurations the user tried and dropped. The effective count
 (with undeclared trials added as independent) is reported beside it, and every variant is kept.
 
-*Annualisation.* All inference is per window; ``observed_annualized`` uses ``sqrt(q)`` by default,
-the convention the rest of the report's annualised figures use, and Lo's ``eta(q)`` is reported in
+*Annualization.* All inference is per window; ``observed_annualized`` uses ``sqrt(q)`` by default,
+the convention the rest of the report's annualized figures use, and Lo's ``eta(q)`` is reported in
 ``serial_correlation_factor`` (it needs q - 1 sample autocorrelations, which are noisy for daily
 data).
 
@@ -131,7 +131,7 @@ def _serial_factor(series: np.ndarray, periods: float | None, notes: list[str]) 
     """Lo's (2002) eta(q) for the selected series, or None with a note saying why it is absent."""
     windows = series.shape[0]
     if periods is None:
-        notes.append("periods per year unknown: annualised Sharpe ratio and track record in years not shown")
+        notes.append("periods per year unknown: annualized Sharpe ratio and track record in years not shown")
     elif not float(periods).is_integer():
         notes.append(f"periods per year ({periods:g}) is not a whole number: Lo's serial-correlation factor not computed")
     elif windows <= int(periods):
@@ -209,13 +209,16 @@ class Family:
     effective: EffectiveTrials
 
 
-def family_of(array: np.ndarray, index: int) -> Family:
-    """The :class:`Family` of a full T x N matrix."""
+def family_of(array: np.ndarray, index: int, effective: EffectiveTrials | None = None) -> Family:
+    """The :class:`Family` of a full T x N matrix (``effective``: its effective trials, when already known)."""
     moments = return_moments(array)
     trial_sharpe_variance(array, mode="null")  # refuses constant columns with its message
+    if effective is not None and effective.configurations != array.shape[1]:
+        raise InputError(f"effective must come from the same {array.shape[1]} configurations; got "
+                         f"{effective.configurations}")
     return Family(array.shape[0], np.asarray(moments.sharpe, dtype=float), array[:, index],
                   float(np.asarray(moments.skewness)[index]), float(np.asarray(moments.kurtosis)[index]),
-                  effective_trials(array))
+                  effective_trials(array) if effective is None else effective)
 
 
 def sharpe_inference(
@@ -234,6 +237,7 @@ def sharpe_inference(
     sharpe_variance: SharpeVariance = "long-run",
     long_run: LongRunVariance | None = None,
     significance: float = 0.05,
+    effective: EffectiveTrials | None = None,
 ) -> SharpeInference:
     """Probabilistic and deflated Sharpe ratios of the selected configuration of a sweep.
 
@@ -246,7 +250,7 @@ def sharpe_inference(
     trials : int, optional
         Configurations actually tried, including any not in the file; default N, fewer is an error.
     periods_per_year : float, optional
-        Windows per year, for annualised figures and the track record in years.
+        Windows per year, for annualized figures and the track record in years.
     benchmark, confidence : float
         Per-window Sharpe ratio the PSR and minimum track record test against (default 0), and the
         level of the minimum track record (default 0.95).
@@ -271,6 +275,10 @@ def sharpe_inference(
     significance : float
         alpha of :func:`~sweepaudit.methods.deflation.calibrated_level`, the deflated probability
         that makes "DSR >= level" a familywise test of size alpha for the trials counted.
+    effective : EffectiveTrials, optional
+        Precomputed :func:`~sweepaudit.methods.deflation.effective_trials` of ``returns`` (the
+        eigenvalues of an N x N correlation matrix: the costly part, shared when the same audit is
+        read under other choices); computed here when absent.
 
     Returns
     -------
@@ -288,7 +296,7 @@ def sharpe_inference(
         raise InputError("variance_mode='empirical' needs at least 2 configurations; got 1")
     alpha = validate.probability(significance, "significance")
     scale = _scale(array, long_run, chosen.sharpe_variance, index)
-    family = family_of(array, index)
+    family = family_of(array, index, effective)
     return _infer(family, index, declared, periods, chosen, scale, benchmark=benchmark, confidence=confidence, alpha=alpha)
 
 

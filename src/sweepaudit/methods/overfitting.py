@@ -19,6 +19,7 @@ from scipy import special
 
 from .. import validate
 from ..errors import InputError
+from ..format import percent, probability
 from ..results import CscvResult, OverfittingCase, OverfittingDiagnosis
 
 __all__ = ["overfitting_diagnosis"]
@@ -91,20 +92,19 @@ def overfitting_diagnosis(
 
 def _case(pbo, loss, strength, configurations, max_pbo, max_loss, min_strength) -> tuple[OverfittingCase, str]:
     """The rule's case and the sentence quoting its figures and thresholds."""
+    p, share = probability, percent
     if loss <= max_loss:
         if pbo <= max_pbo:
-            return "robust", (f"the in-sample winner loses out of sample in {loss:.0%} of splits (at most "
-                              f"{max_loss:.0%} allowed) and PBO is {pbo:.2f} (at most {max_pbo:.2f})")
-        return "shared_edge", (f"the in-sample winner loses out of sample in only {loss:.0%} of splits (at "
-                               f"most {max_loss:.0%} allowed) although PBO is {pbo:.2f} "
-                               f"(above {max_pbo:.2f}): several configurations "
-                               "appear to share the edge, so picking the winner adds little")
+            return "robust", (f"the in-sample winner loses money out of sample with probability {p(loss)} (at most "
+                              f"{p(max_loss)} allowed) and PBO is {p(pbo)} (at most {p(max_pbo)})")
+        return "shared_edge", (f"the in-sample winner loses money out of sample with probability only {p(loss)} (at "
+                               f"most {p(max_loss)} allowed) although PBO is {p(pbo)} (above {p(max_pbo)}): several "
+                               "configurations appear to share the edge, so picking the winner adds little")
     if strength >= min_strength:
         return "overfit", (f"the in-sample winner stands out beyond the best of {configurations} "
-                           f"noise configurations in {strength:.0%} of splits (at least "
-                           f"{min_strength:.0%}) but loses out of sample in {loss:.0%} of splits "
-                           f"(more than {max_loss:.0%}); PBO is {pbo:.2f}")
-    return "no_edge", (f"the in-sample winner loses out of sample in {loss:.0%} of splits (more than "
-                       f"{max_loss:.0%}) and stands out beyond the best of "
-                       f"{configurations} noise configurations in only {strength:.0%} of "
-                       f"splits (below {min_strength:.0%}); PBO is {pbo:.2f}")
+                           f"noise configurations in {share(strength)} of splits (at least "
+                           f"{share(min_strength)}) but loses money out of sample with probability {p(loss)} "
+                           f"(more than {p(max_loss)}); PBO is {p(pbo)}")
+    return "no_edge", (f"the in-sample winner loses money out of sample with probability {p(loss)} (more than "
+                       f"{p(max_loss)}) and stands out beyond the best of {configurations} noise configurations in "
+                       f"only {share(strength)} of splits (below {share(min_strength)}); PBO is {p(pbo)}")

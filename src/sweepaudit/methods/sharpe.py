@@ -1,11 +1,11 @@
-"""Sharpe ratio estimates: moments, standard errors, autocorrelations, annualisation, PSR, minimum track record.
+"""Sharpe ratio estimates: moments, standard errors, autocorrelations, annualization, PSR, minimum track record.
 
 The deflated Sharpe ratio and the expected maximum of N trials live in
 :mod:`sweepaudit.methods.deflation`; the assembly for an audit in :mod:`sweepaudit.methods.inference`.
 
 Every Sharpe ratio here is **per window** (mean over sample standard deviation of the windows the
-sweep holds, e.g. per day or per month). Annualisation happens only for display, through
-:func:`annualization_factor`; no formula below takes an annualised input.
+sweep holds, e.g. per day or per month). Annualization happens only for display, through
+:func:`annualization_factor`; no formula below takes an annualized input.
 
 Kurtosis is always the **raw** fourth standardised moment (3 for a normal distribution). Note that
 ``scipy.stats.kurtosis`` and ``pandas.Series.kurt`` return *excess* kurtosis by default.
@@ -128,7 +128,7 @@ def sharpe_ratio(returns: object) -> float | np.ndarray:
     Returns
     -------
     float or ndarray
-        A float for 1-D input, one value per column for 2-D input. Not annualised.
+        A float for 1-D input, one value per column for 2-D input. Not annualized.
 
     Raises
     ------
@@ -222,7 +222,7 @@ def annualized_sharpe(
     periods_per_year: int,
     serial_correlation: Literal["adjusted", "ignored"] = "adjusted",
 ) -> float:
-    """Annualised Sharpe ratio of one series: per-window Sharpe times :func:`annualization_factor`.
+    """Annualized Sharpe ratio of one series: per-window Sharpe times :func:`annualization_factor`.
 
     Parameters
     ----------
@@ -287,7 +287,7 @@ def sharpe_standard_error(
     Parameters
     ----------
     sharpe : float
-        Per-window Sharpe ratio (not annualised).
+        Per-window Sharpe ratio (not annualized).
     observations : float
         Number of windows ``n`` (at least 2).
     skewness : float
@@ -376,7 +376,7 @@ def probabilistic_sharpe(
     Parameters
     ----------
     sharpe, benchmark : float
-        Observed and benchmark Sharpe ratios, both PER WINDOW (not annualised).
+        Observed and benchmark Sharpe ratios, both PER WINDOW (not annualized).
     observations : float
         Windows ``n`` behind the estimate (at least 2).
     skewness : float

@@ -29,7 +29,7 @@ A column of mostly dates with one label that is not a date is refused at that ro
 
 Periods per year come from the user, else from the form (12, 52, 4 for period labels), else from
 the median spacing of the dates (252 trading days, 365 calendar days, 52, 26, 12, 4, 2, 1: the
-calendar, common practice for annualising).
+calendar, common practice for annualizing).
 """
 
 from __future__ import annotations
@@ -406,7 +406,7 @@ def periods_per_year(
         if inferred is not None and abs(inferred - ppy) > 0.25 * inferred:
             notes.append(
                 f"--periods-per-year {ppy:g} disagrees with the window dates, which look {name} "
-                f"({inferred:g} a year): annualised figures use {ppy:g}"
+                f"({inferred:g} a year): annualized figures use {ppy:g}"
             )
         return ppy, "given", None
     if dates is None:

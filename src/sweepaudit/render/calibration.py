@@ -11,7 +11,7 @@ from rich.padding import Padding
 from rich.table import Table
 from rich.text import Text
 
-from ..format import level, pct_fixed, rate, sig
+from ..format import level, number, pct_fixed, rate
 from .safe import visible_document
 from .terminal import offscreen_console, terminal_console
 
@@ -63,7 +63,7 @@ def render_calibration(document: dict, console: Console | None = None) -> None:
     power = document["power"]
     if power is not None:
         say(
-            f"Power against an edge of annualised Sharpe {sig(power['edge_annualized_sharpe'], 6)} planted in the selected "
+            f"Power against an edge of annualized Sharpe ratio {number(power['edge_annualized_sharpe'], 6)} planted in the selected "
             f"configuration: {_rate(power['go'])}; the audit judged the edged configuration in "
             f"{_rate(power['planted_selected'])} of those sweeps."
         )

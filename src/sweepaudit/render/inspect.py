@@ -83,7 +83,7 @@ def _plausibility_text(doc: dict) -> Group:
     lines = [Text(f"largest move in one window: {pct(p['largest_window_return'])} "
                   f"({p['largest_window_configuration']}, window {p['largest_window']}); "
                   f"bound {pct(p['max_window_return'])}"),
-             Text("largest annualised volatility: " + (
+             Text("largest annualized volatility: " + (
                  f"{pct(vol)} ({p['largest_volatility_configuration']}); bound {pct(p['max_annualized_volatility'])}"
                  if vol is not None else "not known (periods per year unknown)"))]
     if p["beyond_bounds"]:

@@ -25,7 +25,7 @@ from __future__ import annotations
 import xml.etree.ElementTree as ET
 from datetime import datetime, timezone
 
-from ..format import xml_number
+from .figures import Figures, check_rows
 from .safe import visible_document
 
 __all__ = ["audit_to_junit"]
@@ -38,6 +38,7 @@ def _properties(document: dict) -> dict:
     ledger = document.get("ledger")
     values = {
         "verdict": document["verdict"],
+        "preliminary": document.get("preliminary"),
         "selected_configuration": document["selected"]["configuration"],
         "selection_rule": document["selected"]["rule"],
         "input": inp.get("path"),
@@ -51,6 +52,8 @@ def _properties(document: dict) -> dict:
     }
     if ledger:
         values["trials_used"] = ledger.get("trials_used")
+    if document.get("sensitivity"):
+        values["what_would_change_the_verdict"] = document["sensitivity"]["summary"]
     if document.get("baseline"):
         values["baseline"] = document["baseline"]["path"]
     return values
@@ -87,12 +90,15 @@ def audit_to_junit(document: dict, *, elapsed: float = 0.0, timestamp: datetime 
     props = ET.SubElement(suite, "properties")
     for name, value in _properties(document).items():
         if value is not None:
-            ET.SubElement(props, "property", {"name": name, "value": str(value)})
+            shown = ("true" if value else "false") if isinstance(value, bool) else str(value)
+            ET.SubElement(props, "property", {"name": name, "value": shown})
+    rows = {r.id: r for r in check_rows(Figures(document))}
     for c in checks:
         case = ET.SubElement(
             suite, "testcase", {"classname": "sweepaudit.checks", "name": c["id"], "time": "0"}
         )
-        figures = f"value {xml_number(c['value'])}, threshold {xml_number(c['threshold'])}"
+        r = rows[c["id"]]
+        figures = f"{r.measure}: {r.value} ({r.bar})"
         if c["passed"]:
             ET.SubElement(case, "system-out").text = f"{c['reason']} ({figures})"
         elif c["required"]:

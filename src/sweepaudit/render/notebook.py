@@ -15,7 +15,7 @@ from __future__ import annotations
 import html
 
 from ..format import figure, level, pct_fixed, rate
-from .report.sections import headline
+from .figures import Figures, headline
 from .safe import visible
 
 __all__ = ["audit_summary", "audit_html", "calibration_summary", "calibration_html"]
@@ -103,16 +103,16 @@ def _table(caption: str, header: tuple[str, ...], rows: list[tuple[str, ...]]) -
 
 
 def _check_rows(doc: dict) -> list[tuple[str, ...]]:
-    rows = []
-    for c in doc["checks"]:
+    rows, f = [], Figures(doc)
+    for i, c in enumerate(doc["checks"]):
         status = _check_status(c)
         colour = _GO if c["passed"] else (_NO_GO if c["required"] else "#8a6d1d")
         rows.append((
             f"<code>{html.escape(c['id'])}</code>",
             f'<span style="color:{colour};font-weight:bold">{html.escape(status)}</span>',
             "required" if c["required"] else "advisory",
-            html.escape(figure(c["value"])),
-            html.escape(figure(c["threshold"])),
+            html.escape(f.styled(f"checks[{i}].value", c.get("value_kind"))),
+            html.escape(f.styled(f"checks[{i}].threshold", c.get("value_kind"), threshold=True)),
             _e(c["reason"]),
         ))
     return rows
@@ -154,7 +154,7 @@ def _calibration_lines(doc: dict) -> list[tuple[str, str]]:
                           f"{pct_fixed(false_go['upper_95'])}; the policy's level {level(significance)})"),
     ]
     if power is not None:
-        lines.append(("power", f"{_rate(power['go'])} against an edge of annualised Sharpe "
+        lines.append(("power", f"{_rate(power['go'])} against an edge of annualized Sharpe "
                                f"{figure(power['edge_annualized_sharpe'])}"))
     lines.append(("its own verdict", doc["observed_verdict"]))
     return lines

@@ -12,12 +12,18 @@ import re
 
 from jinja2 import Environment, PackageLoader, StrictUndefined
 
-from .model import Figure, Report
+from .model import STATES, Figure, Report
 
 __all__ = ["render_html"]
 
 
-_NUMBER = re.compile(r"^(-?[0-9][0-9,.]*(e[-+][0-9]+)?( \[.*\])?|n/a)$")
+# A cell that is one figure (right-aligned): 0.992, -4.3%, 12,870, < 0.001, 0.132 [-0.021, 0.306], n/a.
+_NUMBER = re.compile(r"^([<>] )?-?[0-9][0-9,.]*(e[-+][0-9]+)?%?( \[[^\]]*\])?$|^n/a$")
+
+
+#: A list of facts of more rows than this may break across printed pages (about a third of an A4
+#: page at 7.8 pt; tables say so themselves: :attr:`Table.long`); a shorter one moves whole.
+LONG_ROWS = 20
 
 
 def _data_uri(fig: Figure) -> str:
@@ -35,6 +41,8 @@ def _environment() -> Environment:
     )
     env.filters["data_uri"] = _data_uri
     env.tests["number_like"] = lambda text: bool(_NUMBER.match(str(text)))
+    env.globals["long_rows"] = LONG_ROWS
+    env.globals["states"] = STATES
     return env
 
 

@@ -9,7 +9,7 @@ Every function takes the audit JSON document and the raw material it plots
 (SVG bytes with ``svg.fonttype: none``, so text stays text and files stay small; dense point clouds are
 rasterised inside the SVG). Functions whose raw material is absent return None and the report leaves
 the figure out. The numbers come from the document or the material; drawing only transforms them for
-display (percent units, cumulative sums of a return series, histogram bins, annualised axes).
+display (percent units, cumulative sums of a return series, histogram bins, annualized axes).
 
 Figures are readable in grey-scale print: series differ by line style, hatching and marker, not only
 by colour. The palette is our own, restrained: ink, rust, steel and sand.
@@ -28,7 +28,7 @@ from matplotlib.colors import LinearSegmentedColormap
 from matplotlib.figure import Figure as MplFigure
 from matplotlib.patches import Patch, Rectangle
 
-from ...format import figure, level, pct
+from ...format import figure, level, pct, probability, statistic
 from ...results import DeflatedCurve, FigureMaterial
 from ..safe import visible
 from .model import Figure
@@ -83,7 +83,7 @@ _STYLE = {
 }
 
 # Beyond these sizes labels are thinned or cells left unlabelled, so 1,000 configurations stay fast.
-_NAMED_RANKING_LIMIT = 50
+_NAMED_RANKING_LIMIT = 20
 _ANNOTATED_CELLS_LIMIT = 150
 _RASTERISE_POINTS = 1_000
 
@@ -240,7 +240,7 @@ def _dense_ranking(r: _Ranked):
 
 
 def sharpe_ranking(doc: dict, material: FigureMaterial) -> Figure:
-    """Every configuration's Sharpe ratio (annualised when possible) with its interval, sorted."""
+    """Every configuration's Sharpe ratio (annualized when possible) with its interval, sorted."""
     r = _ranked(doc, material)
 
     def draw():
@@ -361,7 +361,7 @@ def logit_histogram(doc: dict, material: FigureMaterial) -> Figure | None:
         # bins with an edge at zero, so a bar never straddles the line
         edges = np.arange(math.floor(min(lo, 0) / step) * step, max(hi, 0) + 2 * step, step)
         ax.hist(values[values <= 0], bins=edges, color=PALETTE["rust"], hatch="///", edgecolor=PALETTE["ink"],
-                linewidth=0.4, label=f"at or below zero: {figure(share)} of splits (probability of overfitting)")
+                linewidth=0.4, label=f"at or below zero: {probability(share)} of splits (probability of overfitting)")
         ax.hist(values[values > 0], bins=edges, color=PALETTE["mist"], edgecolor=PALETTE["ink"], linewidth=0.4,
                 label="above zero: the in-sample winner stays in the top half")
         ax.axvline(0, color=PALETTE["ink"], linestyle="--", linewidth=1.2)
@@ -408,7 +408,7 @@ def degradation_scatter(doc: dict, material: FigureMaterial) -> Figure | None:
         if slope is not None and intercept is not None:
             grid = np.linspace(x.min(), x.max(), 50)
             ax.plot(grid, intercept + slope * grid, color=PALETTE["rust"], linestyle="--", linewidth=2,
-                    label=f"degradation: out = {figure(intercept)} {'-' if slope < 0 else '+'} {figure(abs(slope))} x in")
+                    label=f"degradation: out = {statistic(intercept)} {'-' if slope < 0 else '+'} {statistic(abs(slope))} x in")
         ax.axhline(0, color=PALETTE["ink"], linestyle=":", linewidth=1)
         ax.set_xlabel(f"in sample: {unit}")
         ax.set_ylabel(f"out of sample: {unit}")
@@ -446,11 +446,11 @@ def deflated_by_trials(doc: dict, curve: DeflatedCurve | None) -> Figure | None:
         ax.axhline(0.95, color=PALETTE["steel"], linestyle=":", linewidth=1.2, label="0.95 (conventional level)")
         ax.axvline(used, color=PALETTE["rust"], linestyle="--", linewidth=1.2)
         ax.plot(used, at_used, linestyle="none", marker="D", markersize=8, markerfacecolor=PALETTE["rust"],
-                markeredgecolor=PALETTE["ink"], label=f"trials counted: {figure(used)} -> {figure(at_used)}")
+                markeredgecolor=PALETTE["ink"], label=f"{figure(used)} trials counted: {probability(at_used)}")
         if curve.effective_trials is not None:
             eff, at_eff = curve.effective_trials, curve.at_effective_trials
             ax.plot(eff, at_eff, linestyle="none", marker="s", markersize=7, markerfacecolor=PALETTE["paper"],
-                    markeredgecolor=PALETTE["ink"], label=f"effective trials: {figure(eff)} -> {figure(at_eff)}")
+                    markeredgecolor=PALETTE["ink"], label=f"{figure(eff)} effective trials: {probability(at_eff)}")
         ax.set_xscale("log")
         ax.set_ylim(-0.02, 1.02)
         ax.set_xlabel("number of trials assumed (log scale)")
