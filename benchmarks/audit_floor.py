@@ -3,6 +3,7 @@
     python benchmarks/audit_floor.py                       # 1,000 configurations x 2,000 windows, 10,000 resamples
     python benchmarks/audit_floor.py --busy 4              # the same, then again with 4 busy loops running
     python benchmarks/audit_floor.py --reference-src ../other/src   # another checkout, same yardstick
+    python benchmarks/audit_floor.py --without-sensitivity          # also without the sensitivity block
     python benchmarks/audit_floor.py --quick               # 200 x 500, 2,000 resamples
 
 Writes a SYNTHETIC long CSV (one row per configuration and window: week, lookback, band,
@@ -68,11 +69,11 @@ def floor_seconds(n: int, t: int, b: int) -> float:
     return time.perf_counter() - start
 
 
-def command_seconds(csv: Path, out: Path, resamples: int, src: Path) -> tuple[float, float | None]:
+def command_seconds(csv: Path, out: Path, resamples: int, src: Path, *extra: str) -> tuple[float, float | None]:
     """Wall seconds and peak resident MB of one audit command in a fresh process."""
     env = {**os.environ, "PYTHONPATH": str(src)}
     cmd = [sys.executable, "-m", "sweepaudit", "audit", str(csv), "--seed", "1", "--resamples", str(resamples),
-           "--json", str(out), "-q"]
+           "--json", str(out), "-q", *extra]
     timer = shutil.which("time") or ("/usr/bin/time" if Path("/usr/bin/time").exists() else None)
     if timer:
         cmd = [timer, "-v", *cmd]
@@ -85,24 +86,27 @@ def command_seconds(csv: Path, out: Path, resamples: int, src: Path) -> tuple[fl
     return elapsed, (int(peak.group(1)) / 1024 if peak else None)
 
 
-def in_process_seconds(csv: Path, resamples: int) -> float:
+def in_process_seconds(csv: Path, resamples: int, **options) -> float:
     from sweepaudit import AuditSettings, audit, load_sweep
 
     sweep = load_sweep(csv)
     start = time.perf_counter()
-    audit(sweep, settings=AuditSettings(seed=1, resamples=resamples))
+    audit(sweep, settings=AuditSettings(seed=1, resamples=resamples), **options)
     return time.perf_counter() - start
 
 
 def measure(csv: Path, tmp: Path, args, label: str) -> list[tuple]:
     rows = []
-    floors, commands, peaks, inner, references = [], [], [], [], []
+    floors, commands, peaks, inner, references, plain, plain_inner = [], [], [], [], [], [], []
     for _ in range(args.runs):
         floors.append(floor_seconds(args.configurations, args.windows, args.resamples))
         seconds, peak = command_seconds(csv, tmp / "audit.json", args.resamples, SRC)
         commands.append(seconds)
         peaks.append(peak)
         inner.append(in_process_seconds(csv, args.resamples))
+        if args.without_sensitivity:
+            plain.append(command_seconds(csv, tmp / "plain.json", args.resamples, SRC, "--no-sensitivity")[0])
+            plain_inner.append(in_process_seconds(csv, args.resamples, sensitivity=False))
         if args.reference_src:
             references.append(command_seconds(csv, tmp / "reference.json", args.resamples, Path(args.reference_src))[0])
     floor = statistics.median(floors)
@@ -111,6 +115,11 @@ def measure(csv: Path, tmp: Path, args, label: str) -> list[tuple]:
     rows.append((label, "whole command (long CSV -> JSON)", statistics.median(commands),
                  statistics.median(commands) / floor, max((p for p in peaks if p), default=None), load))
     rows.append((label, "audit() in process", statistics.median(inner), statistics.median(inner) / floor, None, load))
+    if plain:
+        rows.append((label, "whole command, --no-sensitivity", statistics.median(plain),
+                     statistics.median(plain) / floor, None, load))
+        rows.append((label, "audit(sensitivity=False) in process", statistics.median(plain_inner),
+                     statistics.median(plain_inner) / floor, None, load))
     if references:
         rows.append((label, f"whole command, {args.reference_src}", statistics.median(references),
                      statistics.median(references) / floor, None, load))
@@ -125,6 +134,8 @@ def main() -> None:
     ap.add_argument("--runs", type=int, default=3)
     ap.add_argument("--busy", type=int, default=0, help="busy loops for a second measurement under load")
     ap.add_argument("--reference-src", help="another checkout's src, run with the same yardstick")
+    ap.add_argument("--without-sensitivity", action="store_true",
+                    help="also the command and audit() without the sensitivity block, interleaved")
     ap.add_argument("--quick", action="store_true")
     args = ap.parse_args()
     if args.quick:
