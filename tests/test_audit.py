@@ -148,6 +148,29 @@ def test_the_in_memory_audit_keeps_its_weights_for_the_time_structure_when_they_
                           drawn.stability.recent_intervals.sharpe_distribution, equal_nan=True)
 
 
+def test_a_streamed_audit_reassessed_under_another_cscv_statistic_streams_cscv(sweep, monkeypatch):
+    import importlib
+
+    from sweepaudit.audit import reassess
+    from sweepaudit.methods.cscv import cscv
+
+    budget = budget_for_width(10, sweep.n_windows, 400)
+    streamed = gather_evidence(sweep, settings=AuditSettings(seed=4, resamples=400), memory_budget=budget)
+    assert streamed.intervals.distribution_columns is not None
+
+    def whole_matrix(*args, **kwargs):
+        raise AssertionError("CSCV on the whole matrix of a streamed audit (T x N temporaries)")
+
+    monkeypatch.setattr(importlib.import_module("sweepaudit.audit"), "cscv", whole_matrix)
+    again = reassess(streamed, policy=streamed.policy.replace(overfitting_statistic="mean"), memory_budget=budget)
+    whole = cscv(sweep.returns, partitions=streamed.policy.partitions, statistic="mean")
+    # Over blocks of 10 configurations: CSCV's figures as on the whole matrix.
+    assert again.overfitting.statistic == "mean"
+    assert again.overfitting.probability_of_overfitting == whole.probability_of_overfitting
+    np.testing.assert_array_equal(again.overfitting.selected, whole.selected)
+    np.testing.assert_allclose(again.overfitting.logits, whole.logits, rtol=1e-12)
+
+
 def test_time_structure_uses_the_audit_resamples_and_the_policy(sweep):
     from sweepaudit.methods.bootstrap_ci import part_columns, part_intervals
     from sweepaudit.methods.stability import edge_stability

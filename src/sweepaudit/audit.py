@@ -294,7 +294,7 @@ def reassess(
                                      evidence.sharpe.effective_trials_detail)
         parts["deflation_curve"] = _curve(parts["sharpe"])
     if evidence.snooping is not None:
-        parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping")))
+        parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping"), memory_budget))
     if changed & _TIME_KEYS or moments is not None:
         parts.update(_time_parts(evidence, settings, policy, changed, parts, confidence))
     return replace(evidence, **parts)
@@ -322,7 +322,8 @@ def _resampled_parts(evidence: Evidence, settings: AuditSettings, policy: Policy
     return moments
 
 
-def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snooping: Snooping | None) -> dict:
+def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snooping: Snooping | None,
+                     memory_budget: int | None = None) -> dict:
     """The data-snooping labels, CSCV and the family-tails test under ``policy`` (see :func:`reassess`);
     ``snooping``: the tests run again on new resamples, if they were."""
     x, k = evidence.sweep.returns, evidence.selected_index
@@ -330,7 +331,9 @@ def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snoo
         snooping = replace(evidence.snooping, gating=policy.snooping_test, scale=policy.snooping_scale)
     parts: dict = {"snooping": snooping, "tails": _tails(x, k, snooping, policy)}
     if changed & _CSCV_KEYS:
-        parts["overfitting"], parts["overfitting_diagnosis"] = _overfitting(x, policy)
+        # A streamed audit (it kept the selected configuration's distributions only) streams CSCV too.
+        streamed = evidence.resamples.count if evidence.intervals.distribution_columns is not None else None
+        parts["overfitting"], parts["overfitting_diagnosis"] = _overfitting(x, policy, streamed, memory_budget)
     elif changed & _RULE_KEYS:
         parts["overfitting_diagnosis"] = _diagnosis(evidence.overfitting, policy)
     return parts
@@ -424,9 +427,17 @@ def _snooping_in_memory(x: np.ndarray, moments, intervals: BootstrapIntervals, p
     return snooping, np.concatenate([b.variance_of_mean for b in blocks])
 
 
-def _overfitting(x: np.ndarray, policy: Policy) -> tuple[CscvResult, OverfittingDiagnosis]:
-    """CSCV and the rule read off it."""
-    overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
+def _overfitting(x: np.ndarray, policy: Policy, streamed: int | None = None,
+                 memory_budget: int | None = None) -> tuple[CscvResult, OverfittingDiagnosis]:
+    """CSCV and the rule read off it; ``streamed`` (the audit's resample count): over the blocks of
+    configurations a streamed audit of that count uses (the same figures), never ``T x N`` at once."""
+    if streamed:
+        budget = policy.memory_budget * 2**20 if memory_budget is None else memory_budget
+        plan = plan_blocks(x.shape[1], x.shape[0], streamed, budget)
+        overfit = Stream(x, plan, InProcess(), partitions=policy.partitions, statistic=policy.overfitting_statistic,
+                         threshold=policy.stress_threshold).cscv_alone()
+    else:
+        overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
     return overfit, _diagnosis(overfit, policy)
 
 

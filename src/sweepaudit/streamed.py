@@ -123,6 +123,10 @@ def _further_task(block, moments, start, *, keep, centre, scale):
     return block_maximum(moments.mean, centre[cols], scale[cols], keep[cols])
 
 
+def _winners_task(block, start, *, partitions, statistic):
+    return cscv_block_winners(block, partitions=partitions, statistic=statistic, start=start)
+
+
 def _ranks_task(block, start, *, partitions, statistic, target, points, pooled_size):
     return cscv_block_ranks(block, partitions=partitions, statistic=statistic, target=target, points=points,
                             pooled_size=pooled_size)
@@ -239,11 +243,21 @@ class Stream:
 
     def cscv(self, first: FirstPass) -> CscvResult:
         """Pass 3 and CSCV's figures (the same as :func:`~sweepaudit.methods.cscv.cscv`)."""
+        return self._ranked(first.winners)
+
+    def cscv_alone(self) -> CscvResult:
+        """CSCV by itself in two passes over the blocks (each split's winners, then the ranks): what
+        a streamed audit's CSCV under another statistic or partition count needs, never ``T x N``
+        temporaries."""
+        task = functools.partial(_winners_task, partitions=self.partitions, statistic=self.statistic)
+        return self._ranked(combine_winners(list(self._map(task))))
+
+    def _ranked(self, winners: CscvBlockWinners) -> CscvResult:
         t, n = self.returns.shape
-        target = first.winners.out_of_sample
+        target = winners.out_of_sample
         points = np.unique(target)
         task = functools.partial(_ranks_task, partitions=self.partitions, statistic=self.statistic, target=target,
                                  points=points, pooled_size=target.size * n)
         ranks = list(self._map(task))
-        return cscv_from_blocks(first.winners, ranks, windows=t, configurations=n, partitions=self.partitions,
+        return cscv_from_blocks(winners, ranks, windows=t, configurations=n, partitions=self.partitions,
                                 requested=self.requested, statistic=self.statistic, messages=self.cscv_messages)
