@@ -20,10 +20,9 @@ from __future__ import annotations
 
 import argparse
 import os
-import statistics
-import time
 
 import numpy as np
+from timing import median_seconds
 
 from sweepaudit import AuditSettings, audit, sweep_from_array
 from sweepaudit.methods.bootstrap_ci import part_columns
@@ -34,15 +33,6 @@ from sweepaudit.resample import draw_resamples, moment_chunk, resampled_moments
 def returns(n: int, t: int, seed: int = 1) -> np.ndarray:
     rng = np.random.default_rng(seed)
     return 0.01 * (0.6 * rng.standard_normal((t, 1)) + 0.8 * rng.standard_normal((t, n)))
-
-
-def median_seconds(job, runs: int) -> float:
-    times = []
-    for _ in range(runs):
-        start = time.perf_counter()
-        job()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times)
 
 
 def literal_picks(x: np.ndarray, warmup: int) -> np.ndarray:
