@@ -213,8 +213,8 @@ _SHARPE_KEYS = frozenset({"deflation_variance", "deflation_trials", "sharpe_vari
                           "significance"})
 _CSCV_KEYS = frozenset({"partitions", "overfitting_statistic"})
 _RULE_KEYS = frozenset({"max_probability_of_overfitting", "max_probability_of_loss", "min_strength_share"})
-_TIME_KEYS = frozenset({"walk_forward_warmup", "walk_forward_lookback", "recent_share", "stress_threshold",
-                        "stress_share"})
+_STRESS_KEYS = frozenset({"stress_threshold", "stress_share"})
+_TIME_KEYS = frozenset({"walk_forward_warmup", "walk_forward_lookback", "recent_share"}) | _STRESS_KEYS
 
 
 def reassess(
@@ -305,9 +305,14 @@ def _resampled_parts(evidence: Evidence, settings: AuditSettings, policy: Policy
     """New resamples and what reads them (see :func:`reassess`), into ``parts``; the moments back."""
     sweep, k = evidence.sweep, evidence.selected_index
     resamples, source, choice = _resamples(sweep, settings, count, k)
+    # The long-run standard errors read only the returns: the audit's own serve every resampling.
+    kept = evidence.intervals
+    errors = (None if kept.mean_standard_error is None else
+              (kept.mean_standard_error, kept.sharpe_standard_error, kept.degrees_of_freedom))
     moments, intervals = moments_and_intervals(
         sweep.returns, resamples,
-        intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method),
+        intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method,
+                                    long_run=evidence.long_run, standard_errors=errors),
     )
     snooping, variance = _snooping_in_memory(sweep.returns, moments, intervals, policy, evidence.long_run)
     share, share_low = _bootstrap_share(variance, evidence.long_run)
@@ -329,7 +334,12 @@ def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snoo
     x, k = evidence.sweep.returns, evidence.selected_index
     if snooping is None:
         snooping = replace(evidence.snooping, gating=policy.snooping_test, scale=policy.snooping_scale)
-    parts: dict = {"snooping": snooping, "tails": _tails(x, k, snooping, policy)}
+    if evidence.tails is not None and not changed & _STRESS_KEYS:
+        # The stress windows and the charged record read only the returns: only the bar is new.
+        tails = tail_test(evidence.tails.stress, critical_value=snooping.gating_stepm.critical_value_for(k))
+    else:
+        tails = _tails(x, k, snooping, policy)
+    parts: dict = {"snooping": snooping, "tails": tails}
     if changed & _CSCV_KEYS:
         # A streamed audit (it kept the selected configuration's distributions only) streams CSCV too.
         streamed = evidence.resamples.count if evidence.intervals.distribution_columns is not None else None

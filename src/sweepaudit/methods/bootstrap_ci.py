@@ -163,6 +163,7 @@ def bootstrap_intervals(
     confidence: float = 0.95,
     method: IntervalMethod = "studentized",
     long_run: LongRunVariance | None = None,
+    standard_errors: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
 ) -> BootstrapIntervals:
     """Block-bootstrap intervals for the mean excess return and Sharpe ratio of every configuration.
 
@@ -179,6 +180,9 @@ def bootstrap_intervals(
         Tibshirani 1993) or basic (Davison and Hinkley 1997, eq. 5.6).
     long_run : LongRunVariance, optional
         Precomputed long-run variance of ``returns`` for ``"studentized"`` (computed when absent).
+    standard_errors : tuple of ndarray, optional
+        Precomputed :func:`long_run_standard_errors` of ``returns`` (they read only the returns, so
+        one set serves every resampling of the same matrix).
 
     Notes
     -----
@@ -191,7 +195,7 @@ def bootstrap_intervals(
     means = x.mean(axis=0)
     sd = x.std(axis=0, ddof=1)
     sharpes = means / sd
-    scale = long_run_standard_errors(x, long_run)
+    scale = standard_errors if standard_errors is not None else long_run_standard_errors(x, long_run)
     return _intervals(means, sharpes, moments.mean, moments.sharpe(), confidence, method, scale)
 
 
