@@ -23,7 +23,7 @@ from .methods.bootstrap_ci import at_level, bootstrap_intervals, part_columns, p
 from .methods.cscv import cscv
 from .methods.deflation import deflated_by_trials
 from .methods.haircut import haircut_sharpe
-from .methods.inference import sharpe_inference, sharpe_inference_of_family
+from .methods.inference import Family, sharpe_inference, sharpe_inference_of_family
 from .methods.longrun import family_block_length, long_run_variance
 from .methods.overfitting import overfitting_diagnosis
 from .methods.snooping import COLUMN_BLOCK, snooping_block, snooping_from_blocks, stored_further_pass
@@ -290,8 +290,7 @@ def reassess(
             return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget)
         parts["intervals"] = at_level(evidence.intervals, confidence, settings.interval_method)
     if changed & _SHARPE_KEYS and evidence.sharpe is not None:
-        parts["sharpe"] = _inference(sweep, settings, policy, evidence.selected_index, evidence.long_run,
-                                     evidence.sharpe.effective_trials_detail)
+        parts["sharpe"] = _reinference(evidence, settings, policy)
         parts["deflation_curve"] = _curve(parts["sharpe"])
     if evidence.snooping is not None:
         parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping"), memory_budget))
@@ -401,6 +400,21 @@ def _inference(
         long_run=long_run,
         significance=policy.significance,
         effective=effective,
+    )
+
+
+def _reinference(evidence: Evidence, settings: AuditSettings, policy: Policy) -> SharpeInference:
+    """The Sharpe inference under ``policy`` from the family the audit's own inference summarised (every
+    configuration's Sharpe ratio, the selected one's moments and series, the effective trials): the
+    same figures as on the matrix (the streamed path's rule), without a T x N pass."""
+    sweep, k, s = evidence.sweep, evidence.selected_index, evidence.sharpe
+    family = Family(sweep.n_windows, s.configuration_sharpes, sweep.returns[:, k], s.skewness, s.kurtosis,
+                    s.effective_trials_detail)
+    return sharpe_inference_of_family(
+        family, selected=k, long_run=evidence.long_run, trials=settings.trials,
+        periods_per_year=sweep.periods_per_year, confidence=policy.track_record_confidence,
+        variance_mode=policy.deflation_variance, trials_for_deflation=policy.deflation_trials,
+        sharpe_variance=policy.sharpe_variance, significance=policy.significance,
     )
 
 
