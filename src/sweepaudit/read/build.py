@@ -127,8 +127,10 @@ def _long_columns(frame: pd.DataFrame, label: str, window_col: str | None, opt: 
     return value_col, params
 
 
-def _configurations(frame: pd.DataFrame, params: list[str], label: str) -> tuple[np.ndarray, list[str], bool]:
-    """Each row's configuration code, the configuration names, and whether one id column names them."""
+def _configurations(frame: pd.DataFrame, params: list[str], label: str
+                    ) -> tuple[np.ndarray, list[str], bool, np.ndarray]:
+    """Each row's configuration code, the configuration names, whether one id column names them,
+    and each configuration's first data row (0-based)."""
     for c in params:
         if frame[c].isna().any():
             r = int(np.flatnonzero(frame[c].isna().to_numpy())[0])
@@ -136,19 +138,54 @@ def _configurations(frame: pd.DataFrame, params: list[str], label: str) -> tuple
     single_id = len(params) == 1 and (
         params[0].lower() in ID_NAMES or not pd.api.types.is_numeric_dtype(frame[params[0]])
     )
-    # Factorise first and label only the unique values: the file may hold millions of rows.
+    # Label only the unique values (the file may hold millions of rows), and factorise only the
+    # first row of each run of rows naming one configuration (a long file usually lists each
+    # configuration's windows together): the codes are the whole columns' factorisation.
+    starts = _run_starts(frame, params)
+    heads = frame if len(starts) == len(frame) else frame.iloc[starts]
     if len(params) == 1:
-        codes, uniq = pd.factorize(frame[params[0]])
+        head_codes, uniq = pd.factorize(heads[params[0]])
         combos = [(v,) for v in uniq]
     else:
-        codes, combos = _combined_codes(frame, params)
+        head_codes, combos = _combined_codes(heads, params)
+    codes = np.repeat(head_codes, np.diff(np.append(starts, len(frame))))
     if single_id:
         names = [cell_label(c[0]) for c in combos]
     else:
         names = [", ".join(f"{p}={cell_label(v)}" for p, v in zip(params, c)) for c in combos]
     if len(set(names)) != len(names):
         raise InputError("two different parameter values print the same configuration name", path=label)
-    return codes, names, single_id
+    return codes, names, single_id, starts[first_occurrences(head_codes)]
+
+
+def _run_starts(frame: pd.DataFrame, params: list[str]) -> np.ndarray:
+    """The rows whose configuration differs from the row before's (the first row included).
+
+    Numbers are compared as they are (equal numbers factorise to one code, ``-0.0`` and ``0.0``
+    included), other columns by their factorisation codes."""
+    change = np.zeros(len(frame), dtype=bool)
+    change[:1] = True
+    for c in params:
+        column = frame[c]
+        if pd.api.types.is_numeric_dtype(column) and not pd.api.types.is_bool_dtype(column) \
+                and isinstance(column.dtype, np.dtype):
+            values = column.to_numpy()
+        else:
+            values, _ = pd.factorize(column)
+        change[1:] |= values[1:] != values[:-1]
+    return np.flatnonzero(change)
+
+
+def first_occurrences(codes: np.ndarray) -> np.ndarray:
+    """The position of each code's first occurrence, for codes numbered ``0, 1, ...`` in order of
+    first appearance (``pd.factorize``'s): where the running maximum rises."""
+    if len(codes) == 0:
+        return np.zeros(0, dtype=np.int64)
+    rising = np.empty(len(codes), dtype=bool)
+    rising[0] = True
+    running = np.maximum.accumulate(codes)
+    rising[1:] = running[1:] > running[:-1]
+    return np.flatnonzero(rising)
 
 
 def _combined_codes(frame: pd.DataFrame, params: list[str]) -> tuple[np.ndarray, list[tuple]]:
@@ -173,7 +210,7 @@ def _long_windows(frame: pd.DataFrame, window_col: str, label: str, opt: LoadOpt
     if (window_codes < 0).any():
         r = int(np.flatnonzero(window_codes < 0)[0])
         raise InputError("missing window label", path=label, column=window_col, row=r + 1)
-    first_rows = pd.Series(window_codes).drop_duplicates().index.to_numpy()
+    first_rows = first_occurrences(window_codes)
     order_key, reading = order_windows(pd.Series(raw_windows), label, window_col, first_rows,
                                        date_order=opt.date_order, date_format=opt.date_format)
     return window_codes, [cell_label(v) for v in raw_windows], order_key, reading, first_rows
@@ -210,30 +247,34 @@ def _windows_in_order(order: np.ndarray, uniques: list[str], reading: WindowDate
     return labels, dates, written
 
 
+def _refuse_duplicate(config_codes: np.ndarray, window_codes: np.ndarray, names: list[str], windows: list[str],
+                      label: str) -> None:
+    """Name the first row repeating an earlier row's (configuration, window) pair."""
+    pair = config_codes.astype(np.int64) * (len(windows) + 1) + window_codes
+    r = int(np.flatnonzero(pd.Series(pair).duplicated().to_numpy())[0])
+    raise InputError(
+        f"duplicate row for configuration {names[config_codes[r]]!r} and window {windows[window_codes[r]]!r}",
+        path=label,
+        row=r + 1,
+    )
+
+
 def long_matrix(frame: pd.DataFrame, label: str, window_col: str | None, opt: LoadOptions) -> Built:
     """The matrix of a long table (one row per configuration and window)."""
     value_col, params = _long_columns(frame, label, window_col, opt)
     values = numeric(frame[value_col], label, value_col)
-    config_codes, names, single_id = _configurations(frame, params, label)
+    config_codes, names, single_id, first_rows = _configurations(frame, params, label)
     window_codes, window_uniques, order_key, reading, _ = _long_windows(frame, window_col, label, opt)
-    # Duplicate (configuration, window) pairs: name the second occurrence.
-    pair = config_codes.astype(np.int64) * (len(window_uniques) + 1) + window_codes
-    dup = pd.Series(pair).duplicated().to_numpy()
-    if dup.any():
-        r = int(np.flatnonzero(dup)[0])
-        raise InputError(
-            f"duplicate row for configuration {names[config_codes[r]]!r} and window "
-            f"{window_uniques[window_codes[r]]!r}",
-            path=label,
-            row=r + 1,
-        )
     order = np.argsort(order_key.to_numpy(), kind="stable")
     rank = np.empty_like(order)
     rank[order] = np.arange(len(order))
     matrix = np.full((len(window_uniques), len(names)), np.nan)
-    matrix[rank[window_codes], config_codes] = values
+    # Each row fills its own cell (the values hold no NaN): fewer filled cells than rows means a
+    # repeated (configuration, window) pair, named below.
+    matrix.ravel()[rank[window_codes] * len(names) + config_codes] = values
+    if matrix.size - np.count_nonzero(np.isnan(matrix)) != len(frame):
+        _refuse_duplicate(config_codes, window_codes, names, window_uniques, label)
     window_labels, dates, written = _windows_in_order(order, window_uniques, reading)
-    first_rows = pd.Series(np.arange(len(frame))).groupby(config_codes).first().to_numpy()
     note = None
     if single_id:
         # An id column of names like "lookback=20, band=1.5" still gives a parameter table.

@@ -50,7 +50,7 @@ def read_table(path: str, options: LoadOptions | None = None) -> tuple[pd.DataFr
         kind = _KINDS[suffix]
         data = _input_bytes(label, lambda: read_bytes(path, limit=SWEEP_FILE_LIMIT))
     digest = hashlib.sha256(data).hexdigest()
-    if not data.strip():
+    if not data or data.isspace():  # data.strip() would copy the whole input
         raise InputError("empty input: no header and no data rows", path=label)
     frame = _parse(data, kind, label, options)
     frame.columns = [str(c).strip() for c in frame.columns]
@@ -166,6 +166,12 @@ def _grouped_pattern(decimal: str) -> re.Pattern:
     return re.compile(rf"[+-]?\d{{1,3}}({groups}\d{{3}})+({re.escape(decimal)}\d+)?")
 
 
+def _grouped_cells(cells: np.ndarray, pattern: re.Pattern) -> np.ndarray:
+    """Which of the distinct, non-missing ``cells`` read as a number with a thousands separator."""
+    text = pd.Series(cells).dropna().astype(str).str.strip()
+    return text.str.fullmatch(pattern.pattern).to_numpy(dtype=bool)
+
+
 def refuse_grouped_numbers(frame: pd.DataFrame, label: str, reading: dict) -> None:
     """Refuse a text column holding numbers with a thousands separator the options did not name:
     read as text it would be refused as "not a number" with no hint, or (``1.234`` under a decimal
@@ -177,7 +183,10 @@ def refuse_grouped_numbers(frame: pd.DataFrame, label: str, reading: dict) -> No
         values = frame[column]
         if pd.api.types.is_numeric_dtype(values) or pd.api.types.is_datetime64_any_dtype(values):
             continue
-        # Unique cells only (a long file repeats each window and configuration label many times);
+        # Unique cells only (a long file repeats each window and configuration label many times):
+        # first whether any matches, then (rarely) which row holds the first that does.
+        if not _grouped_cells(values.unique(), pattern).any():
+            continue
         # drop_duplicates keeps each cell's first row.
         text = values.dropna().drop_duplicates().astype(str).str.strip()
         hits = text.str.fullmatch(pattern.pattern)

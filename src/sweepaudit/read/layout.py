@@ -57,8 +57,9 @@ def _looks_long(frame: pd.DataFrame, window_col: str) -> bool:
     windows = frame[window_col]
     others = [c for c in frame.columns if c != window_col]
     value = find_column(others, VALUE_NAMES)
-    if windows.duplicated().any():
-        if windows.nunique(dropna=False) * 2 <= len(frame) or value is not None:
+    distinct = windows.nunique(dropna=False)  # fewer than the rows: a window repeats
+    if distinct < len(frame):
+        if distinct * 2 <= len(frame) or value is not None:
             return True
         # Windows mostly unique: wide with a repeated window, unless some column cannot be a
         # configuration's returns (a configuration id, or few configurations on ragged windows).
