@@ -15,6 +15,7 @@ import pandas as pd
 
 from ..errors import InputError
 from ..readfile import GiB, check_regular, explained, read_bytes, read_stream
+from .fastcsv import arrow_table
 from .options import LoadOptions
 
 __all__ = ["NA_TOKENS", "SWEEP_FILE_LIMIT", "read_table"]
@@ -88,10 +89,15 @@ def _parse(data: bytes, kind: str, label: str, options: LoadOptions) -> pd.DataF
         common = dict(sep=sep, skipinitialspace=True, encoding="utf-8-sig")
         # pandas renames a repeated header name ("a", "a.1"); read the header as written.
         header = pd.read_csv(io.BytesIO(data), header=None, nrows=1, dtype=str, keep_default_na=False, **common).iloc[0]
-        frame = pd.read_csv(
-            io.BytesIO(data), na_values=NA_TOKENS, keep_default_na=False, decimal=decimal,
-            thousands=options.thousands, **common,
-        )
+        frame = None
+        if decimal == "." and options.thousands is None:
+            # The ordinary file: pyarrow's reader, when it gives the very table pandas would.
+            frame = arrow_table(data, sep, list(header), NA_TOKENS)
+        if frame is None:
+            frame = pd.read_csv(
+                io.BytesIO(data), na_values=NA_TOKENS, keep_default_na=False, decimal=decimal,
+                thousands=options.thousands, **common,
+            )
         if len(header) == len(frame.columns):
             # Empty header cells keep pandas' "Unnamed: k" names.
             frame.columns = [h if h.strip() else c for h, c in zip(header, frame.columns)]

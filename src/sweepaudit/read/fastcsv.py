@@ -1,0 +1,145 @@
+"""The ordinary text file read by pyarrow's CSV reader, to the table pandas' parser gives.
+
+A long sweep of 1,000 configurations over 2,000 windows is two million rows; pyarrow's reader
+parses them in about half the time of pandas' C parser (``benchmarks/read_speed.py``). It is used
+only where it gives the very table :func:`sweepaudit.read.formats.read_table` would get from pandas
+(the same columns, dtypes, values and missing cells), so every later detection and message is the
+same; :func:`arrow_table` returns None for anything else and pandas reads the file:
+
+* a decimal comma or a thousands separator (pandas' options for them have no exact counterpart);
+* a quote character (quoted fields may hold line breaks or numbers pandas reads as numbers);
+* whitespace beside a separator or a line break, a tab in a file not separated by tabs, a vertical
+  tab, form feed or NUL byte (pandas skips leading and trailing whitespace around numbers and
+  initial spaces around every field; pyarrow keeps them);
+* a hexadecimal-looking ``0x`` (pyarrow reads ``0x10`` as 16);
+* a blank, repeated or space-led header cell, or a blank first line;
+* any column pyarrow reads as other than whole numbers, floating-point numbers or text (true /
+  false cells, which pandas reads as booleans; an all-missing column), a floating-point column
+  holding NaN that was not one of the missing-value tokens (``NAN``: text to pandas), or a
+  floating-point column of whole numbers only (``+5`` and integers beyond 64 bits are floats to
+  pyarrow, integers or text to pandas);
+* anything pyarrow refuses (a ragged row, bytes that are not UTF-8): pandas then words the error.
+
+Columns pyarrow would read as dates, times or timestamps (pandas never does) are read as text.
+pyarrow parses on its own thread pool (the cores of the machine); unlike BLAS threads, its workers
+sleep rather than spin while they wait, so a busy machine slows the read no more than it slows a
+single thread (measured in ``benchmarks/read_speed.py``).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+__all__ = ["arrow_table"]
+
+#: Bytes of the head of the file whose column types pick the columns to read as text.
+SAMPLE_BYTES = 65_536
+_BOM = b"\xef\xbb\xbf"
+_READABLE = ("int64", "double", "string", "large_string")
+_TEXT_TYPES = ("date32[day]", "date64[ms]", "time32[s]", "time32[ms]", "time64[us]", "time64[ns]")
+
+
+def arrow_table(data: bytes, sep: str, header: list[str], na_tokens: list[str]) -> pd.DataFrame | None:
+    """The table in ``data`` as pandas' parser reads it, or None when pyarrow cannot give that table.
+
+    Parameters
+    ----------
+    data : bytes
+        The whole file (a UTF-8 byte order mark is skipped, as pandas' ``utf-8-sig`` does).
+    sep : str
+        The field separator; the decimal mark is a point and no thousands separator is read.
+    header : list of str
+        The header cells as written (pandas' reading of the first line).
+    na_tokens : list of str
+        The cells read as missing (pandas' ``na_values`` without its defaults).
+
+    Returns
+    -------
+    pandas.DataFrame or None
+        Columns named as ``header``, of the dtypes pandas' parser would give them.
+    """
+    if not _plain_text(data, sep) or not _plain_header(header):
+        return None
+    import pyarrow as pa
+    import pyarrow.csv as pcsv
+
+    buffer = pa.py_buffer(data)
+    if data.startswith(_BOM):
+        buffer = buffer.slice(len(_BOM))
+    parse = pcsv.ParseOptions(delimiter=sep)
+    try:
+        text = _text_columns(buffer, parse, na_tokens)
+        if text is None:
+            return None
+        convert = pcsv.ConvertOptions(null_values=na_tokens, strings_can_be_null=True,
+                                      column_types={c: pa.string() for c in text})
+        table = pcsv.read_csv(pa.BufferReader(buffer), parse_options=parse, convert_options=convert)
+    except (pa.ArrowException, ValueError, OSError):
+        return None
+    if table.num_rows == 0 or table.column_names != list(header) or not _same_numbers(table):
+        return None
+    return table.to_pandas()
+
+
+def _plain_text(data: bytes, sep: str) -> bool:
+    """No byte that pandas' parser reads differently from pyarrow's (see the module's list).
+
+    Single bytes are looked for first (a fast scan); pairs only when their first byte occurs."""
+    body = data[len(_BOM):] if data.startswith(_BOM) else data
+    if body[:1] in (b"", b" ", b"\t", b"\n", b"\r") or body.endswith((b" ", b"\t")):
+        return False
+    if any(b in data for b in (b'"', b"\x00", b"\x0b", b"\x0c")) or (sep != "\t" and b"\t" in data):
+        return False
+    rows = data.find(b"\n")  # hexadecimal cells: the header may hold an x, the rows seldom do
+    if (data.find(b"x", rows) >= 0 or data.find(b"X", rows) >= 0) and (b"0x" in data or b"0X" in data):
+        return False
+    if b" " in data:
+        separator = sep.encode()
+        return not any(b in data for b in (b" " + separator, separator + b" ", b" \n", b"\n ", b" \r", b"\r "))
+    return True
+
+
+def _plain_header(header: list[str]) -> bool:
+    return all(h.strip() and h == h.strip() for h in header) and len(set(header)) == len(header)
+
+
+def _text_columns(buffer, parse, na_tokens: list[str]) -> list[str] | None:
+    """The columns whose first cells pyarrow reads as dates or times (text to pandas), or None when
+    one reads as true / false (booleans to pandas) or a sampled type is none pyarrow might give."""
+    import pyarrow as pa
+    import pyarrow.csv as pcsv
+
+    head = buffer.slice(0, min(buffer.size, SAMPLE_BYTES)).to_pybytes()
+    if buffer.size > SAMPLE_BYTES:
+        head = head[: max(head.rfind(b"\n"), head.rfind(b"\r")) + 1]
+    sample = pcsv.read_csv(pa.BufferReader(pa.py_buffer(head)), parse_options=parse,
+                           convert_options=pcsv.ConvertOptions(null_values=na_tokens, strings_can_be_null=True),
+                           read_options=pcsv.ReadOptions(use_threads=False))
+    text = []
+    for field in sample.schema:
+        kind = str(field.type)
+        if kind in _TEXT_TYPES or kind.startswith("timestamp"):
+            text.append(field.name)
+        elif kind not in _READABLE and kind != "null":
+            return None
+    return text
+
+
+def _same_numbers(table) -> bool:
+    """Every column one pandas would read alike: whole numbers, text, or floating-point numbers
+    that hold no NaN of their own and not only whole numbers (see the module's list)."""
+    import pyarrow.compute as pc
+
+    for column in table.columns:
+        kind = str(column.type)
+        if kind not in _READABLE:
+            return False
+        if kind == "double":
+            values = column.to_numpy()
+            present = values[~np.isnan(values)] if column.null_count else values
+            if column.null_count and len(present) == 0:
+                return False
+            if pc.any(pc.is_nan(column)).as_py() or np.all(present == np.round(present)):
+                return False
+    return True
