@@ -16,8 +16,8 @@ same; :func:`arrow_table` returns None for anything else and pandas reads the fi
 * any column pyarrow reads as other than whole numbers, floating-point numbers or text (true /
   false cells, which pandas reads as booleans; an all-missing column), a floating-point column
   holding NaN that was not one of the missing-value tokens (``NAN``: text to pandas), or a
-  floating-point column of whole numbers only (``+5`` and integers beyond 64 bits are floats to
-  pyarrow, integers or text to pandas);
+  floating-point column of whole numbers only or holding a number of magnitude 2**63 or more (``+5``
+  and integers beyond 64 bits are floats to pyarrow, integers or text to pandas; an infinity too);
 * anything pyarrow refuses (a ragged row, bytes that are not UTF-8): pandas then words the error.
 
 Columns pyarrow would read as dates, times or timestamps (pandas never does) are read as text.
@@ -37,6 +37,9 @@ __all__ = ["arrow_table"]
 SAMPLE_BYTES = 65_536
 _BOM = b"\xef\xbb\xbf"
 _READABLE = ("int64", "double", "string", "large_string")
+#: Integers this large (or infinities) make pandas' parser read a column of numbers as text or as
+#: unsigned integers, where pyarrow's reads floats.
+_BEYOND_INT64 = 2.0**63
 _TEXT_TYPES = ("date32[day]", "date64[ms]", "time32[s]", "time32[ms]", "time64[us]", "time64[ns]")
 
 
@@ -128,7 +131,8 @@ def _text_columns(buffer, parse, na_tokens: list[str]) -> list[str] | None:
 
 def _same_numbers(table) -> bool:
     """Every column one pandas would read alike: whole numbers, text, or floating-point numbers
-    that hold no NaN of their own and not only whole numbers (see the module's list)."""
+    that hold no NaN of their own, not only whole numbers and none beyond 64-bit integers (see the
+    module's list)."""
     import pyarrow.compute as pc
 
     for column in table.columns:
@@ -140,6 +144,7 @@ def _same_numbers(table) -> bool:
             present = values[~np.isnan(values)] if column.null_count else values
             if column.null_count and len(present) == 0:
                 return False
-            if pc.any(pc.is_nan(column)).as_py() or np.all(present == np.round(present)):
+            if pc.any(pc.is_nan(column)).as_py() or np.all(present == np.round(present)) \
+                    or np.abs(present).max() >= _BEYOND_INT64:
                 return False
     return True
