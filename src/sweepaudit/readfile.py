@@ -122,12 +122,14 @@ def open_regular(path: str | os.PathLike, flags: int = os.O_RDONLY, mode: int = 
     return fd
 
 
-def _read_chunks(read: Callable[[int, int], bytes], limit: int, where: str) -> bytes:
-    """``read(size, done)`` until it returns nothing, never more than ``limit`` bytes in all."""
+def _read_chunks(read: Callable[[int, int], bytes], limit: int, where: str, first: int = _CHUNK) -> bytes:
+    """``read(size, done)`` until it returns nothing, never more than ``limit`` bytes in all; the
+    first read asks for ``first`` bytes (a regular file's size and one more: read in one call,
+    the bytes are not copied again to be joined)."""
     chunks: list[bytes] = []
     total = 0
     while True:
-        chunk = read(min(_CHUNK, limit + 1 - total), total)
+        chunk = read(min(first if not chunks else _CHUNK, limit + 1 - total), total)
         if not chunk:
             return b"".join(chunks)
         chunks.append(chunk)
@@ -145,9 +147,10 @@ def read_bytes(path: str | os.PathLike, *, limit: int) -> bytes:
     where = os.fspath(path)
     fd = open_regular(where)
     try:
-        if os.fstat(fd).st_size > limit:
+        stated = os.fstat(fd).st_size
+        if stated > limit:
             raise FileTooLarge(where, limit)
-        return _read_chunks(lambda size, done: os.read(fd, size), limit, where)
+        return _read_chunks(lambda size, done: os.read(fd, size), limit, where, first=max(_CHUNK, stated + 1))
     finally:
         os.close(fd)
 
