@@ -119,15 +119,25 @@ def level_like(matrix: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return same_sign & (ratio > LEVEL_RATIO), ratio
 
 
-def _counter_like(matrix: np.ndarray) -> np.ndarray:
-    """Per column: whole numbers that only rise or only fall (a counter, an index, dates)."""
-    whole = np.all(matrix == np.round(matrix), axis=0)
-    if matrix.shape[0] < 2:
-        return np.zeros(matrix.shape[1], dtype=bool)
-    d = np.diff(matrix, axis=0)
+def _whole_columns(matrix: np.ndarray) -> np.ndarray:
+    """Per column: whole numbers only."""
+    return np.all(matrix == np.round(matrix), axis=0)
+
+
+def _counter_like(matrix: np.ndarray, whole: np.ndarray | None = None) -> np.ndarray:
+    """Per column: whole numbers that only rise or only fall (a counter, an index, dates).
+
+    ``whole`` (:func:`_whole_columns`, if already known): only those columns are looked at further."""
+    whole = _whole_columns(matrix) if whole is None else whole
+    counters = np.zeros(matrix.shape[1], dtype=bool)
+    if matrix.shape[0] < 2 or not whole.any():
+        return counters
+    columns = np.flatnonzero(whole)
+    d = np.diff(matrix[:, columns], axis=0)
     rising = np.all(d >= 0, axis=0) & np.any(d > 0, axis=0)
     falling = np.all(d <= 0, axis=0) & np.any(d < 0, axis=0)
-    return whole & (rising | falling)
+    counters[columns] = rising | falling
+    return counters
 
 
 def _date_like(values: np.ndarray) -> str | None:
@@ -142,11 +152,13 @@ def refuse_levels(built, label: str) -> None:
     Checked on the values as written (before units are applied), so no option bypasses it.
     """
     m = built.matrix
-    counters = _counter_like(m)
+    integral = _whole_columns(m)  # returns seldom are: the further checks look at these columns only
+    counters = _counter_like(m, integral)
     in_range = np.zeros(m.shape[1], dtype=bool)
+    columns = np.flatnonzero(integral)
     for low in (180_000, 18_000_000):  # YYYYMM and YYYYMMDD numbers from 1800 to 2199
-        in_range |= np.all((m >= low) & (m < low * 22 / 18), axis=0)
-    whole = np.all(m == np.round(m), axis=0) & (in_range | counters)
+        in_range[columns] |= np.all((m[:, columns] >= low) & (m[:, columns] < low * 22 / 18), axis=0)
+    whole = integral & (in_range | counters)
     for k in np.flatnonzero(whole):
         form = _date_like(m[:, k])
         if form is not None or counters[k]:
