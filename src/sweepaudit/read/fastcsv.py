@@ -133,18 +133,23 @@ def _same_numbers(table) -> bool:
     """Every column one pandas would read alike: whole numbers, text, or floating-point numbers
     that hold no NaN of their own, not only whole numbers and none beyond 64-bit integers (see the
     module's list)."""
-    import pyarrow.compute as pc
-
     for column in table.columns:
         kind = str(column.type)
-        if kind not in _READABLE:
+        if kind not in _READABLE or (kind == "double" and not _plain_floats(column)):
             return False
-        if kind == "double":
-            values = column.to_numpy()
-            present = values[~np.isnan(values)] if column.null_count else values
-            if column.null_count and len(present) == 0:
-                return False
-            if pc.any(pc.is_nan(column)).as_py() or np.all(present == np.round(present)) \
-                    or np.abs(present).max() >= _BEYOND_INT64:
-                return False
     return True
+
+
+def _plain_floats(column) -> bool:
+    """A floating-point column pandas reads as the same floats (pyarrow's kernels: no copy)."""
+    import pyarrow.compute as pc
+
+    if column.null_count == len(column) or pc.any(pc.is_nan(column)).as_py():
+        return False
+    extremes = pc.min_max(column)
+    if max(abs(extremes["min"].as_py()), abs(extremes["max"].as_py())) >= _BEYOND_INT64:
+        return False
+    head = column.slice(0, 1_000).drop_null().to_numpy()
+    if np.any(head != np.round(head)):
+        return True  # returns: a fraction among the first cells already
+    return not pc.all(pc.equal(column, pc.round(column))).as_py()
