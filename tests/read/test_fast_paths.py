@@ -29,6 +29,7 @@ from hypothesis import strategies as st
 from sweepaudit.errors import SweepAuditError
 from sweepaudit.read import LoadOptions, formats, load_sweep, read_table
 from sweepaudit.read.build import _configurations, first_occurrences
+from sweepaudit.read.checks import _counter_like
 from sweepaudit.read.fastcsv import arrow_table
 from sweepaudit.read.formats import NA_TOKENS
 
@@ -116,11 +117,11 @@ def _text_files(draw):
     kinds = draw(st.lists(st.sampled_from(["float", "int", "text", "date"]), min_size=1, max_size=4))
     columns = [draw(_column(kind, n_rows)) for kind in kinds]
     header = [f"c{k}" for k in range(len(kinds))]
+    header[-1] = draw(st.sampled_from([header[-1]] * 8 + ["", "c0", " c9"]))  # blank, repeated, space-led
     lines = [sep.join(header)] + [sep.join(col[r] for col in columns) for r in range(n_rows)]
     text = "\n".join(lines) + draw(st.sampled_from(["\n", "", "\r\n"]))
-    if draw(st.booleans()):
-        text = text.replace("\n", "\r\n")
-    return text.encode(), sep
+    text = text.replace("\n", draw(st.sampled_from(["\n", "\r\n", "\r"])))
+    return draw(st.sampled_from([b"", b"\xef\xbb\xbf"])) + text.encode(), sep
 
 
 @SETTINGS
@@ -150,6 +151,7 @@ def test_pyarrow_reads_the_ordinary_file_and_declines_the_rest():
         "tab in a comma file": b"week,lookback,band,excess_return\n2024-01-05,5,a\t,0.01\n",
         "form feed": b"week,lookback,band,excess_return\n2024-01-05,\x0c5,a,0.01\n",
         "hexadecimal": b"week,lookback,band,excess_return\n2024-01-05,0x5,a,0.01\n",
+        "hexadecimal, carriage returns": b"week,lookback,band,excess_return\r2024-01-05,0x5,a,0.01\r",
         "booleans": b"week,lookback,band,excess_return\n2024-01-05,5,true,0.01\n",
         "NaN not a token": b"week,lookback,band,excess_return\n2024-01-05,5,a,NAN\n2024-01-12,5,a,0.5\n",
         "whole floats": b"week,lookback,band,excess_return\n2024-01-05,+5,a,0.01\n",
@@ -329,3 +331,17 @@ def test_repeated_row_named_by_the_filled_cell_count(tmp_path: Path):
         load_sweep(str(path))
     assert caught.value.row == 15 and "duplicate row" in str(caught.value)
     assert path.read_text().splitlines()[15] == path.read_text().splitlines()[13]
+
+
+@settings(max_examples=100, deadline=None)
+@given(matrix=st.lists(st.lists(st.sampled_from([0.0, 1.0, 2.0, 3.0, -1.0, 0.5, 202401.0, 202402.0]), min_size=4,
+                                max_size=4), min_size=1, max_size=6).map(np.array))
+def test_counters_found_among_whole_columns_only(matrix):
+    """The guard's counters: every column of whole numbers that only rises or only falls, written out."""
+    expected = np.zeros(matrix.shape[1], dtype=bool)
+    for k in range(matrix.shape[1]):
+        column = matrix[:, k]
+        steps = np.diff(column)
+        expected[k] = (len(column) > 1 and bool(np.all(column == np.round(column)))
+                       and (bool(np.all(steps >= 0) and np.any(steps > 0)) or bool(np.all(steps <= 0) and np.any(steps < 0))))
+    assert np.array_equal(_counter_like(matrix), expected)
