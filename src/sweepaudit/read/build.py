@@ -142,7 +142,7 @@ def _configurations(frame: pd.DataFrame, params: list[str], label: str
     # first row of each run of rows naming one configuration (a long file usually lists each
     # configuration's windows together): the codes are the whole columns' factorisation.
     starts = _run_starts(frame, params)
-    heads = frame if len(starts) == len(frame) else frame.iloc[starts]
+    heads = frame[params] if len(starts) == len(frame) else frame[params].iloc[starts]
     if len(params) == 1:
         head_codes, uniq = pd.factorize(heads[params[0]])
         combos = [(v,) for v in uniq]

@@ -21,8 +21,12 @@ def numeric(series: pd.Series, label: str, column: str, *, allow_missing: bool =
     """Convert a column to float64, naming the first bad cell."""
     if pd.api.types.is_bool_dtype(series):
         raise InputError("holds true/false values, not numbers", path=label, column=column)
-    values = pd.to_numeric(series, errors="coerce").to_numpy(dtype=np.float64)
-    bad = np.isnan(values) & series.notna().to_numpy()
+    if series.dtype == np.float64:  # numbers already: no cell to coerce, every NaN a missing cell
+        values = series.to_numpy(dtype=np.float64)
+        bad = np.zeros(0, dtype=bool)
+    else:
+        values = pd.to_numeric(series, errors="coerce").to_numpy(dtype=np.float64)
+        bad = np.isnan(values) & series.notna().to_numpy()
     if bad.any():
         r = int(np.flatnonzero(bad)[0])
         raise InputError(
