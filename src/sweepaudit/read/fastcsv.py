@@ -26,6 +26,11 @@ sleep rather than spin while they wait, so a busy machine does not make the thre
 one thread (measured on the 2-core machine, 2 million rows beside two busy loops: 0.21 s on
 pyarrow's threads, 0.29 s on one thread, 0.40 s with pandas' parser; the whole reader under load:
 ``benchmarks/read_speed.py --busy 2``).
+
+Its buffers come from the system allocator (``pa.system_memory_pool()``), not pyarrow's default
+pool: that pool (mimalloc) keeps the memory the parse frees, and the audit after a read through it
+ran 0.5 s slower in 7 (the 2 million rows, 10,000 resamples, four interleaved runs each way); with
+the system allocator the audit takes as long as after pandas' parser.
 """
 
 from __future__ import annotations
@@ -73,18 +78,22 @@ def arrow_table(data: bytes, sep: str, header: list[str], na_tokens: list[str]) 
     if data.startswith(_BOM):
         buffer = buffer.slice(len(_BOM))
     parse = pcsv.ParseOptions(delimiter=sep)
+    # The system allocator, not pyarrow's default pool, which keeps the parse's freed memory and
+    # slowed the audit after it (see the module's notes).
+    pool = pa.system_memory_pool()
     try:
-        text = _text_columns(buffer, parse, na_tokens)
+        text = _text_columns(buffer, parse, na_tokens, pool)
         if text is None:
             return None
         convert = pcsv.ConvertOptions(null_values=na_tokens, strings_can_be_null=True,
                                       column_types={c: pa.string() for c in text})
-        table = pcsv.read_csv(pa.BufferReader(buffer), parse_options=parse, convert_options=convert)
+        table = pcsv.read_csv(pa.BufferReader(buffer), parse_options=parse, convert_options=convert,
+                              memory_pool=pool)
     except (pa.ArrowException, ValueError, OSError):
         return None
-    if table.num_rows == 0 or table.column_names != list(header) or not _same_numbers(table):
+    if table.num_rows == 0 or table.column_names != list(header) or not _same_numbers(table, pool):
         return None
-    return table.to_pandas()
+    return table.to_pandas(memory_pool=pool)
 
 
 def _plain_text(data: bytes, sep: str) -> bool:
@@ -109,7 +118,7 @@ def _plain_header(header: list[str]) -> bool:
     return all(h.strip() and h == h.strip() for h in header) and len(set(header)) == len(header)
 
 
-def _text_columns(buffer, parse, na_tokens: list[str]) -> list[str] | None:
+def _text_columns(buffer, parse, na_tokens: list[str], pool) -> list[str] | None:
     """The columns whose first cells pyarrow reads as dates or times (text to pandas), or None when
     one reads as true / false (booleans to pandas) or a sampled type is none pyarrow might give."""
     import pyarrow as pa
@@ -120,7 +129,7 @@ def _text_columns(buffer, parse, na_tokens: list[str]) -> list[str] | None:
         head = head[: max(head.rfind(b"\n"), head.rfind(b"\r")) + 1]
     sample = pcsv.read_csv(pa.BufferReader(pa.py_buffer(head)), parse_options=parse,
                            convert_options=pcsv.ConvertOptions(null_values=na_tokens, strings_can_be_null=True),
-                           read_options=pcsv.ReadOptions(use_threads=False))
+                           read_options=pcsv.ReadOptions(use_threads=False), memory_pool=pool)
     text = []
     for field in sample.schema:
         kind = str(field.type)
@@ -131,27 +140,28 @@ def _text_columns(buffer, parse, na_tokens: list[str]) -> list[str] | None:
     return text
 
 
-def _same_numbers(table) -> bool:
+def _same_numbers(table, pool) -> bool:
     """Every column one pandas would read alike: whole numbers, text, or floating-point numbers
     that hold no NaN of their own, not only whole numbers and none beyond 64-bit integers (see the
     module's list)."""
     for column in table.columns:
         kind = str(column.type)
-        if kind not in _READABLE or (kind == "double" and not _plain_floats(column)):
+        if kind not in _READABLE or (kind == "double" and not _plain_floats(column, pool)):
             return False
     return True
 
 
-def _plain_floats(column) -> bool:
+def _plain_floats(column, pool) -> bool:
     """A floating-point column pandas reads as the same floats (pyarrow's kernels: no copy)."""
     import pyarrow.compute as pc
 
-    if column.null_count == len(column) or pc.any(pc.is_nan(column)).as_py():
+    if column.null_count == len(column) or pc.any(pc.is_nan(column, memory_pool=pool), memory_pool=pool).as_py():
         return False
-    extremes = pc.min_max(column)
+    extremes = pc.min_max(column, memory_pool=pool)
     if max(abs(extremes["min"].as_py()), abs(extremes["max"].as_py())) >= _BEYOND_INT64:
         return False
     head = column.slice(0, 1_000).drop_null().to_numpy()
     if np.any(head != np.round(head)):
         return True  # returns: a fraction among the first cells already
-    return not pc.all(pc.equal(column, pc.round(column))).as_py()
+    rounded = pc.round(column, memory_pool=pool)
+    return not pc.all(pc.equal(column, rounded, memory_pool=pool), memory_pool=pool).as_py()
