@@ -63,6 +63,7 @@ def gather_evidence(
     progress: Callable[[int, int], None] | None = None,
     memory_budget: int | None = None,
     executor=None,
+    verdict_only: bool = False,
 ) -> Evidence:
     """Run every method of the audit once on one sweep and gather what they found.
 
@@ -82,6 +83,10 @@ def gather_evidence(
     executor : optional
         Where the blocks run (:func:`sweepaudit.engine.executor_for`); an executor other than the
         in-process one always streams. Default: in process.
+    verdict_only : bool
+        Leave out the figures no check reads (CSCV's stochastic-dominance figures, None in the
+        result): for callers that decide the verdict and discard the evidence, such as
+        :mod:`sweepaudit.calibration`. The verdict is the same.
 
     Returns
     -------
@@ -98,7 +103,7 @@ def gather_evidence(
     with single_threaded(), warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", SweepAuditWarning)
         if (plan.in_memory and not distributed) or sweep.n_configurations < MIN_FAMILY:
-            parts = _in_memory(sweep, settings, policy, count, progress, plan.keep_weights)
+            parts = _in_memory(sweep, settings, policy, count, progress, plan.keep_weights, verdict_only)
         else:
             parts = _streamed(sweep, settings, policy, count, plan, executor or InProcess(), progress)
         haircut = haircut_sharpe(
@@ -134,7 +139,7 @@ class _Parts:
     weights: WeightTable | None = None
 
 
-def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool) -> _Parts:
+def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool, verdict_only: bool = False) -> _Parts:
     """Every method on the whole matrix, the ``B x N`` moments computed at once (the weights kept
     for the time structure's product when the plan keeps them)."""
     confidence = settings.confidence if settings.confidence is not None else policy.confidence
@@ -146,13 +151,14 @@ def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool) -> 
     table = WeightTable(resamples) if keep_weights and resamples.seed is not None else None
     moments, intervals = moments_and_intervals(
         x, resamples, progress=progress, table=table,
-        intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method),
+        intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method,
+                                    long_run=long_run),
     )
     inference = _inference(sweep, settings, policy, selected, long_run)
     snooping, variance = _snooping_in_memory(x, moments, intervals, policy, long_run)
     overfit = diagnosis = tails = None
     if snooping is not None:
-        overfit, diagnosis = _overfitting(x, policy)
+        overfit, diagnosis = _overfitting(x, policy, dominance=not verdict_only)
         tails = _tails(x, selected, snooping, policy)
     return _Parts(sharpe, selected, rule, long_run, resamples, block_source, choice, intervals,
                   variance, inference, snooping, overfit, diagnosis, tails, table)
@@ -223,6 +229,7 @@ def reassess(
     policy: Policy | None = None,
     settings: AuditSettings | None = None,
     memory_budget: int | None = None,
+    verdict_only: bool = False,
 ) -> Evidence:
     """The evidence of the same audit under another policy or other resampling settings, re-running
     only the methods the change reaches.
@@ -261,6 +268,8 @@ def reassess(
         new audit).
     memory_budget : int, optional
         As for :func:`gather_evidence`.
+    verdict_only : bool
+        As for :func:`gather_evidence` (the sensitivity block decides verdicts only).
 
     Returns
     -------
@@ -282,7 +291,8 @@ def reassess(
     if resampling or ("significance" in changed and evidence.snooping is not None):
         budget = policy.memory_budget * 2**20 if memory_budget is None else memory_budget
         if not plan_blocks(sweep.n_configurations, sweep.n_windows, count, budget).in_memory:
-            return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget)
+            return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget,
+                                   verdict_only=verdict_only)
         with single_threaded():
             moments = _resampled_parts(evidence, settings, policy, count, confidence, parts)
     elif (confidence, settings.interval_method) != (evidence.confidence, evidence.intervals.method):
@@ -293,7 +303,7 @@ def reassess(
         parts["sharpe"] = _reinference(evidence, settings, policy)
         parts["deflation_curve"] = _curve(parts["sharpe"])
     if evidence.snooping is not None:
-        parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping"), memory_budget))
+        parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping"), memory_budget, verdict_only))
     if changed & _TIME_KEYS or moments is not None:
         parts.update(_time_parts(evidence, settings, policy, changed, parts, confidence))
     return replace(evidence, **parts)
@@ -327,7 +337,7 @@ def _resampled_parts(evidence: Evidence, settings: AuditSettings, policy: Policy
 
 
 def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snooping: Snooping | None,
-                     memory_budget: int | None = None) -> dict:
+                     memory_budget: int | None = None, verdict_only: bool = False) -> dict:
     """The data-snooping labels, CSCV and the family-tails test under ``policy`` (see :func:`reassess`);
     ``snooping``: the tests run again on new resamples, if they were."""
     x, k = evidence.sweep.returns, evidence.selected_index
@@ -342,7 +352,8 @@ def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snoo
     if changed & _CSCV_KEYS:
         # A streamed audit (it kept the selected configuration's distributions only) streams CSCV too.
         streamed = evidence.resamples.count if evidence.intervals.distribution_columns is not None else None
-        parts["overfitting"], parts["overfitting_diagnosis"] = _overfitting(x, policy, streamed, memory_budget)
+        parts["overfitting"], parts["overfitting_diagnosis"] = _overfitting(x, policy, streamed, memory_budget,
+                                                                            dominance=not verdict_only)
     elif changed & _RULE_KEYS:
         parts["overfitting_diagnosis"] = _diagnosis(evidence.overfitting, policy)
     return parts
@@ -452,16 +463,17 @@ def _snooping_in_memory(x: np.ndarray, moments, intervals: BootstrapIntervals, p
 
 
 def _overfitting(x: np.ndarray, policy: Policy, streamed: int | None = None,
-                 memory_budget: int | None = None) -> tuple[CscvResult, OverfittingDiagnosis]:
+                 memory_budget: int | None = None, dominance: bool = True) -> tuple[CscvResult, OverfittingDiagnosis]:
     """CSCV and the rule read off it; ``streamed`` (the audit's resample count): over the blocks of
-    configurations a streamed audit of that count uses (the same figures), never ``T x N`` at once."""
+    configurations a streamed audit of that count uses (the same figures), never ``T x N`` at once;
+    ``dominance=False``: without the dominance figures, which the rule does not read (in memory)."""
     if streamed:
         budget = policy.memory_budget * 2**20 if memory_budget is None else memory_budget
         plan = plan_blocks(x.shape[1], x.shape[0], streamed, budget)
         overfit = Stream(x, plan, InProcess(), partitions=policy.partitions, statistic=policy.overfitting_statistic,
                          threshold=policy.stress_threshold).cscv_alone()
     else:
-        overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
+        overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic, dominance=dominance)
     return overfit, _diagnosis(overfit, policy)
 
 

@@ -176,7 +176,7 @@ def _one_audit(work: tuple, shared: NullSweeps | None = None) -> tuple[bool, boo
     sweep, settings, policy = work
     if shared is not None:
         sweep = shared.sweep_at(*sweep)
-    evidence = gather_evidence(sweep, settings=settings, policy=policy)
+    evidence = gather_evidence(sweep, settings=settings, policy=policy, verdict_only=True)
     verdict = decide(evidence, policy)
     return (verdict.decision == "go", bool(bonferroni_max_t(sweep.returns, level=policy.significance).rejected),
             int(evidence.selected_index), {c.id: not c.passed for c in verdict.checks},

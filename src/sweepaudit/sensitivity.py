@@ -209,7 +209,8 @@ def _alternative(choice: Choice, setting: str, evidence: Evidence, verdict: Verd
         fields = {**(fields or {}), "resamples": resamples}
     if fields:
         settings = replace(settings, **fields)
-    again = decide(reassess(evidence, policy=policy, settings=settings, memory_budget=memory_budget), policy, baseline)
+    again = decide(reassess(evidence, policy=policy, settings=settings, memory_budget=memory_budget, verdict_only=True),
+                   policy, baseline)
     return Alternative(
         choice=choice.id, question=choice.question,
         as_audited=choice.current(evidence), setting=setting,
@@ -226,7 +227,8 @@ def _control(evidence: Evidence, verdict: Verdict, baseline: BaselineComparison 
              resamples: int, memory_budget: int | None) -> Alternative:
     """The audit's own choices with ``resamples`` resamples (same seed)."""
     settings = replace(evidence.settings, resamples=resamples)
-    again = decide(reassess(evidence, settings=settings, memory_budget=memory_budget), evidence.policy, baseline)
+    again = decide(reassess(evidence, settings=settings, memory_budget=memory_budget, verdict_only=True),
+                   evidence.policy, baseline)
     count = number(evidence.resamples.count)
     return Alternative(
         choice="resamples", question="number of resamples", as_audited=str(evidence.resamples.count),
