@@ -148,7 +148,7 @@ def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool, ver
     selected, rule = _select(sweep, settings, sharpe)
     long_run = long_run_variance(x)
     resamples, block_source, choice = _resamples(sweep, settings, count, selected)
-    table = WeightTable(resamples) if keep_weights and resamples.seed is not None else None
+    table = WeightTable(resamples, lazy=True) if keep_weights and resamples.seed is not None else None
     moments, intervals = moments_and_intervals(
         x, resamples, progress=progress, table=table,
         intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method,
@@ -290,11 +290,12 @@ def reassess(
     moments = None
     if resampling or ("significance" in changed and evidence.snooping is not None):
         budget = policy.memory_budget * 2**20 if memory_budget is None else memory_budget
-        if not plan_blocks(sweep.n_configurations, sweep.n_windows, count, budget).in_memory:
+        plan = plan_blocks(sweep.n_configurations, sweep.n_windows, count, budget)
+        if not plan.in_memory:
             return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget,
                                    verdict_only=verdict_only)
         with single_threaded():
-            moments = _resampled_parts(evidence, settings, policy, count, confidence, parts)
+            moments, table = _resampled_parts(evidence, settings, policy, count, confidence, parts, plan.keep_weights)
     elif (confidence, settings.interval_method) != (evidence.confidence, evidence.intervals.method):
         if evidence.intervals.distribution_columns is not None:  # a streamed audit kept the selected one's only
             return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget)
@@ -305,21 +306,24 @@ def reassess(
     if evidence.snooping is not None:
         parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping"), memory_budget, verdict_only))
     if changed & _TIME_KEYS or moments is not None:
-        parts.update(_time_parts(evidence, settings, policy, changed, parts, confidence))
+        parts.update(_time_parts(evidence, settings, policy, changed, parts, confidence,
+                                 table if moments is not None else None))
     return replace(evidence, **parts)
 
 
 def _resampled_parts(evidence: Evidence, settings: AuditSettings, policy: Policy, count: int, confidence: float,
-                     parts: dict):
-    """New resamples and what reads them (see :func:`reassess`), into ``parts``; the moments back."""
+                     parts: dict, keep_weights: bool = False):
+    """New resamples and what reads them (see :func:`reassess`), into ``parts``; the moments back, and
+    the weights when ``keep_weights`` (drawn once for the time structure's product too)."""
     sweep, k = evidence.sweep, evidence.selected_index
     resamples, source, choice = _resamples(sweep, settings, count, k)
+    table = WeightTable(resamples, lazy=True) if keep_weights and resamples.seed is not None else None
     # The long-run standard errors read only the returns: the audit's own serve every resampling.
     kept = evidence.intervals
     errors = (None if kept.mean_standard_error is None else
               (kept.mean_standard_error, kept.sharpe_standard_error, kept.degrees_of_freedom))
     moments, intervals = moments_and_intervals(
-        sweep.returns, resamples,
+        sweep.returns, resamples, table=table,
         intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method,
                                     long_run=evidence.long_run, standard_errors=errors),
     )
@@ -333,7 +337,7 @@ def _resampled_parts(evidence: Evidence, settings: AuditSettings, policy: Policy
     )
     if snooping is not None:
         parts["snooping"] = snooping
-    return moments
+    return moments, table
 
 
 def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snooping: Snooping | None,
@@ -360,15 +364,16 @@ def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snoo
 
 
 def _time_parts(evidence: Evidence, settings: AuditSettings, policy: Policy, changed: set[str], parts: dict,
-                confidence: float) -> dict:
-    """The walk-forward record and the edge over time with their intervals, under the new parts."""
+                confidence: float, table: WeightTable | None = None) -> dict:
+    """The walk-forward record and the edge over time with their intervals, under the new parts (``table``:
+    the new resamples' weights, when kept)."""
     sweep, k = evidence.sweep, evidence.selected_index
     walk, stability = evidence.walk_forward, evidence.stability
     tails = parts.get("tails", evidence.tails)
     if changed & _TIME_KEYS:
         walk, stability, _ = _time_structure(sweep, k, policy, evidence.long_run, tails)
     walk, stability = _time_intervals(sweep.returns[:, k], walk, stability, parts.get("resamples", evidence.resamples),
-                                      confidence, settings.interval_method)
+                                      confidence, settings.interval_method, table)
     return {"walk_forward": walk, "stability": stability}
 
 
