@@ -16,7 +16,7 @@ from dataclasses import dataclass, fields, replace
 import numpy as np
 
 from . import validate
-from .engine import InProcess, WeightTable, moments_and_intervals, plan_blocks, single_threaded
+from .engine import InProcess, WeightTable, meanwhile, moments_and_intervals, plan_blocks, single_threaded
 from .errors import InputError, SweepAuditWarning
 from .format import number, percent
 from .methods.bootstrap_ci import at_level, bootstrap_intervals, part_columns, part_intervals
@@ -144,6 +144,10 @@ def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool, ver
     for the time structure's product when the plan keeps them)."""
     confidence = settings.confidence if settings.confidence is not None else policy.confidence
     x = sweep.returns
+    # CSCV reads only the returns: on the second core, when one is free, while the rest runs here.
+    overfit = (meanwhile(functools.partial(cscv, x, partitions=policy.partitions, statistic=policy.overfitting_statistic,
+                                           dominance=not verdict_only, warn=False))
+               if x.shape[1] >= 2 else None)
     sharpe = x.mean(axis=0) / x.std(axis=0, ddof=1)
     selected, rule = _select(sweep, settings, sharpe)
     long_run = long_run_variance(x)
@@ -156,10 +160,15 @@ def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool, ver
     )
     inference = _inference(sweep, settings, policy, selected, long_run)
     snooping, variance = _snooping_in_memory(x, moments, intervals, policy, long_run)
-    overfit = diagnosis = tails = None
+    diagnosis = tails = None
     if snooping is not None:
-        overfit, diagnosis = _overfitting(x, policy, dominance=not verdict_only)
+        overfit = overfit.result()
+        for message in overfit.warnings:  # issued here, in the audit's order
+            warnings.warn(message, SweepAuditWarning, stacklevel=2)
+        diagnosis = _diagnosis(overfit, policy)
         tails = _tails(x, selected, snooping, policy)
+    else:
+        overfit = None
     return _Parts(sharpe, selected, rule, long_run, resamples, block_source, choice, intervals,
                   variance, inference, snooping, overfit, diagnosis, tails, table)
 

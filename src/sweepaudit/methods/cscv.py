@@ -270,6 +270,7 @@ def cscv(
     partitions: int = 16,
     statistic: SplitStatistic = "sharpe",
     dominance: bool = True,
+    warn: bool = True,
 ) -> CscvResult:
     """Probability of backtest overfitting by combinatorially symmetric cross-validation.
 
@@ -288,6 +289,9 @@ def cscv(
         second pass over every split's statistics of every configuration, about half the cost).
         False leaves them None: for callers that only decide a verdict, which never reads them
         (a calibration's audits, the sensitivity block's re-runs).
+    warn : bool, default True
+        Emit the warnings below. False: they are only in the result's ``warnings`` (for a caller
+        that runs CSCV on another thread and issues them in its own order).
 
     Returns
     -------
@@ -324,7 +328,7 @@ def cscv(
             "-inf or 0 by the sign of its constant value"
         )
     result = _splits(matrix, halves, used, int(partitions), messages, dominance)
-    for message in messages:
+    for message in messages if warn else ():
         warnings.warn(message, SweepAuditWarning, stacklevel=2)
     return result
 
