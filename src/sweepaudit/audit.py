@@ -296,7 +296,7 @@ def reassess(
     resampling = count != evidence.resamples.count or any(
         getattr(settings, name) != getattr(evidence.settings, name) for name in RESAMPLING_SETTINGS)
     parts: dict = {"policy": policy, "settings": settings}
-    moments = None
+    moments = table = None
     if resampling or ("significance" in changed and evidence.snooping is not None):
         budget = policy.memory_budget * 2**20 if memory_budget is None else memory_budget
         plan = plan_blocks(sweep.n_configurations, sweep.n_windows, count, budget)
@@ -315,8 +315,7 @@ def reassess(
     if evidence.snooping is not None:
         parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping"), memory_budget, verdict_only))
     if changed & _TIME_KEYS or moments is not None:
-        parts.update(_time_parts(evidence, settings, policy, changed, parts, confidence,
-                                 table if moments is not None else None))
+        parts.update(_time_parts(evidence, settings, policy, changed, parts, confidence, table))
     return replace(evidence, **parts)
 
 
