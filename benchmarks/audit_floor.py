@@ -4,6 +4,7 @@
     python benchmarks/audit_floor.py --busy 4              # the same, then again with 4 busy loops running
     python benchmarks/audit_floor.py --reference-src ../other/src   # another checkout, same yardstick
     python benchmarks/audit_floor.py --without-sensitivity          # also without the sensitivity block
+    python benchmarks/audit_floor.py --fixed-costs         # also what any command spends beside the products
     python benchmarks/audit_floor.py --quick               # 200 x 500, 2,000 resamples
 
 Writes a SYNTHETIC long CSV (one row per configuration and window: week, lookback, band,
@@ -86,6 +87,40 @@ def command_seconds(csv: Path, out: Path, resamples: int, src: Path, *extra: str
     return elapsed, (int(peak.group(1)) / 1024 if peak else None)
 
 
+def fixed_costs(csv: Path, n: int, t: int, b: int, runs: int) -> list[tuple[str, float]]:
+    """What any whole command must spend beside the products, each at its cheapest (medians):
+
+    * starting Python and importing numpy, pandas and scipy.special (fresh process, no sweepaudit);
+    * parsing the CSV with pyarrow's multi-threaded reader (no checks, no reshaping);
+    * the uniform and integer random numbers the stationary bootstrap's weights are drawn from
+      (one of each per resample and window, numpy's PCG64), without turning them into weights;
+    * placing the two order statistics of a 95% interval in each configuration's B resampled
+      means (one partition of a B x N array), for one statistic of the intervals' two.
+    """
+    import pyarrow.csv
+
+    def timed(action) -> float:
+        values = []
+        for _ in range(runs):
+            start = time.perf_counter()
+            action()
+            values.append(time.perf_counter() - start)
+        return statistics.median(values)
+
+    rng = np.random.default_rng(3)
+    draws = rng.standard_normal((b, n))
+    below, above = int(0.025 * (b - 1)), int(0.975 * (b - 1))
+    return [
+        ("start Python, import numpy, pandas, scipy.special",
+         timed(lambda: subprocess.run([sys.executable, "-c", "import numpy, pandas, scipy.special"], check=True))),
+        ("parse the long CSV (pyarrow, all threads)", timed(lambda: pyarrow.csv.read_csv(csv))),
+        ("the bootstrap's random numbers (B x T uniforms and integers)",
+         timed(lambda: (rng.random((b, t)), rng.integers(0, t, size=(b, t))))),
+        ("one interval's order statistics (partition of B x N)",
+         timed(lambda: np.partition(draws.T.copy(), [below, below + 1, above, above + 1], axis=1))),
+    ]
+
+
 def in_process_seconds(csv: Path, resamples: int, **options) -> float:
     from sweepaudit import AuditSettings, audit, load_sweep
 
@@ -136,6 +171,8 @@ def main() -> None:
     ap.add_argument("--reference-src", help="another checkout's src, run with the same yardstick")
     ap.add_argument("--without-sensitivity", action="store_true",
                     help="also the command and audit() without the sensitivity block, interleaved")
+    ap.add_argument("--fixed-costs", action="store_true",
+                    help="also what any whole command spends beside the products, each at its cheapest")
     ap.add_argument("--quick", action="store_true")
     args = ap.parse_args()
     if args.quick:
@@ -148,6 +185,9 @@ def main() -> None:
         print(f"{args.configurations:,} configurations x {args.windows:,} windows, {args.resamples:,} resamples; "
               f"{os.cpu_count()} cores; median of {args.runs} runs")
         rows = measure(csv, tmp, args, "as found")
+        if args.fixed_costs:
+            costs = fixed_costs(csv, args.configurations, args.windows, args.resamples, args.runs)
+            floor = rows[0][2]
         if args.busy:
             with busy_loops(args.busy):
                 rows += measure(csv, tmp, args, f"+{args.busy} busy loops")
@@ -155,6 +195,14 @@ def main() -> None:
     print("|---|---|---|---|---|---|")
     for label, what, seconds, ratio, peak, load in rows:
         print(f"| {label} | {what} | {seconds:.2f} | x{ratio:.2f} | {'' if peak is None else f'{peak:,.0f}'} | {load:.2f} |")
+    if args.fixed_costs:
+        print(f"\nFixed costs, each at its cheapest (as found; load average {os.getloadavg()[0]:.2f}):\n")
+        print("| what | median seconds | ratio to floor |")
+        print("|---|---|---|")
+        for what, seconds in costs:
+            print(f"| {what} | {seconds:.2f} | x{seconds / floor:.2f} |")
+        total = sum(seconds for _, seconds in costs)
+        print(f"| sum, before any product, interval or test | {total:.2f} | x{total / floor:.2f} |")
 
 
 if __name__ == "__main__":

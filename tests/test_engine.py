@@ -51,6 +51,31 @@ def test_products_on_several_threads_are_the_same_bits():
     np.testing.assert_array_equal(one.second, two.second)
 
 
+def test_lazy_weights_are_drawn_as_read_and_kept():
+    resamples = draw_resamples(300, count=700, block_length=6.5, seed=2)
+    lazy = WeightTable(resamples, lazy=True)
+    first = np.concatenate(list(lazy.chunks(256)))  # drawn while read
+    np.testing.assert_array_equal(first, np.concatenate(list(resamples.weight_chunks(256))))
+    np.testing.assert_array_equal(lazy.table, WeightTable(resamples).table)
+    np.testing.assert_array_equal(np.concatenate(list(lazy.chunks(100))), first)  # read back from the table
+
+
+def test_an_audit_is_the_same_bits_on_one_thread_or_two(monkeypatch):
+    """CSCV on a second thread beside the resampling, the products in chunk threads: the JSON document
+    is the same whether one core or two are free."""
+    rng = np.random.default_rng(8)
+    x = 0.01 * (0.5 * rng.standard_normal((260, 1)) + rng.standard_normal((260, 30)))
+    x[:, 4] += 0.002
+    x[:150, 9] = 0.0  # idle for more than half the blocks: CSCV warns, and its warnings keep their place
+    sweep = sweep_from_array(x, periods_per_year=52)
+    documents = []
+    for threads in ("1", "2"):
+        monkeypatch.setenv(THREADS_VARIABLE, threads)
+        documents.append(audit(sweep, settings=AuditSettings(seed=2, resamples=500)).document)
+    assert documents[0] == documents[1]
+    assert documents[0]["warnings"]
+
+
 def test_free_cores_subtract_the_load_and_obey_the_variable(monkeypatch):
     monkeypatch.delenv(THREADS_VARIABLE, raising=False)
     monkeypatch.setattr("sweepaudit.engine.threads._cores", lambda: 2)

@@ -166,3 +166,16 @@ def test_a_streamed_audit_leaves_out_the_choices_that_would_each_be_a_new_audit(
                                              if a.choice not in {"bootstrap", "block_length", "interval_method"}}
     assert "Not examined on this streamed audit" in s.summary and "block length" in s.summary
     assert streamed.document["sensitivity"]["not_examined"] == list(s.not_examined)
+
+
+def test_the_same_finding_whether_the_alternatives_run_side_by_side_or_in_turn(fragile, monkeypatch):
+    """The engine's thread policy: the alternatives run on the free cores side by side, each with
+    single-threaded BLAS, so one thread or two give the same sensitivity block to the last bit."""
+    evidence = gather_evidence(fragile.evidence.sweep, settings=AuditSettings(seed=3, resamples=2_000))
+    verdict = decide(evidence, evidence.policy)
+    found = {}
+    for threads in ("1", "2"):
+        monkeypatch.setenv("SWEEPAUDIT_THREADS", threads)
+        found[threads] = sensitivity_block(what_would_change(evidence, verdict))
+    assert found["1"] == found["2"]
+    assert found["1"]["alternatives"] and found["1"]["control"] is not None

@@ -16,7 +16,7 @@ from dataclasses import dataclass, fields, replace
 import numpy as np
 
 from . import validate
-from .engine import InProcess, WeightTable, moments_and_intervals, plan_blocks, single_threaded
+from .engine import InProcess, WeightTable, meanwhile, moments_and_intervals, plan_blocks, single_threaded
 from .errors import InputError, SweepAuditWarning
 from .format import number, percent
 from .methods.bootstrap_ci import at_level, bootstrap_intervals, part_columns, part_intervals
@@ -63,6 +63,7 @@ def gather_evidence(
     progress: Callable[[int, int], None] | None = None,
     memory_budget: int | None = None,
     executor=None,
+    verdict_only: bool = False,
 ) -> Evidence:
     """Run every method of the audit once on one sweep and gather what they found.
 
@@ -82,6 +83,10 @@ def gather_evidence(
     executor : optional
         Where the blocks run (:func:`sweepaudit.engine.executor_for`); an executor other than the
         in-process one always streams. Default: in process.
+    verdict_only : bool
+        Leave out the figures no check reads (CSCV's stochastic-dominance figures, None in the
+        result): for callers that decide the verdict and discard the evidence, such as
+        :mod:`sweepaudit.calibration`. The verdict is the same.
 
     Returns
     -------
@@ -98,7 +103,7 @@ def gather_evidence(
     with single_threaded(), warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", SweepAuditWarning)
         if (plan.in_memory and not distributed) or sweep.n_configurations < MIN_FAMILY:
-            parts = _in_memory(sweep, settings, policy, count, progress, plan.keep_weights)
+            parts = _in_memory(sweep, settings, policy, count, progress, plan.keep_weights, verdict_only)
         else:
             parts = _streamed(sweep, settings, policy, count, plan, executor or InProcess(), progress)
         haircut = haircut_sharpe(
@@ -134,26 +139,36 @@ class _Parts:
     weights: WeightTable | None = None
 
 
-def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool) -> _Parts:
+def _in_memory(sweep, settings, policy, count, progress, keep_weights: bool, verdict_only: bool = False) -> _Parts:
     """Every method on the whole matrix, the ``B x N`` moments computed at once (the weights kept
     for the time structure's product when the plan keeps them)."""
     confidence = settings.confidence if settings.confidence is not None else policy.confidence
     x = sweep.returns
+    # CSCV reads only the returns: on the second core, when one is free, while the rest runs here.
+    overfit = (meanwhile(functools.partial(cscv, x, partitions=policy.partitions, statistic=policy.overfitting_statistic,
+                                           dominance=not verdict_only, warn=False))
+               if x.shape[1] >= 2 else None)
     sharpe = x.mean(axis=0) / x.std(axis=0, ddof=1)
     selected, rule = _select(sweep, settings, sharpe)
     long_run = long_run_variance(x)
     resamples, block_source, choice = _resamples(sweep, settings, count, selected)
-    table = WeightTable(resamples) if keep_weights and resamples.seed is not None else None
+    table = WeightTable(resamples, lazy=True) if keep_weights and resamples.seed is not None else None
     moments, intervals = moments_and_intervals(
         x, resamples, progress=progress, table=table,
-        intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method),
+        intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method,
+                                    long_run=long_run),
     )
     inference = _inference(sweep, settings, policy, selected, long_run)
     snooping, variance = _snooping_in_memory(x, moments, intervals, policy, long_run)
-    overfit = diagnosis = tails = None
+    diagnosis = tails = None
     if snooping is not None:
-        overfit, diagnosis = _overfitting(x, policy)
+        overfit = overfit.result()
+        for message in overfit.warnings:  # issued here, in the audit's order
+            warnings.warn(message, SweepAuditWarning, stacklevel=2)
+        diagnosis = _diagnosis(overfit, policy)
         tails = _tails(x, selected, snooping, policy)
+    else:
+        overfit = None
     return _Parts(sharpe, selected, rule, long_run, resamples, block_source, choice, intervals,
                   variance, inference, snooping, overfit, diagnosis, tails, table)
 
@@ -223,6 +238,7 @@ def reassess(
     policy: Policy | None = None,
     settings: AuditSettings | None = None,
     memory_budget: int | None = None,
+    verdict_only: bool = False,
 ) -> Evidence:
     """The evidence of the same audit under another policy or other resampling settings, re-running
     only the methods the change reaches.
@@ -261,6 +277,8 @@ def reassess(
         new audit).
     memory_budget : int, optional
         As for :func:`gather_evidence`.
+    verdict_only : bool
+        As for :func:`gather_evidence` (the sensitivity block decides verdicts only).
 
     Returns
     -------
@@ -278,13 +296,15 @@ def reassess(
     resampling = count != evidence.resamples.count or any(
         getattr(settings, name) != getattr(evidence.settings, name) for name in RESAMPLING_SETTINGS)
     parts: dict = {"policy": policy, "settings": settings}
-    moments = None
+    moments = table = None
     if resampling or ("significance" in changed and evidence.snooping is not None):
         budget = policy.memory_budget * 2**20 if memory_budget is None else memory_budget
-        if not plan_blocks(sweep.n_configurations, sweep.n_windows, count, budget).in_memory:
-            return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget)
+        plan = plan_blocks(sweep.n_configurations, sweep.n_windows, count, budget)
+        if not plan.in_memory:
+            return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget,
+                                   verdict_only=verdict_only)
         with single_threaded():
-            moments = _resampled_parts(evidence, settings, policy, count, confidence, parts)
+            moments, table = _resampled_parts(evidence, settings, policy, count, confidence, parts, plan.keep_weights)
     elif (confidence, settings.interval_method) != (evidence.confidence, evidence.intervals.method):
         if evidence.intervals.distribution_columns is not None:  # a streamed audit kept the selected one's only
             return gather_evidence(sweep, settings=settings, policy=policy, memory_budget=memory_budget)
@@ -293,23 +313,25 @@ def reassess(
         parts["sharpe"] = _reinference(evidence, settings, policy)
         parts["deflation_curve"] = _curve(parts["sharpe"])
     if evidence.snooping is not None:
-        parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping"), memory_budget))
+        parts.update(_selection_parts(evidence, policy, changed, parts.get("snooping"), memory_budget, verdict_only))
     if changed & _TIME_KEYS or moments is not None:
-        parts.update(_time_parts(evidence, settings, policy, changed, parts, confidence))
+        parts.update(_time_parts(evidence, settings, policy, changed, parts, confidence, table))
     return replace(evidence, **parts)
 
 
 def _resampled_parts(evidence: Evidence, settings: AuditSettings, policy: Policy, count: int, confidence: float,
-                     parts: dict):
-    """New resamples and what reads them (see :func:`reassess`), into ``parts``; the moments back."""
+                     parts: dict, keep_weights: bool = False):
+    """New resamples and what reads them (see :func:`reassess`), into ``parts``; the moments back, and
+    the weights when ``keep_weights`` (drawn once for the time structure's product too)."""
     sweep, k = evidence.sweep, evidence.selected_index
     resamples, source, choice = _resamples(sweep, settings, count, k)
+    table = WeightTable(resamples, lazy=True) if keep_weights and resamples.seed is not None else None
     # The long-run standard errors read only the returns: the audit's own serve every resampling.
     kept = evidence.intervals
     errors = (None if kept.mean_standard_error is None else
               (kept.mean_standard_error, kept.sharpe_standard_error, kept.degrees_of_freedom))
     moments, intervals = moments_and_intervals(
-        sweep.returns, resamples,
+        sweep.returns, resamples, table=table,
         intervals=functools.partial(bootstrap_intervals, confidence=confidence, method=settings.interval_method,
                                     long_run=evidence.long_run, standard_errors=errors),
     )
@@ -323,11 +345,11 @@ def _resampled_parts(evidence: Evidence, settings: AuditSettings, policy: Policy
     )
     if snooping is not None:
         parts["snooping"] = snooping
-    return moments
+    return moments, table
 
 
 def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snooping: Snooping | None,
-                     memory_budget: int | None = None) -> dict:
+                     memory_budget: int | None = None, verdict_only: bool = False) -> dict:
     """The data-snooping labels, CSCV and the family-tails test under ``policy`` (see :func:`reassess`);
     ``snooping``: the tests run again on new resamples, if they were."""
     x, k = evidence.sweep.returns, evidence.selected_index
@@ -342,22 +364,24 @@ def _selection_parts(evidence: Evidence, policy: Policy, changed: set[str], snoo
     if changed & _CSCV_KEYS:
         # A streamed audit (it kept the selected configuration's distributions only) streams CSCV too.
         streamed = evidence.resamples.count if evidence.intervals.distribution_columns is not None else None
-        parts["overfitting"], parts["overfitting_diagnosis"] = _overfitting(x, policy, streamed, memory_budget)
+        parts["overfitting"], parts["overfitting_diagnosis"] = _overfitting(x, policy, streamed, memory_budget,
+                                                                            dominance=not verdict_only)
     elif changed & _RULE_KEYS:
         parts["overfitting_diagnosis"] = _diagnosis(evidence.overfitting, policy)
     return parts
 
 
 def _time_parts(evidence: Evidence, settings: AuditSettings, policy: Policy, changed: set[str], parts: dict,
-                confidence: float) -> dict:
-    """The walk-forward record and the edge over time with their intervals, under the new parts."""
+                confidence: float, table: WeightTable | None = None) -> dict:
+    """The walk-forward record and the edge over time with their intervals, under the new parts (``table``:
+    the new resamples' weights, when kept)."""
     sweep, k = evidence.sweep, evidence.selected_index
     walk, stability = evidence.walk_forward, evidence.stability
     tails = parts.get("tails", evidence.tails)
     if changed & _TIME_KEYS:
         walk, stability, _ = _time_structure(sweep, k, policy, evidence.long_run, tails)
     walk, stability = _time_intervals(sweep.returns[:, k], walk, stability, parts.get("resamples", evidence.resamples),
-                                      confidence, settings.interval_method)
+                                      confidence, settings.interval_method, table)
     return {"walk_forward": walk, "stability": stability}
 
 
@@ -452,16 +476,17 @@ def _snooping_in_memory(x: np.ndarray, moments, intervals: BootstrapIntervals, p
 
 
 def _overfitting(x: np.ndarray, policy: Policy, streamed: int | None = None,
-                 memory_budget: int | None = None) -> tuple[CscvResult, OverfittingDiagnosis]:
+                 memory_budget: int | None = None, dominance: bool = True) -> tuple[CscvResult, OverfittingDiagnosis]:
     """CSCV and the rule read off it; ``streamed`` (the audit's resample count): over the blocks of
-    configurations a streamed audit of that count uses (the same figures), never ``T x N`` at once."""
+    configurations a streamed audit of that count uses (the same figures), never ``T x N`` at once;
+    ``dominance=False``: without the dominance figures, which the rule does not read (in memory)."""
     if streamed:
         budget = policy.memory_budget * 2**20 if memory_budget is None else memory_budget
         plan = plan_blocks(x.shape[1], x.shape[0], streamed, budget)
         overfit = Stream(x, plan, InProcess(), partitions=policy.partitions, statistic=policy.overfitting_statistic,
                          threshold=policy.stress_threshold).cscv_alone()
     else:
-        overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic)
+        overfit = cscv(x, partitions=policy.partitions, statistic=policy.overfitting_statistic, dominance=dominance)
     return overfit, _diagnosis(overfit, policy)
 
 

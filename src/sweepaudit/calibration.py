@@ -27,7 +27,6 @@ Hansen, P. R. (2005). A test for superior predictive ability. JBES 23(4), 365-38
 
 from __future__ import annotations
 
-import gc
 import math
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, replace
@@ -152,20 +151,13 @@ def _audit_each(sweeps, count, audit_seeds, settings, policy, progress, executor
     required: dict[str, bool] = {}
     work = ((sweep, replace(settings, seed=int(audit_seeds[i])), policy)
             for i, sweep in zip(range(count), sweeps))
-    # statsmodels' Holm adjustment (used by the haircut) runs a full gc.collect() on every call,
-    # which costs a third of a small audit when the heap holds pandas and scipy; freezing the
-    # objects alive now takes them out of those collections. Undone afterwards.
-    gc.freeze()
-    try:
-        for i, (decision, rejected, index, outcome, kinds) in enumerate((executor or InProcess()).each(_one_audit, work, shared)):
-            decisions[i], yardstick[i], selected[i] = decision, rejected, index
-            outcomes.append(outcome)
-            for cid, is_required in kinds.items():
-                required.setdefault(cid, is_required)
-            if progress is not None:
-                progress(len(outcomes))
-    finally:
-        gc.unfreeze()
+    for i, (decision, rejected, index, outcome, kinds) in enumerate((executor or InProcess()).each(_one_audit, work, shared)):
+        decisions[i], yardstick[i], selected[i] = decision, rejected, index
+        outcomes.append(outcome)
+        for cid, is_required in kinds.items():
+            required.setdefault(cid, is_required)
+        if progress is not None:
+            progress(len(outcomes))
     if len(outcomes) != count:
         raise InputError(f"the simulation yielded {len(outcomes)} sweeps; {count} were asked for")
     return decisions, selected, outcomes, required, yardstick
@@ -176,7 +168,7 @@ def _one_audit(work: tuple, shared: NullSweeps | None = None) -> tuple[bool, boo
     sweep, settings, policy = work
     if shared is not None:
         sweep = shared.sweep_at(*sweep)
-    evidence = gather_evidence(sweep, settings=settings, policy=policy)
+    evidence = gather_evidence(sweep, settings=settings, policy=policy, verdict_only=True)
     verdict = decide(evidence, policy)
     return (verdict.decision == "go", bool(bonferroni_max_t(sweep.returns, level=policy.significance).rejected),
             int(evidence.selected_index), {c.id: not c.passed for c in verdict.checks},

@@ -552,7 +552,9 @@ class CscvResult:
         PBO's value when out-of-sample ranks are uniform: 1/2 for even N, (N + 1) / (2N) for odd N.
     first_order_dominance, second_order_dominance : bool
         Whether the selected configuration's out-of-sample statistic dominates that of a
-        configuration picked at random (see module Notes for how it is measured).
+        configuration picked at random (see module Notes for how it is measured). Every dominance
+        field and the pooled mean are None when they were not asked for (``cscv(...,
+        dominance=False)``, an audit that only decides a verdict).
     first_order_violation, second_order_violation : float
         Largest violation found (0 when dominance holds): ``max(F_selected - F_pooled)`` and
         ``max(E[(x - X_selected)^+] - E[(x - X_pooled)^+])``. The second-order fields are
@@ -592,8 +594,8 @@ class CscvResult:
     in_sample_t_statistic: np.ndarray
     median_out_of_sample: float
     null_probability_of_overfitting: float
-    first_order_dominance: bool
-    first_order_violation: float
+    first_order_dominance: bool | None
+    first_order_violation: float | None
     second_order_dominance: bool | None
     second_order_violation: float | None
     pooled_out_of_sample_mean: float | None

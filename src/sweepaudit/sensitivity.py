@@ -31,11 +31,13 @@ recomputed).
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, replace
 
 from .audit import reassess
+from .engine import side_by_side
 from .format import number, probability
 from .policy import Policy
 from .results import Alternative, BaselineComparison, Check, CheckShift, Evidence, Sensitivity, Verdict
@@ -209,7 +211,8 @@ def _alternative(choice: Choice, setting: str, evidence: Evidence, verdict: Verd
         fields = {**(fields or {}), "resamples": resamples}
     if fields:
         settings = replace(settings, **fields)
-    again = decide(reassess(evidence, policy=policy, settings=settings, memory_budget=memory_budget), policy, baseline)
+    again = decide(reassess(evidence, policy=policy, settings=settings, memory_budget=memory_budget, verdict_only=True),
+                   policy, baseline)
     return Alternative(
         choice=choice.id, question=choice.question,
         as_audited=choice.current(evidence), setting=setting,
@@ -226,7 +229,8 @@ def _control(evidence: Evidence, verdict: Verdict, baseline: BaselineComparison 
              resamples: int, memory_budget: int | None) -> Alternative:
     """The audit's own choices with ``resamples`` resamples (same seed)."""
     settings = replace(evidence.settings, resamples=resamples)
-    again = decide(reassess(evidence, settings=settings, memory_budget=memory_budget), evidence.policy, baseline)
+    again = decide(reassess(evidence, settings=settings, memory_budget=memory_budget, verdict_only=True),
+                   evidence.policy, baseline)
     count = number(evidence.resamples.count)
     return Alternative(
         choice="resamples", question="number of resamples", as_audited=str(evidence.resamples.count),
@@ -293,14 +297,16 @@ def what_would_change(
     streamed = evidence.intervals.distribution_columns is not None
     present = [c for c in CHOICES if getattr(evidence, c.needs) is not None]
     skipped = tuple(c.question for c in present if streamed and _rereads_resamples(c))
-    alternatives = tuple(
-        _alternative(choice, setting, evidence, verdict, baseline, count, memory_budget)
-        for choice in present
-        if choice.question not in skipped
-        for setting in choice.alternatives(evidence)
-    )
-    control = (_control(evidence, verdict, baseline, count, memory_budget)
-               if count < evidence.resamples.count and not streamed else None)
+    calls = [functools.partial(_alternative, choice, setting, evidence, verdict, baseline, count, memory_budget)
+             for choice in present if choice.question not in skipped for setting in choice.alternatives(evidence)]
+    controlled = count < evidence.resamples.count and not streamed
+    if controlled:
+        calls.append(functools.partial(_control, evidence, verdict, baseline, count, memory_budget))
+    # Independent re-decisions: on the free cores side by side (the same figures on any number).
+    # A streamed audit's alternatives may stream, with threads of their own: one at a time.
+    found = side_by_side(calls, threads=1 if streamed else None)
+    control = found.pop() if controlled else None
+    alternatives = tuple(found)
     flipped = tuple(a.id for a in alternatives if a.flips)
     return Sensitivity(
         decision=verdict.decision, alternatives=alternatives,

@@ -220,3 +220,36 @@ def test_part_errors():
                                 draw_resamples(20, count=10, block_length=1.0, seed=0))
     with pytest.raises(InputError, match="part_intervals needs resampled second moments"):
         part_intervals([(x, np.ones(20, dtype=bool))], replace(moments, second=None))
+
+
+def test_column_quantiles_equal_numpys():
+    """Reference library: ``numpy.quantile`` (linear method), the same values to the last bit, on
+    resample counts of odd and even size, levels whose interpolation weight is above and below 1/2,
+    ties, and a single row."""
+    from sweepaudit.methods.bootstrap_ci import column_quantiles
+
+    rng = np.random.default_rng(5)
+    levels = [0.005, 0.025, 0.1, 0.5, 0.9, 0.975, 0.995]
+    for b, n in ((999, 7), (1000, 13), (10_001, 3), (1, 4), (40, 5)):
+        draws = rng.standard_t(3, (b, n))
+        draws[:, -1] = np.round(draws[:, -1])  # ties
+        kept = draws.copy()
+        np.testing.assert_array_equal(column_quantiles(draws, levels), np.quantile(draws, levels, axis=0))
+        np.testing.assert_array_equal(draws, kept)  # the draws are kept as they were
+        np.testing.assert_array_equal(column_quantiles(draws[:, :1], levels), np.quantile(draws[:, :1], levels, axis=0))
+        np.testing.assert_array_equal(draws, kept)
+
+
+def test_studentized_bounds_equal_standardising_every_draw():
+    """Internal consistency: the studentized bounds read the raw draws' order statistics and standardise
+    them; standardising every draw first and taking numpy's quantiles gives the same bounds."""
+    from sweepaudit.methods.bootstrap_ci import _studentized
+    from sweepaudit.methods.distributions import normal_cdf, t_ppf
+
+    rng = np.random.default_rng(6)
+    draws = rng.standard_normal((2000, 9)) * rng.uniform(0.5, 2, 9) + rng.uniform(-1, 1, 9)
+    estimates, se, nu, q = draws.mean(axis=0) + 0.01, np.full(9, 0.3), np.full(9, 40.0), [0.025, 0.975]
+    z = (draws - estimates) / np.std(draws, axis=0)
+    tq = t_ppf(normal_cdf(np.quantile(z, q, axis=0)), nu)
+    expected = np.stack([estimates - tq[1] * se, estimates - tq[0] * se])
+    np.testing.assert_array_equal(_studentized(estimates, draws, se, nu, q), expected)

@@ -7,7 +7,7 @@ same block tasks on Dask (dask.distributed); ``engine.threads`` is the BLAS thre
 
 from .blocks import MEMORY_BUDGET, BlockPlan, WeightTable, block_moments, budget_for_width, plan_blocks
 from .local import InProcess, IntervalFunction, moments_and_intervals
-from .threads import blas_threads, free_cores, single_threaded
+from .threads import blas_threads, free_cores, meanwhile, side_by_side, single_threaded
 
 __all__ = [
     "MEMORY_BUDGET",
@@ -20,8 +20,10 @@ __all__ = [
     "budget_for_width",
     "executor_for",
     "free_cores",
+    "meanwhile",
     "moments_and_intervals",
     "plan_blocks",
+    "side_by_side",
     "single_threaded",
 ]
 

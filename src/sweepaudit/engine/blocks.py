@@ -97,14 +97,23 @@ class WeightTable:
     configurations reads the same weights instead of drawing them again.
     """
 
-    def __init__(self, resamples: Resamples) -> None:
+    def __init__(self, resamples: Resamples, *, lazy: bool = False) -> None:
         self.resamples = resamples
         dtype = self.dtype_for(resamples.windows)
         self.table = np.empty((resamples.count, resamples.windows), dtype=dtype)
+        self._filled = False
+        if not lazy:
+            for _ in self._filling(moment_chunk(resamples.windows)):
+                pass
+
+    def _filling(self, chunk: int):
+        """Draw the weights into the table, yielding each chunk as float64 as it is drawn."""
         done = 0
-        for counts in resamples.count_chunks(moment_chunk(resamples.windows)):
+        for counts in self.resamples.count_chunks(chunk):
             self.table[done : done + counts.shape[0]] = counts
             done += counts.shape[0]
+            yield counts
+        self._filled = True
 
     @staticmethod
     def dtype_for(windows: int) -> type:
@@ -115,7 +124,15 @@ class WeightTable:
         return int(resamples) * int(windows) * np.dtype(cls.dtype_for(windows)).itemsize
 
     def chunks(self, chunk: int):
-        """The weights as float64, ``chunk`` resamples at a time."""
+        """The weights as float64, ``chunk`` resamples at a time.
+
+        A ``lazy`` table is drawn on its first reading, chunk by chunk as the reader takes them (so
+        the drawing overlaps the reader's products), and read from the table afterwards: the same
+        weights either way. One reader at a time: the streamed executors fill their tables eagerly.
+        """
+        if not self._filled:
+            yield from self._filling(chunk)
+            return
         for start in range(0, self.table.shape[0], chunk):
             yield self.table[start : start + chunk].astype(np.float64)
 

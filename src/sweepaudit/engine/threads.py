@@ -20,9 +20,14 @@ from __future__ import annotations
 
 import contextlib
 import os
-from collections.abc import Iterator
+import threading
+from collections.abc import Callable, Iterator, Sequence
+from concurrent.futures import Future
+from typing import Any, TypeVar
 
-__all__ = ["THREADS_VARIABLE", "free_cores", "blas_threads", "single_threaded"]
+__all__ = ["THREADS_VARIABLE", "free_cores", "blas_threads", "meanwhile", "side_by_side", "single_threaded"]
+
+T = TypeVar("T")
 
 #: Environment variable that fixes the BLAS threads of the products (a whole number >= 1).
 THREADS_VARIABLE = "SWEEPAUDIT_THREADS"
@@ -68,3 +73,53 @@ def blas_threads(threads: int) -> Iterator[None]:
 def single_threaded() -> contextlib.AbstractContextManager[None]:
     """BLAS on one thread: everything of an audit but the big products."""
     return blas_threads(1)
+
+
+def side_by_side(calls: Sequence[Callable[[], T]], threads: int | None = None) -> list[T]:
+    """Independent calls on up to ``threads`` threads (default :func:`free_cores`), results in call order.
+
+    For numpy-heavy work that releases the GIL (the sensitivity block's alternatives). BLAS stays on
+    one thread for the whole run, so each call's figures are the same bits on any number of threads;
+    on a busy machine (one free core) the calls run one after another in this thread.
+    """
+    count = min(len(calls), threads or free_cores())
+    if count <= 1:
+        return [call() for call in calls]
+    from concurrent.futures import ThreadPoolExecutor
+
+    with single_threaded(), ThreadPoolExecutor(max_workers=count) as pool:
+        return list(pool.map(lambda call: call(), calls))
+
+
+def meanwhile(call: Callable[[], T], threads: int | None = None) -> Future:
+    """Start ``call`` on a thread of its own when a second core is free (else run it now); its
+    result, or its exception, from the returned future's ``result()``.
+
+    The caller keeps BLAS on one thread while the call runs (an audit does, throughout), and the
+    call must not emit warnings the caller records in order (return them instead).
+    """
+    if (threads or free_cores()) > 1:
+        thread = _Thread(call)
+        thread.start()
+        return thread.future
+    future: Future = Future()
+    try:
+        future.set_result(call())
+    except BaseException as error:  # handed to result(), as a thread's would be
+        future.set_exception(error)
+    return future
+
+
+class _Thread(threading.Thread):
+    """A daemon thread that runs one call into a future."""
+
+    def __init__(self, call: Callable[[], Any]) -> None:
+        super().__init__(daemon=True, name="sweepaudit-meanwhile")
+        self.call = call
+        self.future: Future = Future()
+
+    def run(self) -> None:
+        try:
+            self.future.set_result(self.call())
+        except BaseException as error:
+            self.future.set_exception(error)

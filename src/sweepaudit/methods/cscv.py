@@ -269,6 +269,8 @@ def cscv(
     *,
     partitions: int = 16,
     statistic: SplitStatistic = "sharpe",
+    dominance: bool = True,
+    warn: bool = True,
 ) -> CscvResult:
     """Probability of backtest overfitting by combinatorially symmetric cross-validation.
 
@@ -282,6 +284,14 @@ def cscv(
     statistic : {"sharpe", "mean"}, default "sharpe"
         Performance statistic on a half-sample: per-window Sharpe ratio (mean / sd, ddof = 1) or
         mean excess return, over the pooled windows of its blocks.
+    dominance : bool, default True
+        Whether to compute the stochastic-dominance figures and the pooled out-of-sample mean (a
+        second pass over every split's statistics of every configuration, about half the cost).
+        False leaves them None: for callers that only decide a verdict, which never reads them
+        (a calibration's audits, the sensitivity block's re-runs).
+    warn : bool, default True
+        Emit the warnings below. False: they are only in the result's ``warnings`` (for a caller
+        that runs CSCV on another thread and issues them in its own order).
 
     Returns
     -------
@@ -317,13 +327,14 @@ def cscv(
             "of identical windows; a half-sample with zero variance gets Sharpe ratio +inf, "
             "-inf or 0 by the sign of its constant value"
         )
-    result = _splits(matrix, halves, used, int(partitions), messages)
-    for message in messages:
+    result = _splits(matrix, halves, used, int(partitions), messages, dominance)
+    for message in messages if warn else ():
         warnings.warn(message, SweepAuditWarning, stacklevel=2)
     return result
 
 
-def _splits(matrix: np.ndarray, halves: _HalfStatistics, used: int, requested: int, messages: list[str]) -> CscvResult:
+def _splits(matrix: np.ndarray, halves: _HalfStatistics, used: int, requested: int, messages: list[str],
+            dominance: bool = True) -> CscvResult:
     """Every split's winner, then the figures CSCV reads off them (messages collect the warnings)."""
     windows, configurations = matrix.shape
     indicator = _split_indicator(used)
@@ -331,9 +342,11 @@ def _splits(matrix: np.ndarray, halves: _HalfStatistics, used: int, requested: i
     # Keep every half-sample's statistics for the dominance pass when they fit the cache budget;
     # otherwise they are recomputed chunk by chunk.
     cache = (np.empty((combinations, configurations))
-             if combinations * configurations * 8 <= _CACHE_BYTES else None)
+             if dominance and combinations * configurations * 8 <= _CACHE_BYTES else None)
     step = max(1, _rows_per_chunk(configurations) // 2)
     winners = _winners(halves, indicator, step, cache)
+    if not dominance:
+        return _read_off(winners, None, None, windows, configurations, used, requested, halves.statistic, messages)
     if cache is not None:
         chunks = (cache[i:i + step] for i in range(0, combinations, step))
     else:
@@ -353,8 +366,12 @@ def _read_off(winners, points, pooled, windows, configurations, used, requested,
     quantiles = {q: float(v) for q, v in zip(_LOGIT_QUANTILE_LEVELS,
                                              np.quantile(logits, _LOGIT_QUANTILE_LEVELS))}
     slope, intercept, r_squared = _degradation(winners.in_sample, winners.out_of_sample, messages)
-    dominance = _dominance_figures(winners.out_of_sample, points, pooled, combinations * configurations)
-    if dominance["second_order_dominance"] is None:
+    if pooled is None:  # not asked for
+        dominance = dict.fromkeys(("first_order_dominance", "first_order_violation", "second_order_dominance",
+                                   "second_order_violation", "pooled_out_of_sample_mean"))
+    else:
+        dominance = _dominance_figures(winners.out_of_sample, points, pooled, combinations * configurations)
+    if pooled is not None and dominance["second_order_dominance"] is None:
         messages.append(
             "second-order dominance and the pooled out-of-sample mean not computed: some "
             "out-of-sample statistics are infinite (zero-variance half-samples)"
