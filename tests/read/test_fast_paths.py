@@ -30,10 +30,19 @@ from sweepaudit.errors import SweepAuditError
 from sweepaudit.read import LoadOptions, formats, load_sweep, read_table
 from sweepaudit.read.build import _configurations, first_occurrences
 from sweepaudit.read.checks import _counter_like
+from sweepaudit.read import fastcsv
 from sweepaudit.read.fastcsv import arrow_table
 from sweepaudit.read.formats import NA_TOKENS
 
 SETTINGS = settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+
+
+@pytest.fixture(autouse=True)
+def _fast_path_for_small_files():
+    """pyarrow's reader for files of any size here (it is left to pandas under 1 MiB), so that the
+    small files of these tests take the fast path."""
+    with mock.patch.object(fastcsv, "MIN_BYTES", 0):
+        yield
 
 
 @contextlib.contextmanager
@@ -166,6 +175,15 @@ def test_pyarrow_reads_the_ordinary_file_and_declines_the_rest():
     for why, data in declined.items():
         assert arrow_table(data, ",", header, NA_TOKENS) is None, why
     assert arrow_table(ordinary, ",", ["week", "lookback", "band", "week"], NA_TOKENS) is None  # repeated name
+    wide = ["week"] + [f"c{k}" for k in range(fastcsv.MAX_COLUMNS)]
+    wide_file = (",".join(wide) + "\n" + ",".join(["2024-01-05"] + ["0.01"] * fastcsv.MAX_COLUMNS) + "\n").encode()
+    assert arrow_table(wide_file, ",", wide, NA_TOKENS) is None
+    assert arrow_table(wide_file, ",", wide[:-1], NA_TOKENS) is None  # the header must be the file's
+    narrow_file = (",".join(wide[:-1]) + "\n" + ",".join(["2024-01-05"] + ["0.01"] * (fastcsv.MAX_COLUMNS - 1))
+                   + "\n").encode()
+    assert arrow_table(narrow_file, ",", wide[:-1], NA_TOKENS) is not None
+    with mock.patch.object(fastcsv, "MIN_BYTES", len(ordinary) + 1):
+        assert arrow_table(ordinary, ",", header, NA_TOKENS) is None
 
 
 # ---------------------------------------------------------------------------------------------

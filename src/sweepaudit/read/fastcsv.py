@@ -1,11 +1,14 @@
 """The ordinary text file read by pyarrow's CSV reader, to the table pandas' parser gives.
 
 A long sweep of 1,000 configurations over 2,000 windows is two million rows; pyarrow's reader
-parses them in about half the time of pandas' C parser (``benchmarks/read_speed.py``). It is used
+parses them in about half the time of pandas' C parser reading the same bytes from memory
+(``benchmarks/read_speed.py``). It is used
 only where it gives the very table :func:`sweepaudit.read.formats.read_table` would get from pandas
 (the same columns, dtypes, values and missing cells), so every later detection and message is the
 same; :func:`arrow_table` returns None for anything else and pandas reads the file:
 
+* a file under 1 MiB or of more than 32 columns (a wide file), where pandas' parser is as quick
+  or quicker (:data:`MIN_BYTES`, :data:`MAX_COLUMNS`);
 * a decimal comma or a thousands separator (pandas' options for them have no exact counterpart);
 * a quote character (quoted fields may hold line breaks or numbers pandas reads as numbers);
 * whitespace beside a separator or a line break, a tab in a file not separated by tabs, a vertical
@@ -42,6 +45,14 @@ __all__ = ["arrow_table"]
 
 #: Bytes of the head of the file whose column types pick the columns to read as text.
 SAMPLE_BYTES = 65_536
+#: pyarrow's reader pays per column of every block it parses, pandas' does not: a wide file is
+#: read by pandas (measured: 520 windows x 2,000 configurations, 11 MiB, 0.43 s against pandas'
+#: 0.24 s for the whole reader; about 2 million cells in 33 columns 0.091 s against 0.103 s, in 65
+#: columns the same 0.100 s). A long file has a few columns: windows, parameters, values.
+MAX_COLUMNS = 32
+#: Below this size pandas' parser is as quick (1.3 MiB: 10.2 ms against 10.6 ms) and importing
+#: pyarrow's CSV module alone costs about 17 ms.
+MIN_BYTES = 1 << 20
 _BOM = b"\xef\xbb\xbf"
 _READABLE = ("int64", "double", "string", "large_string")
 #: Integers this large (or infinities) make pandas' parser read a column of numbers as text or as
@@ -69,7 +80,7 @@ def arrow_table(data: bytes, sep: str, header: list[str], na_tokens: list[str]) 
     pandas.DataFrame or None
         Columns named as ``header``, of the dtypes pandas' parser would give them.
     """
-    if not _plain_text(data, sep) or not _plain_header(header):
+    if len(data) < MIN_BYTES or len(header) > MAX_COLUMNS or not _plain_text(data, sep) or not _plain_header(header):
         return None
     import pyarrow as pa
     import pyarrow.csv as pcsv
