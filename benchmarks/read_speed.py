@@ -3,8 +3,8 @@
     python benchmarks/read_speed.py [--configurations 2000] [--windows 520] [--repeats 5] [--busy 0]
 
 Writes, in a temporary folder, a long CSV (one row per configuration and window: week, lookback,
-band, excess_return), the same sweep as a wide Parquet file with a DatetimeIndex, and the same
-sweep as daily returns for aggregation; then times, in this process:
+band, excess_return), the same sweep as a wide Parquet file with a DatetimeIndex and as a wide CSV,
+and the same sweep as daily returns for aggregation; then times, in this process:
 
 * ``pandas``: ``pd.read_csv`` / ``pd.read_parquet`` of the file (the floor: parsing alone);
 * ``load_sweep``: the whole reader (sniffing, dates, reshape, guards, sweep);
@@ -47,10 +47,13 @@ def _files(folder: Path, n: int, t: int) -> dict[str, Path]:
         "band": np.repeat([g[1] for g in grid], t),
         "excess_return": values.T.ravel(),
     })
-    paths = {"long CSV": folder / "long.csv", "wide Parquet": folder / "wide.parquet", "daily CSV": folder / "daily.csv"}
+    paths = {"long CSV": folder / "long.csv", "wide Parquet": folder / "wide.parquet", "daily CSV": folder / "daily.csv",
+             "wide CSV": folder / "wide.csv"}
     long.to_csv(paths["long CSV"], index=False)
     names = [f"lookback={lb}, band={band}" for lb, band in grid]
-    pd.DataFrame(values, index=pd.DatetimeIndex(weeks, name="Date"), columns=names).to_parquet(paths["wide Parquet"])
+    wide = pd.DataFrame(values, index=pd.DatetimeIndex(weeks, name="Date"), columns=names)
+    wide.to_parquet(paths["wide Parquet"])
+    wide.to_csv(paths["wide CSV"], date_format="%Y-%m-%d")
     days = pd.bdate_range("2010-01-04", periods=t * 5)
     daily = pd.DataFrame(rng.normal(0.0003, 0.01, size=(len(days), 50)), index=days.strftime("%Y-%m-%d"),
                          columns=[f"lookback={5 * (k + 1)}" for k in range(50)])
@@ -95,6 +98,7 @@ def main() -> None:
             ("long CSV", lambda: pd.read_csv(paths["long CSV"]), lambda: load_sweep(str(paths["long CSV"]))),
             ("wide Parquet", lambda: pd.read_parquet(paths["wide Parquet"]),
              lambda: load_sweep(str(paths["wide Parquet"]))),
+            ("wide CSV", lambda: pd.read_csv(paths["wide CSV"]), lambda: load_sweep(str(paths["wide CSV"]))),
         ]
         try:  # aggregation exists from this version on; an older checkout skips the case
             from sweepaudit.read import LoadOptions
