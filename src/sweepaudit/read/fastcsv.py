@@ -30,18 +30,21 @@ one thread (measured on the 2-core machine, 2 million rows beside two busy loops
 pyarrow's threads, 0.29 s on one thread, 0.40 s with pandas' parser; the whole reader under load:
 ``benchmarks/read_speed.py --busy 2``).
 
-Its buffers come from the system allocator (``pa.system_memory_pool()``), not pyarrow's default
-pool: that pool (mimalloc) keeps the memory the parse frees, and the audit after a read through it
-ran 0.5 s slower in 7 (the 2 million rows, 10,000 resamples, four interleaved runs each way); with
-the system allocator the audit takes as long as after pandas' parser.
+pyarrow's default pool keeps the memory a parse frees for reuse (and pandas' text columns live
+in it whichever parser read them): :func:`arrow_table` hands the parse's blocks back when it is
+done and :func:`release_table_memory` the table's once the loader has dropped it. Without that the
+process kept about 120 MB more after reading the 2 million rows, and the audit after it ran up to
+0.5 s slower in 7 (10,000 resamples, interleaved runs).
 """
 
 from __future__ import annotations
 
+import sys
+
 import numpy as np
 import pandas as pd
 
-__all__ = ["arrow_table"]
+__all__ = ["arrow_table", "release_table_memory"]
 
 #: Bytes of the head of the file whose column types pick the columns to read as text.
 SAMPLE_BYTES = 65_536
@@ -89,22 +92,22 @@ def arrow_table(data: bytes, sep: str, header: list[str], na_tokens: list[str]) 
     if data.startswith(_BOM):
         buffer = buffer.slice(len(_BOM))
     parse = pcsv.ParseOptions(delimiter=sep)
-    # The system allocator, not pyarrow's default pool, which keeps the parse's freed memory and
-    # slowed the audit after it (see the module's notes).
-    pool = pa.system_memory_pool()
     try:
-        text = _text_columns(buffer, parse, na_tokens, pool)
+        text = _text_columns(buffer, parse, na_tokens)
         if text is None:
             return None
         convert = pcsv.ConvertOptions(null_values=na_tokens, strings_can_be_null=True,
                                       column_types={c: pa.string() for c in text})
-        table = pcsv.read_csv(pa.BufferReader(buffer), parse_options=parse, convert_options=convert,
-                              memory_pool=pool)
+        table = pcsv.read_csv(pa.BufferReader(buffer), parse_options=parse, convert_options=convert)
     except (pa.ArrowException, ValueError, OSError):
         return None
-    if table.num_rows == 0 or table.column_names != list(header) or not _same_numbers(table, pool):
-        return None
-    return table.to_pandas(memory_pool=pool)
+    try:
+        if table.num_rows == 0 or table.column_names != list(header) or not _same_numbers(table):
+            return None
+        return table.to_pandas()
+    finally:
+        del table
+        pa.default_memory_pool().release_unused()  # the parse's blocks (see the module's notes)
 
 
 def _plain_text(data: bytes, sep: str) -> bool:
@@ -129,7 +132,7 @@ def _plain_header(header: list[str]) -> bool:
     return all(h.strip() and h == h.strip() for h in header) and len(set(header)) == len(header)
 
 
-def _text_columns(buffer, parse, na_tokens: list[str], pool) -> list[str] | None:
+def _text_columns(buffer, parse, na_tokens: list[str]) -> list[str] | None:
     """The columns whose first cells pyarrow reads as dates or times (text to pandas), or None when
     one reads as true / false (booleans to pandas) or a sampled type is none pyarrow might give."""
     import pyarrow as pa
@@ -140,7 +143,7 @@ def _text_columns(buffer, parse, na_tokens: list[str], pool) -> list[str] | None
         head = head[: max(head.rfind(b"\n"), head.rfind(b"\r")) + 1]
     sample = pcsv.read_csv(pa.BufferReader(pa.py_buffer(head)), parse_options=parse,
                            convert_options=pcsv.ConvertOptions(null_values=na_tokens, strings_can_be_null=True),
-                           read_options=pcsv.ReadOptions(use_threads=False), memory_pool=pool)
+                           read_options=pcsv.ReadOptions(use_threads=False))
     text = []
     for field in sample.schema:
         kind = str(field.type)
@@ -151,28 +154,38 @@ def _text_columns(buffer, parse, na_tokens: list[str], pool) -> list[str] | None
     return text
 
 
-def _same_numbers(table, pool) -> bool:
+def _same_numbers(table) -> bool:
     """Every column one pandas would read alike: whole numbers, text, or floating-point numbers
     that hold no NaN of their own, not only whole numbers and none beyond 64-bit integers (see the
     module's list)."""
     for column in table.columns:
         kind = str(column.type)
-        if kind not in _READABLE or (kind == "double" and not _plain_floats(column, pool)):
+        if kind not in _READABLE or (kind == "double" and not _plain_floats(column)):
             return False
     return True
 
 
-def _plain_floats(column, pool) -> bool:
+def _plain_floats(column) -> bool:
     """A floating-point column pandas reads as the same floats (pyarrow's kernels: no copy)."""
     import pyarrow.compute as pc
 
-    if column.null_count == len(column) or pc.any(pc.is_nan(column, memory_pool=pool), memory_pool=pool).as_py():
+    if column.null_count == len(column) or pc.any(pc.is_nan(column)).as_py():
         return False
-    extremes = pc.min_max(column, memory_pool=pool)
+    extremes = pc.min_max(column)
     if max(abs(extremes["min"].as_py()), abs(extremes["max"].as_py())) >= _BEYOND_INT64:
         return False
     head = column.slice(0, 1_000).drop_null().to_numpy()
     if np.any(head != np.round(head)):
         return True  # returns: a fraction among the first cells already
-    rounded = pc.round(column, memory_pool=pool)
-    return not pc.all(pc.equal(column, rounded, memory_pool=pool), memory_pool=pool).as_py()
+    return not pc.all(pc.equal(column, pc.round(column))).as_py()
+
+
+def release_table_memory() -> None:
+    """Return the memory pyarrow's default pool kept after a table was read and dropped.
+
+    pandas' text columns live in that pool whichever parser read them, and the pool keeps what is
+    freed for reuse; the audit after the read runs beside it. A no-op when pyarrow was not imported.
+    """
+    pa = sys.modules.get("pyarrow")
+    if pa is not None:
+        pa.default_memory_pool().release_unused()

@@ -28,6 +28,7 @@ from .blocks import read_wide_parquet
 from .build import Built, benchmark_from_file, long_matrix, wide_matrix
 from .checks import check_matrix, coverage, refuse_level_excess, refuse_levels, refuse_whole_number_columns
 from .dates import periods_per_year
+from .fastcsv import release_table_memory
 from .formats import read_table
 from .layout import BENCHMARK_NAME, layout_of, window_column
 from .memory import InMemory, array_table, frame_table, with_index_label
@@ -78,7 +79,10 @@ def load_sweep(
             if sweep is not None:
                 return sweep
         frame, label, digest = read_table(path, opt)
-        return _read(frame, label, digest, opt)
+        sweep = _read(frame, label, digest, opt)
+        del frame
+        release_table_memory()
+        return sweep
     if isinstance(source, pd.DataFrame):
         if dates is not None or configurations is not None:
             raise InputError("dates and configurations go with an array; a DataFrame names its own")
