@@ -144,6 +144,7 @@ def test_pyarrow_reads_the_table_pandas_reads(tmp_path: Path, case):
     _assert_same_table(_outcome(read_table, str(path)), general)
 
 
+@pytest.mark.skipif(not fastcsv._arrow_text(), reason="pandas before 3 keeps text in object columns: pandas reads")
 def test_pyarrow_reads_the_ordinary_file_and_declines_the_rest():
     """The fast path is taken on an ordinary file (so the equality tests above test it), and each
     input it cannot read as pandas does is handed back (None)."""

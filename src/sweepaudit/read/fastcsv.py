@@ -7,6 +7,8 @@ only where it gives the very table :func:`sweepaudit.read.formats.read_table` wo
 (the same columns, dtypes, values and missing cells), so every later detection and message is the
 same; :func:`arrow_table` returns None for anything else and pandas reads the file:
 
+* a pandas whose text columns are not pyarrow-backed ``str`` (before pandas 3: object columns,
+  where pyarrow's table would put None for pandas' NaN);
 * a file under 1 MiB or of more than 32 columns (a wide file), where pandas' parser is as quick
   or quicker (:data:`MIN_BYTES`, :data:`MAX_COLUMNS`);
 * a decimal comma or a thousands separator (pandas' options for them have no exact counterpart);
@@ -83,7 +85,8 @@ def arrow_table(data: bytes, sep: str, header: list[str], na_tokens: list[str]) 
     pandas.DataFrame or None
         Columns named as ``header``, of the dtypes pandas' parser would give them.
     """
-    if len(data) < MIN_BYTES or len(header) > MAX_COLUMNS or not _plain_text(data, sep) or not _plain_header(header):
+    if not _arrow_text() or len(data) < MIN_BYTES or len(header) > MAX_COLUMNS or not _plain_text(data, sep) \
+            or not _plain_header(header):
         return None
     import pyarrow as pa
     import pyarrow.csv as pcsv
@@ -108,6 +111,13 @@ def arrow_table(data: bytes, sep: str, header: list[str], na_tokens: list[str]) 
     finally:
         del table
         pa.default_memory_pool().release_unused()  # the parse's blocks (see the module's notes)
+
+
+def _arrow_text() -> bool:
+    """pandas keeps text in pyarrow-backed ``str`` columns (pandas 3), as pyarrow's table converts
+    to; an older pandas' object columns would hold None where pandas' parser puts NaN."""
+    text = pd.Series(["a"]).dtype
+    return isinstance(text, pd.StringDtype) and text.storage == "pyarrow" and text.na_value is not pd.NA
 
 
 def _plain_text(data: bytes, sep: str) -> bool:
