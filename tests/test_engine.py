@@ -108,6 +108,22 @@ def test_a_local_dask_cluster_of_two_workers_gives_the_in_process_figures():
     assert on_dask.document["results"] == in_process.document["results"]
 
 
+def test_local_workers_start_without_the_malloc_trim_threshold(monkeypatch):
+    """Dask gives worker processes MALLOC_TRIM_THRESHOLD_ by default, which made every audit on a worker
+    1.8x slower (docs/performance.md); the local cluster's workers must start without it."""
+    import os
+
+    from sweepaudit.engine.cluster import DaskCluster
+
+    monkeypatch.delenv("MALLOC_TRIM_THRESHOLD_", raising=False)
+    cluster = DaskCluster(workers=1)
+    try:
+        found = cluster.client.run(os.environ.get, "MALLOC_TRIM_THRESHOLD_")
+    finally:
+        cluster.close()
+    assert list(found.values()) == [None]
+
+
 def test_an_unreachable_scheduler_is_a_clear_error(monkeypatch):
     from sweepaudit.errors import InputError
 

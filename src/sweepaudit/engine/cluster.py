@@ -14,7 +14,11 @@ block of configurations and combines the small summaries that come back, in bloc
 * workers must run the same sweepaudit version (the tasks are its functions, pickled by reference).
 
 The workers of a local cluster run one thread each with single-threaded BLAS (Dask's default for
-worker processes), so two workers use two cores.
+worker processes), so two workers use two cores, and without the ``MALLOC_TRIM_THRESHOLD_`` Dask
+gives worker processes by default (it made every audit on a worker 1.8x slower: each array above
+128 KiB mapped and unmapped again). Workers of a cluster of your own should be started without it
+too: set ``distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_`` to null in their Dask
+configuration.
 """
 
 from __future__ import annotations
@@ -38,6 +42,8 @@ SCHEDULER_VARIABLE = "SWEEPAUDIT_SCHEDULER"
 CONNECT_TIMEOUT = "20s"
 #: Blocks in flight per worker.
 IN_FLIGHT_PER_WORKER = 2
+#: The Dask setting that gives worker processes MALLOC_TRIM_THRESHOLD_ (unset for local workers).
+UNTRIMMED = "distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_"
 
 # The weights a worker process keeps for the resamples it last saw (one audit at a time).
 _KEPT: dict[str, WeightTable] = {}
@@ -95,10 +101,17 @@ class DaskCluster:
             count = max(1, int(workers or 1))
             # The scheduler's HTTP server on a free port: its default (8787) may be taken by another
             # cluster on the machine, and another audit's local cluster must not collide with it.
-            self._cluster = LocalCluster(
-                n_workers=count, threads_per_worker=1, processes=True, dashboard_address=":0",
-                silence_logs=logging.ERROR,
-            )
+            # Dask starts worker processes with MALLOC_TRIM_THRESHOLD_ set, which turns off glibc's
+            # adaptive mmap threshold: every array above 128 KiB is then mapped, faulted in and
+            # unmapped again, and an audit of 200 x 500 ran 1.8x slower on a worker than in process
+            # (docs/performance.md). Our local workers start without it.
+            import dask
+
+            with dask.config.set({UNTRIMMED: None}):
+                self._cluster = LocalCluster(
+                    n_workers=count, threads_per_worker=1, processes=True, dashboard_address=":0",
+                    silence_logs=logging.ERROR,
+                )
             self.client = Client(self._cluster)
         self.address = self.client.scheduler.address
 

@@ -31,7 +31,6 @@ from ...errors import InputError, OutputError
 from ...readfile import MiB, describe, read_bytes
 from ...results import FigureMaterial
 from ..files import FileStep, Transaction, check_target, hidden_name, new_hidden_file, remove_stale
-from .html import render_html
 from .markdown import render_markdown
 from .sections import build_report
 
@@ -171,6 +170,8 @@ def render_report(path: str | os.PathLike, doc: dict, material: FigureMaterial |
     report = build_report(doc, material)
     target = Path(path)
     if fmt == "html":
+        from .html import render_html  # here: jinja2's import is only paid when an HTML report is written
+
         return RenderedReport(target, render_html(report))
     files = {f.name: figure_file_name(f.name, f.svg) for f in report.figures}
     text = render_markdown(report, figures_dir=figures_folder(target).name, file_names=files)
