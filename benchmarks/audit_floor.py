@@ -38,7 +38,7 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-from timing import busy_loops
+from timing import busy_loops, median_seconds
 
 SRC = Path(__file__).resolve().parents[1] / "src"
 
@@ -100,12 +100,7 @@ def fixed_costs(csv: Path, n: int, t: int, b: int, runs: int) -> list[tuple[str,
     import pyarrow.csv
 
     def timed(action) -> float:
-        values = []
-        for _ in range(runs):
-            start = time.perf_counter()
-            action()
-            values.append(time.perf_counter() - start)
-        return statistics.median(values)
+        return median_seconds(action, runs)
 
     rng = np.random.default_rng(3)
     draws = rng.standard_normal((b, n))
