@@ -37,7 +37,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, replace
 
 from .audit import reassess
-from .engine import side_by_side
+from .engine import plan_blocks, side_by_side
 from .format import number, probability
 from .policy import Policy
 from .results import Alternative, BaselineComparison, Check, CheckShift, Evidence, Sensitivity, Verdict
@@ -302,9 +302,12 @@ def what_would_change(
     controlled = count < evidence.resamples.count and not streamed
     if controlled:
         calls.append(functools.partial(_control, evidence, verdict, baseline, count, memory_budget))
-    # Independent re-decisions: on the free cores side by side (the same figures on any number).
-    # A streamed audit's alternatives may stream, with threads of their own: one at a time.
-    found = side_by_side(calls, threads=1 if streamed else None)
+    # Independent re-decisions: on the free cores side by side (the same figures on any number), as
+    # long as two alternatives' resampled moments fit the memory budget at once. A streamed audit's
+    # alternatives may stream, with threads of their own: one at a time.
+    budget = evidence.policy.memory_budget * 2**20 if memory_budget is None else memory_budget
+    paired = plan_blocks(evidence.sweep.n_configurations, evidence.sweep.n_windows, count, budget // 2).in_memory
+    found = side_by_side(calls, threads=None if paired and not streamed else 1)
     control = found.pop() if controlled else None
     alternatives = tuple(found)
     flipped = tuple(a.id for a in alternatives if a.flips)
